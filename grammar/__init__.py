@@ -1,0 +1,1 @@
+"""Grammar files of the circuit description language (data, found through importlib.resources)."""

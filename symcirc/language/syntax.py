@@ -1,0 +1,236 @@
+"""The syntax tree: typed dataclasses built by the transformer, each carrying line and column.
+
+Nothing here is evaluated; elaboration (`symcirc.model.elaborate`) gives it meaning.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from fractions import Fraction
+from typing import Union
+
+
+@dataclass(frozen=True)
+class Node:
+    """Base of every syntax-tree node: 1-based line and column where it starts."""
+
+    line: int
+    column: int
+
+
+# ---------------------------------------------------------------- expressions
+
+
+@dataclass(frozen=True)
+class Number(Node):
+    """A number literal, prefixes and RKM code decoded: `10k`, `4k7`, `2.5E6`, `10 kΩ`."""
+
+    value: Fraction
+    unit: str | None
+    """Normalised SI unit written after it (`Ω`, `F`, `H`, `S`, `V`, `A`, `Hz`, `W`, `s`), or None."""
+    text: str
+    """The literal as written, e.g. `4k7` or `10 kΩ`."""
+
+
+@dataclass(frozen=True)
+class Name(Node):
+    """A name in an expression: a parameter, an element, `s`, `pi`, or (in quantities) a node
+    or port. Integer node names (`V(3)`) are Names too, with the digits as `name`."""
+
+    name: str
+
+
+@dataclass(frozen=True)
+class Voltage(Node):
+    """`V(x)` or `V(x, y)` inside an expression (x may be a port)."""
+
+    nodes: tuple[Name, ...]
+
+
+@dataclass(frozen=True)
+class Current(Node):
+    """`I(E)` inside an expression: the current through element E."""
+
+    element: Name
+
+
+@dataclass(frozen=True)
+class Function(Node):
+    """`sqrt(x)` (the only function of the language)."""
+
+    name: str
+    argument: Expr
+
+
+@dataclass(frozen=True)
+class Unary(Node):
+    """`-x` or `+x`."""
+
+    op: str
+    operand: Expr
+
+
+@dataclass(frozen=True)
+class Binary(Node):
+    """`a + b`, `a - b`, `a * b`, `a / b`, `a ^ b` (`**` is read as `^`)."""
+
+    op: str
+    left: Expr
+    right: Expr
+
+
+Expr = Union[Number, Name, Voltage, Current, Function, Unary, Binary]
+
+
+@dataclass(frozen=True)
+class Tolerance(Node):
+    """`± 1 %`, `+- 5 Ω`, `+80 % -20 %`. Numbers are the magnitudes as written."""
+
+    plus: Number
+    minus: Number
+    percent: bool
+    """True when written in %; then the numbers are percentages (1 for 1 %)."""
+
+
+@dataclass(frozen=True)
+class Value(Node):
+    """`= EXPRESSION [TOLERANCE]`."""
+
+    expression: Expr
+    tolerance: Tolerance | None
+    text: str
+    """The value as written (without the `=`), for tables."""
+
+
+# ---------------------------------------------------------------- quantities
+
+
+@dataclass(frozen=True)
+class Equation(Node):
+    """`QUANTITY = EXPRESSION` inside a quantity's arguments (`solve(gain(U, out) = -10, Rf)`)."""
+
+    left: Quantity
+    right: Expr
+
+
+@dataclass(frozen=True)
+class Quantity(Node):
+    """A quantity: `V(x)`, `V(x, y)`, `I(E)`, `thevenin(out)`, `thevenin(out).impedance`,
+    `gain(Ub, out)`, `twoport(p1, p2).z21`, `sensitivity(Q, x)`, ...
+
+    Arguments are quantities, names (nodes, ports, elements, symbols), other expressions
+    (`loading(out, 10 kΩ)`), or equations.
+    """
+
+    name: str
+    args: tuple[Union[Quantity, Expr, Equation], ...]
+    attribute: str | None
+    text: str
+    """The quantity normalised: single spaces after commas, no other spaces (`gain(Ub, out)`)."""
+
+
+# ---------------------------------------------------------------- statements
+
+
+@dataclass(frozen=True)
+class Title(Node):
+    text: str
+
+
+@dataclass(frozen=True)
+class Param(Node):
+    name: Name
+    value: Value | None
+    description: str | None
+
+
+@dataclass(frozen=True)
+class ElementStatement(Node):
+    """Every element kind, sources, opamp, transformer and coupling.
+
+    `kind` is one of: resistor capacitor inductor conductance impedance admittance
+    `voltage source` `current source` opamp transformer coupling.
+    `terminals` are node names (for `coupling`, the two inductor names). A transformer's
+    `(p1, n1; p2, n2)` is given as four terminals.
+    """
+
+    kind: str
+    name: Name
+    terminals: tuple[Name, ...]
+    value: Value | None
+    description: str | None
+
+
+@dataclass(frozen=True)
+class PortStatement(Node):
+    name: Name
+    terminals: tuple[Name, ...]
+    description: str | None
+
+
+@dataclass(frozen=True)
+class Rename(Node):
+    """`Ra = R1` in an instance's `with` list."""
+
+    inner: Name
+    outer: Name
+
+
+@dataclass(frozen=True)
+class Instance(Node):
+    """`BLOCK NAME (nodes) [with A = X, B = Y]`."""
+
+    block: Name
+    name: Name
+    terminals: tuple[Name, ...]
+    renames: tuple[Rename, ...]
+
+
+@dataclass(frozen=True)
+class Block(Node):
+    """`block NAME (terminals) ... end`."""
+
+    name: Name
+    terminals: tuple[Name, ...]
+    body: tuple[Statement, ...]
+
+
+@dataclass(frozen=True)
+class Assumption(Node):
+    """`X -> oo`, `X -> 0`, `A >> B`, `B << A` (stored with the big one first)."""
+
+    kind: str
+    """'limit' or 'much_greater'."""
+    symbol: Name
+    """limit: the symbol; much_greater: the big one."""
+    target: Name | Number | None
+    """limit: `oo` (Name) or `0` (Number); much_greater: the small one (Name)."""
+
+
+@dataclass(frozen=True)
+class DeriveStatement(Node):
+    quantities: tuple[Quantity, ...]
+    assumptions: tuple[Assumption, ...]
+
+
+@dataclass(frozen=True)
+class ClaimStatement(Node):
+    quantity: Quantity
+    expression: Expr
+    text: str
+    """The claimed expression as written."""
+
+
+Statement = Union[
+    Title, Param, ElementStatement, PortStatement, Instance, Block, DeriveStatement,
+    ClaimStatement,
+]
+
+
+@dataclass(frozen=True)
+class Document:
+    """A whole file: its statements in order."""
+
+    file: str
+    source: str
+    statements: tuple[Statement, ...]

@@ -1,0 +1,263 @@
+"""The flat, validated circuit: what every later stage reads.
+
+Built by `symcirc.model.elaborate` from the syntax tree; never built from text directly.
+Names are final (blocks expanded), the reference node is called `gnd`, every value is a
+sympy expression built by the transformer (never by evaluating text).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from fractions import Fraction
+from typing import TYPE_CHECKING, Any, Literal
+
+import sympy
+
+from ..errors import Location
+
+if TYPE_CHECKING:  # pragma: no cover
+    from ..language.syntax import Quantity
+
+REFERENCE = "gnd"
+"""Name of the reference node in the model (`gnd` and `0` in a file both mean it)."""
+
+LAPLACE = sympy.Symbol("s")
+"""The Laplace variable (reserved name `s`)."""
+
+ElementKind = Literal[
+    "resistor", "capacitor", "inductor", "conductance", "impedance", "admittance",
+    "voltage source", "current source", "opamp", "transformer", "coupling",
+]
+
+TWO_TERMINAL_PASSIVE = ("resistor", "capacitor", "inductor", "conductance", "impedance", "admittance")
+SOURCES = ("voltage source", "current source")
+
+UNIT_OF_KIND: dict[str, str] = {
+    "resistor": "Ω", "capacitor": "F", "inductor": "H", "conductance": "S",
+    "impedance": "Ω", "admittance": "S", "voltage source": "V", "current source": "A",
+    "opamp": "", "transformer": "", "coupling": "",
+}
+"""SI unit of each element kind's value ('' for a pure number)."""
+
+
+@dataclass(frozen=True)
+class Tolerance:
+    """A tolerance as written: `± 1 %` (relative), `± 5 Ω` (absolute), `+80 % -20 %`.
+
+    `plus` and `minus` are both non-negative: the value may go up by `plus` and down by
+    `minus`. Relative tolerances are fractions of the nominal (1 % is 1/100).
+    """
+
+    plus: Fraction
+    minus: Fraction
+    relative: bool
+
+    def bounds(self, nominal: Fraction) -> tuple[Fraction, Fraction]:
+        """Lowest and highest value around `nominal`."""
+        if self.relative:
+            return nominal - abs(nominal) * self.minus, nominal + abs(nominal) * self.plus
+        return nominal - self.minus, nominal + self.plus
+
+    @property
+    def symmetric(self) -> bool:
+        return self.plus == self.minus
+
+
+@dataclass(frozen=True)
+class Parameter:
+    """`param NAME [= VALUE] ["description"]`."""
+
+    name: str
+    symbol: sympy.Symbol
+    value: sympy.Expr | None
+    """As written: a number, an expression of other parameters, or None (free symbol)."""
+    nominal: Fraction | None
+    """The numeric value when it can be computed from numbers alone; else None."""
+    unit: str
+    """SI unit written with the value ('' when none was written)."""
+    tolerance: Tolerance | None
+    description: str | None
+    location: Location
+
+
+@dataclass(frozen=True)
+class Control:
+    """One term `coefficient * V(positive, negative)` or `coefficient * I(element)`."""
+
+    coefficient: sympy.Expr
+    kind: Literal["voltage", "current"]
+    nodes: tuple[str, str] = ()  # type: ignore[assignment]
+    element: str | None = None
+
+
+@dataclass(frozen=True)
+class Element:
+    """One circuit element, after block expansion.
+
+    Terminal order: two-terminal elements and sources `(first, second)`; opamp
+    `(p, n, out)` (output referred to the reference node); transformer
+    `(p1, n1, p2, n2)`; coupling has no nodes and names two inductors in `coupled`.
+    """
+
+    name: str
+    kind: ElementKind
+    nodes: tuple[str, ...]
+    symbol: sympy.Symbol
+    """The element's own symbol (`R1`); results use it by default."""
+    definition: sympy.Expr | None
+    """Defining expression in parameters (`R0*(1 + alpha*T)`), or None when the value is a
+    number or absent. For an opamp: its open-loop gain (may use `s`); None = ideal."""
+    nominal: Fraction | None
+    """Numeric value: the number written, or the definition at nominal parameter values."""
+    tolerance: Tolerance | None
+    unit: str
+    description: str | None
+    location: Location
+    controls: tuple[Control, ...] = ()
+    """For a controlled source: its terms in V(..) and I(..)."""
+    independent: sympy.Expr | None = None
+    """For a controlled source: a part of its value that names no V(..) or I(..) (rare)."""
+    coupled: tuple[str, str] | None = None
+    """For a coupling: the two inductors it couples."""
+    written: str | None = None
+    """The value as the user wrote it (for tables in notes)."""
+
+    @property
+    def is_controlled(self) -> bool:
+        return bool(self.controls)
+
+    @property
+    def is_ideal_opamp(self) -> bool:
+        return self.kind == "opamp" and self.definition is None and self.nominal is None
+
+
+@dataclass(frozen=True)
+class Port:
+    """`port NAME (positive, negative)`: V(NAME) = V(positive) - V(negative)."""
+
+    name: str
+    positive: str
+    negative: str
+    location: Location
+
+
+@dataclass(frozen=True)
+class Assumption:
+    """A `where` clause: `X -> oo`, `X -> 0`, or `big >> small`."""
+
+    kind: Literal["limit", "much_greater"]
+    symbol: str
+    """Limit: the symbol that goes to its limit. much_greater: the large one."""
+    target: str | None = None
+    """Limit: 'oo' or '0'. much_greater: the small symbol."""
+    location: Location | None = None
+
+
+@dataclass(frozen=True)
+class Derive:
+    """`derive Q1, Q2 [where ...]`."""
+
+    quantities: tuple[Quantity, ...]
+    texts: tuple[str, ...]
+    """Each quantity as written (normalised spacing), for headings."""
+    assumptions: tuple[Assumption, ...]
+    location: Location
+
+
+@dataclass(frozen=True)
+class Claim:
+    """`claim QUANTITY = EXPRESSION`: a hand-derived result to check."""
+
+    quantity: Quantity
+    quantity_text: str
+    expression: sympy.Expr
+    expression_text: str
+    location: Location
+
+
+@dataclass(frozen=True)
+class Notice:
+    """A warning or an informational notice about the input (not an error)."""
+
+    kind: Literal["warning", "notice"]
+    message: str
+    location: Location | None
+
+
+@dataclass
+class Circuit:
+    """A flat, validated circuit."""
+
+    file: str
+    source: str
+    title: str | None
+    parameters: dict[str, Parameter]
+    elements: dict[str, Element]
+    ports: dict[str, Port]
+    nodes: tuple[str, ...]
+    """Every node, reference (`gnd`) first, then in order of first appearance."""
+    derives: tuple[Derive, ...] = ()
+    claims: tuple[Claim, ...] = ()
+    notices: tuple[Notice, ...] = ()
+    reference_chosen: bool = False
+    """True when the file never named the reference node and one was chosen."""
+    cache: dict[Any, Any] = field(default_factory=dict, repr=False, compare=False)
+    """Per-circuit memo for later stages (solved systems); not part of the model."""
+
+    def symbol_nominals(self) -> dict[sympy.Symbol, Fraction]:
+        """Nominal value of every element and parameter symbol that has one."""
+        out: dict[sympy.Symbol, Fraction] = {}
+        for p in self.parameters.values():
+            if p.nominal is not None:
+                out[p.symbol] = p.nominal
+        for e in self.elements.values():
+            if e.nominal is not None:
+                out[e.symbol] = e.nominal
+        return out
+
+    def definitions(self) -> dict[sympy.Symbol, sympy.Expr]:
+        """Element symbols that are defined by an expression of parameters (for --substitute)."""
+        return {
+            e.symbol: e.definition
+            for e in self.elements.values()
+            if e.definition is not None and e.kind != "opamp"
+        }
+
+    def node_location(self, node: str) -> Location | None:
+        """Where a node is first used (for error messages)."""
+        for e in self.elements.values():
+            if node in e.nodes:
+                return e.location
+        return None
+
+    # Convenience API; the work is done by later stages (imported on use).
+    def derive(self, quantity: str, **options: Any) -> list:
+        """Derive a quantity written as in the language (`"thevenin(out)"`)."""
+        from ..quantities import derive
+
+        return derive(self, quantity, **options)
+
+    def thevenin(self, port: str, **options: Any):
+        from ..quantities import thevenin
+
+        return thevenin(self, port, **options)
+
+    def norton(self, port: str, **options: Any):
+        from ..quantities import norton
+
+        return norton(self, port, **options)
+
+    def gain(self, source: str, quantity: str, **options: Any):
+        from ..quantities import gain
+
+        return gain(self, source, quantity, **options)
+
+    def impedance(self, port: str, **options: Any):
+        from ..quantities import impedance
+
+        return impedance(self, port, **options)
+
+    def twoport(self, port1: str, port2: str, **options: Any):
+        from ..quantities import twoport
+
+        return twoport(self, port1, port2, **options)
