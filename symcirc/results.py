@@ -1,0 +1,152 @@
+"""Results: one scalar quantity derived from a circuit, as the JSON and the notes show it.
+
+A `Result` holds its value as an exact rational function (engine polynomials) or as a
+sympy expression; the sympy expression, text and LaTeX are built on first use, because
+turning a large polynomial into a sympy expression costs far more than deriving it.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from fractions import Fraction
+from functools import cached_property
+from typing import Any, Protocol
+
+import sympy
+
+
+class ExactValue(Protocol):
+    """What the engine hands over: a canonical ratio of polynomials (engine.ratfunc)."""
+
+    def to_sympy(self) -> sympy.Expr: ...
+
+    def to_text(self) -> str: ...
+
+    def symbol_names(self) -> tuple[str, ...]: ...
+
+    def evaluate(self, values: dict[str, Fraction]) -> Fraction: ...
+
+
+@dataclass(frozen=True)
+class Step:
+    """One step of a derivation (filled by `symcirc.forms`)."""
+
+    kind: str
+    """e.g. 'deactivate', 'parallel', 'series', 'star-delta', 'divider', 'loop', 'nodal', 'solve'."""
+    sentence: str
+    latex: str
+    defines: str | None = None
+    """The intermediate symbol the step defines (`R12`), if any."""
+    data: dict[str, Any] = field(default_factory=dict, compare=False)
+    """Machine-readable detail for replaying the step."""
+
+    def to_json(self) -> dict[str, Any]:
+        return {"kind": self.kind, "sentence": self.sentence, "latex": self.latex,
+                "defines": self.defines}
+
+
+class Result:
+    """One derived scalar quantity: `.quantity`, `.expression`, `.unit`, `.nominal`."""
+
+    def __init__(
+        self,
+        quantity: str,
+        value: ExactValue | sympy.Expr,
+        unit: str = "",
+        nominals: dict[str, Fraction] | None = None,
+        notes: tuple[str, ...] = (),
+    ) -> None:
+        self.quantity = quantity
+        self.unit = unit
+        self._value = value
+        self._nominals = dict(nominals or {})
+        self.notes: list[str] = list(notes)
+        """Plain sentences for the reader (e.g. why a result is zero)."""
+        self.form: Any = None
+        """Design-oriented form (symcirc.forms), shown when verified equal."""
+        self.steps: list[Step] = []
+        self.details: dict[str, Any] = {}
+        """Extra named results (analyses put tables here)."""
+
+    # -- the value
+    @property
+    def exact(self) -> ExactValue | None:
+        """The engine's rational function, when the result came from the engine."""
+        return None if isinstance(self._value, sympy.Basic) else self._value
+
+    @cached_property
+    def expression(self) -> sympy.Expr:
+        if isinstance(self._value, sympy.Basic):
+            return self._value
+        return self._value.to_sympy()
+
+    @cached_property
+    def symbols(self) -> tuple[str, ...]:
+        """Every name the expression uses, sorted."""
+        if isinstance(self._value, sympy.Basic):
+            return tuple(sorted(str(x) for x in self._value.free_symbols))
+        return tuple(sorted(self._value.symbol_names()))
+
+    @cached_property
+    def missing(self) -> tuple[str, ...]:
+        """Symbols without a nominal value (`s` included: a transfer function has none)."""
+        return tuple(n for n in self.symbols if n not in self._nominals)
+
+    @cached_property
+    def nominal_exact(self) -> Fraction | None:
+        """Exact value at the nominal values, or None when a symbol has no value."""
+        if self.missing:
+            return None
+        if isinstance(self._value, sympy.Basic):
+            subs = {sympy.Symbol(n): sympy.Rational(v.numerator, v.denominator)
+                    for n, v in self._nominals.items()}
+            value = sympy.nsimplify(self._value.xreplace(subs)) if self._value.free_symbols else self._value
+            if not value.is_number:
+                return None
+            if value.is_Rational:
+                return Fraction(int(value.p), int(value.q))
+            return Fraction(float(value)).limit_denominator(10**15)
+        return self._value.evaluate({n: self._nominals[n] for n in self.symbols})
+
+    @property
+    def nominal(self) -> float | None:
+        value = self.nominal_exact
+        return None if value is None else float(value)
+
+    # -- showing it
+    def text(self) -> str:
+        if isinstance(self._value, sympy.Basic):
+            return sympy.sstr(self._value)
+        return self._value.to_text()
+
+    def latex(self) -> str:
+        return sympy.latex(self.expression)
+
+    def _repr_latex_(self) -> str:
+        return f"$\\displaystyle {self.quantity_latex()} = {self.latex()}$"
+
+    def quantity_latex(self) -> str:
+        return r"\mathrm{" + self.quantity.replace("_", r"\_") + "}"
+
+    def __repr__(self) -> str:
+        return f"<Result {self.quantity} = {self.text()}>"
+
+    def to_json(self) -> dict[str, Any]:
+        """The object of `--format json` (see shared/design.md)."""
+        out: dict[str, Any] = {
+            "quantity": self.quantity,
+            "expression": self.text(),
+            "symbols": list(self.symbols),
+            "latex": self.latex(),
+            "unit": self.unit,
+            "nominal": self.nominal,
+        }
+        if self.notes:
+            out["notes"] = list(self.notes)
+        if self.form is not None and hasattr(self.form, "to_json"):
+            out["form"] = self.form.to_json()
+        if self.steps:
+            out["steps"] = [s.to_json() for s in self.steps]
+        for key, value in self.details.items():
+            out.setdefault(key, value)
+        return out
