@@ -7,7 +7,6 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 from fractions import Fraction
-from typing import Union
 
 
 @dataclass(frozen=True)
@@ -27,7 +26,7 @@ class Number(Node):
 
     value: Fraction
     unit: str | None
-    """Normalised SI unit written after it (`Ω`, `F`, `H`, `S`, `V`, `A`, `Hz`, `W`, `s`), or None."""
+    """Normalised SI unit written after it (`Ω`, `F`, `H`, `S`, `V`, `A`, `Hz`, `W`, `s`)."""
     text: str
     """The literal as written, e.g. `4k7` or `10 kΩ`."""
 
@@ -79,7 +78,7 @@ class Binary(Node):
     right: Expr
 
 
-Expr = Union[Number, Name, Voltage, Current, Function, Unary, Binary]
+Expr = Number | Name | Voltage | Current | Function | Unary | Binary
 
 
 @dataclass(frozen=True)
@@ -123,7 +122,7 @@ class Quantity(Node):
     """
 
     name: str
-    args: tuple[Union[Quantity, Expr, Equation], ...]
+    args: tuple[Quantity | Expr | Equation, ...]
     attribute: str | None
     text: str
     """The quantity normalised: single spaces after commas, no other spaces (`gain(Ub, out)`)."""
@@ -221,10 +220,10 @@ class ClaimStatement(Node):
     """The claimed expression as written."""
 
 
-Statement = Union[
-    Title, Param, ElementStatement, PortStatement, Instance, Block, DeriveStatement,
-    ClaimStatement,
-]
+Statement = (
+    Title | Param | ElementStatement | PortStatement | Instance | Block | DeriveStatement
+    | ClaimStatement
+)
 
 
 @dataclass(frozen=True)

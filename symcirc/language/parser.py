@@ -1,0 +1,119 @@
+"""Text → syntax tree: reading files, the LALR parser (built once per process and cached on
+disk by lark), and the entry points for files, quantities, expressions and claims.
+
+Every function here raises only SymcircError for bad input.
+"""
+
+from __future__ import annotations
+
+import gc
+import threading
+from functools import lru_cache
+from pathlib import Path
+
+from ..errors import SymcircError
+from . import syntax as st
+
+_STARTS = ["start", "quantity_line", "expression_line", "claim_line"]
+_LOCK = threading.Lock()  # the inline transformer holds the text being parsed
+_BOM = "\ufeff"
+
+
+@lru_cache(maxsize=1)
+def _parser():
+    """The LALR parser with the syntax-tree builder run inline (no parse tree is built)."""
+    from importlib.resources import files
+
+    from lark import Lark
+
+    from .transformer import TreeBuilder
+
+    grammar = files("symcirc.grammar").joinpath("circuit.lark").read_text(encoding="utf-8")
+    builder = TreeBuilder()
+    parser = Lark(grammar, parser="lalr", lexer="contextual", start=_STARTS,
+                  transformer=builder, maybe_placeholders=True, cache=True)
+    return parser, builder
+
+
+def _parse(text: str, filename: str, start: str):
+    from lark.exceptions import LarkError, UnexpectedInput
+
+    parser, builder = _parser()
+    collecting = gc.isenabled()
+    with _LOCK:
+        builder.begin(text, filename)
+        gc.disable()  # the tree has no cycles; collecting while it grows only costs time
+        try:
+            return parser.parse(text, start=start)
+        except UnexpectedInput as problem:
+            from .diagnostics import describe
+
+            raise describe(problem, text, filename, start) from None
+        except RecursionError:
+            raise SymcircError("the input is nested too deeply to read", filename) from None
+        except LarkError as problem:
+            raise SymcircError(f"cannot read the input: {problem}", filename) from None
+        finally:
+            builder.begin("", "<input>")
+            if collecting:
+                gc.enable()
+
+
+def parse_document(text: str, filename: str = "<input>") -> st.Document:
+    """Parse the text of a whole `.circuit` file."""
+    if text.startswith(_BOM):
+        text = text[1:]
+    return _parse(text, filename, "start")
+
+
+def parse_quantity(text: str, filename: str = "<command line>") -> st.Quantity:
+    """Parse one quantity: `thevenin(out)`, `gain(Ub, out)`, `twoport(p1, p2).z21`."""
+    return _parse(text, filename, "quantity_line")
+
+
+def parse_expression(text: str, filename: str = "<command line>") -> st.Expr:
+    """Parse one expression: `R1*R2/(R1 + R2)`."""
+    return _parse(text, filename, "expression_line")
+
+
+def parse_claim(text: str, filename: str = "<command line>"
+                ) -> tuple[st.Quantity, st.Expr, str]:
+    """Parse `QUANTITY = EXPRESSION`; the string is the expression as written."""
+    return _parse(text, filename, "claim_line")
+
+
+def read_source(path: str | Path) -> str:
+    """The text of a circuit file (UTF-8, a byte-order mark accepted)."""
+    name = str(path)
+    try:
+        data = Path(path).read_bytes()
+    except FileNotFoundError:
+        raise SymcircError("cannot read the file: no such file", name) from None
+    except IsADirectoryError:
+        raise SymcircError("cannot read the file: it is a directory", name) from None
+    except PermissionError:
+        raise SymcircError("cannot read the file: permission denied", name) from None
+    except (OSError, ValueError) as problem:
+        reason = getattr(problem, "strerror", None) or str(problem)
+        raise SymcircError(f"cannot read the file: {reason}", name) from None
+    if b"\0" in data:
+        line, column, text = _position(data, data.index(b"\0"))
+        raise SymcircError("this is a binary file, not circuit text (it contains a NUL byte)",
+                           name, line, column, text)
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as problem:
+        line, column, source_line = _position(data, problem.start)
+        raise SymcircError(f"the file is not UTF-8 text (byte 0x{data[problem.start]:02x} "
+                           f"cannot be decoded)", name, line, column, source_line) from None
+    return text[1:] if text.startswith(_BOM) else text
+
+
+def _position(data: bytes, offset: int) -> tuple[int, int, str]:
+    """Line, column and text of the line (undecodable bytes replaced) of a byte offset."""
+    line_start = data.rfind(b"\n", 0, offset) + 1
+    line_end = data.find(b"\n", offset)
+    line_end = len(data) if line_end < 0 else line_end
+    column = len(data[line_start:offset].decode("utf-8", "replace")) + 1
+    text = data[line_start:line_end].decode("utf-8", "replace").rstrip("\r")
+    return data.count(b"\n", 0, offset) + 1, column, text.replace("\0", " ")
