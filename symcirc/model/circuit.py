@@ -29,7 +29,9 @@ ElementKind = Literal[
     "voltage source", "current source", "opamp", "transformer", "coupling",
 ]
 
-TWO_TERMINAL_PASSIVE = ("resistor", "capacitor", "inductor", "conductance", "impedance", "admittance")
+TWO_TERMINAL_PASSIVE = (
+    "resistor", "capacitor", "inductor", "conductance", "impedance", "admittance",
+)
 SOURCES = ("voltage source", "current source")
 
 UNIT_OF_KIND: dict[str, str] = {
@@ -201,6 +203,8 @@ class Circuit:
     notices: tuple[Notice, ...] = ()
     reference_chosen: bool = False
     """True when the file never named the reference node and one was chosen."""
+    aliases: dict[str, str] = field(default_factory=dict)
+    """Other names of nodes: the user's name of a chosen reference node → `gnd`."""
     cache: dict[Any, Any] = field(default_factory=dict, repr=False, compare=False)
     """Per-circuit memo for later stages (solved systems); not part of the model."""
 
@@ -222,6 +226,13 @@ class Circuit:
             for e in self.elements.values()
             if e.definition is not None and e.kind != "opamp"
         }
+
+    def resolve_node(self, name: str) -> str | None:
+        """The model's name of a node written by the user (`0`, `007`, an alias), or None."""
+        if name.isascii() and name.isdigit():
+            name = name.lstrip("0") or REFERENCE
+        name = self.aliases.get(name, name)
+        return name if name in self.nodes else None
 
     def node_location(self, node: str) -> Location | None:
         """Where a node is first used (for error messages)."""

@@ -1,0 +1,252 @@
+"""`symcirc inspect FILE [--format text|json]`: show what was read from a circuit file.
+
+The first command a user runs: title, parameters, elements, ports, nodes, directives and
+notices, as aligned tables or as one JSON object. Notices also go to stderr as
+`FILE:LINE:COL: warning: ...`.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+from difflib import get_close_matches
+from typing import Any
+
+import sympy
+
+from ..errors import Location, SymcircError
+from ..language import syntax
+from ..model.circuit import REFERENCE, Circuit, Element, Notice, Parameter, Tolerance
+from ..model.units import as_float, engineering, tolerance_text
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("file", metavar="FILE", help="the .circuit file to read")
+    parser.add_argument("--format", choices=("text", "json"), default="text",
+                        help="aligned text tables (default) or one JSON object")
+
+
+def run(args: argparse.Namespace) -> int:
+    from .. import load
+
+    circuit = load(args.file)
+    circuit.notices = (*circuit.notices, *unknown_quantities(circuit))
+    for notice in circuit.notices:
+        print(notice_text(notice, circuit), file=sys.stderr)
+    if args.format == "json":
+        print(json.dumps(as_json(circuit), ensure_ascii=False, indent=2))
+    else:
+        print(as_text(circuit))
+    return 0
+
+
+def unknown_quantities(circuit: Circuit) -> list[Notice]:
+    """Warnings for quantity names no handler derives (`thevnin(out)`): `derive` and
+    `check` would stop there, so the first look at the file says so already."""
+    from ..quantities.registry import HANDLERS
+
+    notices = []
+    pending = [q for d in circuit.derives for q in d.quantities]
+    pending += [c.quantity for c in circuit.claims]
+    while pending:
+        quantity = pending.pop()
+        pending.extend(a for a in quantity.args if isinstance(a, syntax.Quantity))
+        pending.extend(a.left for a in quantity.args if isinstance(a, syntax.Equation))
+        if quantity.name not in HANDLERS:
+            close = get_close_matches(quantity.name, list(HANDLERS), n=1)
+            hint = f"; did you mean `{close[0]}`?" if close else ""
+            where = Location(circuit.file, quantity.line, quantity.column)
+            notices.append(Notice("warning", f"unknown quantity `{quantity.name}`{hint}", where))
+    return sorted(notices, key=lambda n: (n.location.line, n.location.column))
+
+
+def notice_text(notice: Notice, circuit: Circuit) -> str:
+    """`FILE:LINE:COL: warning: MESSAGE`, the line and a caret."""
+    report = SymcircError.at(notice.location, notice.message, circuit.source)
+    if notice.location is None:
+        report.file = circuit.file
+    return report.format(kind=notice.kind)
+
+
+# ---------------------------------------------------------------- text
+
+
+def as_text(circuit: Circuit) -> str:
+    """The circuit as an engineer reads it: one titled table per kind of statement."""
+    parts = [f"{circuit.file}: {circuit.title}" if circuit.title else circuit.file]
+    if circuit.parameters:
+        parts.append(_section("Parameters", ["name", "value", "nominal", "tolerance",
+                                             "description"],
+                              [_parameter_row(p) for p in circuit.parameters.values()]))
+    if circuit.elements:
+        parts.append(_section("Elements", ["name", "kind", "nodes", "value", "nominal",
+                                           "tolerance", "description"],
+                              [_element_row(e) for e in circuit.elements.values()]))
+    if circuit.ports:
+        parts.append(_section("Ports", ["name", "nodes", "meaning"], [
+            [p.name, f"{p.positive}, {p.negative}",
+             f"V({p.name}) = V({p.positive}) - V({p.negative})"]
+            for p in circuit.ports.values()
+        ]))
+    if circuit.nodes:
+        reference = f"{REFERENCE} (reference"
+        chosen = [alias for alias, node in circuit.aliases.items() if node == REFERENCE]
+        reference += f", was {chosen[0]})" if chosen else ")"
+        others = [n for n in circuit.nodes if n != REFERENCE]
+        parts.append("Nodes\n  " + ", ".join([reference, *others]))
+    if circuit.derives:
+        lines = []
+        for derive in circuit.derives:
+            line = ", ".join(derive.texts)
+            if derive.assumptions:
+                line += " where " + ", ".join(_assumption(a) for a in derive.assumptions)
+            lines.append("  " + line)
+        parts.append("Derive\n" + "\n".join(lines))
+    if circuit.claims:
+        parts.append("Claims\n" + "\n".join(
+            f"  {c.quantity_text} = {c.expression_text}" for c in circuit.claims
+        ))
+    if circuit.notices:
+        parts.append("Notices\n" + "\n".join(
+            f"  {_line(n)}{n.kind}: {n.message}" for n in circuit.notices
+        ))
+    return "\n\n".join(parts)
+
+
+def _parameter_row(p: Parameter) -> list[str]:
+    value = "" if p.value is None or p.value.is_Rational else sympy.sstr(p.value)
+    return [p.name, value, _nominal(p.nominal, p.unit), _tolerance(p.tolerance, p.unit),
+            p.description or ""]
+
+
+def _element_row(e: Element) -> list[str]:
+    if e.kind == "coupling" and e.coupled:
+        nodes = f"{e.coupled[0]} ~ {e.coupled[1]}"
+    elif e.kind == "transformer":
+        nodes = f"{e.nodes[0]}, {e.nodes[1]}; {e.nodes[2]}, {e.nodes[3]}"
+    else:
+        nodes = ", ".join(e.nodes)
+    if e.controls:
+        nominal = "controlled"
+    elif e.kind == "opamp" and e.is_ideal_opamp:
+        nominal = "ideal"
+    else:
+        nominal = _nominal(e.nominal, e.unit)
+    return [e.name, e.kind, nodes, e.written or "", nominal, _tolerance(e.tolerance, e.unit),
+            e.description or ""]
+
+
+def _nominal(value, unit: str) -> str:
+    return "" if value is None else engineering(value, unit)
+
+
+def _tolerance(tolerance: Tolerance | None, unit: str) -> str:
+    if tolerance is None:
+        return ""
+    return tolerance_text(tolerance.plus, tolerance.minus, tolerance.relative, unit)
+
+
+def _assumption(a) -> str:
+    return f"{a.symbol} -> {a.target}" if a.kind == "limit" else f"{a.symbol} >> {a.target}"
+
+
+def _line(notice: Notice) -> str:
+    return f"line {notice.location.line}: " if notice.location else ""
+
+
+def _section(title: str, header: list[str], rows: list[list[str]]) -> str:
+    used = [i for i in range(len(header)) if any(row[i] for row in rows)]
+    table = [[header[i] for i in used], *([row[i] for i in used] for row in rows)]
+    widths = [max(len(row[c]) for row in table) for c in range(len(used))]
+    lines = ["  " + "  ".join(cell.ljust(w) for cell, w in zip(row, widths, strict=True)).rstrip()
+             for row in table]
+    return "\n".join([title, *lines])
+
+
+# ---------------------------------------------------------------- JSON
+
+
+def as_json(circuit: Circuit) -> dict[str, Any]:
+    """The same content as the text, as one JSON-ready object."""
+    return {
+        "file": circuit.file,
+        "title": circuit.title,
+        "parameters": [_parameter_json(p) for p in circuit.parameters.values()],
+        "elements": [_element_json(e) for e in circuit.elements.values()],
+        "ports": [
+            {"name": p.name, "positive": p.positive, "negative": p.negative,
+             "line": p.location.line}
+            for p in circuit.ports.values()
+        ],
+        "nodes": list(circuit.nodes),
+        "reference": REFERENCE,
+        "reference_chosen": circuit.reference_chosen,
+        "aliases": dict(circuit.aliases),
+        "derives": [
+            {"quantities": list(d.texts),
+             "where": [{"kind": a.kind, "symbol": a.symbol, "target": a.target}
+                       for a in d.assumptions],
+             "line": d.location.line}
+            for d in circuit.derives
+        ],
+        "claims": [
+            {"quantity": c.quantity_text, "expression": sympy.sstr(c.expression),
+             "written": c.expression_text, "line": c.location.line}
+            for c in circuit.claims
+        ],
+        "notices": [
+            {"kind": n.kind, "message": n.message,
+             "line": n.location.line if n.location else None,
+             "column": n.location.column if n.location else None}
+            for n in circuit.notices
+        ],
+    }
+
+
+def _parameter_json(p: Parameter) -> dict[str, Any]:
+    return {
+        "name": p.name,
+        "value": None if p.value is None else sympy.sstr(p.value),
+        "nominal": None if p.nominal is None else as_float(p.nominal),
+        "nominal_text": _nominal(p.nominal, p.unit) or None,
+        "unit": p.unit,
+        "tolerance": _tolerance_json(p.tolerance, p.unit),
+        "description": p.description,
+        "line": p.location.line,
+    }
+
+
+def _element_json(e: Element) -> dict[str, Any]:
+    out: dict[str, Any] = {
+        "name": e.name,
+        "kind": e.kind,
+        "nodes": list(e.nodes),
+        "value": e.written,
+        "definition": None if e.definition is None else sympy.sstr(e.definition),
+        "nominal": None if e.nominal is None else as_float(e.nominal),
+        "nominal_text": _nominal(e.nominal, e.unit) or None,
+        "unit": e.unit,
+        "tolerance": _tolerance_json(e.tolerance, e.unit),
+        "description": e.description,
+        "line": e.location.line,
+    }
+    if e.controls:
+        out["controls"] = [
+            {"kind": c.kind, "coefficient": sympy.sstr(c.coefficient),
+             **({"nodes": list(c.nodes)} if c.kind == "voltage" else {"element": c.element})}
+            for c in e.controls
+        ]
+        out["independent"] = None if e.independent is None else sympy.sstr(e.independent)
+    if e.coupled:
+        out["coupled"] = list(e.coupled)
+    if e.kind == "opamp":
+        out["ideal"] = e.is_ideal_opamp
+    return out
+
+
+def _tolerance_json(tolerance: Tolerance | None, unit: str) -> dict[str, Any] | None:
+    if tolerance is None:
+        return None
+    return {"plus": as_float(tolerance.plus), "minus": as_float(tolerance.minus),
+            "relative": tolerance.relative, "text": _tolerance(tolerance, unit)}

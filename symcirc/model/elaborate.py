@@ -1,0 +1,938 @@
+"""Syntax tree → flat, validated `Circuit`.
+
+Blocks are expanded (names given by `with` are kept, other names get the instance's name
+appended: `Ra` in instance `right` is `Ra_right`; a block's internal node `mid` becomes
+`mid_right`), parameters and values are resolved, units and tolerances checked, the
+reference node chosen when the file never names one, and the topology checked.
+"""
+
+from __future__ import annotations
+
+import gc
+from dataclasses import dataclass, field, replace
+from difflib import get_close_matches
+from fractions import Fraction
+
+import sympy
+
+from ..errors import Location, SymcircError
+from ..language import syntax
+from . import topology, units
+from .circuit import (
+    LAPLACE,
+    REFERENCE,
+    SOURCES,
+    TWO_TERMINAL_PASSIVE,
+    UNIT_OF_KIND,
+    Assumption,
+    Circuit,
+    Claim,
+    Control,
+    Derive,
+    Element,
+    Notice,
+    Parameter,
+    Port,
+    Tolerance,
+)
+from .expressions import (
+    MAX_POWER_BITS,
+    ExpressionProblem,
+    expression_in,
+    linear_form,
+    mentions_control,
+    to_sympy,
+    unknown_name_message,
+)
+
+KEYWORDS = (
+    "title", "param", "resistor", "capacitor", "inductor", "conductance", "impedance",
+    "admittance", "voltage source", "current source", "opamp", "transformer", "coupling",
+    "port", "block", "end", "derive", "claim",
+)
+"""Statement keywords (for "did you mean" when a statement names no known block)."""
+
+RESERVED = ("s", "pi", "sqrt", "oo")
+"""Names with a fixed meaning in expressions; nothing may be declared with them."""
+
+CURRENT_CARRIERS = (*TWO_TERMINAL_PASSIVE, *SOURCES)
+"""Element kinds whose current `I(E)` is defined."""
+
+ATTRIBUTES = {
+    "thevenin": ("voltage", "impedance"),
+    "norton": ("current", "admittance"),
+    "twoport": tuple(
+        f"{family}{i}{j}" for family in "zyhg" for i in "12" for j in "12"
+    ) + ("A", "B", "C", "D"),
+}
+
+
+def elaborate(document: syntax.Document) -> Circuit:
+    """The flat, validated circuit of a parsed file; raises SymcircError on any problem."""
+    # Everything built here lives as long as the circuit: cyclic garbage collection during
+    # the build only re-scans it (it doubled the time on a 10,000-element file).
+    collecting = gc.isenabled()
+    gc.disable()
+    try:
+        return _Elaborator(document).run()
+    finally:
+        if collecting:
+            gc.enable()
+
+
+# ---------------------------------------------------------------- scopes
+
+
+@dataclass
+class _Scope:
+    """The names and nodes visible in one block instance (or at the top level)."""
+
+    parent: _Scope | None
+    instance: str | None
+    """Final name of the instance; None at the top level."""
+    terminals: dict[str, str] = field(default_factory=dict)
+    """Block terminal → the outer node it is connected to."""
+    renames: dict[str, str] = field(default_factory=dict)
+    """`with` renames: local name → final name."""
+    names: dict[str, str] = field(default_factory=dict)
+    """Declared local name → final name."""
+    declared: dict[str, Location] = field(default_factory=dict)
+    blocks: dict[str, tuple[syntax.Block, _Scope]] = field(default_factory=dict)
+    trail: tuple[str, ...] = ()
+    """Notes saying which instances (outermost last) this scope belongs to."""
+    expanding: tuple[str, ...] = ()
+    """Blocks being expanded around this scope (to report recursion)."""
+
+    def final(self, local: str) -> str:
+        if local in self.renames:
+            return self.renames[local]
+        return local if self.instance is None else f"{local}_{self.instance}"
+
+    def lookup(self, local: str) -> str | None:
+        scope: _Scope | None = self
+        while scope is not None:
+            if local in scope.names:
+                return scope.names[local]
+            scope = scope.parent
+        return None
+
+    def block(self, name: str) -> tuple[syntax.Block, _Scope] | None:
+        scope: _Scope | None = self
+        while scope is not None:
+            if name in scope.blocks:
+                return scope.blocks[name]
+            scope = scope.parent
+        return None
+
+    def visible(self) -> set[str]:
+        out: set[str] = set()
+        scope: _Scope | None = self
+        while scope is not None:
+            out.update(scope.names)
+            scope = scope.parent
+        return out
+
+    def visible_blocks(self) -> set[str]:
+        out: set[str] = set()
+        scope: _Scope | None = self
+        while scope is not None:
+            out.update(scope.blocks)
+            scope = scope.parent
+        return out
+
+
+@dataclass
+class _Draft:
+    """A statement with its final name, final nodes and the scope it was written in."""
+
+    statement: syntax.Param | syntax.ElementStatement | syntax.PortStatement
+    name: str
+    nodes: tuple[str, ...]
+    scope: _Scope
+
+
+# ---------------------------------------------------------------- the elaborator
+
+
+class _Elaborator:
+    def __init__(self, document: syntax.Document) -> None:
+        self.file = document.file
+        self.source = document.source
+        self.document = document
+        self.top = _Scope(parent=None, instance=None)
+        self.title: str | None = None
+        self.title_seen: syntax.Title | None = None
+        self.what: dict[str, str] = {}
+        """Final name → what it is: parameter, element, port, instance, block."""
+        self.where: dict[str, Location] = {}
+        self.params: list[_Draft] = []
+        self.elements: list[_Draft] = []
+        self.ports: list[_Draft] = []
+        self.directives: list[syntax.DeriveStatement | syntax.ClaimStatement] = []
+        self.node_order: dict[str, None] = {}
+        self.node_owner: dict[str, tuple[str | None, Location]] = {}
+        self.aliases: dict[str, str] = {}
+        self.notices: list[Notice] = []
+        self.used_nodes: set[str] = set()
+        self.dimensions: dict[str, units.Inferred] = {}
+        self.draft_of: dict[str, _Draft] = {}
+
+    # -------------------------------------------------------------- helpers
+
+    def at(self, node: syntax.Node) -> Location:
+        return Location(self.file, node.line, node.column)
+
+    def error(self, node: syntax.Node, message: str, notes: tuple[str, ...] = ()) -> SymcircError:
+        return SymcircError.at(self.at(node), message, self.source, notes)
+
+    def located(self, problem: ExpressionProblem, scope: _Scope) -> SymcircError:
+        error = problem.located(self.file, self.source)
+        error.notes = (*error.notes, *scope.trail)
+        return error
+
+    def first_at(self, final: str) -> str:
+        where = self.where[final]
+        return f"`{final}` was first declared at line {where.line}"
+
+    # -------------------------------------------------------------- pass 1: names and nodes
+
+    def run(self) -> Circuit:
+        self.walk(self.document.statements, self.top)
+        self.draft_of = {d.name: d for d in (*self.params, *self.elements)}
+        node_set = set(self.node_order)
+        self.check_ports(node_set)
+        self.choose_reference(node_set)
+        parameters = {d.name: self.parameter(d) for d in self.params}
+        elements = {d.name: self.element(d, node_set) for d in self.elements}
+        parameters, elements = self.resolve_nominals(parameters, elements)
+        self.check_couplings(elements)
+        nodes = [REFERENCE, *(self.node(n) for n in self.node_order if self.node(n) != REFERENCE)]
+        circuit = Circuit(
+            file=self.file,
+            source=self.source,
+            title=self.title,
+            parameters=parameters,
+            elements=elements,
+            ports={
+                d.name: Port(d.name, self.node(d.nodes[0]), self.node(d.nodes[1]),
+                             self.at(d.statement))
+                for d in self.ports
+            },
+            nodes=tuple(nodes) if node_set else (),
+            reference_chosen=bool(self.aliases),
+            aliases=dict(self.aliases),
+        )
+        circuit.derives, circuit.claims = self.directives_of(circuit)
+        origins = {d.name: d.scope.trail for d in self.elements if d.scope.trail}
+        used = {self.node(n) for n in self.used_nodes}
+        for port in circuit.ports.values():
+            used.update((port.positive, port.negative))
+        warnings = topology.check(circuit, origins, used)
+        circuit.notices = (*self.notices, *sorted(warnings, key=_line_of))
+        return circuit
+
+    def walk(self, statements: tuple[syntax.Statement, ...], scope: _Scope) -> None:
+        for statement in statements:
+            if isinstance(statement, syntax.Block):
+                self.define_block(statement, scope)
+        self.check_recursion(scope)
+        for statement in statements:
+            if isinstance(statement, syntax.Param):
+                name = self.declare(statement.name, "parameter", scope)
+                self.params.append(_Draft(statement, name, (), scope))
+            elif isinstance(statement, syntax.ElementStatement):
+                self.element_statement(statement, scope)
+            elif isinstance(statement, syntax.PortStatement):
+                name = self.declare(statement.name, "port", scope)
+                nodes = tuple(self.node_name(t, scope) for t in statement.terminals)
+                self.ports.append(_Draft(statement, name, nodes, scope))
+            elif isinstance(statement, syntax.Instance):
+                self.expand(statement, scope)
+            elif isinstance(statement, syntax.Title | syntax.DeriveStatement
+                            | syntax.ClaimStatement):
+                self.top_level_statement(statement, scope)
+
+    def top_level_statement(self, statement, scope: _Scope) -> None:
+        keyword = {syntax.Title: "title", syntax.DeriveStatement: "derive",
+                   syntax.ClaimStatement: "claim"}[type(statement)]
+        if scope is not self.top:
+            raise self.error(statement, f"`{keyword}` belongs at the top level, not inside a block")
+        if isinstance(statement, syntax.Title):
+            if self.title_seen is not None:
+                raise self.error(
+                    statement, "the title is given twice",
+                    (f"the first title is at line {self.title_seen.line}",),
+                )
+            self.title, self.title_seen = statement.text, statement
+        else:
+            self.directives.append(statement)
+
+    def declare(self, name: syntax.Name, what: str, scope: _Scope) -> str:
+        """Enter a name in its scope and in the flat namespace; returns its final name."""
+        local = name.name
+        if local in RESERVED:
+            meaning = {"s": "the Laplace variable", "pi": "the number π",
+                       "sqrt": "the square root", "oo": "infinity in `where` limits"}[local]
+            raise self.error(name, f"`{local}` is reserved ({meaning}); choose another name")
+        if local in scope.declared:
+            first = scope.declared[local]
+            raise self.error(
+                name, f"duplicate name `{local}`: names of elements, parameters, ports and "
+                "blocks must differ", (f"`{local}` was first declared at line {first.line}",
+                                       *scope.trail),
+            )
+        final = scope.final(local)
+        renamed = local in scope.renames
+        if final in self.what and not renamed:
+            raise self.error(
+                name, f"duplicate name `{final}`" + (
+                    f" (`{local}` in instance `{scope.instance}`)" if final != local else ""
+                ) + ": names of elements, parameters, ports and blocks must differ",
+                (self.first_at(final), *scope.trail),
+            )
+        if not renamed:
+            self.where[final] = self.at(name)
+        self.what[final] = what
+        scope.declared[local] = self.at(name)
+        scope.names[local] = final
+        if scope is not self.top:
+            self.top.names.setdefault(final, final)
+        return final
+
+    def node_name(self, name: syntax.Name, scope: _Scope) -> str:
+        """The final name of a node written in `scope` (before the reference is chosen)."""
+        text = name.name
+        if text.isascii() and text.isdigit():
+            text = text.lstrip("0") or REFERENCE  # `007` is node 7; `0` and `00` are gnd
+        if text == REFERENCE:
+            return REFERENCE
+        if text in scope.terminals:
+            return scope.terminals[text]
+        final = text if scope.instance is None else f"{text}_{scope.instance}"
+        owner = self.node_owner.get(final)
+        if owner is None:
+            self.node_owner[final] = (scope.instance, self.at(name))
+        elif owner[0] != scope.instance:
+            raise self.error(
+                name, f"node `{final}` clashes with a node of the same name at line "
+                f"{owner[1].line}: a block's internal node `{text}` in instance "
+                f"`{scope.instance or owner[0]}` is named `{final}`; rename one of them",
+                scope.trail,
+            )
+        return final
+
+    def element_statement(self, statement: syntax.ElementStatement, scope: _Scope) -> None:
+        name = self.declare(statement.name, "element", scope)
+        if statement.kind == "coupling":
+            nodes: tuple[str, ...] = ()
+        else:
+            nodes = tuple(self.node_name(t, scope) for t in statement.terminals)
+            for node in nodes:
+                self.node_order.setdefault(node, None)
+        self.elements.append(_Draft(statement, name, nodes, scope))
+
+    # -------------------------------------------------------------- blocks
+
+    def define_block(self, block: syntax.Block, scope: _Scope) -> None:
+        name = block.name.name
+        self.declare(block.name, "block", scope)
+        seen: dict[str, syntax.Name] = {}
+        for terminal in block.terminals:
+            if terminal.name in (REFERENCE, "0"):
+                raise self.error(terminal, "the reference node cannot be a block terminal; "
+                                 "use gnd inside the block directly")
+            if terminal.name in seen:
+                raise self.error(terminal, f"block {name} lists terminal `{terminal.name}` "
+                                 "twice")
+            seen[terminal.name] = terminal
+        scope.blocks[name] = (block, scope)
+
+    def check_recursion(self, scope: _Scope) -> None:
+        """Blocks defined here must not instantiate themselves, directly or through others."""
+        calls = {
+            name: [s for s in block.body if isinstance(s, syntax.Instance)
+                   and s.block.name in scope.blocks]
+            for name, (block, _) in scope.blocks.items()
+        }
+        done: set[str] = set()
+        for start in calls:
+            path: list[str] = []
+            stack = [(start, iter(calls[start]))]
+            on_path = {start}
+            path.append(start)
+            while stack:
+                name, pending = stack[-1]
+                for instance in pending:
+                    target = instance.block.name
+                    if target in on_path:
+                        cycle = " → ".join([*path[path.index(target):], target])
+                        raise self.error(instance, f"block {target} is recursive: {cycle}")
+                    if target not in done:
+                        stack.append((target, iter(calls[target])))
+                        on_path.add(target)
+                        path.append(target)
+                        break
+                else:
+                    stack.pop()
+                    on_path.discard(name)
+                    path.pop()
+                    done.add(name)
+
+    def expand(self, instance: syntax.Instance, scope: _Scope) -> None:
+        found = scope.block(instance.block.name)
+        if found is None:
+            candidates = [*KEYWORDS, *scope.visible_blocks()]
+            close = get_close_matches(instance.block.name, candidates, n=1, cutoff=0.6)
+            hint = f"; did you mean `{close[0]}`?" if close else ""
+            raise self.error(
+                instance.block,
+                f"unknown statement or block `{instance.block.name}`{hint}", scope.trail,
+            )
+        block, defined_in = found
+        if block.name.name in scope.expanding:
+            cycle = " → ".join([*scope.expanding, block.name.name])
+            raise self.error(instance, f"block {block.name.name} is recursive: {cycle}")
+        if len(instance.terminals) != len(block.terminals):
+            wanted = ", ".join(t.name for t in block.terminals)
+            raise self.error(
+                instance,
+                f"block {block.name.name} has {len(block.terminals)} terminal"
+                f"{'s' if len(block.terminals) != 1 else ''} ({wanted}), but instance "
+                f"{instance.name.name} connects {len(instance.terminals)}",
+                (f"block {block.name.name} is defined at line {block.line}", *scope.trail),
+            )
+        final = self.declare(instance.name, "instance", scope)
+        terminals = {
+            inner.name: self.node_name(outer, scope)
+            for inner, outer in zip(block.terminals, instance.terminals, strict=True)
+        }
+        inner = _Scope(
+            parent=defined_in,
+            instance=final,
+            terminals=terminals,
+            trail=(f"in instance `{final}` of block {block.name.name} at line {instance.line}",
+                   *scope.trail),
+            expanding=(*scope.expanding, block.name.name),
+        )
+        body_names = {
+            s.name.name: s for s in block.body
+            if isinstance(s, syntax.Param | syntax.ElementStatement)
+        }
+        for rename in instance.renames:
+            if rename.inner.name not in body_names:
+                close = get_close_matches(rename.inner.name, list(body_names), n=1)
+                hint = f"; did you mean `{close[0]}`?" if close else ""
+                raise self.error(
+                    rename.inner, f"block {block.name.name} has no element or parameter "
+                    f"`{rename.inner.name}` to rename{hint}", scope.trail,
+                )
+            if rename.inner.name in inner.renames:
+                raise self.error(rename.inner, f"`{rename.inner.name}` is renamed twice")
+            what = "parameter" if isinstance(body_names[rename.inner.name], syntax.Param) \
+                else "element"
+            inner.renames[rename.inner.name] = self.declare(rename.outer, what, scope)
+        self.walk(block.body, inner)
+
+    # -------------------------------------------------------------- ports and the reference
+
+    def check_ports(self, node_set: set[str]) -> None:
+        for draft in self.ports:
+            statement = draft.statement
+            for terminal, node in zip(statement.terminals, draft.nodes, strict=True):
+                if node not in node_set:
+                    raise self.error(terminal, self.unknown_node(terminal.name, node, "port",
+                                                                 node_set), draft.scope.trail)
+            if draft.nodes[0] == draft.nodes[1]:
+                raise self.error(statement, f"port {draft.name} has both terminals on node "
+                                 f"{draft.nodes[0]}")
+            if draft.name in node_set:
+                raise self.error(
+                    statement.name, f"port `{draft.name}` has the name of a node: V({draft.name}) "
+                    "would be ambiguous; rename the port or the node",
+                    (f"node {draft.name} is first used at line {self.node_line(draft.name)}",),
+                )
+
+    def node_line(self, node: str) -> int:
+        return next(self.at(d.statement).line for d in self.elements if node in d.nodes)
+
+    def unknown_node(self, written: str, node: str, user: str, node_set: set[str]) -> str:
+        message = f"unknown node `{written}` in a {user}: no element is connected to it"
+        close = get_close_matches(node, list(node_set), n=1)
+        if close:
+            message += f"; did you mean `{close[0]}`?"
+        return message
+
+    def choose_reference(self, node_set: set[str]) -> None:
+        if not node_set or REFERENCE in node_set:
+            return
+        if self.ports:
+            first = self.ports[0]
+            chosen, why = first.nodes[1], f"the second terminal of port {first.name}"
+            where = self.at(self.ports[0].statement)
+        else:
+            chosen, why = next(iter(self.node_order)), "the first node in the file"
+            where = self.at(self.elements[0].statement)
+        self.aliases[chosen] = REFERENCE
+        self.notices.append(Notice(
+            "notice",
+            f"no node is named gnd or 0: node {chosen} ({why}) is taken as the reference "
+            f"node {REFERENCE}; results that do not depend on the reference are unchanged",
+            where,
+        ))
+
+    def node(self, name: str) -> str:
+        return self.aliases.get(name, name)
+
+    # -------------------------------------------------------------- pass 2: values
+
+    def resolver(self, scope: _Scope):
+        def resolve(name: syntax.Name) -> sympy.Expr:
+            final = scope.lookup(name.name)
+            if final is None:
+                raise ExpressionProblem(
+                    name, unknown_name_message(name.name, scope.visible()), scope.trail
+                )
+            what = self.what[final]
+            if what not in ("parameter", "element"):
+                hint = f"; use V({name.name})" if what == "port" else ""
+                raise ExpressionProblem(
+                    name, f"`{name.name}` is a {what}, not a parameter or element{hint}",
+                    scope.trail,
+                )
+            return sympy.Symbol(final)
+
+        return resolve
+
+    def dimension_of(self, final: str | None) -> units.Inferred:
+        """The dimension of a parameter or element symbol (None when unknown)."""
+        if final is None:
+            return None
+        if final in self.dimensions:
+            return self.dimensions[final]
+        self.dimensions[final] = None  # a definition that names itself stays unknown
+        result: units.Inferred = None
+        draft = self.draft_of.get(final)
+        if draft is not None and isinstance(draft.statement, syntax.ElementStatement):
+            result = units.UNIT_DIMENSIONS[UNIT_OF_KIND[draft.statement.kind]]
+        elif draft is not None and draft.statement.value is not None:
+            literal = _literal(draft.statement.value.expression)
+            if literal is not None:
+                result = units.UNIT_DIMENSIONS.get(literal.unit) if literal.unit else None
+            else:
+                try:
+                    result = units.expression_dimension(
+                        draft.statement.value.expression,
+                        lambda local, s=draft.scope: self.dimension_of(s.lookup(local)),
+                    )
+                except units.UnitMismatch:
+                    result = None  # reported where the parameter itself is elaborated
+        self.dimensions[final] = result if isinstance(result, tuple) else None
+        return self.dimensions[final]
+
+    def value_dimension(self, value: syntax.Value, scope: _Scope) -> units.Inferred:
+        try:
+            return units.expression_dimension(
+                value.expression, lambda local: self.dimension_of(scope.lookup(local))
+            )
+        except units.UnitMismatch as mismatch:
+            raise self.error(mismatch.node, mismatch.message, scope.trail) from None
+
+    def parameter(self, draft: _Draft) -> Parameter:
+        statement: syntax.Param = draft.statement  # type: ignore[assignment]
+        value = statement.value
+        expression = nominal = tolerance = None
+        unit = ""
+        if value is not None:
+            expression = self.convert(value.expression, draft.scope)
+            if expression.is_Rational:
+                nominal = Fraction(int(expression.p), int(expression.q))
+            literal = _literal(value.expression)
+            if literal is not None and literal.unit:
+                unit = literal.unit
+            else:
+                dimension = self.value_dimension(value, draft.scope)
+                if isinstance(dimension, tuple):
+                    unit = units.unit_of(dimension) or ""
+            tolerance = self.tolerance(value, unit, f"parameter {draft.name}", draft.scope)
+        return Parameter(
+            name=draft.name, symbol=sympy.Symbol(draft.name), value=expression, nominal=nominal,
+            unit=unit, tolerance=tolerance, description=statement.description,
+            location=self.at(statement),
+        )
+
+    def element(self, draft: _Draft, node_set: set[str]) -> Element:
+        statement: syntax.ElementStatement = draft.statement  # type: ignore[assignment]
+        kind, value, scope = statement.kind, statement.value, draft.scope
+        unit = UNIT_OF_KIND[kind]
+        definition = nominal = tolerance = independent = None
+        controls: tuple[Control, ...] = ()
+        if value is not None:
+            expression = None
+            if kind in SOURCES and mentions_control(value.expression):
+                constant, controls = self.controlled(value, scope, node_set)
+                if controls:
+                    independent = constant if constant != 0 else None
+                else:  # every V(..)/I(..) term cancelled: the value is what is left
+                    expression = constant
+            else:
+                nominal = units.constant_value(value.expression)  # plain numbers: no sympy
+                if nominal is None:
+                    expression = self.convert(value.expression, scope)
+                self.check_unit(statement, value, scope)
+            if expression is not None and expression.is_Rational:
+                nominal = Fraction(int(expression.p), int(expression.q))
+            elif expression is not None:
+                definition = expression
+            tolerance = self.tolerance(value, unit, f"{kind} {draft.name}", scope)
+        coupled = None
+        if kind == "coupling":
+            coupled = tuple(self.coupled_inductor(t, scope) for t in statement.terminals)
+        return Element(
+            name=draft.name, kind=kind, nodes=tuple(self.node(n) for n in draft.nodes),  # type: ignore[arg-type]
+            symbol=sympy.Symbol(draft.name), definition=definition, nominal=nominal,
+            tolerance=tolerance, unit=unit, description=statement.description,
+            location=self.at(statement), controls=controls, independent=independent,
+            coupled=coupled, written=value.text if value is not None else None,  # type: ignore[arg-type]
+        )
+
+    def convert(self, expression: syntax.Expr, scope: _Scope) -> sympy.Expr:
+        try:
+            return to_sympy(expression, self.resolver(scope))
+        except ExpressionProblem as problem:
+            raise self.located(problem, scope) from None
+
+    def check_unit(self, statement: syntax.ElementStatement, value: syntax.Value,
+                   scope: _Scope) -> None:
+        dimension = self.value_dimension(value, scope)
+        expected = units.UNIT_DIMENSIONS[UNIT_OF_KIND[statement.kind]]
+        if not isinstance(dimension, tuple) or dimension == expected:
+            return
+        literal = _literal(value.expression)
+        written = units.describe(dimension)
+        if UNIT_OF_KIND[statement.kind]:
+            wanted = f"{_article(statement.kind)} {statement.kind}'s value is in " \
+                     f"{UNIT_OF_KIND[statement.kind]}"
+        else:
+            wanted = f"{_article(statement.kind)} {statement.kind}'s value is a pure number"
+        raise self.error(
+            literal if literal is not None else value,
+            f"{statement.kind} {statement.name.name} is given in {written}, but {wanted}",
+            scope.trail,
+        )
+
+    def tolerance(self, value: syntax.Value, unit: str, what: str,
+                  scope: _Scope) -> Tolerance | None:
+        written = value.tolerance
+        if written is None:
+            return None
+        plus, minus = written.plus.value, written.minus.value
+        if plus < 0 or minus < 0:
+            raise self.error(written, "a tolerance is written as magnitudes (± 1 %)")
+        if written.percent:
+            return Tolerance(plus / 100, minus / 100, relative=True)
+        for number in (written.plus, written.minus):
+            if number.unit and unit and number.unit != unit:
+                raise self.error(
+                    number, f"the tolerance of {what} is in {number.unit}, but its value is "
+                    f"in {unit}", scope.trail,
+                )
+        return Tolerance(plus, minus, relative=False)
+
+    def controlled(self, value: syntax.Value, scope: _Scope,
+                   node_set: set[str]) -> tuple[sympy.Expr, tuple[Control, ...]]:
+        """The part free of V/I and the control terms of a source value."""
+        def key(term: syntax.Voltage | syntax.Current):
+            if isinstance(term, syntax.Current):
+                return ("current", self.current_element(term.element, scope))
+            return ("voltage", self.control_nodes(term, scope, node_set))
+
+        try:
+            constant, terms = linear_form(value.expression, self.resolver(scope), key)
+        except ExpressionProblem as problem:
+            raise self.located(problem, scope) from None
+        controls = tuple(
+            Control(coefficient, "voltage", nodes=target)
+            if kind == "voltage" else Control(coefficient, "current", element=target)
+            for (kind, target), coefficient in terms.items()
+        )
+        return constant, controls
+
+    def control_nodes(self, term: syntax.Voltage, scope: _Scope,
+                      node_set: set[str]) -> tuple[str, str]:
+        names = term.nodes
+        if len(names) == 1:
+            final = scope.lookup(names[0].name)
+            if final is not None and self.what.get(final) == "port":
+                port = next(d for d in self.ports if d.name == final)
+                self.used_nodes.update(port.nodes)
+                return self.node(port.nodes[0]), self.node(port.nodes[1])
+        if len(names) not in (1, 2):
+            raise ExpressionProblem(term, "V(..) takes one node (or port) or two nodes")
+        nodes = [self.node_name(n, scope) for n in names]
+        for written, node in zip(names, nodes, strict=True):
+            if node not in node_set:
+                raise ExpressionProblem(written, self.unknown_node(written.name, node,
+                                                                   "control", node_set))
+        self.used_nodes.update(nodes)
+        positive = self.node(nodes[0])
+        negative = self.node(nodes[1]) if len(nodes) == 2 else REFERENCE
+        return positive, negative
+
+    def current_element(self, name: syntax.Name, scope: _Scope) -> str:
+        final = scope.lookup(name.name)
+        if final is None or self.what.get(final) != "element":
+            raise ExpressionProblem(
+                name, f"I({name.name}) names no element" + (
+                    "" if final is None else f": `{name.name}` is a {self.what[final]}"
+                ),
+            )
+        kind = self.draft_of[final].statement.kind  # type: ignore[union-attr]
+        if kind not in CURRENT_CARRIERS:
+            raise ExpressionProblem(
+                name, f"I({name.name}): the current of {_article(kind)} {kind} is not defined; "
+                "use a two-terminal element or a source",
+            )
+        return final
+
+    def coupled_inductor(self, name: syntax.Name, scope: _Scope) -> str:
+        final = scope.lookup(name.name)
+        draft = self.draft_of.get(final) if final is not None else None
+        if draft is None or not isinstance(draft.statement, syntax.ElementStatement):
+            raise self.error(name, f"coupling names `{name.name}`, which is no element; it must "
+                             "name two inductors", scope.trail)
+        if draft.statement.kind != "inductor":
+            raise self.error(name, f"coupling names {draft.statement.kind} {name.name}; it must "
+                             "name two inductors", scope.trail)
+        return final  # type: ignore[return-value]
+
+    def check_couplings(self, elements: dict[str, Element]) -> None:
+        pairs: dict[frozenset[str], str] = {}
+        for element in elements.values():
+            if element.kind != "coupling":
+                continue
+            first, second = element.coupled  # type: ignore[misc]
+            statement = self.draft_of[element.name].statement
+            if first == second:
+                raise self.error(statement, f"coupling {element.name} names inductor {first} "
+                                 "twice; it couples two different inductors")
+            pair = frozenset((first, second))
+            if pair in pairs:
+                raise self.error(statement, f"inductors {first} and {second} are already coupled "
+                                 f"by {pairs[pair]}")
+            pairs[pair] = element.name
+            if element.nominal is not None and abs(element.nominal) > 1:
+                raise self.error(statement, f"coupling coefficient {element.name} = "
+                                 f"{units.engineering(element.nominal)} is outside -1 … 1")
+
+    # -------------------------------------------------------------- nominal values
+
+    def resolve_nominals(self, parameters: dict[str, Parameter], elements: dict[str, Element]):
+        """Fill in nominal values computed from definitions; reports circular definitions."""
+        definitions: dict[str, sympy.Expr] = {}
+        known: dict[str, Fraction | None] = {}
+        for p in parameters.values():
+            if p.value is not None and p.nominal is None:
+                definitions[p.name] = p.value
+            else:
+                known[p.name] = p.nominal
+        for e in elements.values():
+            if e.definition is not None:
+                definitions[e.name] = e.definition
+            else:
+                known[e.name] = e.nominal
+        values = _evaluate_all(definitions, known, self.cycle_error)
+        parameters = {
+            name: p if name not in definitions else replace(p, nominal=values[name])
+            for name, p in parameters.items()
+        }
+        elements = {
+            name: e if name not in definitions else replace(e, nominal=values[name])
+            for name, e in elements.items()
+        }
+        return parameters, elements
+
+    def cycle_error(self, cycle: list[str]) -> SymcircError:
+        draft = self.draft_of[cycle[0]]
+        path = " → ".join([*cycle, cycle[0]])
+        return self.error(draft.statement, f"{cycle[0]} is defined in terms of itself: {path}",
+                          draft.scope.trail)
+
+    # -------------------------------------------------------------- directives
+
+    def directives_of(self, circuit: Circuit) -> tuple[tuple[Derive, ...], tuple[Claim, ...]]:
+        derives: list[Derive] = []
+        claims: list[Claim] = []
+        for statement in self.directives:
+            if isinstance(statement, syntax.DeriveStatement):
+                for quantity in statement.quantities:
+                    self.check_quantity(quantity, circuit)
+                derives.append(Derive(
+                    quantities=statement.quantities,
+                    texts=tuple(q.text for q in statement.quantities),
+                    assumptions=tuple(self.assumption(a, circuit) for a in statement.assumptions),
+                    location=self.at(statement),
+                ))
+            else:
+                self.check_quantity(statement.quantity, circuit)
+                claims.append(Claim(
+                    quantity=statement.quantity,
+                    quantity_text=statement.quantity.text,
+                    expression=expression_in(circuit, statement.expression, self.file,
+                                             self.source),
+                    expression_text=statement.text,
+                    location=self.at(statement),
+                ))
+        return tuple(derives), tuple(claims)
+
+    def assumption(self, written: syntax.Assumption, circuit: Circuit) -> Assumption:
+        self.expect(written.symbol, "symbol", circuit)
+        target: str | None
+        if written.kind == "limit":
+            if isinstance(written.target, syntax.Name) and written.target.name == "oo":
+                target = "oo"
+            elif isinstance(written.target, syntax.Number) and written.target.value == 0:
+                target = "0"
+            else:
+                raise self.error(written.target or written,
+                                 "a limit goes to oo or 0 (`A -> oo`, `Rs -> 0`)")
+        else:
+            self.expect(written.target, "symbol", circuit)
+            target = written.target.name  # type: ignore[union-attr]
+        return Assumption(written.kind, written.symbol.name, target,  # type: ignore[arg-type]
+                          self.at(written))
+
+    def check_quantity(self, quantity: syntax.Quantity, circuit: Circuit) -> None:
+        """Check the names a quantity uses where the language says what they must be."""
+        name, args = quantity.name, quantity.args
+        if name in ATTRIBUTES and quantity.attribute is not None \
+                and quantity.attribute not in ATTRIBUTES[name]:
+            close = get_close_matches(quantity.attribute, ATTRIBUTES[name], n=1)
+            hint = f"; did you mean `.{close[0]}`?" if close else ""
+            raise self.error(quantity, f"{name}(..) has no part `.{quantity.attribute}`; it has "
+                             f"{', '.join('.' + a for a in ATTRIBUTES[name])}{hint}")
+        if name == "V" and args:
+            if len(args) == 1 and _name(args[0]) in circuit.ports:
+                return
+            for arg in args:
+                self.expect(arg, "node", circuit)
+        elif name == "I" and args:
+            self.expect(args[0], "element", circuit)
+        elif name in ("thevenin", "norton", "Z", "Y", "twoport"):
+            for arg in args:
+                self.expect(arg, "port", circuit)
+        elif name == "gain" and args:
+            self.expect(args[0], "independent source", circuit)
+            for arg in args[1:]:
+                self.check_argument(arg, circuit, "port")
+        elif name in ("sensitivity", "relative_sensitivity") and len(args) == 2:
+            self.check_argument(args[0], circuit, "port")
+            self.expect(args[1], "symbol", circuit)
+        else:
+            for arg in args:
+                self.check_argument(arg, circuit)
+
+    def check_argument(self, arg, circuit: Circuit, name_is: str | None = None) -> None:
+        if name_is is not None and isinstance(arg, syntax.Name):
+            self.expect(arg, name_is, circuit)
+        elif isinstance(arg, syntax.Quantity):
+            self.check_quantity(arg, circuit)
+        elif isinstance(arg, syntax.Equation):
+            self.check_quantity(arg.left, circuit)
+
+    def expect(self, arg, what: str, circuit: Circuit) -> None:
+        name = _name(arg)
+        if name is None:
+            raise self.error(arg, f"expected {_article(what)} {what} name here")
+        if what == "node":
+            ok = circuit.resolve_node(name) is not None
+            pool = list(circuit.nodes)
+        elif what == "port":
+            ok, pool = name in circuit.ports, list(circuit.ports)
+        elif what == "element":
+            ok, pool = name in circuit.elements, list(circuit.elements)
+        elif what == "symbol":
+            pool = [*circuit.parameters, *circuit.elements]
+            ok = name in circuit.parameters or name in circuit.elements
+        else:
+            element = circuit.elements.get(name)
+            ok = element is not None and element.kind in SOURCES and not element.controls
+            pool = [e.name for e in circuit.elements.values()
+                    if e.kind in SOURCES and not e.controls]
+        if not ok:
+            close = get_close_matches(name, pool, n=1)
+            hint = f"; did you mean `{close[0]}`?" if close else ""
+            described = "parameter or element" if what == "symbol" else what
+            raise self.error(
+                arg, f"`{name}` is not {_article(described)} {described} of this circuit{hint}"
+            )
+
+
+# ---------------------------------------------------------------- small helpers
+
+
+def _evaluate_all(definitions: dict[str, sympy.Expr], known: dict[str, Fraction | None],
+                  cycle_error) -> dict[str, Fraction | None]:
+    """Nominal value of every defined symbol, in dependency order (no recursion)."""
+    values = dict(known)
+    dependencies = {
+        name: [s.name for s in expr.free_symbols if s != LAPLACE]
+        for name, expr in definitions.items()
+    }
+    for start in definitions:
+        if start in values:
+            continue
+        path = [start]
+        stack = [iter(dependencies[start])]
+        while stack:
+            for dependency in stack[-1]:
+                if dependency in definitions and dependency not in values:
+                    if dependency in path:
+                        raise cycle_error(path[path.index(dependency):])
+                    path.append(dependency)
+                    stack.append(iter(dependencies[dependency]))
+                    break
+            else:
+                stack.pop()
+                name = path.pop()
+                values[name] = _nominal(definitions[name], values)
+    return values
+
+
+def _nominal(expression: sympy.Expr, values: dict[str, Fraction | None]) -> Fraction | None:
+    """The value of an expression at nominal values; None when a symbol has none (or `s`)."""
+    substitutions = {}
+    bits = 0
+    for symbol in expression.free_symbols:
+        value = values.get(symbol.name) if symbol != LAPLACE else None
+        if value is None:
+            return None
+        substitutions[symbol] = sympy.Rational(value.numerator, value.denominator)
+        bits += value.numerator.bit_length() + value.denominator.bit_length()
+    powers = [abs(a.exp.p) for a in expression.atoms(sympy.Pow) if a.exp.is_Rational]
+    if bits * max(powers, default=1) > MAX_POWER_BITS:
+        return None  # an exact value this size helps nobody; the symbol stays without one
+    number = expression.xreplace(substitutions)
+    if number.is_Rational:
+        return Fraction(int(number.p), int(number.q))
+    if number.is_number and number.is_extended_real and number.is_finite:
+        return Fraction(str(sympy.N(number, 30)))
+    return None
+
+
+def _literal(expression: syntax.Expr) -> syntax.Number | None:
+    """The number literal a value consists of (`10 kΩ`, `-5 V`), else None."""
+    while isinstance(expression, syntax.Unary):
+        expression = expression.operand
+    return expression if isinstance(expression, syntax.Number) else None
+
+
+def _line_of(notice: Notice) -> int:
+    return notice.location.line if notice.location else 0
+
+
+def _name(arg) -> str | None:
+    return arg.name if isinstance(arg, syntax.Name) else None
+
+
+def _article(word: str) -> str:
+    return "an" if word[:1] in "aeiou" else "a"

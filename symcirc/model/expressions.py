@@ -1,0 +1,223 @@
+"""Syntax-tree expressions → sympy expressions, built node by node (never by evaluating text).
+
+Names are turned into symbols by a `resolve` callback supplied by the caller (elaboration
+resolves against block scopes, later stages against the finished circuit); `s` is the
+Laplace variable, `pi` is π and `sqrt` is the square root. Problems are raised as
+`ExpressionProblem` (a node and a message); callers attach the file with `located`.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Hashable
+from difflib import get_close_matches
+from typing import TYPE_CHECKING
+
+import sympy
+
+from ..errors import Location, SymcircError
+from ..language import syntax
+from .circuit import LAPLACE
+
+if TYPE_CHECKING:  # pragma: no cover
+    from .circuit import Circuit
+
+Resolve = Callable[[syntax.Name], sympy.Expr]
+"""Turns a name (other than `s` and `pi`) into its symbol, or raises ExpressionProblem."""
+
+MAX_EXPONENT = 1000
+"""Largest numerator or denominator of an exponent: keeps `10^10^9` from eating the machine."""
+
+
+MAX_POWER_BITS = 100_000
+"""Largest exact number a power of numbers may produce (`(10^1000)^1000` is far beyond)."""
+
+
+class ExpressionProblem(Exception):
+    """Something wrong at one node of an expression; becomes a SymcircError once located."""
+
+    def __init__(self, node: syntax.Node, message: str, notes: tuple[str, ...] = ()) -> None:
+        super().__init__(message)
+        self.node = node
+        self.message = message
+        self.notes = notes
+
+    def located(self, file: str, source: str | None) -> SymcircError:
+        where = Location(file, self.node.line, self.node.column)
+        return SymcircError.at(where, self.message, source, self.notes)
+
+
+def to_sympy(expr: syntax.Expr, resolve: Resolve) -> sympy.Expr:
+    """The sympy expression of a syntax expression without `V(..)` or `I(..)`."""
+    try:
+        return _convert(expr, resolve)
+    except RecursionError:
+        raise ExpressionProblem(expr, "expression too deeply nested to read") from None
+
+
+def linear_form(
+    expr: syntax.Expr,
+    resolve: Resolve,
+    control: Callable[[syntax.Voltage | syntax.Current], Hashable],
+) -> tuple[sympy.Expr, dict[Hashable, sympy.Expr]]:
+    """Split a source value into a part free of V/I and coefficients of each V/I term.
+
+    `control` maps a `V(..)`/`I(..)` node to a key (equal keys are merged). Raises
+    ExpressionProblem where the value is not linear in them (`V(a)*V(b)`, `V(a)^2`).
+    """
+    try:
+        constant, terms = _linear(expr, resolve, control)
+    except RecursionError:
+        raise ExpressionProblem(expr, "expression too deeply nested to read") from None
+    return constant, {k: c for k, c in terms.items() if sympy.expand(c) != 0}
+
+
+def mentions_control(expr: syntax.Expr) -> bool:
+    """True when the expression contains `V(..)` or `I(..)`."""
+    if isinstance(expr, syntax.Voltage | syntax.Current):
+        return True
+    if isinstance(expr, syntax.Unary):
+        return mentions_control(expr.operand)
+    if isinstance(expr, syntax.Function):
+        return mentions_control(expr.argument)
+    if isinstance(expr, syntax.Binary):
+        return mentions_control(expr.left) or mentions_control(expr.right)
+    return False
+
+
+def expression_in(
+    circuit: Circuit, expr: syntax.Expr, filename: str, source: str | None
+) -> sympy.Expr:
+    """An expression written against a finished circuit (claims, command-line values).
+
+    Names must be parameters or elements of the circuit (or `s`, `pi`); errors point into
+    `source` as file `filename`.
+    """
+    known = set(circuit.parameters) | set(circuit.elements)
+
+    def resolve(name: syntax.Name) -> sympy.Expr:
+        if name.name in known:
+            return sympy.Symbol(name.name)
+        raise ExpressionProblem(name, unknown_name_message(name.name, known, circuit.ports))
+
+    try:
+        return to_sympy(expr, resolve)
+    except ExpressionProblem as problem:
+        raise problem.located(filename, source) from None
+
+
+def unknown_name_message(name: str, symbols: set[str] | dict, ports: dict | set = ()) -> str:
+    """`unknown name X` with what it could have been."""
+    if name in ports:
+        return f"`{name}` is a port; use V({name}) in a quantity, not in an expression"
+    message = f"unknown name `{name}`: not a declared parameter or element"
+    close = get_close_matches(name, list(symbols), n=1)
+    if close:
+        message += f"; did you mean `{close[0]}`?"
+    return message
+
+
+# ---------------------------------------------------------------- the conversion
+
+
+def _convert(expr: syntax.Expr, resolve: Resolve) -> sympy.Expr:
+    if isinstance(expr, syntax.Number):
+        return sympy.Rational(expr.value.numerator, expr.value.denominator)
+    if isinstance(expr, syntax.Name):
+        if expr.name == "s":
+            return LAPLACE
+        if expr.name == "pi":
+            return sympy.pi
+        return resolve(expr)
+    if isinstance(expr, syntax.Unary):
+        operand = _convert(expr.operand, resolve)
+        return -operand if expr.op == "-" else operand
+    if isinstance(expr, syntax.Function):
+        if expr.name != "sqrt":
+            raise ExpressionProblem(expr, f"unknown function `{expr.name}`; only sqrt(x) exists")
+        return sympy.sqrt(_convert(expr.argument, resolve))
+    if isinstance(expr, syntax.Binary):
+        left = _convert(expr.left, resolve)
+        right = _convert(expr.right, resolve)
+        return _combine(expr, left, right)
+    if isinstance(expr, syntax.Voltage | syntax.Current):
+        what = "V(..)" if isinstance(expr, syntax.Voltage) else "I(..)"
+        raise ExpressionProblem(
+            expr, f"{what} is allowed only in the value of a voltage or current source"
+        )
+    raise ExpressionProblem(expr, "not an expression")
+
+
+def _combine(node: syntax.Binary, left: sympy.Expr, right: sympy.Expr) -> sympy.Expr:
+    op = node.op
+    if op == "+":
+        return left + right
+    if op == "-":
+        return left - right
+    if op == "*":
+        return left * right
+    if op == "/":
+        if right == 0:
+            raise ExpressionProblem(node.right, "division by zero")
+        return left / right
+    if op in ("^", "**"):
+        if not right.is_Rational:
+            raise ExpressionProblem(node.right, "an exponent must be a number (such as 2 or 1/2)")
+        if abs(right.p) > MAX_EXPONENT or right.q > MAX_EXPONENT:
+            raise ExpressionProblem(node.right, f"exponent {right} is too large")
+        if left == 0 and right < 0:
+            raise ExpressionProblem(node, "division by zero")
+        if left.is_Rational and _bits(left) * abs(right.p) > MAX_POWER_BITS:
+            raise ExpressionProblem(node, "this power is too large a number to work with")
+        return left**right
+    raise ExpressionProblem(node, f"unknown operator `{op}`")
+
+
+def _bits(number: sympy.Rational) -> int:
+    return int(number.p).bit_length() + int(number.q).bit_length()
+
+
+def _linear(expr, resolve, control):
+    if not mentions_control(expr):
+        return _convert(expr, resolve), {}
+    if isinstance(expr, syntax.Voltage | syntax.Current):
+        return sympy.S.Zero, {control(expr): sympy.S.One}
+    if isinstance(expr, syntax.Unary):
+        constant, terms = _linear(expr.operand, resolve, control)
+        if expr.op == "-":
+            return -constant, {k: -c for k, c in terms.items()}
+        return constant, terms
+    if isinstance(expr, syntax.Binary):
+        if expr.op in "+-":
+            sign = 1 if expr.op == "+" else -1
+            c1, t1 = _linear(expr.left, resolve, control)
+            c2, t2 = _linear(expr.right, resolve, control)
+            terms = dict(t1)
+            for key, coefficient in t2.items():
+                terms[key] = terms.get(key, sympy.S.Zero) + sign * coefficient
+            return c1 + sign * c2, terms
+        if expr.op == "*":
+            if mentions_control(expr.left) and mentions_control(expr.right):
+                raise _nonlinear(expr, "a product of two V(..)/I(..) terms")
+            linear_side, factor_side = (
+                (expr.left, expr.right) if mentions_control(expr.left) else (expr.right, expr.left)
+            )
+            factor = _convert(factor_side, resolve)
+            constant, terms = _linear(linear_side, resolve, control)
+            return constant * factor, {k: c * factor for k, c in terms.items()}
+        if expr.op == "/" and not mentions_control(expr.right):
+            divisor = _convert(expr.right, resolve)
+            if divisor == 0:
+                raise ExpressionProblem(expr.right, "division by zero")
+            constant, terms = _linear(expr.left, resolve, control)
+            return constant / divisor, {k: c / divisor for k, c in terms.items()}
+        if expr.op == "/":
+            raise _nonlinear(expr, "a division by a V(..)/I(..) term")
+        raise _nonlinear(expr, "a power of a V(..)/I(..) term")
+    raise _nonlinear(expr, "a function of a V(..)/I(..) term")
+
+
+def _nonlinear(node: syntax.Node, what: str) -> ExpressionProblem:
+    return ExpressionProblem(
+        node,
+        f"a controlled source must be linear in V(..) and I(..), but this is {what}",
+    )
