@@ -32,7 +32,7 @@ class Step:
     """One step of a derivation (filled by `symcirc.forms`)."""
 
     kind: str
-    """e.g. 'deactivate', 'parallel', 'series', 'star-delta', 'divider', 'loop', 'nodal', 'solve'."""
+    """e.g. 'deactivate', 'parallel', 'series', 'star-delta', 'divider', 'loop', 'solve'."""
     sentence: str
     latex: str
     defines: str | None = None
@@ -100,7 +100,9 @@ class Result:
         if isinstance(self._value, sympy.Basic):
             subs = {sympy.Symbol(n): sympy.Rational(v.numerator, v.denominator)
                     for n, v in self._nominals.items()}
-            value = sympy.nsimplify(self._value.xreplace(subs)) if self._value.free_symbols else self._value
+            value = self._value
+            if value.free_symbols:
+                value = value.xreplace(subs)
             if not value.is_number:
                 return None
             if value.is_Rational:
@@ -120,6 +122,9 @@ class Result:
         return self._value.to_text()
 
     def latex(self) -> str:
+        # the engine writes LaTeX straight from its terms: far faster than sympy for big results
+        if not isinstance(self._value, sympy.Basic) and hasattr(self._value, "to_latex"):
+            return self._value.to_latex()
         return sympy.latex(self.expression)
 
     def _repr_latex_(self) -> str:

@@ -1,1 +1,180 @@
-"""quantities"""
+"""Quantities of a circuit, as in the language's table: the Python entry points.
+
+    derive(circuit, "thevenin(out)")          # list of Result, one per scalar quantity
+    thevenin(circuit, "out").impedance        # named API: objects whose attributes are Results
+
+Every quantity name is dispatched through `registry.HANDLERS`.
+"""
+
+from __future__ import annotations
+
+import importlib
+from dataclasses import dataclass, fields
+from difflib import get_close_matches
+from typing import Any
+
+from ..errors import SymcircError
+from ..language import syntax
+from ..model.circuit import Assumption, Circuit
+from ..results import Result
+from .registry import HANDLERS, DeriveOptions
+
+QUANTITY_ORIGIN = "<quantity>"
+"""File name shown in errors about a quantity given as text (not from a file)."""
+
+__all__ = [
+    "DeriveOptions", "derive", "derive_quantity", "thevenin", "norton", "impedance",
+    "admittance", "gain", "twoport",
+]
+
+
+def options_from(options: DeriveOptions | None = None, **kw: Any) -> DeriveOptions:
+    """DeriveOptions from keywords: its fields, and `limits={"A": "oo", "Rs": "0"}`."""
+    limits = kw.pop("limits", None) or {}
+    known = {f.name for f in fields(DeriveOptions)}
+    unknown = set(kw) - known
+    if unknown:
+        raise TypeError(f"unknown option(s) {', '.join(sorted(unknown))}; "
+                        f"known: {', '.join(sorted(known | {'limits'}))}")
+    values = {f.name: getattr(options, f.name) for f in fields(DeriveOptions)} if options else {}
+    values.update(kw)
+    extra = []
+    for symbol, target in limits.items():
+        target = str(target)
+        if target not in ("oo", "0"):
+            raise SymcircError(f"a limit goes to oo or 0, not {target} ({symbol} -> {target})")
+        extra.append(Assumption("limit", symbol, target))
+    values["assumptions"] = (*values.get("assumptions", ()), *extra)
+    return DeriveOptions(**values)
+
+
+def parse(text: str, origin: str = QUANTITY_ORIGIN) -> syntax.Quantity:
+    """A quantity written as text, read by the grammar (errors name `origin` as the file)."""
+    from ..language.parser import parse_quantity
+
+    return parse_quantity(text, origin)
+
+
+def derive(circuit: Circuit, quantity: str | syntax.Quantity,
+           options: DeriveOptions | None = None, **kw: Any) -> list[Result]:
+    """Derive a quantity (`"thevenin(out)"`, or a parsed one) as a list of Results."""
+    if isinstance(quantity, str):
+        text = quantity
+        quantity = parse(text)
+        kw.setdefault("origin", (QUANTITY_ORIGIN, text))
+    options = options_from(options, **kw)
+    for assumption in options.assumptions:
+        known = assumption.symbol in circuit.parameters or assumption.symbol in circuit.elements
+        if not known:
+            raise SymcircError(f"`{assumption.symbol}` in a limit is not a parameter or element "
+                               "of this circuit", circuit.file)
+    return derive_quantity(circuit, quantity, options)
+
+
+def derive_quantity(circuit: Circuit, quantity: syntax.Quantity,
+                    options: DeriveOptions) -> list[Result]:
+    """Dispatch a parsed quantity to its handler (registry.HANDLERS)."""
+    target = HANDLERS.get(quantity.name)
+    if target is None:
+        close = get_close_matches(quantity.name, list(HANDLERS), n=1)
+        hint = f"; did you mean `{close[0]}`?" if close else ""
+        origin = options.origin or (circuit.file, circuit.source)
+        from ..errors import Location
+
+        raise SymcircError.at(Location(origin[0], quantity.line, quantity.column),
+                              f"unknown quantity `{quantity.name}(..)`{hint}", origin[1])
+    module, function = target.split(":")
+    handler = getattr(importlib.import_module(module), function)
+    return handler(circuit, quantity, options)
+
+
+# ---------------------------------------------------------------- the named API
+
+
+def _single(results: list[Result]) -> Result:
+    (result,) = results
+    return result
+
+
+@dataclass(frozen=True)
+class Thevenin:
+    """The Thevenin equivalent at a port: `.voltage` (open circuit) and `.impedance`."""
+
+    voltage: Result
+    impedance: Result
+
+    def _repr_latex_(self) -> str:
+        return _latex_lines(self.voltage, self.impedance)
+
+
+@dataclass(frozen=True)
+class Norton:
+    """The Norton equivalent at a port: `.current` (short circuit) and `.admittance`."""
+
+    current: Result
+    admittance: Result
+
+    def _repr_latex_(self) -> str:
+        return _latex_lines(self.current, self.admittance)
+
+
+class TwoPort:
+    """Two-port parameters as attributes (`.z11`, `.y21`, `.h12`, `.A` ...); a set that does
+    not exist raises SymcircError saying why."""
+
+    def __init__(self, results: list[Result], missing: str | None) -> None:
+        self._results = {r.quantity.split(" where ")[0].rsplit(".", 1)[1]: r for r in results}
+        self._missing = missing
+
+    @property
+    def results(self) -> list[Result]:
+        return list(self._results.values())
+
+    def __getattr__(self, name: str) -> Result:
+        if name.startswith("_"):
+            raise AttributeError(name)
+        try:
+            return self._results[name]
+        except KeyError:
+            from .twoports import UNITS
+
+            if name in UNITS:
+                raise SymcircError(self._missing or f"no parameter {name}") from None
+            raise AttributeError(name) from None
+
+    def _repr_latex_(self) -> str:
+        return _latex_lines(*self._results.values())
+
+
+def _latex_lines(*results: Result) -> str:
+    body = r" \\ ".join(f"{r.quantity_latex()} &= {r.latex()}" for r in results)
+    return r"$\displaystyle \begin{aligned}" + body + r"\end{aligned}$"
+
+
+def thevenin(circuit: Circuit, port: str, **options: Any) -> Thevenin:
+    voltage, impedance = derive(circuit, f"thevenin({port})", **options)
+    return Thevenin(voltage, impedance)
+
+
+def norton(circuit: Circuit, port: str, **options: Any) -> Norton:
+    current, admittance = derive(circuit, f"norton({port})", **options)
+    return Norton(current, admittance)
+
+
+def impedance(circuit: Circuit, port: str, **options: Any) -> Result:
+    return _single(derive(circuit, f"Z({port})", **options))
+
+
+def admittance(circuit: Circuit, port: str, **options: Any) -> Result:
+    return _single(derive(circuit, f"Y({port})", **options))
+
+
+def gain(circuit: Circuit, source: str, quantity: str, **options: Any) -> Result:
+    return _single(derive(circuit, f"gain({source}, {quantity})", **options))
+
+
+def twoport(circuit: Circuit, port1: str, port2: str, **options: Any) -> TwoPort:
+    results = derive(circuit, f"twoport({port1}, {port2})", **options)
+    missing = next((n for n in results[0].notes if n.startswith("twoport(")), None) \
+        if results else None
+    return TwoPort(results, missing)

@@ -24,7 +24,7 @@ HANDLERS: dict[str, str] = {
     "Z": "symcirc.quantities.equivalents:impedance_quantity",
     "Y": "symcirc.quantities.equivalents:admittance_quantity",
     "gain": "symcirc.quantities.basic:gain_quantity",
-    "twoport": "symcirc.quantities.twoport:twoport_quantity",
+    "twoport": "symcirc.quantities.twoports:twoport_quantity",
     "sensitivity": "symcirc.quantities.sensitivity:sensitivity_quantity",
     "relative_sensitivity": "symcirc.quantities.sensitivity:relative_sensitivity_quantity",
     # design analyses (issue: analyses)
@@ -48,3 +48,6 @@ class DeriveOptions:
     """Attach design-oriented forms and derivation steps where available."""
     seed: int | None = None
     """Seed for Monte Carlo analyses (None: the analysis' documented default)."""
+    origin: tuple[str, str] | None = None
+    """(file name, text) the quantity was read from, for error positions; None: the
+    circuit's own file (quantities of its `derive` statements)."""

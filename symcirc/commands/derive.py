@@ -1,0 +1,210 @@
+"""`symcirc derive FILE [QUANTITY ...]`: quantities of a circuit as exact closed forms.
+
+With no QUANTITY, the file's `derive` statements (with their `where` clauses) are derived;
+`where big >> small` approximations and, with `--steps`, design forms and derivation steps
+come from symcirc.forms.
+Formats: `text` (`quantity = expression` lines), `latex`, `markdown`, `json` (one object:
+file, title, results). `--values` adds each result's nominal value, or why it has none.
+"""
+
+from __future__ import annotations
+
+import argparse
+import json
+import sys
+
+from ..errors import SymcircError
+from ..results import Result
+
+FORMATS = ("text", "latex", "markdown", "json")
+COMMAND_LINE = "<command line>"
+"""File name shown in errors about a QUANTITY argument."""
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    _allow_options_between_quantities(parser)
+    parser.add_argument("file", metavar="FILE", help="the .circuit file to read")
+    parser.add_argument("quantities", metavar="QUANTITY", nargs="*",
+                        help="quantities such as 'thevenin(out)' or 'gain(Uin, out)' (default: "
+                             "the file's derive statements)")
+    parser.add_argument("--format", choices=FORMATS, default="text",
+                        help="output format (default: text)")
+    parser.add_argument("--substitute", action="store_true",
+                        help="replace defined symbols by their definitions")
+    parser.add_argument("--values", action="store_true",
+                        help="show each result's value at the nominal part values")
+    parser.add_argument("--steps", dest="steps", action="store_true", default=False,
+                        help="add design forms and derivation steps where available")
+    parser.add_argument("--no-steps", dest="steps", action="store_false",
+                        help="only the canonical closed forms (default)")
+
+
+def _allow_options_between_quantities(parser: argparse.ArgumentParser) -> None:
+    """`derive FILE --values Q1 Q2`: read options and quantities in any order.
+
+    The dispatcher parses the command's arguments with `parse_known_args`; this parser does
+    it the intermixed way, which calls `parse_known_args` itself (hence the guard).
+    """
+    inside = False
+
+    def parse_known_args(args=None, namespace=None):
+        nonlocal inside
+        if inside:
+            return argparse.ArgumentParser.parse_known_args(parser, args, namespace)
+        inside = True
+        try:
+            return argparse.ArgumentParser.parse_known_intermixed_args(parser, args, namespace)
+        finally:
+            inside = False
+
+    parser.parse_known_args = parse_known_args  # type: ignore[method-assign]
+
+
+def run(args: argparse.Namespace) -> int:
+    from .. import load
+    from ..quantities import derive_quantity, parse
+    from ..quantities.registry import DeriveOptions
+
+    circuit = load(args.file)
+    for notice in circuit.notices:
+        print(_notice(notice, circuit), file=sys.stderr)
+    jobs = []  # (quantity, options)
+    if args.quantities:
+        for text in args.quantities:
+            options = DeriveOptions(substitute=args.substitute, steps=args.steps,
+                                    origin=(COMMAND_LINE, text))
+            jobs.append((parse(text, COMMAND_LINE), options))
+    else:
+        if not circuit.derives:
+            raise SymcircError(f"{args.file} has no derive statements; name the quantities on "
+                               f"the command line, e.g. symcirc derive {args.file} "
+                               "'thevenin(out)'", args.file)
+        for statement in circuit.derives:
+            options = DeriveOptions(substitute=args.substitute, steps=args.steps,
+                                    assumptions=statement.assumptions)
+            jobs.extend((quantity, options) for quantity in statement.quantities)
+    results: list[Result] = []
+    for quantity, options in jobs:
+        results += _with_forms(circuit, quantity, derive_quantity(circuit, quantity, options),
+                               options)
+    write = {"text": as_text, "latex": as_latex, "markdown": as_markdown, "json": as_json}
+    print(write[args.format](circuit, results, args.values))
+    return 0
+
+
+def _with_forms(circuit, quantity, results: list[Result], options) -> list[Result]:
+    """`where big >> small` approximations, then design forms and derivation steps
+    (symcirc.forms), each proved equal to the canonical result before it is shown."""
+    approximations = [a for a in options.assumptions if a.kind == "much_greater"]
+    if not approximations and not options.steps:
+        return results
+    from .. import forms
+    from ..errors import Location
+    from ..forms.dividers import Unsupported
+
+    if approximations:
+        approximated = []
+        for result in results:
+            for assumption in approximations:
+                try:
+                    result = forms.approximate(circuit, result, assumption)
+                except Unsupported as problem:
+                    where = assumption.location or Location(circuit.file, 0, 0)
+                    raise SymcircError.at(where, f"where {assumption.symbol} >> "
+                                          f"{assumption.target}: {problem}", circuit.source
+                                          ) from None
+            approximated.append(result)
+        results = approximated
+    if options.steps and not any(r.form is not None or r.steps for r in results):
+        forms.annotate(circuit, quantity, results, options)
+    return results
+
+
+def _notice(notice, circuit) -> str:
+    report = SymcircError.at(notice.location, notice.message, circuit.source)
+    if notice.location is None:
+        report.file = circuit.file
+    return report.format(kind=notice.kind)
+
+
+# ---------------------------------------------------------------- values
+
+
+def value_text(result: Result) -> str:
+    """`≈ 1.234 kΩ`, or why there is no value."""
+    from ..model.units import engineering
+
+    exact = result.nominal_exact
+    if exact is not None:
+        return "≈ " + engineering(exact, result.unit)
+    missing = [n for n in result.missing if n != "s"]
+    if "s" in result.missing and not missing:
+        return "no nominal value: it depends on s (a function of frequency)"
+    if "s" in result.missing:
+        return f"no nominal value: it depends on s, and {_names(missing)} " \
+               f"{'has' if len(missing) == 1 else 'have'} no value"
+    return f"no nominal value: {_names(missing)} {'has' if len(missing) == 1 else 'have'} " \
+           "no value"
+
+
+def _names(names: list[str]) -> str:
+    return ", ".join(names)
+
+
+# ---------------------------------------------------------------- formats
+
+
+def as_text(circuit, results: list[Result], values: bool) -> str:
+    lines = []
+    for result in results:
+        line = f"{result.quantity} = {result.text()}"
+        if values:
+            line += f"    {value_text(result)}"
+        lines.append(line)
+        if result.form is not None:
+            lines.append(f"  design form: {result.form.text}")
+        if result.steps:
+            from ..forms import steps_text
+
+            lines.extend("  " + step for step in steps_text(result).splitlines())
+        lines.extend(f"  note: {n}" for n in result.notes)
+    return "\n".join(lines)
+
+
+def as_latex(circuit, results: list[Result], values: bool) -> str:
+    blocks = []
+    for result in results:
+        body = f"{result.quantity_latex()} = {result.latex()}"
+        if result.form is not None:
+            body += f" = {result.form.latex}"
+        if values:
+            body += r" \quad \text{(" + _latex_text(value_text(result)) + ")}"
+        blocks.append("\\begin{equation*}\n" + body + "\n\\end{equation*}")
+        blocks.extend(f"% note: {n}" for n in result.notes)
+    return "\n".join(blocks)
+
+
+def _latex_text(text: str) -> str:
+    for char, escaped in (("\\", r"\textbackslash{}"), ("_", r"\_"), ("%", r"\%"),
+                          ("&", r"\&"), ("#", r"\#"), ("$", r"\$"), ("{", r"\{"), ("}", r"\}"),
+                          ("≈", r"$\approx$"), ("Ω", r"$\Omega$"), ("µ", r"$\mu$")):
+        text = text.replace(char, escaped)
+    return text
+
+
+def as_markdown(circuit, results: list[Result], values: bool) -> str:
+    parts = [f"# {circuit.title or circuit.file}"]
+    for result in results:
+        parts.append(f"**`{result.quantity}`**")
+        parts.append(f"$$\n{result.latex()}\n$$")
+        if result.form is not None:
+            parts.append(f"Design form: ${result.form.latex}$")
+        if values:
+            parts.append(value_text(result))
+        parts.extend(f"> {n}" for n in result.notes)
+    return "\n\n".join(parts)
+
+
+def as_json(circuit, results: list[Result], values: bool) -> str:
+    return json.dumps({"file": circuit.file, "title": circuit.title,
+                       "results": [r.to_json() for r in results]}, ensure_ascii=False, indent=2)

@@ -1,0 +1,191 @@
+"""Model expressions (sympy, built by the transformer) → exact rational functions.
+
+The conversion walks the expression tree (Add, Mul, integer powers, symbols, rationals);
+nothing is ever parsed or evaluated as text. The few irrational pieces the language can
+write (`pi`, `sqrt(x)`, other fractional powers) become *atoms*: opaque variables of the
+polynomial ring, named as they print (`pi`, `sqrt(L1*L2)`), restored by `AtomicValue`.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from fractions import Fraction
+from functools import cached_property
+
+import sympy
+
+from .polys import PolynomialRing
+from .ratfunc import RationalFunction
+
+ATOM_DIGITS = 40
+"""Decimal digits kept when an atom (π, a square root) is evaluated at rational values."""
+
+
+def atom_name(expr: sympy.Expr) -> str:
+    """The ring variable standing for an irrational piece: `pi`, `sqrt(L1*L2)`, `(x**(1/3))`."""
+    if expr is sympy.pi:
+        return "pi"
+    text = sympy.sstr(expr)
+    return text if text.startswith("sqrt(") and _balanced(text[4:]) else f"({text})"
+
+
+def _balanced(text: str) -> bool:
+    """True when `text` is one parenthesised group: `(L1*L2)` but not `(a)*(b)`."""
+    depth = 0
+    for i, ch in enumerate(text):
+        depth += ch == "("
+        depth -= ch == ")"
+        if depth == 0 and i != len(text) - 1:
+            return False
+    return depth == 0
+
+
+def atoms_of(expr: sympy.Expr) -> dict[str, sympy.Expr]:
+    """The atoms an expression needs, by ring name."""
+    found: dict[str, sympy.Expr] = {}
+    _collect(expr, found)
+    return found
+
+
+def _collect(expr: sympy.Expr, found: dict[str, sympy.Expr]) -> None:
+    if expr is sympy.pi:
+        found["pi"] = expr
+    elif isinstance(expr, sympy.Pow) and not (expr.exp.is_Integer):
+        found[atom_name(expr)] = expr
+    else:
+        for arg in expr.args:
+            _collect(arg, found)
+
+
+def names_of(expr: sympy.Expr) -> set[str]:
+    """Ring variables an expression needs: its symbols outside atoms, and its atoms."""
+    atoms = atoms_of(expr)
+    plain = expr.xreplace({e: sympy.Integer(1) for e in atoms.values()})
+    return {str(x) for x in plain.free_symbols} | set(atoms)
+
+
+def to_function(expr: sympy.Expr, ring: PolynomialRing) -> RationalFunction:
+    """`expr` as a rational function over `ring` (extended by any variable it lacks)."""
+    missing = names_of(expr) - set(ring.names)
+    if missing:
+        ring = ring.extend(sorted(missing))
+    return _convert(sympy.Integer(expr) if isinstance(expr, int) else expr, ring)
+
+
+def _convert(expr: sympy.Expr, ring: PolynomialRing) -> RationalFunction:
+    if expr.is_Rational:
+        return RationalFunction.constant(Fraction(int(expr.p), int(expr.q)), ring)
+    if expr.is_Symbol:
+        return RationalFunction.symbol(expr.name, ring)
+    if expr is sympy.pi:
+        return RationalFunction.symbol("pi", ring)
+    if isinstance(expr, sympy.Add):
+        total = RationalFunction(0, 1, ring)
+        for arg in expr.args:
+            total = total + _convert(arg, ring)
+        return total
+    if isinstance(expr, sympy.Mul):
+        product = RationalFunction(1, 1, ring)
+        for arg in expr.args:
+            product = product * _convert(arg, ring)
+        return product
+    if isinstance(expr, sympy.Pow):
+        if expr.exp.is_Integer:
+            return _convert(expr.base, ring) ** int(expr.exp)
+        return RationalFunction.symbol(atom_name(expr), ring)
+    raise ValueError(f"cannot hold {sympy.sstr(expr)} as a rational function")
+
+
+def atom_value(expr: sympy.Expr, values: Mapping[str, Fraction]) -> Fraction:
+    """An atom at rational values of its symbols, to ATOM_DIGITS digits."""
+    point = {x: sympy.Rational(values[str(x)].numerator, values[str(x)].denominator)
+             for x in expr.free_symbols}
+    number = sympy.N(expr.xreplace(point), ATOM_DIGITS)
+    if not number.is_real:
+        raise ValueError(f"{sympy.sstr(expr)} is not real at the nominal values")
+    return Fraction(str(number))
+
+
+class AtomicValue:
+    """A rational function some of whose variables are atoms (π, square roots).
+
+    Implements `symcirc.results.ExactValue`: the sympy form has the atoms restored, the
+    symbols listed are the atoms' own symbols, and evaluation uses ATOM_DIGITS-digit values
+    of the atoms (so a nominal value is exact up to that precision).
+    """
+
+    def __init__(self, function: RationalFunction, atoms: Mapping[str, sympy.Expr]) -> None:
+        self.function = function
+        used = set(function.symbol_names())
+        self.atoms = {name: expr for name, expr in atoms.items() if name in used}
+
+    def to_sympy(self) -> sympy.Expr:
+        return self._sympy
+
+    @cached_property
+    def _sympy(self) -> sympy.Expr:
+        return self.function.to_sympy().xreplace(
+            {sympy.Symbol(n): e for n, e in self.atoms.items()})
+
+    def to_text(self) -> str:
+        return self.function.to_text()
+
+    def to_latex(self) -> str:
+        return sympy.latex(self.to_sympy())
+
+    def symbol_names(self) -> tuple[str, ...]:
+        names = {n for n in self.function.symbol_names() if n not in self.atoms}
+        for expr in self.atoms.values():
+            names |= {str(x) for x in expr.free_symbols}
+        return tuple(sorted(names))
+
+    def evaluate(self, values: Mapping[str, Fraction]) -> Fraction:
+        point = dict(values)
+        for name, expr in self.atoms.items():
+            point[name] = atom_value(expr, values)
+        return self.function.evaluate(point)
+
+    def size(self) -> tuple[int, int]:
+        return self.function.size()
+
+
+def exact_value(function: RationalFunction, atoms: Mapping[str, sympy.Expr]):
+    """The function itself when it uses no atom, else an AtomicValue around it."""
+    if atoms and set(atoms) & set(function.symbol_names()):
+        return AtomicValue(function, atoms)
+    return function
+
+
+def substitute_root(function: RationalFunction, name: str, factor: RationalFunction,
+                    radicand: RationalFunction, root: str) -> RationalFunction:
+    """`function` with `name` = factor*sqrt(radicand), the square root held as atom `root`.
+
+    Even powers of `name` become powers of factor**2*radicand, so the root appears at most
+    to the first power (M**2 = k**2*L1*L2 rather than k**2*sqrt(L1*L2)**2). `factor` and
+    `radicand` must be polynomials.
+    """
+    ring = function.ring
+    if name not in function.symbol_names():
+        return function
+    if root not in ring.names:
+        ring = ring.extend([root])
+    f = factor.in_ring(ring) if set(factor.ring.names) <= set(ring.names) else factor
+    r = radicand.in_ring(ring) if set(radicand.ring.names) <= set(ring.names) else radicand
+    missing = (set(f.ring.names) | set(r.ring.names)) - set(ring.names)
+    if missing:
+        ring = ring.extend(sorted(missing))
+        f, r = f.in_ring(ring), r.in_ring(ring)
+    if not (f.is_polynomial() and r.is_polynomial()):
+        raise ValueError("factor and radicand must be polynomials")
+    square = f.numerator * f.numerator * r.numerator
+    atom = ring.gen(root)
+
+    def reduce(p):
+        coefficients = ring.coefficients(ring.convert(p, function.ring), name)
+        out = ring.zero
+        for power, c in coefficients.items():
+            term = c * square ** (power // 2) * f.numerator ** (power % 2)
+            out = out + (term * atom if power % 2 else term)
+        return out
+
+    return RationalFunction(reduce(function.numerator), reduce(function.denominator), ring)

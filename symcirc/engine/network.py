@@ -1,0 +1,233 @@
+"""The circuit as the engine sees it: every element's value as exact polynomials of one ring.
+
+Built once per circuit from the model (`symcirc.model.circuit.Circuit`) and shared by both
+solution paths (spanning forests for passive networks, elimination for the rest).
+
+Conventions fixed here (and stated in the results that depend on them):
+- a passive element's value is its own symbol: R1, C1*s, L1*s, G1, Z1, Y1, each written as
+  an admittance `y = inward / outward` with both parts polynomial (resistor 1/R, capacitor
+  C*s/1, inductor 1/(L*s), conductance G/1, impedance 1/Z, admittance Y/1);
+- an independent source's value is its own symbol (`Ub`); a controlled source is a linear
+  combination of V(..) and I(..) with rational coefficients, plus an optional constant;
+- an opamp's open-loop gain is its definition (`A0/(1 + s/wa)`), its symbol when it has
+  only a number, or absent (ideal);
+- a transformer `T1 (p1, n1; p2, n2)` of ratio N imposes V1 = N*V2 and I2 = -N*I1, where
+  V1 = V(p1) - V(n1), V2 = V(p2) - V(n2) and I1, I2 flow into p1 and p2 (dots at p1, p2);
+- coupled inductors have mutual inductance M_K = K*sqrt(L1*L2), held as its own symbol
+  `M_<coupling>` (the square root is not polynomial) and substituted on request.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Literal
+
+import sympy
+
+from ..model.circuit import REFERENCE, Circuit, Element
+from .convert import atoms_of, names_of, to_function
+from .polys import LAPLACE_NAME, Poly, PolynomialRing
+from .ratfunc import RationalFunction
+
+PASSIVE = ("resistor", "capacitor", "inductor", "conductance", "impedance", "admittance")
+
+
+@dataclass(frozen=True)
+class Branch:
+    """A passive two-terminal element: admittance inward/outward between a and b."""
+
+    name: str
+    kind: str
+    a: str
+    b: str
+    inward: Poly
+    outward: Poly
+
+
+@dataclass(frozen=True)
+class VoltageControl:
+    """coefficient * V(a, b)."""
+
+    coefficient: RationalFunction
+    a: str
+    b: str
+
+
+@dataclass(frozen=True)
+class CurrentControl:
+    """coefficient * I(element)."""
+
+    coefficient: RationalFunction
+    element: str
+
+
+@dataclass(frozen=True)
+class Source:
+    """An independent or controlled source. `constant` is the independent part (the
+    source's symbol for an independent source; None when a controlled source has none)."""
+
+    name: str
+    kind: Literal["voltage", "current"]
+    a: str
+    b: str
+    controls: tuple[VoltageControl | CurrentControl, ...]
+    constant: RationalFunction | None
+
+    @property
+    def independent(self) -> bool:
+        return not self.controls
+
+
+@dataclass(frozen=True)
+class Opamp:
+    """`opamp U (p, n, out)`: gain None is ideal (a nullor)."""
+
+    name: str
+    p: str
+    n: str
+    out: str
+    gain: RationalFunction | None
+
+
+@dataclass(frozen=True)
+class Transformer:
+    name: str
+    p1: str
+    n1: str
+    p2: str
+    n2: str
+    ratio: Poly
+
+
+@dataclass(frozen=True)
+class Coupling:
+    """Mutual inductance `mutual` (a ring symbol) between inductors `first` and `second`."""
+
+    name: str
+    first: str
+    second: str
+    mutual: str
+
+
+@dataclass
+class Network:
+    """Every element of a circuit in engine terms, over one polynomial ring."""
+
+    ring: PolynomialRing
+    nodes: tuple[str, ...]
+    """Nodes other than the reference, in the circuit's order."""
+    branches: dict[str, Branch] = field(default_factory=dict)
+    sources: dict[str, Source] = field(default_factory=dict)
+    opamps: dict[str, Opamp] = field(default_factory=dict)
+    transformers: dict[str, Transformer] = field(default_factory=dict)
+    couplings: dict[str, Coupling] = field(default_factory=dict)
+    atoms: dict[str, sympy.Expr] = field(default_factory=dict)
+    """Irrational pieces held as ring variables (see engine.convert)."""
+
+    @property
+    def is_passive(self) -> bool:
+        """Only passive elements and independent sources: the spanning-forest path applies."""
+        return (not self.opamps and not self.transformers and not self.couplings
+                and all(s.independent for s in self.sources.values()))
+
+    def excitations(self) -> dict[str, RationalFunction]:
+        """Each independent excitation of the circuit and its value (sources' constants)."""
+        return {name: s.constant for name, s in self.sources.items() if s.constant is not None}
+
+    def coupling_of(self, inductor: str) -> list[Coupling]:
+        return [c for c in self.couplings.values() if inductor in (c.first, c.second)]
+
+
+def mutual_name(coupling: str, taken: set[str]) -> str:
+    """`M_K1`, or with trailing underscores when the circuit already uses that name."""
+    name = f"M_{coupling}"
+    while name in taken:
+        name += "_"
+    return name
+
+
+def build_network(circuit: Circuit) -> Network:
+    """The engine's view of `circuit` (cached in `circuit.cache`)."""
+    cached = circuit.cache.get("network")
+    if cached is None:
+        cached = circuit.cache["network"] = _build(circuit)
+    return cached
+
+
+def _build(circuit: Circuit) -> Network:
+    taken = set(circuit.elements) | set(circuit.parameters)
+    mutuals = {e.name: mutual_name(e.name, taken) for e in circuit.elements.values()
+               if e.kind == "coupling"}
+    names: set[str] = {LAPLACE_NAME, *mutuals.values()}
+    atoms: dict[str, sympy.Expr] = {}
+    for element in circuit.elements.values():
+        for expr in _expressions(element):
+            names |= names_of(expr)
+            atoms.update(atoms_of(expr))
+        if element.kind in (*PASSIVE, "transformer") or (
+                element.kind in ("voltage source", "current source") and not element.controls):
+            names.add(element.name)
+        if element.kind == "opamp" and element.definition is None and element.nominal is not None:
+            names.add(element.name)
+    ring = PolynomialRing(sorted(names))
+    used = {n for e in circuit.elements.values() for n in e.nodes}
+    used |= {n for p in circuit.ports.values() for n in (p.positive, p.negative)}
+    nodes = tuple(n for n in circuit.nodes if n != REFERENCE and n in used)
+    network = Network(ring, nodes, atoms=atoms)
+    for element in circuit.elements.values():
+        _add(network, element, mutuals)
+    return network
+
+
+def _expressions(element: Element) -> list[sympy.Expr]:
+    """The model expressions the engine uses directly for this element."""
+    out = [c.coefficient for c in element.controls]
+    if element.controls and element.independent is not None:
+        out.append(element.independent)
+    if element.kind == "opamp" and element.definition is not None:
+        out.append(element.definition)
+    return out
+
+
+def _add(network: Network, element: Element, mutuals: dict[str, str]) -> None:
+    ring = network.ring
+    kind, name, nodes = element.kind, element.name, element.nodes
+    if kind in PASSIVE:
+        x = ring.gen(name)
+        inward, outward = {
+            "resistor": (ring.one, x),
+            "capacitor": (x * ring.gen(LAPLACE_NAME), ring.one),
+            "inductor": (ring.one, x * ring.gen(LAPLACE_NAME)),
+            "conductance": (x, ring.one),
+            "impedance": (ring.one, x),
+            "admittance": (x, ring.one),
+        }[kind]
+        network.branches[name] = Branch(name, kind, nodes[0], nodes[1], inward, outward)
+    elif kind in ("voltage source", "current source"):
+        controls: list[VoltageControl | CurrentControl] = []
+        for control in element.controls:
+            coefficient = to_function(control.coefficient, ring)
+            if control.kind == "voltage":
+                controls.append(VoltageControl(coefficient, *control.nodes))
+            else:
+                controls.append(CurrentControl(coefficient, control.element))
+        if element.controls:
+            constant = (to_function(element.independent, ring)
+                        if element.independent is not None else None)
+        else:
+            constant = RationalFunction.symbol(name, ring)
+        network.sources[name] = Source(name, "voltage" if kind == "voltage source" else "current",
+                                       nodes[0], nodes[1], tuple(controls), constant)
+    elif kind == "opamp":
+        if element.definition is not None:
+            gain = to_function(element.definition, ring)
+        elif element.nominal is not None:
+            gain = RationalFunction.symbol(name, ring)
+        else:
+            gain = None
+        network.opamps[name] = Opamp(name, *nodes, gain)
+    elif kind == "transformer":
+        network.transformers[name] = Transformer(name, *nodes, ring.gen(name))
+    elif kind == "coupling":
+        first, second = element.coupled
+        network.couplings[name] = Coupling(name, first, second, mutuals[name])

@@ -1,0 +1,67 @@
+"""Solved systems of a circuit, cached per circuit and per set of shorted ports.
+
+A *solution* answers `transfer(measure, excitation)`: a node-voltage difference or an
+element current per unit of one excitation, every other excitation zero. Excitations are
+the independent sources (and controlled sources' constant parts), named after their
+source, and a test excitation `port:NAME` at every port: a test current driven into the
+port's first node when the port is open, a test voltage when it is shorted.
+
+Passive networks are solved topologically (engine.topological: spanning-forest sums, no
+cancellation); everything else by elimination (engine.mna). Both give the same canonical
+functions; `path` forces one (for tests and benchmarks).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from typing import Literal, Protocol
+
+from ..model.circuit import Circuit
+from .mna import Equations, Measure, MnaSolution
+from .network import Network, build_network
+from .ratfunc import RationalFunction
+
+Path = Literal["forest", "elimination"]
+
+from importlib.util import find_spec  # noqa: E402  TEMPORARY until engine.forests lands
+
+_HAVE_FORESTS = find_spec("symcirc.engine.forests") is not None
+
+
+class Solution(Protocol):
+    ring: object
+
+    def check(self) -> None:
+        """Raise mna.SingularCircuit when the circuit has no unique solution."""
+
+    def transfer(self, measure: Measure, excitation: str) -> RationalFunction: ...
+
+
+def solution(circuit: Circuit, shorted: Iterable[str] = (), path: Path | None = None
+             ) -> Solution:
+    """The solved system of `circuit` with the ports in `shorted` short-circuited."""
+    shorted = frozenset(shorted)
+    network = build_network(circuit)
+    chosen = path or ("forest" if network.is_passive and _HAVE_FORESTS else "elimination")
+    key = ("solution", shorted, chosen)
+    cached = circuit.cache.get(key)
+    if cached is None:
+        cached = circuit.cache[key] = _solve(circuit, network, shorted, chosen)
+    return cached
+
+
+def _solve(circuit: Circuit, network: Network, shorted: frozenset[str], path: Path) -> Solution:
+    ports = {name: (p.positive, p.negative) for name, p in circuit.ports.items()}
+    short = {p: ports[p] for p in sorted(shorted)}
+    tested = {p: ab for p, ab in ports.items() if p not in shorted}
+
+    def eliminate() -> MnaSolution:
+        return Equations(network, short, tested).solve()
+
+    if path == "forest":
+        if not network.is_passive:
+            raise ValueError("the spanning-forest path needs a passive network")
+        from .topological import ForestSolution
+
+        return ForestSolution(network, short, tested, eliminate)
+    return eliminate()

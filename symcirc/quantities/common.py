@@ -1,0 +1,348 @@
+"""What every quantity handler shares: reading arguments against the circuit, the solved
+systems, and turning an exact function into a `Result` (limits, substitution, nominals).
+
+Handlers first produce `Raw` results (exact functions in the circuit's own symbols) so that
+`sensitivity(..)` can work on any of them; `finish` then applies the `where` limits and
+`--substitute` and attaches units and nominal values.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Iterator
+from contextlib import contextmanager
+from dataclasses import dataclass
+from difflib import get_close_matches
+from fractions import Fraction
+
+import sympy
+
+from ..engine.convert import (
+    atom_name,
+    atom_value,
+    atoms_of,
+    exact_value,
+    names_of,
+    substitute_root,
+    to_function,
+)
+from ..engine.mna import Current, Measure, Voltage
+from ..engine.network import Network, build_network
+from ..engine.polys import EngineError
+from ..engine.ratfunc import InfiniteLimit, RationalFunction
+from ..engine.system import solution
+from ..errors import Location, SymcircError
+from ..language import syntax
+from ..model.circuit import REFERENCE, UNIT_OF_KIND, Circuit, Element
+from ..results import Result
+from .registry import DeriveOptions
+
+
+@dataclass(frozen=True)
+class Raw:
+    """One scalar quantity as derived, before limits and substitution."""
+
+    quantity: str
+    function: RationalFunction
+    unit: str
+    notes: tuple[str, ...] = ()
+
+
+def per(numerator: str, denominator: str) -> str:
+    """The unit of a ratio: `V/Ω`, '' for V/V, `1/Ω` for a pure number over ohms."""
+    if numerator == denominator:
+        return ""
+    if not denominator:
+        return numerator
+    return f"{numerator or '1'}/{denominator}"
+
+
+RATIO_UNITS = {("V", "V"): "", ("A", "A"): "", ("V", "A"): "Ω", ("A", "V"): "S"}
+"""Unit of (measured)/(source): voltage and current gains, transimpedance, transadmittance."""
+
+
+class Context:
+    """One derivation: the circuit, the options, and where the quantity text came from."""
+
+    def __init__(self, circuit: Circuit, options: DeriveOptions) -> None:
+        self.circuit = circuit
+        self.options = options
+        origin = getattr(options, "origin", None)
+        self.file, self.source = origin if origin else (circuit.file, circuit.source)
+        self.network: Network = build_network(circuit)
+        self.atoms: dict[str, sympy.Expr] = dict(self.network.atoms)
+
+    # -- errors
+    def error(self, node: syntax.Node | None, message: str,
+              notes: tuple[str, ...] = ()) -> SymcircError:
+        if node is None:
+            return SymcircError(message, self.file, notes=notes)
+        where = Location(self.file, node.line, node.column)
+        return SymcircError.at(where, message, self.source, notes)
+
+    @contextmanager
+    def at(self, node: syntax.Node) -> Iterator[None]:
+        """Engine errors raised inside are reported at `node` (the quantity asked for)."""
+        try:
+            yield
+        except EngineError as problem:
+            raise self.error(node, problem.message, problem.notes) from None
+
+    # -- arguments
+    def arguments(self, quantity: syntax.Quantity, least: int, most: int,
+                  usage: str) -> tuple:
+        if not least <= len(quantity.args) <= most:
+            raise self.error(quantity, f"{quantity.name}(..) takes {usage}")
+        return quantity.args
+
+    def no_attribute(self, quantity: syntax.Quantity) -> None:
+        if quantity.attribute is not None:
+            raise self.error(quantity, f"{quantity.name}(..) has no part "
+                                       f"`.{quantity.attribute}`")
+
+    def name(self, arg, what: str) -> str:
+        if isinstance(arg, syntax.Name):
+            return arg.name
+        if isinstance(arg, syntax.Number) and arg.text.isdigit() and what == "node":
+            return arg.text
+        raise self.error(arg, f"expected {_article(what)} {what} name here")
+
+    def port(self, arg) -> tuple[str, str, str]:
+        """A port argument: (name, positive node, negative node)."""
+        name = self.name(arg, "port")
+        port = self.circuit.ports.get(name)
+        if port is None:
+            if self.circuit.resolve_node(name) is not None:
+                raise self.error(arg, f"`{name}` is a node, not a port; declare one, e.g. "
+                                      f"`port P ({name}, {REFERENCE})`")
+            raise self.error(arg, self._unknown(name, "port", self.circuit.ports))
+        return name, port.positive, port.negative
+
+    def node(self, arg) -> str:
+        name = self.name(arg, "node")
+        node = self.circuit.resolve_node(name)
+        if node is None:
+            raise self.error(arg, self._unknown(name, "node", self.circuit.nodes))
+        return node
+
+    def element(self, arg) -> Element:
+        name = self.name(arg, "element")
+        element = self.circuit.elements.get(name)
+        if element is None:
+            raise self.error(arg, self._unknown(name, "element", self.circuit.elements))
+        return element
+
+    def symbol(self, arg) -> str:
+        """A parameter or element name (a symbol results may depend on)."""
+        name = self.name(arg, "symbol")
+        if name not in self.circuit.parameters and name not in self.circuit.elements:
+            pool = [*self.circuit.parameters, *self.circuit.elements]
+            raise self.error(arg, self._unknown(name, "parameter or element", pool))
+        return name
+
+    def _unknown(self, name: str, what: str, pool: Iterable[str]) -> str:
+        close = get_close_matches(name, list(pool), n=1)
+        hint = f"; did you mean `{close[0]}`?" if close else ""
+        return f"`{name}` is not {_article(what)} {what} of this circuit{hint}"
+
+    def measure(self, arg) -> tuple[Measure, str, str, tuple[str, ...]]:
+        """V(..), I(..) or a port: (measure, text, unit 'V' or 'A', notes)."""
+        if isinstance(arg, syntax.Name) and arg.name in self.circuit.ports:
+            _, a, b = self.port(arg)
+            return Voltage(a, b), f"V({arg.name})", "V", ()
+        if isinstance(arg, syntax.Voltage | syntax.Current):
+            arg = _as_quantity(arg)
+        if isinstance(arg, syntax.Quantity) and arg.name == "V" and arg.attribute is None:
+            return self.voltage_measure(arg) + ((),)
+        if isinstance(arg, syntax.Quantity) and arg.name == "I" and arg.attribute is None:
+            return self.current_measure(arg)
+        if isinstance(arg, syntax.Name) and self.circuit.resolve_node(arg.name) is not None:
+            raise self.error(arg, f"`{arg.name}` is a node; write V({arg.name}) for its voltage")
+        raise self.error(arg, "expected V(..), I(..) or a port here")
+
+    def voltage_measure(self, quantity: syntax.Quantity) -> tuple[Voltage, str, str]:
+        args = self.arguments(quantity, 1, 2, "a port, a node or two nodes: V(out), V(a, b)")
+        if len(args) == 1 and isinstance(args[0], syntax.Name) \
+                and args[0].name in self.circuit.ports:
+            _, a, b = self.port(args[0])
+            return Voltage(a, b), quantity.text, "V"
+        nodes = [self.node(a) for a in args]
+        return Voltage(nodes[0], nodes[1] if len(nodes) == 2 else REFERENCE), quantity.text, "V"
+
+    def current_measure(self, quantity: syntax.Quantity
+                        ) -> tuple[Current, str, str, tuple[str, ...]]:
+        (arg,) = self.arguments(quantity, 1, 1, "one element name: I(R1)")
+        element = self.element(arg)
+        notes: tuple[str, ...] = ()
+        if element.kind == "coupling":
+            first, second = element.coupled
+            raise self.error(arg, f"coupling {element.name} carries no current of its own; "
+                                  f"ask for I({first}) or I({second})")
+        if element.kind == "opamp":
+            notes = (f"I({element.name}) is the current the output of {element.name} delivers "
+                     f"into node {element.nodes[2]}.",)
+        elif element.kind == "transformer":
+            notes = (f"I({element.name}) is the primary current, flowing into node "
+                     f"{element.nodes[0]} and through the winding to {element.nodes[1]}; the "
+                     f"secondary carries -{element.name} times it.",)
+        elif element.kind == "current source":
+            notes = (f"By the sign rule I({element.name}) flows from {element.nodes[0]} through "
+                     f"the source to {element.nodes[1]}: minus the current it drives into "
+                     f"{element.nodes[0]}.",)
+        return Current(element.name), quantity.text, "A", notes
+
+    # -- solving
+    def transfer(self, measure: Measure, excitation: str, shorted: Iterable[str] = ()
+                 ) -> RationalFunction:
+        return solution(self.circuit, shorted).transfer(measure, excitation)
+
+    def response(self, measure: Measure, shorted: Iterable[str] = ()) -> RationalFunction:
+        """The measure with every independent source at its value."""
+        shorted = tuple(shorted)
+        if not self.network.excitations():  # nothing to solve for, but it must be solvable
+            solution(self.circuit, shorted).check()
+        total = RationalFunction(0, 1, self.network.ring, canonical=True)
+        for name, value in self.network.excitations().items():
+            part = self.transfer(measure, name, shorted)
+            if not part.is_zero():
+                total = total + part * value
+        return total
+
+    def zero(self) -> RationalFunction:
+        return RationalFunction(0, 1, self.network.ring, canonical=True)
+
+    # -- definitions, limits, substitution
+    @property
+    def definitions(self) -> dict[str, sympy.Expr]:
+        """Every defined symbol, expanded down to symbols that have no definition."""
+        cached = self.circuit.cache.get("definitions")
+        if cached is None:
+            cached = self.circuit.cache["definitions"] = _expanded_definitions(self.circuit)
+        return cached
+
+    def through_definitions(self, function: RationalFunction, name: str
+                            ) -> tuple[RationalFunction, tuple[str, ...]]:
+        """`function` with the definitions that mention `name` substituted (chain rule)."""
+        used = function.symbol_names()
+        if name in used:
+            return function, ()
+        via = tuple(k for k, d in self.definitions.items()
+                    if k in used and name in names_of(d))
+        for k in via:
+            function = self.substitute(function, k, self.definitions[k])
+        return function, via
+
+    def substitute(self, function: RationalFunction, name: str, expr: sympy.Expr
+                   ) -> RationalFunction:
+        self.atoms.update(atoms_of(expr))
+        return function.substitute(name, to_function(expr, function.ring))
+
+    def substitute_all(self, function: RationalFunction) -> RationalFunction:
+        """Mutual inductances and every definition replaced (`--substitute`)."""
+        for coupling in self.network.couplings.values():
+            if coupling.mutual not in function.symbol_names():
+                continue
+            root = sympy.sqrt(sympy.Symbol(coupling.first) * sympy.Symbol(coupling.second))
+            name = atom_name(root)
+            self.atoms[name] = root
+            ring = function.ring.extend([coupling.name, coupling.first, coupling.second])
+            factor = RationalFunction.symbol(coupling.name, ring)
+            radicand = RationalFunction(ring.gen(coupling.first) * ring.gen(coupling.second),
+                                        1, ring)
+            function = substitute_root(function.in_ring(ring), coupling.mutual, factor,
+                                       radicand, name)
+        for name in function.symbol_names():
+            if name in self.definitions:
+                function = self.substitute(function, name, self.definitions[name])
+        return function
+
+    @property
+    def nominals(self) -> dict[str, Fraction]:
+        """Nominal value of every symbol that has one (mutual inductances to 40 digits)."""
+        cached = self.circuit.cache.get("nominals")
+        if cached is None:
+            cached = {str(k): v for k, v in self.circuit.symbol_nominals().items()}
+            for c in self.network.couplings.values():
+                if all(n in cached for n in (c.name, c.first, c.second)):
+                    m = sympy.Symbol(c.name) * sympy.sqrt(sympy.Symbol(c.first)
+                                                          * sympy.Symbol(c.second))
+                    cached[c.mutual] = atom_value(m, cached)
+            self.circuit.cache["nominals"] = cached
+        return cached
+
+    def finish(self, raws: Iterable[Raw]) -> list[Result]:
+        """Apply the `where` limits and `--substitute`; attach unit and nominal values."""
+        limits = [a for a in self.options.assumptions if a.kind == "limit"]
+        clause = ", ".join(f"{a.symbol} -> {a.target}" for a in limits)
+        out = []
+        for raw in raws:
+            function, notes = raw.function, list(raw.notes)
+            for assumption in limits:
+                function, note = self.limit(function, assumption, raw.quantity)
+                if note:
+                    notes.append(note)
+            if self.options.substitute:
+                function = self.substitute_all(function)
+            for coupling in self.network.couplings.values():
+                if coupling.mutual in function.symbol_names():
+                    notes.append(f"{coupling.mutual} = {coupling.name}*sqrt({coupling.first}*"
+                                 f"{coupling.second}) is the mutual inductance of coupling "
+                                 f"{coupling.name} (dots at the first terminals).")
+            text = f"{raw.quantity} where {clause}" if clause else raw.quantity
+            out.append(Result(text, exact_value(function, self.atoms), raw.unit, self.nominals,
+                              tuple(notes)))
+        return out
+
+    def limit(self, function: RationalFunction, assumption, quantity: str
+              ) -> tuple[RationalFunction, str | None]:
+        name, target = assumption.symbol, assumption.target
+        function, _ = self.through_definitions(function, name)
+        if name not in function.symbol_names():
+            return function, f"{quantity} does not depend on {name}: the limit {name} -> " \
+                             f"{target} changes nothing."
+        try:
+            return function.limit(name, target), None
+        except InfiniteLimit:
+            location = assumption.location
+            message = (f"{quantity} grows without bound as {name} -> {target}: the limit does "
+                       "not exist")
+            if location is None:
+                raise SymcircError(message, self.circuit.file) from None
+            raise SymcircError.at(location, message, self.circuit.source) from None
+
+
+def _expanded_definitions(circuit: Circuit) -> dict[str, sympy.Expr]:
+    raw: dict[str, sympy.Expr] = {str(k): v for k, v in circuit.definitions().items()}
+    for p in circuit.parameters.values():
+        if p.value is not None and p.value.free_symbols:
+            raw[p.name] = p.value
+    symbols = {sympy.Symbol(k): v for k, v in raw.items()}
+    expanded: dict[str, sympy.Expr] = {}
+    for name, expr in raw.items():
+        for _ in range(len(raw) + 1):
+            used = expr.free_symbols & set(symbols)
+            if not used:
+                break
+            expr = expr.xreplace({x: symbols[x] for x in used})
+        expanded[name] = expr
+    return expanded
+
+
+def _as_quantity(node: syntax.Voltage | syntax.Current) -> syntax.Quantity:
+    if isinstance(node, syntax.Voltage):
+        text = "V(" + ", ".join(n.name for n in node.nodes) + ")"
+        return syntax.Quantity(node.line, node.column, "V", node.nodes, None, text)
+    return syntax.Quantity(node.line, node.column, "I", (node.element,), None,
+                           f"I({node.element.name})")
+
+
+def _article(word: str) -> str:
+    return "an" if word[:1] in "aeiou" else "a"
+
+
+def unit_of_symbol(circuit: Circuit, name: str) -> str:
+    """The unit of an element's or parameter's symbol ('' when none is known)."""
+    element = circuit.elements.get(name)
+    if element is not None:
+        return UNIT_OF_KIND.get(element.kind, "")
+    parameter = circuit.parameters.get(name)
+    return parameter.unit if parameter is not None else ""

@@ -1,0 +1,91 @@
+"""`sensitivity(Q, x)` = dQ/dx and `relative_sensitivity(Q, x)` = (x/Q)*dQ/dx, exactly.
+
+Q is any scalar quantity of the engine (a port name stands for its voltage); a quantity with
+parts (`thevenin(out)`) gives one sensitivity per part. When x is a parameter that Q
+depends on only through definitions (`Rt = R0*(1 + alpha*T)`), those definitions are
+substituted first: the chain rule, stated in a note.
+"""
+
+from __future__ import annotations
+
+from ..engine.ratfunc import RationalFunction
+from ..language import syntax
+from ..model.circuit import Circuit
+from ..results import Result
+from .basic import raw_current, raw_gain, raw_voltage
+from .common import Context, Raw, per, unit_of_symbol
+from .equivalents import raw_admittance, raw_impedance, raw_norton, raw_thevenin
+from .registry import DeriveOptions
+from .twoports import raw_twoport
+
+RAW = {
+    "V": raw_voltage, "I": raw_current, "gain": raw_gain, "thevenin": raw_thevenin,
+    "norton": raw_norton, "Z": raw_impedance, "Y": raw_admittance, "twoport": raw_twoport,
+}
+
+
+def sensitivity_quantity(circuit: Circuit, quantity: syntax.Quantity,
+                         options: DeriveOptions) -> list[Result]:
+    context = Context(circuit, options)
+    return context.finish(raw_sensitivity(context, quantity, relative=False))
+
+
+def relative_sensitivity_quantity(circuit: Circuit, quantity: syntax.Quantity,
+                                  options: DeriveOptions) -> list[Result]:
+    context = Context(circuit, options)
+    return context.finish(raw_sensitivity(context, quantity, relative=True))
+
+
+def raw_quantity(context: Context, arg) -> list[Raw]:
+    """The raw results of a quantity argument (a port name means its voltage)."""
+    if isinstance(arg, syntax.Name) and arg.name in context.circuit.ports:
+        arg = syntax.Quantity(arg.line, arg.column, "V", (arg,), None, f"V({arg.name})")
+    elif isinstance(arg, syntax.Voltage):
+        arg = syntax.Quantity(arg.line, arg.column, "V", arg.nodes, None,
+                              "V(" + ", ".join(n.name for n in arg.nodes) + ")")
+    elif isinstance(arg, syntax.Current):
+        arg = syntax.Quantity(arg.line, arg.column, "I", (arg.element,), None,
+                              f"I({arg.element.name})")
+    if not isinstance(arg, syntax.Quantity):
+        raise context.error(arg, "expected a quantity here, such as V(out), gain(Uin, out) or "
+                                 "thevenin(out).impedance")
+    if arg.name in ("sensitivity", "relative_sensitivity"):
+        return raw_sensitivity(context, arg, arg.name == "relative_sensitivity")
+    produce = RAW.get(arg.name)
+    if produce is None:
+        raise context.error(arg, f"the sensitivity of {arg.name}(..) is not defined; use a "
+                                 "quantity such as V(..), I(..), gain(..), Z(..) or "
+                                 "thevenin(..).voltage")
+    return produce(context, arg)
+
+
+def raw_sensitivity(context: Context, quantity: syntax.Quantity, relative: bool) -> list[Raw]:
+    context.no_attribute(quantity)
+    target, variable = context.arguments(
+        quantity, 2, 2, "a quantity and a symbol: "
+                        f"{quantity.name}(gain(Uin, out), R1)")
+    name = context.symbol(variable)
+    out = []
+    for raw in raw_quantity(context, target):
+        function, via = context.through_definitions(raw.function, name)
+        notes = []
+        if via:
+            listed = ", ".join(via)
+            notes.append(f"{raw.quantity} depends on {name} through the definition of {listed} "
+                         "(substituted for the derivative).")
+        derivative = function.derivative(name)
+        text = f"{quantity.name}({raw.quantity}, {name})"
+        if derivative.is_zero():
+            notes.append(f"{raw.quantity} does not depend on {name}: the sensitivity is 0.")
+        if relative:
+            if function.is_zero():
+                raise context.error(quantity, f"the relative sensitivity of {raw.quantity} is "
+                                              f"undefined: {raw.quantity} is 0")
+            value = derivative
+            if not derivative.is_zero():
+                value = derivative * RationalFunction.symbol(name, function.ring) / function
+            out.append(Raw(text, value, "", tuple(notes)))
+        else:
+            out.append(Raw(text, derivative, per(raw.unit, unit_of_symbol(context.circuit, name)),
+                           tuple(notes)))
+    return out

@@ -1,0 +1,260 @@
+"""Benchmark: symcirc's exact engine against the hand-written baseline (a script, not a test).
+
+For each size the same circuit is written as a .circuit text for symcirc and as nodal
+equations for the baseline an engineer would write by hand: `sympy.solve` on the node
+equations, then `sympy.cancel` (once for the open-circuit voltage, once with a test current
+for the impedance). The baseline runs in a child process capped at 60 s.
+
+    python tests/perf/bench_engine.py [--cap SECONDS] [--quick]
+
+Columns: size, output terms (numerator/denominator, summed over the results), symcirc time
+to the canonical result (parse included, printing excluded), time to print the results as
+text, baseline time, ratio baseline/symcirc, and symcirc time per output term.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import random
+import subprocess
+import sys
+import time
+from fractions import Fraction
+
+CAP = 60.0
+
+# ---------------------------------------------------------------- the circuits
+
+
+def ladder(n: int) -> tuple[str, list[str]]:
+    """n sections of series Rs_i and shunt Rp_i, driven by U; Thevenin at the far end."""
+    lines = ["voltage source U (n0, gnd)"]
+    for i in range(1, n + 1):
+        lines.append(f"resistor Rs{i} (n{i - 1}, n{i})")
+        lines.append(f"resistor Rp{i} (n{i}, gnd)")
+    lines.append(f"port out (n{n}, gnd)")
+    return "\n".join(lines) + "\n", ["thevenin(out)"]
+
+
+def grid(k: int) -> tuple[str, list[str]]:
+    """A k-by-k mesh of resistors; impedance between opposite corners."""
+    lines = []
+    for r in range(k):
+        for c in range(k):
+            if c + 1 < k:
+                lines.append(f"resistor Rh{r}_{c} (g{r}_{c}, g{r}_{c + 1})")
+            if r + 1 < k:
+                lines.append(f"resistor Rv{r}_{c} (g{r}_{c}, g{r + 1}_{c})")
+    lines.append(f"port corners (g0_0, g{k - 1}_{k - 1})")
+    return "\n".join(lines) + "\n", ["Z(corners)"]
+
+
+def rc_chain(n: int) -> tuple[str, list[str]]:
+    """n RC low-pass sections, each buffered by an ideal opamp follower."""
+    lines = ["voltage source Uin (b0, gnd)"]
+    for i in range(1, n + 1):
+        lines.append(f"resistor R{i} (b{i - 1}, x{i})")
+        lines.append(f"capacitor C{i} (x{i}, gnd)")
+        lines.append(f"opamp U{i} (x{i}, b{i}, b{i})")
+    lines.append(f"port out (b{n}, gnd)")
+    return "\n".join(lines) + "\n", ["gain(Uin, out)"]
+
+
+FAMILIES = {
+    "ladder": (ladder, range(4, 15)),
+    "grid": (grid, range(2, 5)),
+    "rc_chain": (rc_chain, range(2, 9)),
+}
+
+# ---------------------------------------------------------------- the baseline
+
+
+def baseline(family: str, size: int) -> list:
+    """The hand-written solve: node equations in sympy, sympy.solve, sympy.cancel."""
+    import sympy
+
+    s = sympy.Symbol("s")
+    if family == "ladder":
+        U, test_current = sympy.symbols("U I_test")
+        Rs = sympy.symbols(f"Rs1:{size + 1}")
+        Rp = sympy.symbols(f"Rp1:{size + 1}")
+        V = sympy.symbols(f"V1:{size + 1}")
+        results = []
+        for source, test in ((U, 0), (0, test_current)):  # open-circuit voltage, then test current
+            nodes = [source, *V]
+            equations = []
+            for i in range(1, size + 1):
+                leaving = (nodes[i] - nodes[i - 1]) / Rs[i - 1] + nodes[i] / Rp[i - 1]
+                if i < size:
+                    leaving += (nodes[i] - nodes[i + 1]) / Rs[i]
+                injected = test if i == size else 0
+                equations.append(sympy.Eq(leaving, injected))
+            solved = sympy.solve(equations, V, dict=True)[0]
+            value = solved[V[-1]]
+            results.append(sympy.cancel(value if test == 0 else value / test_current))
+        return results
+    if family == "grid":
+        k = size
+        test_current = sympy.Symbol("I_test")
+        names = {}
+        conductances: dict[tuple, list] = {}
+        for r in range(k):
+            for c in range(k):
+                names[(r, c)] = sympy.Symbol(f"V{r}_{c}")
+        edges = []
+        for r in range(k):
+            for c in range(k):
+                if c + 1 < k:
+                    edges.append(((r, c), (r, c + 1), sympy.Symbol(f"Rh{r}_{c}")))
+                if r + 1 < k:
+                    edges.append(((r, c), (r + 1, c), sympy.Symbol(f"Rv{r}_{c}")))
+        ground = (k - 1, k - 1)
+        for a, b, R in edges:
+            conductances.setdefault(a, []).append((b, R))
+            conductances.setdefault(b, []).append((a, R))
+        voltage = {p: (0 if p == ground else names[p]) for p in names}
+        unknowns = [names[p] for p in names if p != ground]
+        equations = []
+        for p in names:
+            if p == ground:
+                continue
+            leaving = sum((voltage[p] - voltage[q]) / R for q, R in conductances[p])
+            equations.append(sympy.Eq(leaving, test_current if p == (0, 0) else 0))
+        solved = sympy.solve(equations, unknowns, dict=True)[0]
+        return [sympy.cancel(solved[names[(0, 0)]] / test_current)]
+    if family == "rc_chain":
+        Uin = sympy.Symbol("Uin")
+        R = sympy.symbols(f"R1:{size + 1}")
+        C = sympy.symbols(f"C1:{size + 1}")
+        X = sympy.symbols(f"X1:{size + 1}")
+        equations = []
+        previous = Uin
+        for i in range(size):
+            # current into the capacitor node through R equals the capacitor current; the
+            # follower copies X_i to the next section without loading it
+            equations.append(sympy.Eq((previous - X[i]) / R[i], s * C[i] * X[i]))
+            previous = X[i]
+        solved = sympy.solve(equations, X, dict=True)[0]
+        return [sympy.cancel(solved[X[-1]] / Uin)]
+    raise ValueError(family)
+
+
+def run_baseline(family: str, size: int, cap: float) -> float | None:
+    """Seconds the baseline takes in a child process, or None past the cap."""
+    command = [sys.executable, __file__, "--baseline", family, str(size)]
+    try:
+        done = subprocess.run(command, capture_output=True, text=True, timeout=cap, check=True)
+    except subprocess.TimeoutExpired:
+        return None
+    return float(done.stdout.strip().splitlines()[-1])
+
+
+# ---------------------------------------------------------------- symcirc
+
+
+def run_symcirc(text: str, quantities: list[str]) -> tuple[float, float, tuple[int, int], list]:
+    """(seconds to canonical results, seconds to print them, output terms, results)."""
+    import symcirc
+
+    start = time.perf_counter()
+    circuit = symcirc.parse(text)
+    results = [r for q in quantities for r in circuit.derive(q)]
+    exact = [r.exact for r in results]
+    derived = time.perf_counter() - start
+    start = time.perf_counter()
+    for r in results:
+        r.text()
+    printed = time.perf_counter() - start
+    terms = (sum(e.size()[0] for e in exact), sum(e.size()[1] for e in exact))
+    return derived, printed, terms, results
+
+
+def best_of(repeats: int, text: str, quantities: list[str]):
+    runs = [run_symcirc(text, quantities) for _ in range(repeats)]
+    fastest = min(runs, key=lambda r: r[0])
+    printed = min(r[1] for r in runs)
+    return fastest[0], printed, fastest[2], fastest[3]
+
+
+def check_against_baseline(family: str, size: int, results: list) -> bool:
+    """The symcirc results equal the baseline's at random rational values (outside timing)."""
+    import sympy
+
+    expected = baseline(family, size)
+    rng = random.Random(size)
+    for result, reference in zip(results, expected, strict=True):
+        values = {n: Fraction(rng.randint(1, 97), rng.randint(1, 13)) for n in result.symbols}
+        ours = result.exact.evaluate(values)
+        point = {sympy.Symbol(n): sympy.Rational(v.numerator, v.denominator)
+                 for n, v in values.items()}
+        point[sympy.Symbol("I_test")] = 1
+        theirs = reference.xreplace(point)
+        if sympy.Rational(ours.numerator, ours.denominator) != theirs:
+            return False
+    return True
+
+
+def cold_start(path: str) -> float:
+    """Wall time of `symcirc derive FILE` in a fresh interpreter (imports included)."""
+    start = time.perf_counter()
+    import shutil
+
+    command = [shutil.which("symcirc") or "symcirc", "derive", path]
+    subprocess.run(command, check=True,
+                   capture_output=True)
+    return time.perf_counter() - start
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--baseline", nargs=2, metavar=("FAMILY", "SIZE"),
+                        help=argparse.SUPPRESS)
+    parser.add_argument("--cap", type=float, default=CAP, help="baseline time cap (s)")
+    parser.add_argument("--quick", action="store_true", help="smallest sizes only")
+    args = parser.parse_args()
+    if args.baseline:
+        family, size = args.baseline[0], int(args.baseline[1])
+        import sympy  # noqa: F401  (imports are not part of the timed solve)
+
+        start = time.perf_counter()
+        baseline(family, size)
+        print(time.perf_counter() - start)
+        return
+
+    from symcirc.engine.polys import default_backend
+
+    print(f"polynomial backend: {default_backend()}; machine shared, figures are noisy; "
+          f"baseline capped at {args.cap:g} s")
+    header = (f"{'family':9} {'size':>4} {'terms num/den':>17} {'symcirc s':>10} "
+              f"{'print s':>9} {'baseline s':>11} {'ratio':>9} {'µs/term':>8}  check")
+    print(header)
+    print("-" * len(header))
+    for family, (build, sizes) in FAMILIES.items():
+        baseline_alive = True
+        for size in (list(sizes)[:2] if args.quick else sizes):
+            text, quantities = build(size)
+            run_symcirc(text, quantities)  # warm up: imports, grammar, caches of the ring
+            derived, printed, terms, results = best_of(3 if size < 12 else 1, text, quantities)
+            base = run_baseline(family, size, args.cap) if baseline_alive else None
+            check = "-"
+            if base is None:
+                baseline_alive = False
+                base_text, ratio_text = f"> {args.cap:g}", "-"
+            else:
+                base_text, ratio_text = f"{base:.3f}", f"{base / derived:.0f}x"
+                check = "equal" if check_against_baseline(family, size, results) else "DIFFERENT"
+            per_term = derived / max(sum(terms), 1) * 1e6
+            print(f"{family:9} {size:>4} {f'{terms[0]}/{terms[1]}':>17} {derived:>10.4f} "
+                  f"{printed:>9.4f} {base_text:>11} {ratio_text:>9} {per_term:>8.2f}  {check}",
+                  flush=True)
+    example = os.path.join(os.path.dirname(__file__), "..", "..", "examples",
+                           "bridge_adc.circuit")
+    if os.path.exists(example):
+        walls = [cold_start(example) for _ in range(3)]
+        print(f"cold start `symcirc derive examples/bridge_adc.circuit`: best {min(walls):.3f} s "
+              f"wall of 3")
+
+
+if __name__ == "__main__":
+    main()

@@ -1,0 +1,160 @@
+"""`symcirc derive`: formats, nominal values, substitution, the file's own derive statements,
+and the JSON contract (the expression reads back with sympy to the same expression)."""
+
+from __future__ import annotations
+
+import json
+
+import pytest
+import sympy
+from sympy.parsing.sympy_parser import parse_expr
+
+import symcirc
+from symcirc.cli import main
+
+# A sensor front end (invented): an RTD divider, buffered, then an RC filter
+FRONT_END = """\
+title "RTD divider into a filtered ADC input"
+param R0 = 100 Ω     "RTD at 0 °C"
+param alpha = 3.85m  "RTD coefficient"
+param T = 50         "temperature, °C"
+voltage source Uref (ref, gnd) = 2.5 V
+resistor  Rs (ref, a) = 1 kΩ
+resistor  Rt (a, gnd) = R0*(1 + alpha*T)
+opamp     U1 (a, b, b)       "buffer"
+resistor  Rf (b, o) = 10 kΩ
+capacitor Cf (o, gnd) = 100 nF
+port out (o, gnd)
+port tap (a, gnd)
+derive thevenin(tap)
+derive gain(Uref, out) where Cf -> 0
+"""
+
+
+@pytest.fixture
+def front_end(tmp_path):
+    path = tmp_path / "front_end.circuit"
+    path.write_text(FRONT_END, encoding="utf-8")
+    return str(path)
+
+
+def run(capsys, *argv) -> tuple[int, str, str]:
+    code = main(["derive", *argv])
+    captured = capsys.readouterr()
+    return code, captured.out, captured.err
+
+
+def test_default_derives_the_files_statements_with_their_where_clauses(front_end, capsys):
+    code, out, _ = run(capsys, front_end)
+    assert code == 0
+    lines = out.splitlines()
+    assert lines[0].startswith("thevenin(tap).voltage = ")
+    assert lines[1].startswith("thevenin(tap).impedance = ")
+    # with Cf -> 0 the RC filter passes the divider ratio Rt/(Rs + Rt) (common practice)
+    assert lines[2] == "gain(Uref, out) where Cf -> 0 = Rt/(Rs + Rt)"
+
+
+def test_text_lines_and_values_in_engineering_notation(front_end, capsys):
+    code, out, _ = run(capsys, front_end, "Z(tap)", "gain(Uref, out)", "--values")
+    assert code == 0
+    z_line, gain_line = out.splitlines()
+    assert z_line.startswith("Z(tap) = Rs*Rt/(Rs + Rt)")
+    # Rt = 100*(1 + 0.00385*50) = 119.25 Ω; Rs || Rt = 106.54... Ω (hand arithmetic)
+    assert z_line.endswith("≈ 106.54 Ω")
+    assert gain_line.endswith("no nominal value: it depends on s (a function of frequency)")
+
+
+def test_substitute_replaces_definitions(front_end, capsys):
+    code, out, _ = run(capsys, front_end, "thevenin(tap).voltage", "--substitute")
+    assert code == 0
+    expression = out.split(" = ", 1)[1]
+    assert "R0" in expression and "alpha" in expression and "Rt" not in expression
+
+
+def test_json_contract_and_readback(front_end, capsys):
+    code, out, _ = run(capsys, front_end, "--format", "json", "thevenin(tap)",
+                       "gain(Uref, out)", "sensitivity(V(tap), T)")
+    assert code == 0
+    data = json.loads(out)
+    assert data["file"] == front_end
+    assert data["title"] == "RTD divider into a filtered ADC input"
+    quantities = [r["quantity"] for r in data["results"]]
+    assert quantities == ["thevenin(tap).voltage", "thevenin(tap).impedance",
+                          "gain(Uref, out)", "sensitivity(V(tap), T)"]
+    circuit = symcirc.load(front_end)
+    expected = [*circuit.derive("thevenin(tap)"), *circuit.derive("gain(Uref, out)"),
+                *circuit.derive("sensitivity(V(tap), T)")]
+    for item, result in zip(data["results"], expected, strict=True):
+        local = {n: sympy.Symbol(n) for n in item["symbols"]}
+        read = parse_expr(item["expression"], local_dict=local)
+        assert read == result.expression  # the same expression tree, not just equal
+        assert sorted(str(x) for x in read.free_symbols) == item["symbols"]
+        assert item["unit"] == result.unit
+        assert item["latex"]
+    voltage, impedance, gain, sensitivity = data["results"]
+    assert voltage["unit"] == "V" and impedance["unit"] == "Ω" and gain["unit"] == ""
+    assert gain["nominal"] is None and "s" in gain["symbols"]
+    assert impedance["nominal"] == pytest.approx(1000 * 119.25 / 1119.25)
+    # dV/dT through Rt = R0*(1 + alpha*T): unit V per unit of T (T has none)
+    assert sensitivity["unit"] == "V"
+    assert any("through the definition of Rt" in n for n in sensitivity["notes"])
+
+
+def test_json_readback_with_pi_and_square_roots(tmp_path, capsys):
+    path = tmp_path / "coupled.circuit"
+    path.write_text("param f0 = 1 kHz\nvoltage source U (a, gnd)\ninductor L1 (a, gnd)\n"
+                    "inductor L2 (b, gnd)\nresistor R (b, gnd)\ncoupling K (L1, L2) = 0.5\n"
+                    "capacitor C (b, gnd) = 1/(2*pi*f0*R)\nresistor R2 (a, gnd) = 1k\n"
+                    "port out (b, gnd)\n", encoding="utf-8")
+    code, out, _ = run(capsys, str(path), "gain(U, out)", "--substitute", "--format", "json")
+    assert code == 0
+    (item,) = json.loads(out)["results"]
+    assert "pi" in item["expression"] and "sqrt(L1*L2)" in item["expression"]
+    assert "pi" not in item["symbols"]
+    read = parse_expr(item["expression"], local_dict={n: sympy.Symbol(n) for n in item["symbols"]})
+    (result,) = symcirc.load(str(path)).derive("gain(U, out)", substitute=True)
+    assert sympy.simplify(read - result.expression) == 0
+    assert read.has(sympy.pi)
+
+
+def test_latex_and_markdown_formats(front_end, capsys):
+    code, out, _ = run(capsys, front_end, "Z(tap)", "--format", "latex", "--values")
+    assert code == 0
+    assert out.startswith("\\begin{equation*}\n\\mathrm{Z(tap)} = \\frac{")
+    assert "\\approx" in out and "\\end{equation*}" in out
+    code, out, _ = run(capsys, front_end, "Z(tap)", "--format", "markdown")
+    assert code == 0
+    assert out.startswith("# RTD divider into a filtered ADC input")
+    assert "**`Z(tap)`**" in out and "$$\n\\frac{" in out
+
+
+def test_file_without_derive_statements_and_no_quantity_is_a_usage_error(tmp_path, capsys):
+    path = tmp_path / "bare.circuit"
+    path.write_text("resistor R (a, gnd)\n", encoding="utf-8")
+    code, out, err = run(capsys, str(path))
+    assert code == 2 and out == ""
+    assert "has no derive statements" in err
+
+
+def test_bad_quantity_text_is_a_syntax_error_with_caret(front_end, capsys):
+    code, _, err = run(capsys, front_end, "thevenin(tap")
+    assert code == 2
+    assert err.startswith("<command line>:1:")
+    assert "Traceback" not in err
+
+
+def test_python_api_named_results_and_latex_display():
+    circuit = symcirc.parse(FRONT_END)
+    th = circuit.thevenin("tap")
+    assert th.impedance.unit == "Ω" and th.voltage.unit == "V"
+    assert th.impedance.nominal == pytest.approx(1000 * 119.25 / 1119.25)
+    assert th._repr_latex_().startswith("$\\displaystyle \\begin{aligned}")
+    assert th.impedance._repr_latex_().startswith("$\\displaystyle \\mathrm{thevenin(tap).")
+    gain = circuit.gain("Uref", "V(out)")
+    assert gain.quantity == "gain(Uref, V(out))"
+    assert circuit.impedance("tap").expression == th.impedance.expression
+    norton = circuit.norton("tap")
+    assert sympy.simplify(norton.current.expression * th.impedance.expression
+                          - th.voltage.expression) == 0
+    limited = circuit.derive("gain(Uref, out)", limits={"Cf": "0"})[0]
+    assert limited.text() == "Rt/(Rs + Rt)"
