@@ -1,1 +1,17 @@
-"""forms"""
+"""Design-oriented forms and derivation steps.
+
+`annotate(circuit, quantity, results, options)` gives each result the derivation an
+engineer would write (series/parallel and star–delta reduction, dividers, superposition,
+or the nodal equations solved by Cramer's rule) and a design form (`R1∥R2 + R3∥R4`, the
+standard transfer-function forms with K, ω0, Q), each proved equal to the canonical result.
+`approximate(circuit, result, assumption)` handles `big >> small`; `steps_text(result)`
+prints the steps for `--format text`.
+"""
+
+from __future__ import annotations
+
+from .annotate import annotate, approximate, steps_text
+from .form import Form
+from .parallel import Parallel
+
+__all__ = ["Form", "Parallel", "annotate", "approximate", "steps_text"]

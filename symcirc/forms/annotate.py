@@ -1,0 +1,461 @@
+"""Attaching forms and steps to results, and approximate results under `>>` assumptions.
+
+A derivation is attached only when its final value is proved equal to the canonical
+result; otherwise the next route is tried (structure first, then the nodal equations),
+and when none proves out the result keeps no form and no steps.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from fractions import Fraction
+from typing import Any
+
+import sympy
+
+from ..language import syntax
+from ..model.circuit import Assumption, Circuit
+from ..quantities.registry import DeriveOptions
+from ..results import Result, Step
+from . import approximate as approx
+from .derivation import Target, nodal_route, structural_route, target_of
+from .dividers import Unsupported
+from .form import Form
+from .nodal import Singular
+from .parallel import expand_parallel
+from .printing import code, latex, name_text, text
+from .standard import StandardForm, nominal, standard_form
+from .steps import Recorder
+from .verify import equal
+
+TRANSFER_KINDS = ("voltage", "gain", "norton", "current", "twoport")
+"""Targets whose natural design form is a standard transfer-function form."""
+
+
+def annotate(
+    circuit: Circuit, quantity: syntax.Quantity, results: list[Result], options: DeriveOptions
+) -> None:
+    """Set `result.form` and `result.steps` on each result forms can derive and prove."""
+    if not options.steps:
+        return
+    for result in results:
+        attribute = quantity.attribute or _attribute(result.quantity)
+        target = target_of(circuit, quantity, attribute)
+        if target is None:
+            continue
+        key = (
+            "forms",
+            result.quantity,
+            options.substitute,
+            tuple(a for a in options.assumptions if a.kind == "limit"),
+        )
+        if key not in circuit.cache:
+            circuit.cache[key] = _annotation(circuit, target, result, options)
+        found = circuit.cache[key]
+        if found is not None:
+            steps, form, details = found
+            result.steps = list(steps)
+            result.form = form
+            for name, value in details.items():
+                result.details.setdefault(name, value)
+
+
+def _attribute(quantity_text: str) -> str | None:
+    head, dot, tail = quantity_text.rpartition(").")
+    return tail if dot and tail.isidentifier() else None
+
+
+def _annotation(circuit: Circuit, target: Target, result: Result, options: DeriveOptions):
+    canonical = result.expression
+    nominals = _nominals(circuit)
+    limits = [a for a in options.assumptions if a.kind == "limit"]
+    for route in (structural_route, nodal_route):
+        rec = Recorder(_taken(circuit))
+        try:
+            symbol = route(circuit, target, rec)
+        except (Unsupported, Singular):
+            continue
+        value = rec.substitute(symbol)
+        structural = route is structural_route
+        if options.substitute:
+            value = _substitute(circuit, rec, symbol, value)
+        details: dict[str, Any] = {}
+        expansions: list[approx.Expansion] = []
+        try:
+            for assumption in limits:
+                variable = _symbol(circuit, assumption.symbol)
+                if variable in expand_parallel(value).free_symbols:
+                    value, symbol = _limit_step(
+                        rec, symbol, value, variable, assumption, nominals, details, expansions
+                    )
+        except approx.NoExpansion:
+            continue
+        if not equal(value, canonical):
+            continue
+        if expansions and not options.substitute:
+            opened = _opened(circuit, target, result, limits, expansions, nominals)
+            if opened is not None:
+                return (*opened, details)
+        form = _form(
+            value,
+            canonical,
+            result.unit,
+            target,
+            structural and not expansions,
+            nominals,
+            rec,
+            symbol,
+        )
+        return rec.steps, form, details
+    return None
+
+
+OPENS = {
+    "oo": ("resistor", "inductor", "impedance"),
+    "0": ("capacitor", "conductance", "admittance"),
+}
+"""Element kinds that become an open circuit when their value goes to oo or to 0."""
+
+
+def _opened(
+    circuit: Circuit,
+    target: Target,
+    result: Result,
+    limits: list[Assumption],
+    expansions: list[approx.Expansion],
+    nominals: dict[str, Fraction],
+):
+    """A part whose limit is an open circuit (`RL -> oo`): take it out and derive the rest
+    by its structure, which gives the form an engineer writes; None when that fails."""
+    names = []
+    for assumption in limits:
+        element = circuit.elements.get(assumption.symbol)
+        if element is None or element.kind not in OPENS.get(assumption.target or "oo", ()):
+            return None
+        names.append(element.name)
+    reduced = dataclasses.replace(
+        circuit, elements={k: e for k, e in circuit.elements.items() if k not in names}, cache={}
+    )
+    rec = Recorder(_taken(circuit))
+    parts = ", ".join(names)
+    neglected = " + ".join(text(e.neglected) for e in expansions)
+    rec.add(
+        "open",
+        f"In the limit {', '.join(f'{a.symbol} → {_arrow(a)}' for a in limits)}, "
+        f"{parts} {'is an open circuit' if len(names) == 1 else 'are open circuits'}"
+        f" and drop{'s' if len(names) == 1 else ''} out; the first neglected term "
+        f"is {neglected}.",
+        equation=(
+            "; ".join(f"I({n}) = 0" for n in names),
+            r",\quad ".join(f"I_{{{n}}} = 0" for n in names),
+        ),
+        opened=names,
+    )
+    try:
+        symbol = structural_route(reduced, target, rec)
+    except Unsupported:
+        return None
+    value = rec.substitute(symbol)
+    if not equal(value, result.expression):
+        return None
+    form = _form(value, result.expression, result.unit, target, True, nominals, rec, symbol)
+    for assumption, expansion in zip(limits, expansions, strict=False):
+        _error_step(rec, expansion, f"{assumption.symbol} → {_arrow(assumption)}")
+    return rec.steps, form
+
+
+def _arrow(assumption: Assumption) -> str:
+    return "0" if assumption.target == "0" else "∞"
+
+
+def _form(
+    value: sympy.Expr,
+    canonical: sympy.Expr,
+    unit: str,
+    target: Target,
+    structural: bool,
+    nominals: dict[str, Fraction],
+    rec: Recorder,
+    symbol: sympy.Expr,
+) -> Form:
+    standard = standard_form(canonical, unit)
+    parameters = _parameters(standard, nominals) if standard else {}
+    if standard is not None:
+        _standard_step(rec, symbol, standard, parameters)
+    if standard is not None and (target.kind in TRANSFER_KINDS or not structural):
+        return Form(standard.expression, standard.text, standard.latex, parameters, standard.kind)
+    if structural:
+        return Form(value, text(value), latex(value), parameters, "structure")
+    shown = approx.grouped(canonical)
+    if not equal(shown, canonical):
+        shown = canonical
+    return Form(shown, text(shown), latex(shown), parameters, "grouped")
+
+
+def _parameters(standard: StandardForm, nominals: dict[str, Fraction]) -> dict[str, dict]:
+    return {parameter_name(p.name): p.describe(nominals) for p in standard.parameters}
+
+
+def parameter_name(name: str) -> str:
+    """`omega_0` → `ω0`, `f_0` → `f0`, `Q_p2` → `Qp2`."""
+    return name_text(name).replace("_", "")
+
+
+def _standard_step(
+    rec: Recorder, symbol: sympy.Expr, standard: StandardForm, parameters: dict[str, dict]
+) -> None:
+    shown = [p for p in standard.parameters if p.name == "K" or p.name.startswith(("omega", "Q"))]
+    rec.add(
+        "standard-form",
+        f"Written in the standard {standard.kind} form, with its parameters in closed form.",
+        equation=(
+            "; ".join(
+                [f"{text(symbol)} = {standard.text}"]
+                + [f"{parameter_name(p.name)} = {text(p.expression)}" for p in shown]
+            ),
+            r",\quad ".join(
+                [f"{latex(symbol)} = {standard.latex}"]
+                + [f"{latex(sympy.Symbol(p.name))} = {latex(p.expression)}" for p in shown]
+            ),
+        ),
+        form=standard.expression,
+        parameters={p.name: p.expression for p in standard.parameters},
+    )
+
+
+def _limit_step(
+    rec: Recorder,
+    symbol: sympy.Expr,
+    value: sympy.Expr,
+    variable: sympy.Symbol,
+    assumption: Assumption,
+    nominals: dict[str, Fraction],
+    details: dict[str, Any],
+    expansions: list[approx.Expansion],
+) -> tuple[sympy.Expr, sympy.Symbol]:
+    infinite = assumption.target in ("oo", None)
+    exact = value
+    expansion = approx.limit(exact, variable, infinite)
+    expansions.append(expansion)
+    arrow, arrow_latex = ("∞", r"\infty") if infinite else ("0", "0")
+    result = rec.fresh([f"{symbol}_lim" if isinstance(symbol, sympy.Symbol) else "H_lim"], "H")
+    loop = approx.loop_gain_term(exact, expansion.leading, variable) if infinite else None
+    if loop is not None:
+        shape = (
+            f"{text(symbol)} = {_lead(expansion.leading)}·1/(1 + ({text(loop)})/{text(variable)})"
+        )
+        shape_latex = (
+            rf"{latex(symbol)} = \frac{{{latex(expansion.leading)}}}"
+            rf"{{1 + \frac{{{latex(loop)}}}{{{latex(variable)}}}}}"
+        )
+    else:
+        shape, shape_latex = f"{text(symbol)} = {text(exact)}", f"{latex(symbol)} = {latex(exact)}"
+    rec.add(
+        "limit",
+        f"Let {variable} → {arrow}: the result tends to its leading term; the first "
+        f"neglected term is {text(expansion.neglected)}.",
+        result,
+        expansion.leading,
+        equation=(
+            f"{shape};  {text(result)} = lim {text(variable)}→{arrow} = {text(expansion.leading)}",
+            rf"{shape_latex},\quad {latex(result)} = \lim_{{{latex(variable)} \to "
+            rf"{arrow_latex}}} {latex(symbol)} = {latex(expansion.leading)}",
+        ),
+        operand=symbol,
+        variable=variable,
+        infinite=infinite,
+        neglected=expansion.neglected,
+        relative_error=expansion.relative_error,
+        loop_gain_term=loop,
+    )
+    _error_step(rec, expansion, f"{variable} → {arrow}")
+    details["neglected"] = describe(expansion.neglected, nominals)
+    details["relative_error"] = describe(expansion.relative_error, nominals)
+    return expansion.leading, result
+
+
+def _lead(expr: sympy.Expr) -> str:
+    shown = text(expr)
+    if expr.could_extract_minus_sign() and "/" in shown:
+        return "−(" + text(-expr) + ")"
+    return "(" + shown + ")" if "/" in shown or "+" in shown else shown
+
+
+def _error_step(rec: Recorder, expansion: approx.Expansion, assumption: str) -> None:
+    rec.add(
+        "error",
+        f"The relative error of the approximation {assumption}, "
+        "(approximation − exact)/exact, in closed form.",
+        equation=(
+            f"δ = {text(expansion.relative_error)}",
+            rf"\delta = {latex(expansion.relative_error)}",
+        ),
+        exact=expansion.exact,
+        leading=expansion.leading,
+        relative_error=expansion.relative_error,
+    )
+
+
+def describe(expr: sympy.Expr, nominals: dict[str, Fraction]) -> dict[str, Any]:
+    return {
+        "expression": code(expr),
+        "text": text(expr),
+        "latex": latex(expr),
+        "nominal": nominal(expr, nominals),
+    }
+
+
+def _substitute(
+    circuit: Circuit, rec: Recorder, symbol: sympy.Expr, value: sympy.Expr
+) -> sympy.Expr:
+    definitions = {k: v for k, v in circuit.definitions().items() if k in value.free_symbols}
+    if not definitions:
+        return value
+    rec.add(
+        "substitute",
+        "Substitute the parts' defining expressions.",
+        equation=(
+            "; ".join(f"{text(k)} = {text(v)}" for k, v in definitions.items()),
+            r",\quad ".join(f"{latex(k)} = {latex(v)}" for k, v in definitions.items()),
+        ),
+        definitions=definitions,
+    )
+    return value.xreplace(definitions)
+
+
+def _nominals(circuit: Circuit) -> dict[str, Fraction]:
+    return {s.name: v for s, v in circuit.symbol_nominals().items()}
+
+
+def _taken(circuit: Circuit) -> set[str]:
+    return (
+        set(circuit.elements)
+        | set(circuit.parameters)
+        | set(circuit.nodes)
+        | set(circuit.ports)
+        | {"s"}
+    )
+
+
+def _symbol(circuit: Circuit, name: str) -> sympy.Symbol:
+    if name in circuit.parameters:
+        return circuit.parameters[name].symbol
+    if name in circuit.elements:
+        return circuit.elements[name].symbol
+    return sympy.Symbol(name)
+
+
+# ------------------------------------------------------------------ approximations
+
+
+def approximate(circuit: Circuit, result: Result, assumption: Assumption) -> Result:
+    """The result under `big >> small`: its leading term in small/big, with the neglected
+    first-order term and the exact relative error in `details`, and the steps."""
+    big, small = _symbol(circuit, assumption.symbol), _symbol(circuit, assumption.target)
+    exact = result.expression
+    try:
+        expansion = approx.much_greater(exact, big, small)
+    except approx.NoExpansion as err:
+        result.notes.append(f"{big} >> {small} gives no expansion here ({err}); exact result kept")
+        return result
+    if not result.steps:  # the exact result's own derivation comes first
+        _annotate_alone(circuit, result)
+    nominals = _nominals(circuit)
+    new = Result(
+        result.quantity, _Value(expansion.leading), result.unit, nominals, tuple(result.notes)
+    )
+    rec = Recorder(_taken(circuit) | {step.defines for step in result.steps if step.defines})
+    symbol = rec.fresh([f"{_result_name(result)}_approx"], "X")
+    rec.add(
+        "approximate",
+        f"{big} ≫ {small}: expand in the small ratio ε = {small}/{big} and keep the "
+        f"leading term; the first neglected term is {text(expansion.neglected)}.",
+        symbol,
+        expansion.leading,
+        equation=(
+            f"{text(symbol)} = {text(expansion.leading)}   "
+            f"(neglected: {text(expansion.neglected)})",
+            rf"{latex(symbol)} = {latex(expansion.leading)} \quad "
+            rf"\left(\text{{neglected: }} {latex(expansion.neglected)}\right)",
+        ),
+        exact=exact,
+        big=big,
+        small=small,
+        neglected=expansion.neglected,
+        order=expansion.order,
+    )
+    _error_step(rec, expansion, f"{big} ≫ {small}")
+    new.steps = list(result.steps) + rec.steps
+    new.details = {
+        "neglected": describe(expansion.neglected, nominals),
+        "relative_error": describe(expansion.relative_error, nominals),
+        "assumption": f"{big} >> {small}",
+    }
+    if equal(expansion.leading, new.expression):
+        standard = standard_form(expansion.leading, result.unit)
+        parameters = _parameters(standard, nominals) if standard else {}
+        new.form = Form(
+            expansion.leading,
+            text(expansion.leading),
+            latex(expansion.leading),
+            parameters,
+            "approximation",
+        )
+    return new
+
+
+class _Value:
+    """An approximation as the Result's exact value: evaluated by exact substitution and
+    printed by the forms printers (sympy's generic paths are slow for these)."""
+
+    def __init__(self, expression: sympy.Expr) -> None:
+        self.expression = expression
+
+    def to_sympy(self) -> sympy.Expr:
+        return self.expression
+
+    def to_text(self) -> str:
+        return code(self.expression)
+
+    def to_latex(self) -> str:
+        return latex(self.expression)
+
+    def symbol_names(self) -> tuple[str, ...]:
+        return tuple(sorted(s.name for s in self.expression.free_symbols))
+
+    def evaluate(self, values: dict[str, Fraction]) -> Fraction:
+        exact = {
+            s: sympy.Rational(values[s.name].numerator, values[s.name].denominator)
+            for s in self.expression.free_symbols
+        }
+        value = sympy.Rational(self.expression.xreplace(exact))
+        return Fraction(int(value.p), int(value.q))
+
+
+def _annotate_alone(circuit: Circuit, result: Result) -> None:
+    """Annotate a result known only by its quantity text (`V(out) where ...`)."""
+    from ..errors import SymcircError
+    from ..language.parser import parse_quantity
+
+    try:
+        quantity = parse_quantity(result.quantity.split(" where ")[0])
+    except SymcircError:
+        return
+    annotate(circuit, quantity, [result], DeriveOptions())
+
+
+def _result_name(result: Result) -> str:
+    for step in reversed(result.steps):
+        if step.data.get("defines"):
+            return step.data["defines"][0]
+    return "X"
+
+
+def steps_text(result: Result) -> str:
+    """The result's steps, numbered, each a sentence and its equation."""
+    from .steps import steps_text as render
+
+    return render(result.steps)
+
+
+__all__ = ["annotate", "approximate", "steps_text", "Step"]

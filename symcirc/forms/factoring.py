@@ -1,0 +1,103 @@
+"""Factoring ratios of polynomials for display, quickly.
+
+python-flint factors multivariate integer polynomials in microseconds where sympy takes
+tens of milliseconds; sympy is the fallback when flint is not installed. Results are
+sympy expressions `c·Π fᵢ^eᵢ / Π gⱼ^eⱼ` with the factors' terms in sympy's order.
+"""
+
+from __future__ import annotations
+
+from functools import lru_cache
+from math import lcm
+
+import sympy
+
+from .verify import NotRational, to_ratio
+
+
+def factor(expr: sympy.Expr) -> sympy.Expr:
+    """`expr` (a rational function, possibly with `∥`) as a factored ratio."""
+    expr = sympy.sympify(expr)
+    try:
+        num, den = to_ratio(expr)
+    except NotRational:
+        return sympy.factor(expr)
+    if any(not s.is_Symbol for s in num.ring.symbols):
+        return sympy.factor(expr)
+    return factor_ratio(num, den)
+
+
+def factor_ratio(num, den) -> sympy.Expr:
+    """A ratio of sympy ring polynomials (over QQ or ZZ), cancelled and factored."""
+    if not num:
+        return sympy.Integer(0)
+    num, den = cancel(num, den)
+    top_content, top = factors(num)
+    bottom_content, bottom = factors(den)
+    shape = sympy.Mul(*[f**e for f, e in top]) / sympy.Mul(*[f**e for f, e in bottom])
+    return top_content / bottom_content * shape  # the number last: sympy would spread it
+
+
+def factors(poly) -> tuple[sympy.Rational, list[tuple[sympy.Expr, int]]]:
+    """A ring polynomial as (rational content, [(irreducible factor, multiplicity)])."""
+    flint = _flint()
+    symbols = tuple(poly.ring.symbols)
+    if flint is None:
+        content, found = sympy.factor_list(poly.as_expr(), *symbols)
+        return sympy.Rational(content), list(found)
+    scale, integer = _integer(poly)
+    context = flint.fmpz_mpoly_ctx.get(tuple(s.name for s in symbols), "lex")
+    content, found = context.from_dict(integer).factor()
+    return (
+        sympy.Rational(int(content), scale),
+        [(_expression(f, symbols), int(e)) for f, e in found],
+    )
+
+
+def cancel(num, den):
+    """num/den (sympy ring polynomials over QQ) with their greatest common divisor divided
+    out and a positive leading coefficient below; flint's gcd when it is there."""
+    flint = _flint()
+    if flint is None or not num or not den:
+        return num.cancel(den)
+    ring = num.ring
+    context = flint.fmpz_mpoly_ctx.get(tuple(str(s) for s in ring.symbols), "lex")
+    num_scale, top = _integer(num)
+    den_scale, bottom = _integer(den)
+    top, bottom = context.from_dict(top), context.from_dict(bottom)
+    common = top.gcd(bottom)
+    top, bottom = top // common, bottom // common
+    sign = -1 if int(bottom.leading_coefficient()) < 0 else 1
+    # num/den = (top·den_scale)/(bottom·num_scale): integer coefficients on both sides
+    return (_from_flint(ring, top, sign * den_scale), _from_flint(ring, bottom, sign * num_scale))
+
+
+def _from_flint(ring, poly, scale: int):
+    convert = ring.domain.convert
+    return ring.from_dict({m: convert(int(c) * scale) for m, c in poly.to_dict().items()})
+
+
+def _integer(poly) -> tuple[int, dict]:
+    """(k, terms) with k·poly having integer coefficients `terms`."""
+    scale = lcm(*[int(sympy.Rational(c).q) for c in poly.values()]) if poly else 1
+    return scale, {m: int(sympy.Rational(c) * scale) for m, c in poly.items()}
+
+
+def _expression(f, symbols: tuple[sympy.Symbol, ...]) -> sympy.Expr:
+    terms = []
+    for monom, coeff in f.to_dict().items():
+        term = sympy.Integer(int(coeff))
+        for s, e in zip(symbols, monom, strict=True):
+            if e:
+                term *= s**e
+        terms.append(term)
+    return sympy.Add(*terms)
+
+
+@lru_cache(maxsize=1)
+def _flint():
+    try:
+        import flint
+    except ImportError:  # pragma: no cover - python-flint is a dependency; sympy otherwise
+        return None
+    return flint

@@ -1,0 +1,337 @@
+"""Standard forms of transfer functions and their named parameters.
+
+First order `K/(1 + s/ω0)`, `K·(s/ω0)/(1 + s/ω0)`; second order
+`K/(s²/ω0² + s/(Q·ω0) + 1)` (low-pass), `K·(s²/ω0²)/(...)` (high-pass),
+`K·(s/(Q·ω0))/(...)` (band-pass, K the gain at ω0); higher orders as a product of first-
+and second-order factors when the polynomials factor over the symbols. Each parameter is
+given in closed form (ω0 and Q with square factors taken out of the root), with f0 = ω0/2π,
+ζ = 1/(2Q), and the real zeros and poles.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from fractions import Fraction
+
+import sympy
+
+from ..model.circuit import LAPLACE
+from .factoring import factor, factors
+from .printing import code, latex, text
+from .verify import equal, to_ratio
+
+s = LAPLACE
+
+
+@dataclass
+class Parameter:
+    name: str
+    """Symbol name (`omega_0`); printed as `ω0`."""
+    expression: sympy.Expr
+    unit: str
+
+    def __post_init__(self) -> None:
+        if self.expression.is_rational_function():
+            self.expression = factor(self.expression)
+
+    def describe(self, nominals: dict[str, Fraction]) -> dict:
+        return {
+            "expression": code(self.expression),
+            "latex": latex(self.expression),
+            "text": text(self.expression),
+            "nominal": nominal(self.expression, nominals),
+            "unit": self.unit,
+        }
+
+
+@dataclass
+class StandardForm:
+    """A transfer function written in a standard form, proved equal to it."""
+
+    kind: str
+    """'first-order low-pass', 'second-order band-pass', 'factored', ..."""
+    expression: sympy.Expr
+    text: str
+    latex: str
+    parameters: list[Parameter]
+    rational: sympy.Expr = field(repr=False, default=sympy.Integer(0))
+    """The same form with ω0² and Q·ω0 as the rational functions they stand for."""
+    checks: list[tuple[sympy.Expr, sympy.Expr]] = field(repr=False, default_factory=list)
+    """Pairs that must be equal: each root parameter squared and its rational value."""
+
+
+def nominal(expr: sympy.Expr, nominals: dict[str, Fraction]) -> float | None:
+    values = {}
+    for symbol in expr.free_symbols:
+        if symbol.name not in nominals:
+            return None
+        v = nominals[symbol.name]
+        values[symbol] = sympy.Rational(v.numerator, v.denominator)
+    try:
+        return float(expr.xreplace(values))
+    except (TypeError, ValueError):
+        return None
+
+
+def sqrt_of(expr: sympy.Expr) -> sympy.Expr:
+    """The positive square root of a ratio of polynomials, square factors taken outside."""
+    num, den = to_ratio(expr)
+    out_num, in_num = _split_square(num)
+    out_den, in_den = _split_square(den)
+    if in_num == 1 and in_den == 1:
+        root = sympy.Integer(1)
+    elif in_den == 1:
+        root = sympy.sqrt(in_num)
+    elif in_num == 1:
+        root = 1 / sympy.sqrt(in_den)
+    else:
+        root = sympy.sqrt(in_num / in_den)
+    return out_num / out_den * root
+
+
+def _split_square(poly) -> tuple[sympy.Expr, sympy.Expr]:
+    """(outside, inside) with poly = outside²·inside and inside free of square factors."""
+    content, found = factors(poly)
+    outside, inside = sympy.Integer(1), sympy.Integer(1)
+    root = sympy.sqrt(content)
+    if root.is_Rational:
+        outside *= root
+    else:
+        inside *= content
+    for f, e in found:
+        outside *= f ** (e // 2)
+        inside *= f ** (e % 2)
+    return outside, inside
+
+
+# ---------------------------------------------------------------------- factors
+
+
+@dataclass
+class _Factor:
+    """A normalised factor: `1 + s/ω` (order 1) or `s²/ω0² + s/(Q·ω0) + 1` (order 2)."""
+
+    order: int
+    coefficients: tuple[sympy.Expr, ...]
+    """Order 1: (b, a) of a·s + b; order 2: (c, b, a) of a·s² + b·s + c."""
+
+    def normalised(self) -> sympy.Expr:
+        """The factor divided by its constant term (a rational function)."""
+        if self.order == 1:
+            b, a = self.coefficients
+            return 1 + s * sympy.cancel(a / b)
+        c, b, a = self.coefficients
+        return s**2 * sympy.cancel(a / c) + s * sympy.cancel(b / c) + 1
+
+
+def _split(poly: sympy.Poly) -> tuple[sympy.Expr, int, list[_Factor]] | None:
+    """content, power of s, and first/second-order factors; None if an irreducible factor
+    of higher order remains."""
+    coefficient, factors = poly.factor_list()
+    content = (
+        coefficient.as_expr() if hasattr(coefficient, "as_expr") else sympy.sympify(coefficient)
+    )
+    power = 0
+    out: list[_Factor] = []
+    for f, e in factors:
+        degree = f.degree()
+        if degree == 0:
+            content *= f.as_expr() ** e
+            continue
+        coeffs = [c for c in reversed(f.all_coeffs())]
+        if degree == 1 and coeffs[0] == 0:
+            power += e
+            continue
+        if degree > 2:
+            return None
+        out.extend([_Factor(degree, tuple(coeffs))] * e)
+    return content, power, out
+
+
+def standard_form(expr: sympy.Expr, unit: str) -> StandardForm | None:
+    """The standard form of a transfer function in s, or None when none applies."""
+    if s not in expr.free_symbols:
+        return None
+    num, den = sympy.fraction(sympy.cancel(sympy.together(expr)))
+    try:
+        n_poly, d_poly = sympy.Poly(num, s), sympy.Poly(den, s)
+    except sympy.PolynomialError:
+        return None
+    if d_poly.degree() < 1 or any(c.has(s) for c in n_poly.all_coeffs() + d_poly.all_coeffs()):
+        return None
+    form = _conventional(n_poly, d_poly, unit)
+    if form is None:
+        form = _factored(n_poly, d_poly, unit)
+    if form is None or not _proved(form, expr):
+        return None
+    return form
+
+
+def _proved(form: StandardForm, expr: sympy.Expr) -> bool:
+    """Exact proof: the rational skeleton equals `expr`, and each root parameter squares
+    to the rational value it stands for."""
+    return equal(form.rational, expr) and all(equal(a, b) for a, b in form.checks)
+
+
+def _conventional(n_poly: sympy.Poly, d_poly: sympy.Poly, unit: str) -> StandardForm | None:
+    """One first- or second-order denominator that does not factor into real poles."""
+    d = [sympy.cancel(c) for c in reversed(d_poly.all_coeffs())]
+    n = [sympy.cancel(c) for c in reversed(n_poly.all_coeffs())]
+    order = d_poly.degree()
+    if order not in (1, 2) or d[0] == 0 or n_poly.degree() > order:
+        return None
+    n += [sympy.Integer(0)] * (order + 1 - len(n))
+    if order == 2:
+        split = _split(d_poly)
+        if split is None or len(split[2]) != 1 or split[1]:
+            return None  # real poles: the factored form reads better
+        if d[1] == 0:
+            return None
+    symbolic = {name: sympy.Symbol(name, positive=True) for name in ("K", "omega_0", "Q")}
+    K, w, Q = symbolic["K"], symbolic["omega_0"], symbolic["Q"]
+    wz = sympy.Symbol("omega_z", positive=True)
+    params: list[Parameter] = []
+    zero = None
+    if order == 1:
+        omega = sympy.cancel(d[0] / d[1])
+        params.append(Parameter("omega_0", omega, "rad/s"))
+        denominator = 1 + s / w
+        if n[1] == 0:
+            kind, gain, shape = "first-order low-pass", n[0] / d[0], K / denominator
+            text_form, latex_form = "K/(1 + s/ω0)", r"\frac{K}{1 + \frac{s}{\omega_{0}}}"
+        elif n[0] == 0:
+            kind, gain, shape = "first-order high-pass", n[1] / d[1], K * (s / w) / denominator
+            text_form = "K·(s/ω0)/(1 + s/ω0)"
+            latex_form = r"K \frac{s/\omega_{0}}{1 + \frac{s}{\omega_{0}}}"
+        else:
+            zero = sympy.cancel(n[0] / n[1])
+            kind, gain = "first-order lead-lag", n[0] / d[0]
+            shape = K * (1 + s / wz) / denominator
+            text_form = "K·(1 + s/ωz)/(1 + s/ω0)"
+            latex_form = r"K \frac{1 + \frac{s}{\omega_{z}}}{1 + \frac{s}{\omega_{0}}}"
+            params.append(Parameter("omega_z", zero, "rad/s"))
+            params.append(Parameter("z_1", -zero, "rad/s"))
+        gain = sympy.cancel(gain)
+        params.insert(0, Parameter("K", gain, unit))
+        params.insert(2, Parameter("f_0", omega / (2 * sympy.pi), "Hz"))
+        params.append(Parameter("p_1", -omega, "rad/s"))
+        expression = shape.xreplace({K: gain, w: omega, wz: zero})
+        return StandardForm(kind, expression, text_form, latex_form, params, rational=expression)
+    c, b, a = d
+    w_squared = sympy.cancel(c / a)
+    q_w = sympy.cancel(c / b)  # Q·ω0
+    omega = sqrt_of(w_squared)
+    quality = sqrt_of(a * c / b**2)
+    denominator = s**2 / w**2 + s / (Q * w) + 1
+    rational_denominator = s**2 / w_squared + s / q_w + 1
+    tail = r"\frac{s^{2}}{\omega_{0}^{2}} + \frac{s}{Q \omega_{0}} + 1"
+    if n[1] == 0 and n[2] == 0:
+        kind, gain = "second-order low-pass", sympy.cancel(n[0] / c)
+        shape, rational = K / denominator, gain / rational_denominator
+        text_form, latex_form = "K/(s²/ω0² + s/(Q·ω0) + 1)", rf"\frac{{K}}{{{tail}}}"
+    elif n[0] == 0 and n[1] == 0:
+        kind, gain = "second-order high-pass", sympy.cancel(n[2] / a)
+        shape = K * (s**2 / w**2) / denominator
+        rational = gain * (s**2 / w_squared) / rational_denominator
+        text_form = "K·(s²/ω0²)/(s²/ω0² + s/(Q·ω0) + 1)"
+        latex_form = rf"K \frac{{s^{{2}}/\omega_{{0}}^{{2}}}}{{{tail}}}"
+    elif n[0] == 0 and n[2] == 0:
+        kind, gain = "second-order band-pass", sympy.cancel(n[1] / b)
+        shape = K * (s / (Q * w)) / denominator
+        rational = gain * (s / q_w) / rational_denominator
+        text_form = "K·(s/(Q·ω0))/(s²/ω0² + s/(Q·ω0) + 1)"
+        latex_form = rf"K \frac{{s/(Q \omega_{{0}})}}{{{tail}}}"
+    elif n[0] != 0:
+        kind, gain = "second-order", sympy.cancel(n[0] / c)
+        numerator = sum((sympy.cancel(n[k] / n[0]) * s**k for k in range(3)), sympy.Integer(0))
+        shape, rational = K * numerator / denominator, gain * numerator / rational_denominator
+        text_form = f"K·({text(numerator)})/(s²/ω0² + s/(Q·ω0) + 1)"
+        latex_form = rf"K \frac{{{latex(numerator)}}}{{{tail}}}"
+    else:
+        return None
+    params = [
+        Parameter("K", gain, unit),
+        Parameter("omega_0", omega, "rad/s"),
+        Parameter("f_0", omega / (2 * sympy.pi), "Hz"),
+        Parameter("Q", quality, ""),
+        Parameter("zeta", 1 / (2 * quality), ""),
+    ]
+    expression = shape.xreplace({K: gain, w: omega, Q: quality})
+    return StandardForm(
+        kind,
+        expression,
+        text_form,
+        latex_form,
+        params,
+        rational,
+        [(omega**2, w_squared), (quality**2 * omega**2, q_w**2)],
+    )
+
+
+def _factored(n_poly: sympy.Poly, d_poly: sympy.Poly, unit: str) -> StandardForm | None:
+    """K·s^k·Π(numerator factors)/Π(denominator factors), each factor normalised."""
+    top, bottom = _split(n_poly), _split(d_poly)
+    if top is None or bottom is None or not bottom[2]:
+        return None
+    n_content, n_power, n_factors = top
+    d_content, d_power, d_factors = bottom
+    gain = sympy.cancel(
+        n_content * _constant_product(n_factors) / (d_content * _constant_product(d_factors))
+    )
+    power = n_power - d_power
+    params = [Parameter("K", gain, unit)]
+    checks: list[tuple[sympy.Expr, sympy.Expr]] = []
+    rational = gain * s**power
+    expression = gain * s**power
+    pieces_text, pieces_latex = [], []
+    for role, group in (("z", n_factors), ("p", d_factors)):
+        texts, latexes = [], []
+        for i, f in enumerate(group, 1):
+            name = f"{role}{i}" if len(group) > 1 else role
+            if f.order == 1:
+                b, a = f.coefficients
+                omega = sympy.cancel(b / a)
+                params.append(Parameter(f"omega_{name}", omega, "rad/s"))
+                params.append(Parameter(f"{role}_{i}", -omega, "rad/s"))
+                closed = 1 + s / omega
+                texts.append(f"(1 + s/ω{name})")
+                latexes.append(rf"\left(1 + \frac{{s}}{{\omega_{{{name}}}}}\right)")
+            else:
+                c, b, a = f.coefficients
+                if b == 0:
+                    return None
+                w_squared, q_w = sympy.cancel(c / a), sympy.cancel(c / b)
+                omega, quality = sqrt_of(w_squared), sqrt_of(a * c / b**2)
+                params += [
+                    Parameter(f"omega_0{name}", omega, "rad/s"),
+                    Parameter(f"Q_{name}", quality, ""),
+                ]
+                checks += [(omega**2, w_squared), (quality**2 * omega**2, q_w**2)]
+                closed = s**2 / omega**2 + s / (quality * omega) + 1
+                texts.append(f"(s²/ω0{name}² + s/(Q{name}·ω0{name}) + 1)")
+                latexes.append(
+                    rf"\left(\frac{{s^{{2}}}}{{\omega_{{0{name}}}^{{2}}}} + "
+                    rf"\frac{{s}}{{Q_{{{name}}} \omega_{{0{name}}}}} + 1\right)"
+                )
+            if role == "z":
+                rational, expression = rational * f.normalised(), expression * closed
+            else:
+                rational, expression = rational / f.normalised(), expression / closed
+        pieces_text.append("·".join(texts))
+        pieces_latex.append(" ".join(latexes))
+    s_text = {0: "", 1: "·s", -1: "/s"}.get(power, f"·s^{power}")
+    numerator = "K" + s_text + ("·" + pieces_text[0] if pieces_text[0] else "")
+    text_form = (
+        f"{numerator}/({pieces_text[1]})" if len(d_factors) > 1 else f"{numerator}/{pieces_text[1]}"
+    )
+    s_latex = "" if power == 0 else (f"s^{{{power}}}" if power != 1 else "s")
+    latex_form = rf"K {s_latex} \frac{{{pieces_latex[0] or '1'}}}{{{pieces_latex[1]}}}"
+    kind = f"factored, order {d_poly.degree()}"
+    return StandardForm(kind, expression, text_form, latex_form, params, rational, checks)
+
+
+def _constant_product(factors: list[_Factor]) -> sympy.Expr:
+    out = sympy.Integer(1)
+    for f in factors:
+        out *= f.coefficients[0]
+    return out

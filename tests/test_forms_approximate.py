@@ -1,0 +1,95 @@
+"""Limits and `>>` approximations: the leading term, the neglected first-order term and
+the relative error, against a published expression and an independent sympy.series."""
+
+from __future__ import annotations
+
+import sympy
+from forms_support import annotated, reference_voltage
+
+import symcirc
+from symcirc.forms import approximate, steps_text
+from symcirc.model.circuit import Assumption
+
+A, Rf, Rg, U, R1, R2, RL = sympy.symbols("A Rf Rg U R1 R2 RL")
+
+# Input stage of a data-logger channel: inverting amplifier, opamp of finite gain A
+INVERTING = """
+param A "open-loop gain"
+voltage source Uin (in, gnd)
+resistor Rg (in, n)
+resistor Rf (n, o)
+opamp U1 (gnd, n, o) = A
+port out (o, gnd)
+"""
+
+
+def read(detail: dict) -> sympy.Expr:
+    names = {"A": A, "Rf": Rf, "Rg": Rg, "U": U, "R1": R1, "R2": R2, "RL": RL}
+    return sympy.parse_expr(detail["expression"], local_dict=names)
+
+
+def test_inverting_amplifier_with_finite_gain():
+    circuit = symcirc.parse(INVERTING)
+    finite = sympy.cancel(reference_voltage(circuit, "o", "gnd") / sympy.Symbol("Uin"))
+    limit = sympy.limit(finite, A, sympy.oo)
+    assert limit == -Rf / Rg
+    _, (h,) = annotated(
+        INVERTING, "gain(Uin, out)", {None: limit}, (Assumption("limit", "A", "oo"),)
+    )
+    kinds = [s.kind for s in h.steps]
+    assert kinds == ["nodal", "solve", "ratio", "limit", "error"]
+    assert h.form.expression == -Rf / Rg
+    # Sedra & Smith, "Microelectronic Circuits", inverting configuration with finite
+    # open-loop gain, from memory: G = −(R2/R1)/(1 + (1 + R2/R1)/A)
+    # ≈ −(R2/R1)·(1 − (1 + R2/R1)/A); here R2 = Rf, R1 = Rg
+    published = -(Rf / Rg) / (1 + (1 + Rf / Rg) / A)
+    assert sympy.cancel(published - finite) == 0
+    first_order = (Rf / Rg) * (1 + Rf / Rg) / A
+    assert sympy.cancel(read(h.details["neglected"]) - first_order) == 0
+    # the relative gain error, (1 + Rf/Rg)/A to first order, is exact here
+    assert sympy.cancel(read(h.details["relative_error"]) - (1 + Rf / Rg) / A) == 0
+    # the finite-gain form is shown as written in the text
+    assert "−(Rf/Rg)·1/(1 + (1 + Rf/Rg)/A)" in h.steps[3].data["text"]
+
+
+# Divider feeding a logger input of resistance RL (invented scenario)
+LOADED_DIVIDER = """
+voltage source U (in, gnd)
+resistor R1 (in, o)
+resistor R2 (o, gnd)
+resistor RL (o, gnd)
+port out (o, gnd)
+"""
+
+
+def test_loaded_divider_where_load_is_much_greater():
+    circuit = symcirc.parse(LOADED_DIVIDER)
+    exact = reference_voltage(circuit, "o", "gnd")
+    _, (v,) = annotated(LOADED_DIVIDER, "V(out)", {None: exact})
+    approximated = approximate(circuit, v, Assumption("much_greater", "RL", "R2"))
+    # independent: sympy.series in ε = R2/RL
+    eps = sympy.Symbol("eps", positive=True)
+    series = sympy.series(exact.subs(RL, R2 / eps), eps, 0, 2).removeO()
+    leading = series.subs(eps, 0)
+    first = sympy.expand(series - leading).subs(eps, R2 / RL)
+    assert sympy.cancel(approximated.expression - leading) == 0
+    assert sympy.cancel(read(approximated.details["neglected"]) - first) == 0
+    relative = read(approximated.details["relative_error"])
+    assert sympy.cancel(relative - (leading - exact) / exact) == 0
+    # the error is R1∥R2 over RL: the loading rule of thumb (common practice)
+    assert sympy.cancel(relative - (R1 * R2 / (R1 + R2)) / RL) == 0
+    kinds = [s.kind for s in approximated.steps]
+    assert kinds == ["parallel", "divider", "approximate", "error"]
+    assert approximated.form.expression == U * R2 / (R1 + R2)
+    assert "neglected" in steps_text(approximated)
+
+
+def test_much_less_is_the_same_assumption_read_the_other_way():
+    circuit = symcirc.parse(LOADED_DIVIDER)
+    exact = reference_voltage(circuit, "o", "gnd")
+    _, (v,) = annotated(LOADED_DIVIDER, "V(out)", {None: exact})
+    # `R1 << R2` is stored with the big one first
+    approximated = approximate(circuit, v, Assumption("much_greater", "R2", "R1"))
+    eps = sympy.Symbol("eps", positive=True)
+    series = sympy.series(exact.subs(R2, R1 / eps), eps, 0, 2).removeO()
+    assert sympy.cancel(approximated.expression - series.subs(eps, 0)) == 0
