@@ -1,0 +1,264 @@
+"""Figures of the analyses (matplotlib, Agg, no pyplot): frequency response, Monte Carlo
+histogram, sensitivity bars, loading error against load. PNG or SVG, byte-identical on
+every run (fixed SVG hash salt, no date), text kept as text in SVG.
+"""
+
+from __future__ import annotations
+
+import cmath
+import io
+import math
+import os
+from collections.abc import Sequence
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+if TYPE_CHECKING:  # pragma: no cover
+    from ..model.circuit import Circuit
+    from .sensitivity import SensitivityTable
+    from .tolerance import ToleranceAnalysis
+
+FORMATS = (".png", ".svg")
+_STYLE = {
+    "svg.hashsalt": "symcirc",
+    "svg.fonttype": "none",
+    "font.size": 9,
+    "axes.grid": True,
+    "grid.alpha": 0.35,
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+}
+
+
+def _figure(rows: int = 1):
+    from matplotlib.figure import Figure
+
+    figure = Figure(figsize=(6.4, 4.0 if rows == 1 else 5.2), dpi=150, layout="constrained")
+    axes = figure.subplots(rows, 1, sharex=True) if rows > 1 else figure.subplots()
+    return figure, axes
+
+
+def _eng_axis(axis, unit: str) -> None:
+    from matplotlib.ticker import EngFormatter
+
+    axis.set_major_formatter(EngFormatter(unit=unit, sep=" "))
+
+
+def _axis_label(name: str, unit: str) -> str:
+    return f"{name} ({unit})" if unit else name
+
+
+def save(figure, path: str | os.PathLike) -> None:
+    """Write `figure` as PNG or SVG (by extension), atomically, deterministically."""
+    from matplotlib import rc_context
+
+    path = Path(path)
+    if path.suffix.lower() not in FORMATS:
+        raise ValueError(f"plots are written as .png or .svg, not {path.suffix or 'no extension'}")
+    fmt = path.suffix.lower()[1:]
+    metadata = {"Date": None} if fmt == "svg" else {"Software": None}
+    buffer = io.BytesIO()
+    with rc_context(_STYLE):
+        figure.savefig(buffer, format=fmt, metadata=metadata)
+    temporary = path.with_name(f".{path.name}.partial")
+    try:
+        temporary.write_bytes(buffer.getvalue())
+        os.replace(temporary, path)
+    finally:
+        temporary.unlink(missing_ok=True)
+
+
+def _styled(build):
+    """Build a figure under the plot style (fonts and grid are read when artists are made)."""
+    from matplotlib import rc_context
+
+    def wrapper(*args: Any, **kwargs: Any):
+        with rc_context(_STYLE):
+            return build(*args, **kwargs)
+
+    wrapper.__doc__ = build.__doc__
+    wrapper.__name__ = build.__name__
+    return wrapper
+
+
+# ---------------------------------------------------------------- figures from data
+
+
+@_styled
+def frequency_response_figure(
+    frequencies: Sequence[float], response: Sequence[complex], label: str, unit: str = ""
+):
+    """Magnitude (dB) and phase (°) against frequency on a log axis."""
+    import numpy as np
+
+    f = np.asarray(frequencies, dtype=float)
+    h = np.asarray(response, dtype=complex)
+    figure, (top, bottom) = _figure(rows=2)
+    with np.errstate(divide="ignore"):
+        top.semilogx(f, 20 * np.log10(np.abs(h)), color="C0")
+    bottom.semilogx(f, np.degrees(np.unwrap(np.angle(h))), color="C1")
+    top.set_ylabel("Magnitude (dB" + (f" re 1 {unit})" if unit else ")"))
+    bottom.set_ylabel("Phase (°)")
+    bottom.set_xlabel("Frequency (Hz)")
+    _eng_axis(bottom.xaxis, "Hz")
+    top.set_title(label)
+    return figure
+
+
+@_styled
+def histogram_figure(analysis: ToleranceAnalysis, label: str, unit: str = ""):
+    """Monte Carlo histogram with nominal, linearised worst case and true extremes marked."""
+    figure, axes = _figure()
+    mc = analysis.monte_carlo
+    axes.hist(mc.values, bins=100, color="C0", alpha=0.75, label=f"Monte Carlo ({mc.samples:,})")
+    marks = [
+        (analysis.nominal, "nominal", "k", "-"),
+        (analysis.linear_low, "linearised worst case", "C3", "--"),
+        (analysis.linear_high, None, "C3", "--"),
+        (analysis.extremes.low, "extremes over the box", "C2", ":"),
+        (analysis.extremes.high, None, "C2", ":"),
+    ]
+    for value, name, color, style in marks:
+        axes.axvline(float(value), color=color, linestyle=style, linewidth=1.2, label=name)
+    axes.set_xlabel(_axis_label(label, unit))
+    axes.set_ylabel("Samples")
+    _eng_axis(axes.xaxis, unit)
+    axes.set_title(f"Spread of {label} ({mc.distribution} tolerances)")
+    axes.legend(loc="upper right", fontsize=7)
+    return figure
+
+
+@_styled
+def sensitivity_figure(table: SensitivityTable, label: str):
+    """Horizontal bars of the relative sensitivities, largest at the top."""
+    rows = [r for r in table.rows if r.relative_value is not None]
+    figure, axes = _figure()
+    names = [str(r.symbol) for r in rows][::-1]
+    values = [float(r.relative_value) for r in rows][::-1]
+    axes.barh(names, values, color=["C0" if v >= 0 else "C3" for v in values])
+    axes.axvline(0, color="k", linewidth=0.8)
+    reference = "Q" if table.reference is None else str(table.reference)
+    axes.set_xlabel(f"Relative sensitivity (x/{reference})·∂Q/∂x")
+    axes.set_ylabel("Symbol x")
+    axes.set_title(f"Sensitivities of Q = {label}")
+    return figure
+
+
+@_styled
+def loading_figure(
+    source_impedance: complex,
+    label: str,
+    load: float | None = None,
+    bound: float | None = None,
+    smallest: float | None = None,
+):
+    """|Loading error| against a resistive load, log–log, with the chosen load, the error
+    bound and the smallest load meeting it marked."""
+    import numpy as np
+
+    scale = abs(source_impedance) or 1.0
+    loads = np.logspace(math.log10(scale) - 1, math.log10(scale) + 6, 400)
+    error = np.abs(source_impedance / (source_impedance + loads))
+    figure, axes = _figure()
+    axes.loglog(loads, 100 * error, color="C0")
+    if load is not None:
+        at = abs(source_impedance / (source_impedance + load))
+        axes.plot([load], [100 * at], "o", color="C3", label=f"load: {100 * at:.3g} %")
+    if bound is not None:
+        axes.axhline(100 * bound, color="C2", linestyle="--", label=f"bound {100 * bound:.3g} %")
+    if smallest is not None:
+        from .engineering import eng
+
+        axes.axvline(smallest, color="C2", linestyle=":",
+                     label=f"smallest load {eng(smallest, 'Ω')}")
+    axes.set_xlabel("Load resistance R_L (Ω)")
+    axes.set_ylabel("Loading error |ΔU/U| (%)")
+    _eng_axis(axes.xaxis, "Ω")
+    axes.set_title(f"Loading of {label}")
+    if load is not None or bound is not None:
+        axes.legend(loc="upper right", fontsize=7)
+    return figure
+
+
+# ---------------------------------------------------------------- from a circuit
+
+
+def plot(
+    circuit: Circuit, quantity_text: str, path: str | os.PathLike, seed: int | None = None
+) -> None:
+    """Plot a quantity of `circuit` to `path` (.png or .svg).
+
+    `tolerance(Q)`: Monte Carlo histogram with the worst-case bounds; `sensitivities(Q)`:
+    bars; `loading(port, Z)` and `minimum_load(port, error)`: loading error against load;
+    a transfer function (a quantity in s): magnitude and phase against frequency.
+    """
+    from ..quantities import QUANTITY_ORIGIN, parse
+    from ..quantities.registry import DeriveOptions
+    from . import quantities as q
+
+    if Path(path).suffix.lower() not in FORMATS:
+        raise ValueError(f"plots are written as .png or .svg, not {Path(path).suffix or '-'}")
+    quantity = parse(quantity_text)
+    options = DeriveOptions(seed=seed, origin=(QUANTITY_ORIGIN, quantity_text))
+    if quantity.name == "tolerance":
+        result, analysis = q.tolerance_analyses(circuit, quantity, options)[0]
+        figure = histogram_figure(analysis, result.quantity, result.unit)
+    elif quantity.name == "sensitivities":
+        result, table = q.sensitivity_tables(circuit, quantity, options)[0]
+        if not any(row.relative_value is not None for row in table.rows):
+            raise q.Reader(circuit, options).error(
+                quantity, f"no sensitivity of {result.quantity} has a value to plot (a symbol "
+                          "without a nominal value, or s)")
+        figure = sensitivity_figure(table, result.quantity)
+    elif quantity.name in ("loading", "minimum_load"):
+        case = q.loading_case(circuit, quantity, options)
+        if not cmath.isfinite(case.source_impedance_value):
+            raise q.Reader(circuit, options).error(
+                quantity, f"the source impedance at {case.port} has no value here; a reactive "
+                          "source needs a frequency, e.g. loading(out, 10 kΩ, 1 kHz)")
+        smallest = None
+        if case.bound is not None:
+            from .loading import minimum_load
+
+            smallest = minimum_load(case.thevenin_impedance.expression, case.bound,
+                                    case.nominals, case.frequency).resistance_value
+        figure = loading_figure(case.source_impedance_value, case.port, case.load_value,
+                                None if case.bound is None else float(case.bound), smallest)
+    else:
+        read = q.Reader(circuit, options)
+        result = read.single(quantity)
+        try:
+            frequencies, response = frequency_response(result.expression, circuit.symbol_nominals())
+        except ValueError as problem:
+            raise read.error(quantity, str(problem)) from None
+        figure = frequency_response_figure(frequencies, response, result.quantity, result.unit)
+    save(figure, path)
+
+
+def frequency_response(expression, nominals):
+    """H(j·2π·f) at the nominal values over a range set by the poles and zeros (±2 decades)."""
+    import numpy as np
+    import sympy
+
+    from ..model.circuit import LAPLACE
+    from .values import rational
+
+    if LAPLACE not in expression.free_symbols:
+        raise ValueError("nothing to plot against frequency: the quantity does not depend on s; "
+                    "plot a transfer function, tolerance(..), sensitivities(..) or loading(..)")
+    missing = sorted(str(x) for x in expression.free_symbols - set(nominals) - {LAPLACE})
+    if missing:
+        raise ValueError(f"no value for {', '.join(missing)}: a frequency response needs numbers")
+    h = sympy.cancel(expression.xreplace({x: rational(v) for x, v in nominals.items()}))
+    numerator, denominator = (sympy.Poly(p, LAPLACE) for p in sympy.fraction(h))
+    corners = [abs(complex(r)) / (2 * math.pi)
+               for p in (numerator, denominator) if p.degree() > 0
+               for r in p.nroots(n=15)]
+    corners = [c for c in corners if c > 0]
+    low = 10 ** (math.floor(math.log10(min(corners))) - 2) if corners else 1.0
+    high = 10 ** (math.ceil(math.log10(max(corners))) + 2) if corners else 1e6
+    frequencies = np.logspace(math.log10(low), math.log10(high), 600)
+    s = 2j * math.pi * frequencies
+    response = np.polyval([complex(c) for c in numerator.all_coeffs()], s) / np.polyval(
+        [complex(c) for c in denominator.all_coeffs()], s)
+    return frequencies, response

@@ -1,0 +1,391 @@
+"""Tolerance analysis of a closed form: linearised worst case, root-sum-square spread, true
+extremes over the tolerance box (all corners, or a bounded search), and Monte Carlo.
+
+Every independent toleranced symbol is counted once: defined symbols (`Rt = R0*(1 + alpha*T)`)
+are replaced by their definitions first, so a tolerance on `R0` reaches `Q` through `Rt`.
+A defined symbol with a tolerance of its own gets an extra factor (relative tolerance) or
+term (absolute tolerance) for it.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from fractions import Fraction
+from typing import Any, Literal
+
+import sympy
+
+from ..model.circuit import LAPLACE, Tolerance
+from .evaluate import closed_form
+from .values import exact_value, expand_definitions
+
+MAX_CORNER_SYMBOLS = 16
+"""Up to this many toleranced symbols, every corner of the tolerance box is evaluated."""
+DEFAULT_SAMPLES = 100_000
+DEFAULT_SEED = 1
+"""Monte Carlo seed when none is given, so that notes come out the same on every run."""
+INTERIOR_CHECKS = 4096
+"""Random interior points (and, above 16 symbols, random corners) of the monotonicity check."""
+SEARCH_GRID = 65
+"""Points per symbol in one sweep of the bounded coordinate search."""
+
+Distribution = Literal["uniform", "normal"]
+
+DISTRIBUTION_TEXT = {
+    "uniform": "each toleranced value uniformly distributed over its tolerance band",
+    "normal": "each toleranced value normally distributed about its nominal value with the "
+              "tolerance taken as 3σ (an asymmetric tolerance: 3σ on each side)",
+}
+
+
+class ToleranceInputError(ValueError):
+    """The expression cannot be analysed (a symbol without a value, or `s`)."""
+
+
+@dataclass(frozen=True)
+class Variable:
+    """One independent toleranced value: its symbol, a label for tables, nominal and band."""
+
+    symbol: sympy.Symbol
+    label: str
+    nominal: Fraction
+    low: Fraction
+    high: Fraction
+    tolerance: Tolerance
+
+
+@dataclass(frozen=True)
+class Contribution:
+    """How far one variable moves Q at the linear order: ∂Q/∂x at nominal times its band."""
+
+    variable: Variable
+    derivative: Fraction
+    down: Fraction
+    """Change of Q when x goes from nominal to the end of its band that lowers Q (≤ 0)."""
+    up: Fraction
+    """Change of Q when x goes to the end that raises Q (≥ 0)."""
+
+
+@dataclass(frozen=True)
+class Extremes:
+    """The lowest and highest Q over the tolerance box and where they occur."""
+
+    low: Fraction
+    high: Fraction
+    low_at: dict[str, Fraction]
+    high_at: dict[str, Fraction]
+    method: str
+    monotonic: bool
+    """True when every partial derivative kept its sign at every point checked."""
+    non_monotonic: tuple[str, ...] = ()
+    """Labels of the variables whose partial derivative changed sign."""
+
+
+@dataclass(frozen=True)
+class MonteCarlo:
+    distribution: Distribution
+    samples: int
+    seed: int
+    mean: float
+    std: float
+    quantile_low: float
+    """0.1 % quantile."""
+    quantile_high: float
+    """99.9 % quantile."""
+    minimum: float
+    maximum: float
+    values: Any = field(repr=False, compare=False)
+    """The sampled values of Q (numpy array), for histograms."""
+
+
+@dataclass(frozen=True)
+class ToleranceAnalysis:
+    expression: sympy.Expr
+    """Q in the independent symbols (definitions expanded; untoleranced ones not set)."""
+    nominal: Fraction
+    variables: tuple[Variable, ...]
+    contributions: tuple[Contribution, ...]
+    """Largest first."""
+    linear_low: Fraction
+    linear_high: Fraction
+    rss: float
+    """Root-sum-square of each variable's half-band times |∂Q/∂x|."""
+    extremes: Extremes
+    monte_carlo: MonteCarlo
+    warnings: tuple[str, ...] = ()
+
+
+def independent(
+    expression: sympy.Expr,
+    nominals: Mapping[sympy.Symbol, Fraction],
+    tolerances: Mapping[sympy.Symbol, Tolerance],
+    definitions: Mapping[sympy.Symbol, sympy.Expr],
+) -> tuple[sympy.Expr, list[Variable], dict[sympy.Symbol, Fraction]]:
+    """Q with definitions expanded, its toleranced variables, and the values of the others."""
+    own: dict[sympy.Symbol, sympy.Expr] = {}
+    variables: list[Variable] = []
+    for x, tol in tolerances.items():
+        if x in definitions and (tol.plus or tol.minus):
+            k = sympy.Dummy(f"{x.name}_own")
+            base = Fraction(1) if tol.relative else Fraction(0)
+            own[x] = definitions[x] * k if tol.relative else definitions[x] + k
+            low, high = base - tol.minus, base + tol.plus
+            variables.append(Variable(k, f"{x.name} (own tolerance)", base, low, high, tol))
+    expanded = expand_definitions(expression, {**definitions, **own})
+    used = expanded.free_symbols
+    if LAPLACE in used:
+        raise ToleranceInputError("the quantity depends on s (a transfer function)")
+    for x, tol in tolerances.items():
+        if x in definitions or x not in used or not (tol.plus or tol.minus):
+            continue
+        if x not in nominals:
+            raise ToleranceInputError(f"{x} has a tolerance but no nominal value")
+        low, high = tol.bounds(nominals[x])
+        variables.append(Variable(x, x.name, nominals[x], low, high, tol))
+    variables = [v for v in variables if v.symbol in used]
+    toleranced = {v.symbol for v in variables}
+    missing = sorted(str(x) for x in used - toleranced - set(nominals))
+    if missing:
+        raise ToleranceInputError("no value for " + ", ".join(missing))
+    variables.sort(key=lambda v: v.label)
+    fixed = {x: nominals[x] for x in sorted(used - toleranced, key=str)}
+    return expanded, variables, fixed
+
+
+def analyse(
+    expression: sympy.Expr,
+    nominals: Mapping[sympy.Symbol, Fraction],
+    tolerances: Mapping[sympy.Symbol, Tolerance],
+    definitions: Mapping[sympy.Symbol, sympy.Expr] | None = None,
+    distribution: Distribution = "uniform",
+    samples: int = DEFAULT_SAMPLES,
+    seed: int | None = None,
+) -> ToleranceAnalysis:
+    """The tolerance analysis of `expression` (see the module docstring for the methods)."""
+    import numpy as np
+
+    seed = DEFAULT_SEED if seed is None else seed
+    q, variables, fixed = independent(expression, nominals, tolerances, dict(definitions or {}))
+    if distribution not in DISTRIBUTION_TEXT:
+        raise ToleranceInputError(f"unknown distribution {distribution!r}: uniform or normal")
+    at_nominal = {v.symbol: v.nominal for v in variables}
+    if not variables:
+        return _fixed(q, fixed, distribution, samples, seed)
+    form = closed_form(q, [v.symbol for v in variables], fixed)
+    nominal = form.exact(at_nominal)
+    if nominal is None:
+        raise ToleranceInputError("the quantity has no finite value at the nominal point")
+
+    contributions = []
+    gradient = form.exact_gradient(at_nominal)
+    for v, slope in zip(variables, gradient, strict=True):
+        ends = (slope * (v.low - v.nominal), slope * (v.high - v.nominal))
+        contributions.append(Contribution(v, slope, min(ends), max(ends)))
+    linear_low = nominal + sum((c.down for c in contributions), Fraction(0))
+    linear_high = nominal + sum((c.up for c in contributions), Fraction(0))
+    rss = math.sqrt(sum(float(c.derivative * (c.variable.high - c.variable.low) / 2) ** 2
+                        for c in contributions))
+    slopes = [c.derivative for c in contributions]
+    contributions.sort(key=lambda c: (-(c.up - c.down), c.variable.label))
+
+    extremes = _extremes(form, variables, slopes, np.random.default_rng(seed))
+    sampled, warnings = monte_carlo(form, variables, distribution, samples, seed)
+    return ToleranceAnalysis(
+        expression=q, nominal=nominal, variables=tuple(variables),
+        contributions=tuple(contributions), linear_low=linear_low, linear_high=linear_high,
+        rss=rss, extremes=extremes, monte_carlo=sampled, warnings=tuple(warnings),
+    )
+
+
+def _fixed(q: sympy.Expr, fixed: dict[sympy.Symbol, Fraction], distribution: Distribution,
+           samples: int, seed: int):
+    """The analysis of a quantity no tolerance reaches: every figure is the nominal value."""
+    import numpy as np
+
+    nominal = exact_value(q, fixed)
+    if nominal is None:
+        raise ToleranceInputError("the quantity has no finite value at the nominal point")
+    x = float(nominal)
+    method = "no toleranced symbol: Q is fixed"
+    return ToleranceAnalysis(
+        expression=q, nominal=nominal, variables=(), contributions=(), linear_low=nominal,
+        linear_high=nominal, rss=0.0,
+        extremes=Extremes(nominal, nominal, {}, {}, method, True),
+        monte_carlo=MonteCarlo(distribution, samples, seed, x, 0.0, x, x, x, x,
+                               np.full(samples, x)),
+    )
+
+
+def _random_corners(variables: list[Variable], rng, count: int):
+    import numpy as np
+
+    bits = rng.integers(0, 2, size=(count, len(variables)))
+    return [np.where(bits[:, j] == 1, float(v.high), float(v.low))
+            for j, v in enumerate(variables)]
+
+
+def _interior(variables: list[Variable], rng, count: int):
+    return [rng.uniform(float(v.low), float(v.high), count) for v in variables]
+
+
+def _corner(variables: list[Variable], index: int) -> dict[sympy.Symbol, Fraction]:
+    """Corner number `index`: variable j at its high end when bit j is set."""
+    return {v.symbol: v.high if index >> j & 1 else v.low for j, v in enumerate(variables)}
+
+
+def _extremes(form, variables: list[Variable], slopes: list[Fraction], rng) -> Extremes:
+    """Corner extremes with a monotonicity check; a bounded search where it fails."""
+    import numpy as np
+
+    n = len(variables)
+    lows = [float(v.low) for v in variables]
+    highs = [float(v.high) for v in variables]
+    enumerate_all = n <= MAX_CORNER_SYMBOLS
+    inside = _interior(variables, rng, INTERIOR_CHECKS)
+    if enumerate_all:
+        values = form.corners(lows, highs)
+        at_corners = form.corner_partials(lows, highs)
+    else:
+        corners = _random_corners(variables, rng, INTERIOR_CHECKS)
+        at_corners = form.partials(corners, INTERIOR_CHECKS)
+    partials = np.vstack([at_corners, form.partials(inside, INTERIOR_CHECKS)])
+    rising = (partials > 0).any(axis=0)
+    falling = (partials < 0).any(axis=0)
+    bad = tuple(v.label for v, up, down in zip(variables, rising, falling, strict=True)
+                if up and down)
+    corners_checked = f"all {2**n:,} corners" if enumerate_all else \
+        f"{INTERIOR_CHECKS:,} random corners"
+    where_checked = (f"the sign of each partial derivative was checked at {corners_checked} "
+                     f"and {INTERIOR_CHECKS:,} random interior points of the tolerance box")
+
+    def exact_at(point: dict[sympy.Symbol, Fraction]) -> Fraction:
+        value = form.exact(point)
+        if value is None:
+            raise ToleranceInputError("the quantity has a pole inside the tolerance box")
+        return value
+
+    if enumerate_all:
+        if not np.isfinite(values).all():
+            raise ToleranceInputError("the quantity has a pole at a corner of the tolerance box")
+        low_at = min((_corner(variables, i) for i in _near(values, lowest=True)), key=exact_at)
+        high_at = max((_corner(variables, i) for i in _near(values, lowest=False)), key=exact_at)
+        method = f"exact closed form evaluated at all {2**n:,} corners of the tolerance box"
+    else:
+        low_at = {v.symbol: (v.low if s >= 0 else v.high) for v, s in zip(variables, slopes,
+                                                                            strict=True)}
+        high_at = {v.symbol: (v.high if s >= 0 else v.low) for v, s in zip(variables, slopes,
+                                                                             strict=True)}
+        method = (f"{n} toleranced symbols (more than {MAX_CORNER_SYMBOLS}): the extreme corners "
+                  "were chosen by the sign of each partial derivative at the nominal point")
+    low, high = exact_at(low_at), exact_at(high_at)
+
+    if bad:
+        searched_low = _coordinate_search(form, variables, low_at, maximise=False)
+        searched_high = _coordinate_search(form, variables, high_at, maximise=True)
+        if exact_at(searched_low) < low:
+            low_at, low = searched_low, exact_at(searched_low)
+        if exact_at(searched_high) > high:
+            high_at, high = searched_high, exact_at(searched_high)
+        method += (
+            f"; Q is not monotonic in {', '.join(bad)} over the box ({where_checked}), so the "
+            f"extremes were then refined by a bounded coordinate search (sweeps of "
+            f"{SEARCH_GRID} points per symbol across its band, repeated until no sweep improves, "
+            "then the best interval narrowed tenfold per round); "
+            "a search can miss a narrow interior extremum"
+        )
+    else:
+        method += f"; Q is monotonic in every toleranced symbol over the box ({where_checked}), " \
+                  "so the corner extremes are the extremes"
+    names = {v.symbol: v.label for v in variables}
+    return Extremes(
+        low=low, high=high,
+        low_at={names[x]: value for x, value in low_at.items()},
+        high_at={names[x]: value for x, value in high_at.items()},
+        method=method, monotonic=not bad, non_monotonic=bad,
+    )
+
+
+def _near(values, lowest: bool) -> list[int]:
+    """Corners whose float value ties the best within rounding: decided exactly afterwards."""
+    import numpy as np
+
+    best = values[np.argmin(values) if lowest else np.argmax(values)]
+    scale = max(abs(float(best)), 1e-300)
+    return [int(i) for i in np.flatnonzero(np.abs(values - best) <= 1e-12 * scale)[:8]]
+
+
+def _coordinate_search(form, variables, start, maximise: bool) -> dict:
+    """Bounded coordinate search from `start`: sweep each symbol across its band, keep the
+    best point, repeat until nothing improves; then narrow the sweeps around the best point."""
+    import numpy as np
+
+    sign = 1.0 if maximise else -1.0
+    point = np.array([float(start[v.symbol]) for v in variables])
+    lows = np.array([float(v.low) for v in variables])
+    highs = np.array([float(v.high) for v in variables])
+    width = highs - lows
+
+    def score(columns, size):
+        values = sign * form.values(columns, size)
+        return np.where(np.isfinite(values), values, -np.inf)
+
+    best = float(score([np.array([p]) for p in point], 1)[0])
+    span = width.copy()
+    for _ in range(60):
+        improved = False
+        for k in range(len(variables)):
+            grid = np.clip(np.linspace(point[k] - span[k] / 2, point[k] + span[k] / 2, SEARCH_GRID)
+                           if span[k] < width[k] else np.linspace(lows[k], highs[k], SEARCH_GRID),
+                           lows[k], highs[k])
+            columns = [grid if i == k else np.full(SEARCH_GRID, point[i])
+                       for i in range(len(variables))]
+            values = score(columns, SEARCH_GRID)
+            j = int(np.argmax(values))
+            if values[j] > best + 1e-15 * max(abs(best), 1e-300):
+                best, point[k], improved = float(values[j]), grid[j], True
+        if not improved:
+            if np.all(span < width * 1e-9):
+                break
+            span = span / 10
+    return {v.symbol: _snap(float(p), v) for v, p in zip(variables, point, strict=True)}
+
+
+def _snap(value: float, variable: Variable) -> Fraction:
+    """A float coordinate as an exact one inside the band (the ends exactly)."""
+    if value <= float(variable.low):
+        return variable.low
+    if value >= float(variable.high):
+        return variable.high
+    return Fraction(value)
+
+
+def monte_carlo(form, variables, distribution, samples, seed) -> tuple[MonteCarlo, list[str]]:
+    """Samples of Q with every variable drawn independently (see DISTRIBUTION_TEXT)."""
+    import numpy as np
+
+    rng = np.random.default_rng(seed)
+    columns = []
+    for v in variables:
+        low, nominal, high = float(v.low), float(v.nominal), float(v.high)
+        if distribution == "uniform":
+            columns.append(rng.uniform(low, high, samples))
+        else:
+            z = rng.standard_normal(samples)
+            spread = np.where(z >= 0, z * (high - nominal), z * (nominal - low)) / 3
+            columns.append(nominal + spread)
+    values = form.values(columns, samples)
+    warnings = []
+    finite = np.isfinite(values)
+    if not finite.all():
+        warnings.append(f"{int((~finite).sum())} of {samples:,} Monte Carlo samples gave no finite "
+                        "value (a pole inside the tolerance box); they are left out")
+        values = values[finite]
+    low_q, high_q = np.quantile(values, [0.001, 0.999])
+    return MonteCarlo(
+        distribution=distribution, samples=samples, seed=seed,
+        mean=float(values.mean()), std=float(values.std(ddof=1)),
+        quantile_low=float(low_q), quantile_high=float(high_q),
+        minimum=float(values.min()), maximum=float(values.max()), values=values,
+    ), warnings

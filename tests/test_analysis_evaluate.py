@@ -1,0 +1,78 @@
+"""The fast evaluator of closed forms against plain sympy differentiation and numpy
+evaluation of the same expression (lambdify), and against exact sympy substitution."""
+
+import itertools
+from fractions import Fraction
+
+import numpy as np
+import pytest
+import sympy
+
+from symcirc.analysis.evaluate import LambdifiedForm, RationalForm, closed_form
+
+x, y, z, w, u = sympy.symbols("x y z w u")
+# not multilinear, a constant term, a negative coefficient, five variables (odd split)
+EXPRESSION = (x**2 * y - 3 * z * w + sympy.Rational(1, 7) + u**3 * x) / (1 + x * y * z + w**2 + u)
+SYMBOLS = [x, y, z, w, u]
+LOWS = [0.5, -1.0, 2.0, 0.0, 0.1]
+HIGHS = [1.5, 2.0, 3.0, 0.25, 0.3]
+
+
+def _reference(expression):
+    function = sympy.lambdify(SYMBOLS, expression, modules="numpy")
+    gradient = [sympy.lambdify(SYMBOLS, sympy.diff(expression, s), modules="numpy")
+                for s in SYMBOLS]
+    return function, gradient
+
+
+def _columns(count: int, seed: int = 3):
+    rng = np.random.default_rng(seed)
+    return [rng.uniform(lo, hi, count) for lo, hi in zip(LOWS, HIGHS, strict=True)]
+
+
+def test_values_and_partials_match_lambdify():
+    form = RationalForm(EXPRESSION, SYMBOLS)
+    function, gradient = _reference(EXPRESSION)
+    columns = _columns(20_000)  # more than one chunk
+    assert np.allclose(form.values(columns, 20_000), function(*columns), rtol=1e-12)
+    expected = np.column_stack([g(*columns) for g in gradient])
+    assert np.allclose(form.partials(columns, 20_000), expected, rtol=1e-10, atol=1e-12)
+
+
+def test_corners_in_index_order_including_a_zero_coordinate():
+    form = RationalForm(EXPRESSION, SYMBOLS)
+    function, gradient = _reference(EXPRESSION)
+    corners = list(itertools.product(*zip(LOWS, HIGHS, strict=True)))
+    # corner i has variable j high when bit j of i is set
+    index = [sum(1 << j for j in range(5) if corner[j] == HIGHS[j]) for corner in corners]
+    values = form.corners(LOWS, HIGHS)
+    partials = form.corner_partials(LOWS, HIGHS)  # w = 0 at the low corners
+    for corner, i in zip(corners, index, strict=True):
+        assert values[i] == pytest.approx(function(*corner), rel=1e-12)
+        for k, g in enumerate(gradient):
+            assert partials[i, k] == pytest.approx(g(*corner), rel=1e-10, abs=1e-12)
+
+
+def test_exact_values_and_gradient_match_sympy_substitution():
+    form = RationalForm(EXPRESSION, SYMBOLS)
+    point = dict(zip(SYMBOLS, [Fraction(3, 2), Fraction(-1, 3), Fraction(2), Fraction(0),
+                               Fraction(1, 5)], strict=True))
+    subs = {s: sympy.Rational(v.numerator, v.denominator) for s, v in point.items()}
+    assert form.exact(point) == EXPRESSION.subs(subs)
+    for k, s in enumerate(SYMBOLS):
+        assert form.exact_gradient(point)[k] == sympy.diff(EXPRESSION, s).subs(subs)
+
+
+def test_fixed_symbols_are_set_in_the_polynomials():
+    form = RationalForm(EXPRESSION, [x, y, z], {w: Fraction(1, 4), u: Fraction(3)})
+    reduced = EXPRESSION.subs({w: sympy.Rational(1, 4), u: 3})
+    function = sympy.lambdify([x, y, z], reduced, modules="numpy")
+    columns = _columns(100)[:3]
+    assert np.allclose(form.values(columns, 100), function(*columns), rtol=1e-12)
+
+
+def test_square_roots_fall_back_to_lambdify():
+    form = closed_form(sympy.sqrt(x) * y, [x, y])
+    assert isinstance(form, LambdifiedForm)
+    assert form.exact({x: Fraction(4), y: Fraction(3)}) == 6
+    assert form.values([np.array([9.0]), np.array([2.0])], 1)[0] == pytest.approx(6.0)

@@ -1,0 +1,98 @@
+"""Sensitivity tables: bridge near balance against the published bridge formula, a divider
+against hand-checked closed forms, definitions through the chain rule."""
+
+from fractions import Fraction
+
+import sympy
+
+from symcirc.analysis.sensitivity import sensitivities
+
+R1, R2, R3, R4, Ub = sympy.symbols("R1 R2 R3 R4 Ub")
+# Four-arm bridge, arms numbered as in K. Hoffmann, "An Introduction to Measurements using
+# Strain Gages" (HBM, 1989), ch. 7: U_A/U_E = R1/(R1 + R2) - R4/(R3 + R4) (from memory).
+BRIDGE = Ub * (R1 / (R1 + R2) - R4 / (R3 + R4))
+# Hoffmann's bridge equation for small changes of equal arms (from memory):
+# ΔU_A/U_E = 1/4·(ΔR1/R1 - ΔR2/R2 + ΔR3/R3 - ΔR4/R4).
+HOFFMANN = {R1: Fraction(1, 4), R2: Fraction(-1, 4), R3: Fraction(1, 4), R4: Fraction(-1, 4)}
+
+
+def _bridge_nominals(r1=Fraction(350)) -> dict:
+    return {R1: r1, R2: Fraction(350), R3: Fraction(350), R4: Fraction(350), Ub: Fraction(5)}
+
+
+def test_balanced_bridge_referred_to_excitation_matches_published_bridge_equation():
+    table = sensitivities(BRIDGE, _bridge_nominals(), reference=Ub)
+    assert table.nominal == 0
+    by_symbol = {row.symbol: row for row in table.rows}
+    for arm, published in HOFFMANN.items():
+        assert by_symbol[arm].relative_value == published
+    # the excitation itself moves a balanced bridge's output not at all
+    assert by_symbol[Ub].relative_value == 0
+    assert [row.symbol for row in table.rows][-1] == Ub  # sorted by magnitude
+
+
+def test_bridge_near_balance_stays_within_the_small_change_approximation():
+    """0.1 % off balance, the exact sensitivities differ from 1/4 by about 0.05 %."""
+    table = sensitivities(BRIDGE, _bridge_nominals(Fraction(35035, 100)), reference=Ub)
+    assert table.nominal != 0
+    for row in table.rows:
+        if row.symbol in HOFFMANN:
+            published = HOFFMANN[row.symbol]
+            assert abs(row.relative_value / published - 1) < Fraction(1, 1000)
+
+
+def test_divider_closed_forms_checked_by_hand():
+    divider = Ub * R2 / (R1 + R2)
+    table = sensitivities(divider, {R1: Fraction(3000), R2: Fraction(1000), Ub: Fraction(2)})
+    rows = {row.symbol: row for row in table.rows}
+    # by hand: ∂/∂R1 = -Ub·R2/(R1 + R2)², relative -R1/(R1 + R2)
+    assert sympy.simplify(rows[R1].derivative + Ub * R2 / (R1 + R2) ** 2) == 0
+    assert sympy.simplify(rows[R1].relative + R1 / (R1 + R2)) == 0
+    # ∂/∂R2 = Ub·R1/(R1 + R2)², relative R1/(R1 + R2)
+    assert sympy.simplify(rows[R2].derivative - Ub * R1 / (R1 + R2) ** 2) == 0
+    assert sympy.simplify(rows[R2].relative - R1 / (R1 + R2)) == 0
+    # ∂/∂Ub = R2/(R1 + R2), relative exactly 1
+    assert rows[Ub].relative == 1
+    # at 3 kΩ / 1 kΩ: ±3/4, the derivative -2·1000/4000² = -1/8000 V/Ω
+    assert rows[R1].relative_value == Fraction(-3, 4)
+    assert rows[R1].derivative_value == Fraction(-1, 8000)
+    assert [row.symbol for row in table.rows] == [Ub, R1, R2]
+
+
+def test_definitions_through_the_chain_rule():
+    R0, alpha, T, Rt = sympy.symbols("R0 alpha T Rt")
+    definition = R0 * (1 + alpha * T)
+    q = Ub * R2 / (Rt + R2)
+    nominals = {R0: Fraction(100), alpha: Fraction(385, 100000), T: Fraction(25),
+                R2: Fraction(100), Ub: Fraction(5)}
+    nominals[Rt] = nominals[R0] * (1 + nominals[alpha] * nominals[T])
+    table = sensitivities(q, nominals, {Rt: definition})
+    rows = {row.symbol: row for row in table.rows}
+    expanded = q.subs(Rt, definition)
+    for p in (R0, alpha, T):
+        assert rows[p].via == (Rt,)
+        direct = sympy.diff(expanded, p)
+        assert sympy.simplify(rows[p].derivative.subs(Rt, definition) - direct) == 0
+    # relative sensitivity to R0 equals that to Rt (Rt is proportional to R0)
+    assert rows[R0].relative_value == rows[Rt].relative_value
+
+
+def test_symbols_without_value_get_no_row():
+    table = sensitivities(Ub * R2 / (R1 + R2), {R1: Fraction(1), Ub: Fraction(1)})
+    assert {row.symbol for row in table.rows} == {R1, Ub}
+
+
+def test_large_results_keep_their_structure_with_the_same_values(monkeypatch):
+    """Above the simplification size, closed forms are N'/N − D'/D forms: same values, and
+    algebraically equal to the simplified ones (checked by sympy)."""
+    from symcirc.analysis import sensitivity as module
+
+    nominals = _bridge_nominals(Fraction(35035, 100))
+    small = sensitivities(BRIDGE, nominals)
+    monkeypatch.setattr(module, "SIMPLIFY_TERMS", 0)
+    large = sensitivities(BRIDGE, nominals)
+    for a, b in zip(small.rows, large.rows, strict=True):
+        assert (a.symbol, a.derivative_value, a.relative_value) == \
+            (b.symbol, b.derivative_value, b.relative_value)
+        assert sympy.simplify(a.relative - b.relative) == 0
+        assert sympy.simplify(a.derivative - b.derivative) == 0
