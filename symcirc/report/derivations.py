@@ -1,0 +1,177 @@
+"""Derive what a document shows: one section per quantity of the file's `derive` statements
+(or per quantity given on the command line), each result with its design form and steps,
+and, where a result has a nominal value, its sensitivities and tolerance spread.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Sequence
+from dataclasses import dataclass, replace
+from typing import Any
+
+from ..errors import SymcircError
+from ..model.circuit import Assumption, Circuit
+from ..quantities.registry import DeriveOptions
+from .content import (
+    ResultView,
+    Section,
+    anchor,
+    assumption_latex,
+    assumption_text,
+    result_view,
+)
+from .progress import Progress
+from .tables import detail_tables, sensitivity_table, spread, tolerance_notes, tolerance_tables
+
+ANALYSIS_QUANTITIES = ("sensitivities", "tolerance")
+AUTOMATIC = ("tolerance",)
+"""Analyses added to every result with a nominal value. The tolerance analysis brings the
+sensitivity of each toleranced part at the nominal point; closed-form sensitivities (costly
+for large results) appear where a `derive sensitivities(Q)` statement asks for them."""
+
+
+@dataclass(frozen=True)
+class Request:
+    """One quantity to show: its text, the syntax quantity (or text) and how to derive it."""
+
+    text: str
+    quantity: Any
+    options: DeriveOptions
+
+
+def requests(circuit: Circuit, quantities: Sequence[str] | None) -> list[Request]:
+    """The quantities a document shows: the command line's, else the derive statements'."""
+    if quantities:
+        return [Request(text, text, DeriveOptions()) for text in quantities]
+    out = []
+    for statement in circuit.derives:
+        options = DeriveOptions(assumptions=tuple(statement.assumptions))
+        for quantity, text in zip(statement.quantities, statement.texts, strict=True):
+            out.append(Request(text, quantity, options))
+    return out
+
+
+def sections(circuit: Circuit, wanted: list[Request],
+             analyses: tuple[str, ...] = AUTOMATIC,
+             progress: Progress | None = None) -> list[Section]:
+    """Derive every request, adding the named analyses (`sensitivities`, `tolerance`) to each
+    result that has a nominal value."""
+    out = []
+    for request in wanted:
+        if progress is not None:
+            progress.step(request.text)
+        results = derive_for_document(circuit, request.quantity, request.options)
+        assumptions = request.options.assumptions
+        section = Section(
+            heading=request.text, anchor=anchor(request.text),
+            assumptions=tuple(assumption_latex(a) for a in assumptions),
+            assumptions_text=tuple(assumption_text(a) for a in assumptions),
+            results=[],
+        )
+        name = _quantity_name(request.quantity)
+        table = sensitivity_table(results, request.text) if name == "sensitivities" else None
+        if table is not None:
+            section.tables.append(table)
+        else:
+            for result in results:
+                view = result_view(result)
+                _attach_details(view, result)
+                if name not in ANALYSIS_QUANTITIES:
+                    _attach_analyses(circuit, view, request.options, analyses)
+                section.results.append(view)
+        out.append(section)
+    return out
+
+
+def derive_for_document(circuit: Circuit, quantity: Any, options: DeriveOptions) -> list[Any]:
+    """Results as a document shows them: `where X >> Y` approximations applied, design forms
+    and derivation steps attached (when the derivation stage did not attach them already)."""
+    from ..quantities import derive
+
+    results = derive(circuit, quantity, options)
+    forms = _forms()
+    if forms is None:
+        return results
+    approximations = [a for a in options.assumptions if a.kind == "much_greater"]
+    if approximations and hasattr(forms, "approximate"):
+        results = [_approximated(forms, circuit, r, approximations) for r in results]
+    if options.steps and hasattr(forms, "annotate") and not any(
+            r.form is not None or r.steps for r in results):
+        forms.annotate(circuit, _syntax(circuit, quantity), results, options)
+    return results
+
+
+def _approximated(forms: Any, circuit: Circuit, result: Any,
+                  assumptions: list[Assumption]) -> Any:
+    if "neglected" in result.details:  # already approximated by the derivation stage
+        return result
+    for assumption in assumptions:
+        result = forms.approximate(circuit, result, assumption)
+    return result
+
+
+def _forms() -> Any:
+    try:
+        import symcirc.forms as forms
+    except ImportError:  # pragma: no cover - the forms stage is part of the package
+        return None
+    return forms
+
+
+def _syntax(circuit: Circuit, quantity: Any) -> Any:
+    if not isinstance(quantity, str):
+        return quantity
+    from ..language.parser import parse_quantity
+
+    return parse_quantity(quantity)
+
+
+def _quantity_name(quantity: Any) -> str:
+    if isinstance(quantity, str):
+        return quantity.split("(", 1)[0].strip()
+    return quantity.name
+
+
+def _attach_details(view: ResultView, result: Any) -> None:
+    details = dict(result.details)
+    if "tolerance" in details:
+        view.tables.extend(tolerance_tables(details.pop("tolerance"), result.unit))
+        view.notes = tolerance_notes(view.notes)
+        view.spread = spread(result.details)
+    details.pop("sensitivity", None)
+    view.tables.extend(detail_tables(details))
+
+
+def _attach_analyses(circuit: Circuit, view: ResultView, options: DeriveOptions,
+                     analyses: tuple[str, ...]) -> None:
+    """Sensitivities and tolerance of a result with a nominal value, from the analyses stage."""
+    if view.nominal is None or not view.result.symbols:
+        return
+    quiet = replace(options, steps=False)
+    try:
+        if "sensitivities" in analyses:
+            table = sensitivity_table(
+                derive_for_document(circuit, f"sensitivities({view.quantity})", quiet), "Q")
+            if table is not None:
+                view.tables.append(replace(table, title="Sensitivities"))
+        if "tolerance" in analyses and _toleranced(circuit, view):
+            tolerance = derive_for_document(circuit, f"tolerance({view.quantity})", quiet)
+            if tolerance and "tolerance" in tolerance[0].details:
+                details = tolerance[0].details["tolerance"]
+                view.tables.extend(tolerance_tables(details, view.unit))
+                view.notes.extend(tolerance_notes(tolerance[0].notes))
+                view.spread = spread(tolerance[0].details)
+    except SymcircError:  # a quantity the analyses cannot take (e.g. a result from a limit)
+        return
+
+
+def _toleranced(circuit: Circuit, view: ResultView) -> bool:
+    from ..analysis.quantities import definitions, tolerances
+
+    toleranced = {str(s) for s in tolerances(circuit)}
+    names = set(view.result.symbols)
+    defined = definitions(circuit)
+    for symbol, definition in defined.items():
+        if str(symbol) in names:
+            names |= {str(x) for x in definition.free_symbols}
+    return bool(names & toleranced)

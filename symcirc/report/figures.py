@@ -1,0 +1,106 @@
+"""Plots that go beside a note, in a folder named after it: the frequency response of each
+transfer function, the Monte Carlo histogram of each `tolerance(Q)` the file asks for, the
+loading curve of each loading analysis. Names are decided when the note is rendered (so the
+note's text does not depend on whether the files are written); drawing happens only when
+they are.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable
+from dataclasses import dataclass, replace
+from pathlib import Path
+
+from ..model.circuit import Circuit
+from .content import Figure, ResultView, Section
+from .derivations import Request
+
+IMAGE_EXTENSION = {"latex": ".png", "markdown": ".svg", "html": ".svg"}
+"""pdflatex takes PNG (not SVG); Markdown and HTML get scalable SVG."""
+
+
+@dataclass(frozen=True)
+class Drawing:
+    """A figure of the note and how to draw it into a file."""
+
+    figure: Figure
+    draw: Callable[[Path], None]
+
+
+def folder_name(stem: str) -> str:
+    """The figures folder of a note called `stem` (`bridge.md` → `bridge_figures`)."""
+    return f"{stem}_figures"
+
+
+def plan(circuit: Circuit, sections: list[Section], wanted: list[Request], stem: str,
+         fmt: str) -> list[Drawing]:
+    """Decide every figure of the note and attach it to its result view."""
+    folder = folder_name(stem)
+    extension = IMAGE_EXTENSION[fmt]
+    drawings: list[Drawing] = []
+    used: set[str] = set()
+
+    def add(view: ResultView | None, section: Section, kind: str, caption: str,
+            draw: Callable[[Path], None], key: str) -> None:
+        name = key
+        while name in used:  # the same quantity shown twice (e.g. with and without `where`)
+            name += "-2"
+        used.add(name)
+        figure = Figure(f"{folder}/{name}{extension}", caption, kind,
+                        view.quantity if view else section.heading)
+        (view.figures if view else section.figures).append(figure)
+        drawings.append(Drawing(figure, draw))
+
+    for section, request in zip(sections, wanted, strict=True):
+        name = request.text.split("(", 1)[0].strip()
+        if name in ("loading", "minimum_load") and not request.options.assumptions:
+            add(None, section, "loading", f"Loading error of {request.text} against the load.",
+                _loading(circuit, request.text), f"{section.anchor}-loading")
+        for view in section.results:
+            if view.is_transfer_function and _has_values(view):
+                add(view, section, "frequency response",
+                    f"Magnitude and phase of {view.quantity} at the nominal values.",
+                    _frequency_response(circuit, view), f"{view.anchor}-response")
+            if view.spread is not None and name == "tolerance":  # asked for by the file
+                add(view, section, "histogram",
+                    f"Monte Carlo histogram of {view.quantity} with the worst-case bounds.",
+                    _histogram(circuit, view, request), f"{view.anchor}-histogram")
+    return drawings
+
+
+def _has_values(view: ResultView) -> bool:
+    return view.missing == ("s",)
+
+
+def _frequency_response(circuit: Circuit, view: ResultView) -> Callable[[Path], None]:
+    def draw(path: Path) -> None:
+        from ..analysis import plots
+
+        frequencies, response = plots.frequency_response(
+            view.result.expression, circuit.symbol_nominals())
+        plots.save(plots.frequency_response_figure(frequencies, response, view.quantity,
+                                                   view.unit), path)
+    return draw
+
+
+def _histogram(circuit: Circuit, view: ResultView, request: Request) -> Callable[[Path], None]:
+    def draw(path: Path) -> None:
+        from ..analysis import plots
+        from ..analysis.quantities import tolerance_analyses
+        from ..language.parser import parse_quantity
+
+        text = request.text
+        options = replace(request.options, steps=False)
+        pairs = tolerance_analyses(circuit, parse_quantity(text), options)
+        analysis = next((a for inner, a in pairs
+                         if f"tolerance({inner.quantity})" == view.quantity), pairs[0][1])
+        plots.save(plots.histogram_figure(analysis, view.quantity, view.unit), path)
+    return draw
+
+
+def _loading(circuit: Circuit, text: str) -> Callable[[Path], None]:
+    def draw(path: Path) -> None:
+        from ..analysis import plots
+
+        plots.plot(circuit, text, path)
+    return draw

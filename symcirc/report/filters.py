@@ -1,0 +1,235 @@
+"""The jinja2 filters templates use: escaping per format, numbers in engineering notation,
+units, LaTeX of results and MathML for HTML.
+
+Every user string reaches a document through one of the escape filters (HTML templates
+escape automatically), so a title such as `a_b & <c>` shows literally in every format.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from markupsafe import Markup
+
+PREFIXES = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T"}
+"""SI prefixes by power of ten."""
+
+_SIUNITX_PREFIX = {
+    "f": r"\femto", "p": r"\pico", "n": r"\nano", "µ": r"\micro", "m": r"\milli", "": "",
+    "k": r"\kilo", "M": r"\mega", "G": r"\giga", "T": r"\tera",
+}
+_SIUNITX_UNIT = {
+    "Ω": r"\ohm", "V": r"\volt", "A": r"\ampere", "F": r"\farad", "H": r"\henry",
+    "S": r"\siemens", "Hz": r"\hertz", "W": r"\watt", "s": r"\second", "%": r"\percent",
+}
+
+# Characters that need more than a backslash in LaTeX text, and common non-ASCII symbols
+# that the default pdflatex set-up does not know (Greek letters, maths signs).
+_TEX_TEXT = {
+    "\\": r"\textbackslash{}", "{": r"\{", "}": r"\}", "$": r"\$", "&": r"\&", "%": r"\%",
+    "#": r"\#", "_": r"\_", "^": r"\textasciicircum{}", "~": r"\textasciitilde{}",
+    "<": r"\textless{}", ">": r"\textgreater{}", "|": r"\textbar{}",
+    "Ω": r"\ensuremath{\Omega}", "µ": r"\ensuremath{\mu}", "μ": r"\ensuremath{\mu}",
+    "°": r"\textdegree{}", "±": r"\ensuremath{\pm}", "∥": r"\ensuremath{\parallel}",
+    "−": r"\ensuremath{-}", "≈": r"\ensuremath{\approx}", "≤": r"\ensuremath{\le}",
+    "≥": r"\ensuremath{\ge}", "×": r"\ensuremath{\times}", "·": r"\ensuremath{\cdot}",
+    "→": r"\ensuremath{\to}", "∞": r"\ensuremath{\infty}", "≫": r"\ensuremath{\gg}",
+    "≪": r"\ensuremath{\ll}", "∂": r"\ensuremath{\partial}", "√": r"\ensuremath{\surd}",
+    "ω": r"\ensuremath{\omega}", "ζ": r"\ensuremath{\zeta}", "α": r"\ensuremath{\alpha}",
+    "β": r"\ensuremath{\beta}", "σ": r"\ensuremath{\sigma}", "Δ": r"\ensuremath{\Delta}",
+    "π": r"\ensuremath{\pi}", "τ": r"\ensuremath{\tau}", "²": r"\textsuperscript{2}",
+    "³": r"\textsuperscript{3}", "–": "--", "—": "---", "…": r"\dots{}", "\u00a0": "~",
+    "\t": " ", "\n": " ", "\r": " ",
+}
+_GREEK = ("alpha beta gamma delta epsilon zeta eta theta iota kappa lambda mu nu xi o pi rho "
+          "varsigma sigma tau upsilon phi chi psi omega").split()
+_TEX_TEXT.update({chr(0x3B1 + i): "\\ensuremath{\\" + name + "}"
+                  for i, name in enumerate(_GREEK) if name != "o"})
+_TEX_TEXT.update({c: "\\ensuremath{\\" + name + "}" for c, name in zip(
+    "ΓΔΘΛΞΠΣΥΦΨΩ", "Gamma Delta Theta Lambda Xi Pi Sigma Upsilon Phi Psi Omega".split(),
+    strict=True)})
+_TEX_TEXT.update({"≠": r"\ensuremath{\neq}", "⋅": r"\ensuremath{\cdot}", "′": "'",
+                  "∝": r"\ensuremath{\propto}", "∑": r"\ensuremath{\sum}",
+                  "⇒": r"\ensuremath{\Rightarrow}", "←": r"\ensuremath{\leftarrow}",
+                  "“": "``", "”": "''", "‘": "`", "’": "'"})
+_MD_SPECIAL = set("\\`*_{}[]<>#|$&~!")
+
+
+def escape_tex(text: Any) -> str:
+    """`text` as LaTeX text that prints literally (special characters and symbols mapped).
+
+    Characters that pdflatex cannot typeset (beyond Latin-1 and the symbols above) are
+    written as their code point, `[U+2603]`, rather than breaking the document.
+    """
+    return "".join(_TEX_TEXT.get(c, c if ord(c) < 0x180 else f"[U+{ord(c):04X}]")
+                   for c in str(text))
+
+
+def escape_tex_code(text: Any) -> str:
+    """Like escape_tex, for code-like text (quantities): lines may break after `(` `,` `.`."""
+    return "".join(escape_tex(c) + (r"\allowbreak{}" if c in "(,." else "")
+                   for c in str(text))
+
+
+def escape_md(text: Any) -> str:
+    """`text` as Markdown inline text that renders literally, safe inside a table cell.
+
+    Markdown punctuation, `$` (maths) and `<`, `&` (raw HTML) are backslash-escaped;
+    line breaks become spaces so a cell stays on one line.
+    """
+    out = []
+    for c in str(text):
+        if c in "\r\n\t":
+            out.append(" ")
+        elif c in _MD_SPECIAL:
+            out.append("\\" + c)
+        else:
+            out.append(c)
+    return "".join(out)
+
+
+def code_md(text: Any) -> str:
+    """`text` as a Markdown code span (for quantities and file names), safe in tables."""
+    body = " ".join(str(text).split()).replace("|", "\\|")
+    fence = "``" if "`" in body else "`"
+    pad = " " if body.startswith("`") or body.endswith("`") else ""
+    return f"{fence}{pad}{body}{pad}{fence}"
+
+
+def engineering(value: float, digits: int = 4) -> tuple[str, str]:
+    """(mantissa, prefix) of `value` in engineering notation: 4700 → ('4.7', 'k').
+
+    Values beyond the prefixes keep an exponent in the mantissa (`1.2e-18`).
+    """
+    x = float(value)
+    if x == 0 or not math.isfinite(x):
+        return f"{x:g}", ""
+    exponent = math.floor(math.log10(abs(x)))
+    step = min(max(3 * (exponent // 3), -15), 12)
+    mantissa = float(f"{x / 10.0**step:.{digits}g}")
+    if abs(mantissa) >= 1000 and step < 12:  # rounding carried into the next prefix
+        step += 3
+        mantissa = float(f"{x / 10.0**step:.{digits}g}")
+    text = f"{mantissa:.{digits}g}"
+    if "e" in text:
+        return f"{x:.{digits}g}", ""
+    return text, PREFIXES[step]
+
+
+def eng(value: Any, unit: str = "", digits: int = 4) -> str:
+    """A number with an SI prefix and its unit: eng(4700, 'Ω') == '4.7 kΩ'.
+
+    Pure numbers (no unit) are shown plainly with `digits` significant digits: a prefix
+    on a gain reads badly. None shows as an em dash.
+    """
+    if value is None:
+        return "—"
+    if not unit:
+        return _plain(float(value), digits)
+    mantissa, prefix = engineering(float(value), digits)
+    return f"{mantissa.replace('-', '−')} {prefix}{unit}"
+
+
+def _plain(x: float, digits: int) -> str:
+    text = f"{x:.{digits}g}"
+    return text.replace("-", "−") if "e" not in text else text.replace("e-", "e−")
+
+
+def percent(value: Any, digits: int = 3) -> str:
+    """A ratio as a percentage: percent(0.00125) == '0.125 %'."""
+    if value is None:
+        return "—"
+    return f"{_plain(float(value) * 100, digits)} %"
+
+
+def unit_tex(unit: str, prefix: str = "") -> str:
+    """A unit (with optional prefix) in siunitx notation: unit_tex('Ω', 'k') == r'\\kilo\\ohm'."""
+    tex_prefix = _SIUNITX_PREFIX.get(prefix, "")
+    if unit in _SIUNITX_UNIT:
+        return tex_prefix + _SIUNITX_UNIT[unit]
+    return tex_prefix + (r"\text{" + escape_tex(unit) + "}" if unit else "")
+
+
+def qty(value: Any, unit: str = "", digits: int = 4) -> str:
+    """A number with its unit for LaTeX: qty(4700, 'Ω') == r'\\qty{4.7}{\\kilo\\ohm}'."""
+    if value is None:
+        return "---"
+    if not unit:
+        return r"\num{" + f"{float(value):.{digits}g}" + "}"
+    mantissa, prefix = engineering(float(value), digits)
+    return r"\qty{" + mantissa + "}{" + unit_tex(unit, prefix) + "}"
+
+
+def qty_percent(value: Any, digits: int = 3) -> str:
+    """A ratio as a LaTeX percentage: qty_percent(0.001) == r'\\qty{0.1}{\\percent}'."""
+    if value is None:
+        return "---"
+    return r"\qty{" + f"{float(value) * 100:.{digits}g}" + r"}{\percent}"
+
+
+def unit_latex(unit: str) -> str:
+    """A unit inside maths (`\\mathrm{k\\Omega}`-style), for MathML and Markdown maths."""
+    mapped = unit.replace("Ω", r"\Omega ").replace("µ", r"\mu ").replace("%", r"\%")
+    return r"\mathrm{" + mapped.strip() + "}" if unit else ""
+
+
+def eng_latex(value: Any, unit: str = "", digits: int = 4) -> str:
+    """A number with its unit as maths: eng_latex(4700, 'Ω') == r'4.7\\,\\mathrm{k\\Omega}'."""
+    if value is None:
+        return r"\text{---}"
+    if not unit:
+        return _exponent_latex(f"{float(value):.{digits}g}")
+    mantissa, prefix = engineering(float(value), digits)
+    return _exponent_latex(mantissa) + r"\," + unit_latex(prefix + unit)
+
+
+def _exponent_latex(number: str) -> str:
+    if "e" not in number:
+        return number
+    base, exponent = number.split("e")
+    return base + r" \times 10^{" + str(int(exponent)) + "}"
+
+
+def mathml(latex: Any, display: bool = False) -> Markup:
+    """LaTeX maths as a MathML element (HTML notes): no script, no network, stands alone."""
+    from latex2mathml.converter import convert
+
+    return Markup(convert(str(latex), display="block" if display else "inline"))
+
+
+def latex(item: Any) -> str:
+    """LaTeX of a result, a sympy expression, or a string that already is LaTeX."""
+    if hasattr(item, "latex") and callable(item.latex):
+        return item.latex()
+    if isinstance(item, str):
+        return item
+    import sympy
+
+    return sympy.latex(item)
+
+
+def width(latex: Any) -> float:
+    """Estimated printed width of LaTeX maths in characters (templates decide on scaling)."""
+    from .formulas import visible_width
+
+    return visible_width(str(latex))
+
+
+FILTERS = {
+    "width": width,
+    "escape_tex": escape_tex,
+    "escape_tex_code": escape_tex_code,
+    "escape_md": escape_md,
+    "code_md": code_md,
+    "eng": eng,
+    "percent": percent,
+    "qty": qty,
+    "qty_percent": qty_percent,
+    "unit": unit_tex,
+    "unit_latex": unit_latex,
+    "eng_latex": eng_latex,
+    "mathml": mathml,
+    "latex": latex,
+}
+"""Name → filter, as registered in the template environment."""

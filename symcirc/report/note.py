@@ -1,0 +1,274 @@
+"""Design notes: a circuit, its derivations and numbers as Markdown, LaTeX or HTML.
+
+`render_note_for` is the one entry point for both `symcirc note` and `symcirc verify`: the
+same arguments give byte-identical text, and the text never depends on the time or on
+whether the figures are written.
+"""
+
+from __future__ import annotations
+
+import hashlib
+import json
+import os
+from collections.abc import Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+from ..model.circuit import Circuit
+from .content import (
+    Parameter,
+    Part,
+    PortRow,
+    Section,
+    parameters,
+    parts,
+    ports,
+)
+from .files import Output, path_inside, write_document
+from .progress import Progress
+
+TEMPLATES = {"markdown": "note.md.j2", "latex": "note.tex.j2", "html": "note.html.j2"}
+MARKER = "symcirc-note"
+"""Name of the machine-readable marker `symcirc verify` reads back."""
+
+
+@dataclass(frozen=True)
+class ClaimView:
+    """One `claim` of the file and whether it holds."""
+
+    quantity: str
+    expression: str
+    """The claimed expression as written."""
+    latex: str
+    status: str
+    """'holds', 'does not hold' or 'undecided'."""
+    details: tuple[str, ...]
+    line: int
+
+
+@dataclass
+class Note:
+    """Everything a note template receives (as `note`); see the README for each field."""
+
+    title: str
+    source: str
+    """Path of the circuit file relative to the note's folder (POSIX)."""
+    source_name: str
+    sha256: str
+    version: str
+    format: str
+    parts: list[Part]
+    parameters: list[Parameter]
+    ports: list[PortRow]
+    nodes: tuple[str, ...]
+    notices: list[str]
+    sections: list[Section]
+    claims: list[ClaimView]
+    conventions: list[str]
+    cautions: list[str]
+    caution_advice: str
+    figures_folder: str | None
+    marker: str
+    """The marker comment's JSON (one line)."""
+    circuit: Any = field(default=None, repr=False)
+
+    @property
+    def results(self) -> list:
+        """Every result view, in order (summaries)."""
+        return [view for section in self.sections for view in section.results]
+
+
+def render_note_for(
+    path: str | Path,
+    format: str,
+    quantities: Sequence[str] | None = None,
+    template: str | Path | None = None,
+    output_path: str | Path | None = None,
+    progress: bool = False,
+) -> str:
+    """The text of the design note of the circuit file `path`.
+
+    format: 'markdown', 'latex' or 'html'. quantities: the quantities to show (as written on
+    the command line), or None for the file's `derive` statements. template: a folder whose
+    templates override the built-in ones, or None. output_path: where the note is (or will
+    be) written, which fixes the relative paths to the source and to the figures; None for
+    standard output (paths relative to the working folder, no figures). progress: show a
+    progress line on a terminal for long derivations. Raises SymcircError on bad input.
+    """
+    note, _ = build_note(path, format, quantities, template, output_path, progress)
+    return render_note(note, template)
+
+
+def write_note(
+    path: str | Path,
+    format: str,
+    output: Output,
+    quantities: Sequence[str] | None = None,
+    template: str | Path | None = None,
+    progress: bool = True,
+) -> Note:
+    """Render the note, write its figures beside it, then the note itself (atomically);
+    returns the note's content (claims, figures) for the caller to report on."""
+    note, drawings = build_note(path, format, quantities, template, output.path, progress)
+    text = render_note(note, template)
+    for drawing in drawings:
+        drawing.draw(path_inside(output.folder, drawing.figure.path))
+    write_document(output, text)
+    return note
+
+
+def build_note(
+    path: str | Path,
+    format: str,
+    quantities: Sequence[str] | None,
+    template: str | Path | None,
+    output_path: str | Path | None,
+    progress: bool,
+) -> tuple[Note, list]:
+    """(note content, figure drawings): the work behind `render_note_for` and `write_note`."""
+    import symcirc
+
+    from .derivations import requests, sections
+
+    source = Path(path)
+    data = _read(source)
+    circuit = symcirc.load(str(source))
+    folder = Path(output_path).parent if output_path is not None else Path.cwd()
+    wanted = requests(circuit, quantities)
+    with Progress(len(wanted) + 1, enabled=progress) as bar:
+        derived = sections(circuit, wanted, progress=bar)
+        bar.step("checking claims and cautions")
+        claim_views = claims(circuit)
+        cautions_found = _cautions(circuit)
+    from .figures import folder_name, plan
+
+    drawings: list = []
+    if output_path is not None:  # figures only beside a note written to a file
+        drawings = plan(circuit, derived, wanted, Path(output_path).stem, format)
+    note = _note(circuit, source, data, format, quantities, template, folder, derived,
+                 claim_views, cautions_found,
+                 folder_name(Path(output_path).stem) if drawings else None)
+    return note, drawings
+
+
+def render_note(note: Note, template: str | Path | None = None) -> str:
+    """The note's text from its content, with the built-in or the user's templates."""
+    from .environment import environment, render
+
+    return render(environment(template), TEMPLATES[note.format], note=note)
+
+
+def _note(circuit: Circuit, source: Path, data: bytes, fmt: str,
+          quantities: Sequence[str] | None, template: str | Path | None, folder: Path,
+          derived: list[Section], claim_views: list[ClaimView], cautions_found: list[str],
+          figures_folder: str | None) -> Note:
+    import symcirc
+
+    from .cautions import DEFER
+    from .conventions import conventions
+
+    digest = hashlib.sha256(data).hexdigest()
+    shown = [view.quantity for section in derived for view in section.results]
+    shown += [section.heading for section in derived]
+    marker = {
+        "source": _relative(source, folder),
+        "sha256": digest,
+        "version": symcirc.__version__,
+        "format": fmt,
+        "quantities": list(quantities) if quantities else None,
+        "template": None if template is None else _relative(Path(template), folder),
+    }
+    uses_laplace = any(view.is_transfer_function for s in derived for view in s.results)
+    return Note(
+        title=circuit.title or source.stem,
+        source=marker["source"],
+        source_name=source.name,
+        sha256=digest,
+        version=symcirc.__version__,
+        format=fmt,
+        parts=parts(circuit),
+        parameters=parameters(circuit),
+        ports=ports(circuit),
+        nodes=circuit.nodes,
+        notices=[_notice(n) for n in circuit.notices],
+        sections=derived,
+        claims=claim_views,
+        conventions=conventions(circuit, shown, uses_laplace),
+        cautions=cautions_found,
+        caution_advice=DEFER,
+        figures_folder=figures_folder,
+        marker=marker_json(marker),
+        circuit=circuit,
+    )
+
+
+def marker_json(marker: dict[str, Any]) -> str:
+    """The marker's JSON on one line, safe inside an HTML comment (no `--`)."""
+    return json.dumps(marker, sort_keys=True, ensure_ascii=True).replace("--", "-\\u002d")
+
+
+def _relative(path: Path, folder: Path) -> str:
+    return Path(os.path.relpath(path.resolve(), folder.resolve())).as_posix()
+
+
+def _read(source: Path) -> bytes:
+    from ..errors import SymcircError
+
+    try:
+        return source.read_bytes()
+    except OSError as err:
+        raise SymcircError(f"cannot read the file: {err.strerror or err}", file=str(source)) \
+            from None
+
+
+def _notice(notice: Any) -> str:
+    where = f"line {notice.location.line}: " if notice.location is not None else ""
+    return f"{notice.kind}: {where}{notice.message}"
+
+
+def _cautions(circuit: Circuit) -> list[str]:
+    from .cautions import cautions
+
+    return cautions(circuit)
+
+
+def claims(circuit: Circuit) -> list[ClaimView]:
+    """The status of every `claim` of the file, decided exactly by the check stage."""
+    if not circuit.claims:
+        return []
+    import sympy
+
+    from ..check.claims import decide
+    from ..check.dimensions import symbol_dimensions
+    from ..quantities import derive
+
+    dimensions = symbol_dimensions(circuit)
+    out = []
+    for claim in circuit.claims:
+        results = derive(circuit, claim.quantity)
+        if len(results) != 1:
+            status, details = "undecided", (
+                f"{claim.quantity_text} has {len(results)} parts: name one "
+                f"({', '.join(r.quantity for r in results)})",)
+        else:
+            verdict = decide(claim.quantity_text, results[0].expression, claim.expression,
+                             dimensions)
+            status = "holds" if verdict.holds else (
+                "does not hold" if verdict.decided else "undecided")
+            details = tuple(_verdict_details(verdict))
+        out.append(ClaimView(claim.quantity_text, claim.expression_text,
+                             sympy.latex(claim.expression), status, details,
+                             claim.location.line))
+    return out
+
+
+def _verdict_details(verdict: Any) -> list[str]:
+    details = list(verdict.diagnosis)
+    if verdict.reason:
+        details.append(verdict.reason)
+    if verdict.counterexample is not None:
+        example = verdict.counterexample
+        at = ", ".join(f"{name} = {value}" for name, value in example.values.items())
+        details.append(f"At {at}: claimed {example.claimed}, derived {example.derived}.")
+    return details

@@ -1,0 +1,60 @@
+"""Formula sheets: one compact table per circuit (quantity, formula, nominal value, unit,
+spread) for a datasheet page; several circuit files make one sheet."""
+
+from __future__ import annotations
+
+import hashlib
+from collections.abc import Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+from .content import ResultView
+from .progress import Progress
+
+TEMPLATES = {"markdown": "sheet.md.j2", "latex": "sheet.tex.j2"}
+
+
+@dataclass(frozen=True)
+class SheetCircuit:
+    """One circuit of a sheet: its title, file and the results of its derive statements."""
+
+    title: str
+    source: str
+    sha256: str
+    results: list[ResultView]
+
+
+@dataclass(frozen=True)
+class Sheet:
+    """What a sheet template receives (as `sheet`)."""
+
+    circuits: list[SheetCircuit]
+    version: str
+    format: str
+
+
+def render_sheet_for(paths: Sequence[str | Path], format: str,
+                     template: str | Path | None = None, progress: bool = False) -> str:
+    """The formula sheet of the circuit files `paths` ('markdown' or 'latex'); the design form
+    of each result where one exists, the spread from the tolerance analysis where toleranced."""
+    import symcirc
+
+    from .derivations import requests, sections
+    from .environment import environment, render
+    from .note import _read
+
+    loaded = []
+    for path in paths:
+        data = _read(Path(path))
+        loaded.append((Path(path), data, symcirc.load(str(path))))
+    total = sum(len(requests(c, None)) for _, _, c in loaded)
+    circuits = []
+    with Progress(total, enabled=progress) as bar:
+        for path, data, circuit in loaded:
+            derived = sections(circuit, requests(circuit, None), analyses=("tolerance",),
+                               progress=bar)
+            results = [view for section in derived for view in section.results]
+            circuits.append(SheetCircuit(circuit.title or path.stem, path.as_posix(),
+                                         hashlib.sha256(data).hexdigest(), results))
+    sheet = Sheet(circuits, symcirc.__version__, format)
+    return render(environment(template), TEMPLATES[format], sheet=sheet)

@@ -1,0 +1,161 @@
+"""Tables of the analyses for notes and sheets: sensitivities, tolerance spreads, and any other
+details an analysis attaches to a result (loading, minimum load, component values).
+
+Analyses put JSON-ready data in `Result.details` (it also goes into `derive --format json`);
+the tolerance and sensitivity layouts are known here, anything else is shown generically.
+"""
+
+from __future__ import annotations
+
+from fractions import Fraction
+from typing import Any
+
+import sympy
+
+from .content import Cell, Spread, Table, name_latex
+from .filters import eng, percent
+
+_STANDARD_TOLERANCE_NOTES = ("Nominal ", "Linearised", "Extremes", "Root-sum-square",
+                             "Monte Carlo", "Largest contributions", "No symbol")
+
+
+def sensitivity_table(results: list[Any], quantity: str) -> Table | None:
+    """One table from the results of `sensitivities(Q)` (one result per symbol)."""
+    rows = []
+    for result in results:
+        row = result.details.get("sensitivity")
+        if row is None:
+            continue
+        unit = row.get("derivative_unit") or ""
+        rows.append((
+            Cell(row["symbol"], name_latex(row["symbol"])),
+            Cell(result.text(), result.latex()),
+            Cell(_number(row.get("relative_nominal"), result.unit)),
+            Cell(eng(row["derivative_nominal"], unit) if row.get("derivative_nominal")
+                 is not None else "—"),
+        ))
+    if not rows:
+        return None
+    caption = results[0].notes[0] if results[0].notes else None
+    return Table(f"Sensitivities of {quantity}",
+                 ("Symbol x", "Relative sensitivity", "At nominal", "∂Q/∂x at nominal"),
+                 tuple(rows), caption)
+
+
+def tolerance_tables(details: dict[str, Any], unit: str) -> list[Table]:
+    """The spread of a result (linearised, extremes, RSS, Monte Carlo) and the parts that
+    contribute most, from `details['tolerance']`."""
+    t = details
+    nominal = t["nominal"]
+
+    def rel(value: float) -> str:
+        if not nominal:
+            return "—"
+        change = (value - nominal) / nominal
+        return ("+" if change > 0 else "") + percent(change)
+
+    mc = t["monte_carlo"]
+    rows = (
+        (Cell("Linearised worst case"), Cell(eng(t["linearised"]["low"], unit)),
+         Cell(eng(t["linearised"]["high"], unit)),
+         Cell(f"{rel(t['linearised']['low'])} / {rel(t['linearised']['high'])}")),
+        (Cell("Extremes over the tolerance box"), Cell(eng(t["extremes"]["low"], unit)),
+         Cell(eng(t["extremes"]["high"], unit)),
+         Cell(f"{rel(t['extremes']['low'])} / {rel(t['extremes']['high'])}")),
+        (Cell("Root-sum-square"), Cell(eng(nominal - t["rss"], unit)),
+         Cell(eng(nominal + t["rss"], unit)),
+         Cell(f"± {percent(t['rss'] / abs(nominal))}" if nominal else "—")),
+        (Cell("Monte Carlo 0.1 % … 99.9 %"), Cell(eng(mc["quantile_0.1%"], unit)),
+         Cell(eng(mc["quantile_99.9%"], unit)),
+         Cell(f"mean {eng(mc['mean'], unit)}, σ {eng(mc['std'], unit)}")),
+    )
+    caption = (f"Nominal {eng(nominal, unit)}. Extremes: {t['extremes']['method']}. "
+               f"Monte Carlo: {mc['samples']:,} samples, seed {mc['seed']}, {mc['convention']}.")
+    tables = [Table("Tolerance", ("Method", "Low", "High", "Relative"), rows, caption)]
+    contributions = [
+        (Cell(c["symbol"], _label_latex(c["symbol"])),
+         Cell(f"{_number(c['low'], '')} … {_number(c['high'], '')}"),
+         Cell(eng(c["derivative"])),
+         Cell(eng(c["nominal"] * c["derivative"] / nominal) if nominal else "—"),
+         Cell(eng(c["down"], unit)), Cell("+" + eng(c["up"], unit)))
+        for c in t["contributions"]
+    ]
+    if contributions:
+        tables.append(Table(
+            "Sensitivities and contributions of the toleranced values",
+            ("Symbol x", "Range", "∂Q/∂x", "(x/Q)·∂Q/∂x", "Lowers Q by", "Raises Q by"),
+            tuple(contributions),
+            "At the nominal values, largest contribution first; Q moves by ∂Q/∂x times the "
+            "change of x (linearised)."))
+    return tables
+
+
+def tolerance_notes(notes: list[str]) -> list[str]:
+    """The notes of a tolerance result that its tables do not already show (warnings)."""
+    return [n for n in notes if not n.startswith(_STANDARD_TOLERANCE_NOTES)]
+
+
+def spread(details: dict[str, Any]) -> Spread | None:
+    """The worst-case range of a toleranced result (extremes over the tolerance box)."""
+    t = details.get("tolerance")
+    if not t or not t.get("contributions"):
+        return None
+    return Spread(t["extremes"]["low"], t["extremes"]["high"], t["extremes"]["method"])
+
+
+def detail_tables(details: dict[str, Any]) -> list[Table]:
+    """Generic tables of an analysis' details: a list of records becomes a table with one
+    column per key; a record becomes a two-column table; plain values share a last table."""
+    tables: list[Table] = []
+    loose: list[tuple[Cell, ...]] = []
+    formulas: list[tuple[Cell, ...]] = []
+    for key, value in details.items():
+        title = _title(key)
+        if isinstance(value, dict) and "latex" in value:  # a formula (e.g. a neglected term)
+            formulas.append((Cell(title), Cell(str(value.get("text", "")), str(value["latex"])),
+                             _cell(value.get("nominal"))))
+        elif isinstance(value, list) and value and all(isinstance(v, dict) for v in value):
+            columns = list(dict.fromkeys(k for row in value for k in row))
+            rows = tuple(tuple(_cell(row.get(c)) for c in columns) for row in value)
+            tables.append(Table(title, tuple(_title(c) for c in columns), rows))
+        elif isinstance(value, dict):
+            rows = tuple((Cell(_title(k)), _cell(v)) for k, v in value.items()
+                         if not isinstance(v, dict | list) and not k.endswith("_latex"))
+            nested = {f"{key} {k}": v for k, v in value.items() if isinstance(v, dict | list)}
+            if rows:
+                tables.append(Table(title, ("", "Value"), rows))
+            tables.extend(detail_tables(nested))
+        elif isinstance(value, list):
+            loose.append((Cell(title), Cell(", ".join(_cell(v).text for v in value))))
+        else:
+            loose.append((Cell(title), _cell(value)))
+    if formulas:
+        tables.append(Table("Formulas", ("", "Formula", "At nominal"), tuple(formulas)))
+    if loose:
+        tables.append(Table("Details", ("", "Value"), tuple(loose)))
+    return tables
+
+
+def _label_latex(label: str) -> str | None:
+    return name_latex(label) if label.isidentifier() else None
+
+
+def _number(value: Any, unit: str) -> str:
+    return "—" if value is None else eng(value, unit)
+
+
+def _title(key: str) -> str:
+    text = str(key).replace("_", " ").strip()
+    return text[:1].upper() + text[1:]
+
+
+def _cell(value: Any) -> Cell:
+    if value is None:
+        return Cell("—")
+    if isinstance(value, bool):
+        return Cell("yes" if value else "no")
+    if isinstance(value, float | int | Fraction):
+        return Cell(eng(value))
+    if isinstance(value, sympy.Basic):
+        return Cell(sympy.sstr(value), sympy.latex(value))
+    return Cell(str(value))

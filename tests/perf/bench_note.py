@@ -1,0 +1,54 @@
+"""Benchmark (a script, not a test): `symcirc note` on the largest example against
+`symcirc derive` of the same quantities, cold starts, wall clock, best of three.
+
+Target: the note takes at most 2 s more than the derivation.
+Run: python tests/perf/bench_note.py
+"""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[2]
+
+
+def _largest() -> Path:
+    examples = sorted((ROOT / "examples").glob("*.circuit"))
+    return max(examples, key=lambda p: (p.read_text(encoding="utf-8").count("\n"), p.name))
+
+
+def _time(arguments: list[str], runs: int = 3) -> float:
+    best = float("inf")
+    for _ in range(runs):
+        start = time.perf_counter()
+        subprocess.run([sys.executable, "-m", "symcirc.cli", *arguments], check=True,
+                       stdout=subprocess.DEVNULL, cwd=ROOT)
+        best = min(best, time.perf_counter() - start)
+    return best
+
+
+def main() -> int:
+    example = _largest()
+    derive = _time(["derive", str(example)])
+    print(f"example: {example.relative_to(ROOT)}")
+    print(f"{'command':<34}{'seconds':>9}{'over derive':>13}")
+    print(f"{'derive':<34}{derive:>9.2f}{'':>13}")
+    worst = 0.0
+    with tempfile.TemporaryDirectory() as folder:
+        for extension in (".md", ".tex", ".html"):
+            out = Path(folder) / f"note{extension}"
+            note = _time(["note", str(example), "-o", str(out)])
+            worst = max(worst, note - derive)
+            print(f"{'note -o note' + extension:<34}{note:>9.2f}{note - derive:>+13.2f}")
+    verdict = "meets" if worst <= 2.0 else "MISSES"
+    print(f"largest difference {worst:+.2f} s: {verdict} the 2 s target "
+          "(shared machine: figures are noisy)")
+    return 0 if worst <= 2.0 else 1
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

@@ -1,0 +1,121 @@
+"""HTML notes in a real browser: Debian's Chromium, headless, no network, driven through its
+DevTools protocol. Every example's note renders (the screenshot is not blank), its MathML
+has a size on the page, and its figures load from beside the note."""
+
+from __future__ import annotations
+
+import base64
+import io
+import json
+import shutil
+import subprocess
+import time
+import urllib.request
+from pathlib import Path
+
+import pytest
+
+from symcirc.cli import main
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = sorted((ROOT / "examples").glob("*.circuit"))
+CHROMIUM = shutil.which("chromium") or "/usr/bin/chromium"
+
+
+class DevTools:
+    """The smallest DevTools-protocol client: numbered commands over one page's websocket."""
+
+    def __init__(self, url: str) -> None:
+        import websocket
+
+        self.socket = websocket.create_connection(url, timeout=60, suppress_origin=True)
+        self.next_id = 0
+
+    def call(self, method: str, **params):
+        self.next_id += 1
+        self.socket.send(json.dumps({"id": self.next_id, "method": method, "params": params}))
+        while True:
+            message = json.loads(self.socket.recv())
+            if message.get("id") == self.next_id:
+                assert "error" not in message, message
+                return message["result"]
+
+    def evaluate(self, expression: str):
+        result = self.call("Runtime.evaluate", expression=expression, returnByValue=True,
+                           awaitPromise=True)
+        return result["result"].get("value")
+
+
+@pytest.fixture(scope="module")
+def browser(tmp_path_factory):
+    """One headless Chromium for the whole module, with its DevTools on a local port."""
+    profile = tmp_path_factory.mktemp("chromium-profile")
+    process = subprocess.Popen(
+        [CHROMIUM, "--headless", "--no-sandbox", "--disable-gpu",
+         "--disable-background-networking", "--disable-component-update", "--disable-sync",
+         "--no-first-run", "--disable-extensions", "--remote-debugging-port=0",
+         "--remote-debugging-address=127.0.0.1", f"--user-data-dir={profile}",
+         "--window-size=1100,1400", "about:blank"],
+        stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+    try:
+        port_file = profile / "DevToolsActivePort"
+        deadline = time.monotonic() + 60
+        while not port_file.exists() or not port_file.read_text().strip():
+            assert process.poll() is None and time.monotonic() < deadline, "no DevTools port"
+            time.sleep(0.1)
+        port = port_file.read_text().split()[0]
+        with urllib.request.urlopen(f"http://127.0.0.1:{port}/json/list", timeout=30) as r:
+            page = next(t for t in json.load(r) if t["type"] == "page")
+        tools = DevTools(page["webSocketDebuggerUrl"])
+        tools.call("Page.enable")
+        yield tools
+        tools.socket.close()
+    finally:
+        process.terminate()
+        try:
+            process.wait(timeout=20)
+        except subprocess.TimeoutExpired:
+            process.kill()
+            process.wait()
+
+
+def _open(tools: DevTools, path: Path) -> None:
+    tools.call("Page.navigate", url=path.as_uri())
+    deadline = time.monotonic() + 60
+    while tools.evaluate("document.readyState") != "complete" or \
+            tools.evaluate("location.href") != path.as_uri():
+        assert time.monotonic() < deadline, "page did not load"
+        time.sleep(0.05)
+
+
+def _not_blank(png: bytes) -> float:
+    """Share of pixels that are not background (white)."""
+    from matplotlib import image
+
+    pixels = image.imread(io.BytesIO(png), format="png")[..., :3]
+    return float((pixels.min(axis=2) < 0.9).mean())
+
+
+def test_html_notes_render_in_chromium(browser, tmp_path):
+    assert EXAMPLES
+    for example in EXAMPLES:
+        note = tmp_path / f"{example.stem}.html"
+        assert main(["note", str(example), "-o", str(note)]) == 0
+        _open(browser, note)
+        sizes = browser.evaluate(
+            "Array.from(document.getElementsByTagNameNS("
+            "'http://www.w3.org/1998/Math/MathML', 'math'))"
+            ".map(m => { const r = m.getBoundingClientRect(); return [r.width, r.height]; })")
+        assert sizes, example
+        assert all(w > 0 and h > 0 for w, h in sizes), example
+        # a MathML formula is laid out as maths: a fraction is taller than a line of text
+        assert max(h for _, h in sizes) > browser.evaluate(
+            "parseFloat(getComputedStyle(document.body).fontSize)")
+        images = browser.evaluate(
+            "Array.from(document.images).map(i => [i.complete, i.naturalWidth])")
+        assert all(done and width > 0 for done, width in images), example
+        resources = browser.evaluate(
+            "performance.getEntriesByType('resource').map(e => e.name)")
+        assert all(name.startswith("file:") for name in resources), resources
+        shot = base64.b64decode(browser.call("Page.captureScreenshot", format="png")["data"])
+        assert 0.005 < _not_blank(shot) < 0.9, example

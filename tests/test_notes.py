@@ -1,0 +1,209 @@
+"""Design notes of every bundled example, in every format: they render, the LaTeX compiles,
+the HTML parses with MathML for every formula, a second run is byte-identical, figures sit
+beside the note, and the command refuses unsafe outputs."""
+
+from __future__ import annotations
+
+import hashlib
+import html
+import json
+import re
+import shutil
+from pathlib import Path
+
+import html5lib
+import pytest
+
+from symcirc.cli import main
+from symcirc.report.filters import escape_md, escape_tex_code
+from tests.notes_support import HOSTILE, pdf_pages, pdf_text, pdflatex
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = sorted((ROOT / "examples").glob("*.circuit"))
+FORMATS = {"markdown": ".md", "latex": ".tex", "html": ".html"}
+MATHML = "{http://www.w3.org/1998/Math/MathML}math"
+
+
+@pytest.fixture(scope="module")
+def notes(tmp_path_factory) -> dict[tuple[str, str], Path]:
+    """Every example's note in every format, written once for the whole module."""
+    folder = tmp_path_factory.mktemp("notes")
+    out = {}
+    for example in EXAMPLES:
+        shutil.copy(example, folder / example.name)
+        for fmt, extension in FORMATS.items():
+            target = folder / (example.stem + extension)
+            assert main(["note", str(folder / example.name), "-o", str(target)]) == 0
+            out[(example.stem, fmt)] = target
+    return out
+
+
+def _marker(text: str) -> dict:
+    return json.loads(re.search(r"symcirc-note (\{.*\})", text).group(1))
+
+
+def test_there_are_examples():
+    assert len(EXAMPLES) >= 3
+
+
+@pytest.mark.parametrize("example", [e.stem for e in EXAMPLES])
+def test_note_renders_in_every_format(notes, example):
+    import symcirc
+
+    circuit = symcirc.load(str(ROOT / "examples" / f"{example}.circuit"))
+    digest = hashlib.sha256((ROOT / "examples" / f"{example}.circuit").read_bytes()).hexdigest()
+    for fmt in FORMATS:
+        text = notes[(example, fmt)].read_text(encoding="utf-8")
+        escape = {"markdown": escape_md, "latex": escape_tex_code, "html": html.escape}[fmt]
+        marker = _marker(text)
+        assert marker == {"source": f"{example}.circuit", "sha256": digest,
+                          "version": symcirc.__version__, "format": fmt, "quantities": None,
+                          "template": None}
+        assert digest in text
+        for element in circuit.elements:
+            assert escape(element) in text
+        for statement in circuit.derives:
+            for quantity in statement.texts:
+                assert escape(quantity) in text
+
+
+@pytest.mark.parametrize("example", [e.stem for e in EXAMPLES])
+def test_latex_note_compiles(notes, example):
+    pdf = pdflatex(notes[(example, "latex")])
+    assert pdf_pages(pdf) > 0
+    words = " ".join(pdf_text(pdf).split())
+    assert "Sign conventions" in words and "SHA-256" in words
+    # long formulas are broken or scaled, never left running off the page (TeX's own
+    # measure: an overfull box says by how much a line sticks out)
+    log = pdf.with_suffix(".log").read_text(errors="replace")
+    overfull = [float(x) for x in re.findall(r"Overfull \\hbox \(([\d.]+)pt too wide", log)]
+    assert max(overfull, default=0) < 30, overfull
+
+
+@pytest.mark.parametrize("example", [e.stem for e in EXAMPLES])
+def test_html_note_parses_with_mathml_for_each_formula(notes, example):
+    text = notes[(example, "html")].read_text(encoding="utf-8")
+    parser = html5lib.HTMLParser(strict=False, namespaceHTMLElements=False)
+    tree = parser.parse(text)
+    assert not parser.errors, parser.errors[:3]
+    equations = [e for e in tree.iter("div") if e.get("class") == "equation"]
+    assert equations
+    for equation in equations:
+        lines = [d for d in equation if d.tag == "div"]
+        assert lines and all(d.find(MATHML) is not None for d in lines)
+    articles = list(tree.iter("article"))
+    assert articles and all(a.find(".//" + MATHML) is not None for a in articles)
+    # stands alone: no script, no stylesheet or image from elsewhere
+    assert not list(tree.iter("script")) and not list(tree.iter("link"))
+    for image in tree.iter("img"):
+        assert not re.match(r"[a-z]+://", image.get("src"))
+
+
+@pytest.mark.parametrize("example", [e.stem for e in EXAMPLES])
+def test_figures_are_beside_the_note(notes, example):
+    for fmt in FORMATS:
+        note = notes[(example, fmt)]
+        text = note.read_text(encoding="utf-8")
+        for reference in re.findall(r"(" + re.escape(note.stem) + r"_figures/[^)\"}\s]+)", text):
+            assert (note.parent / reference).stat().st_size > 0
+
+
+def test_second_run_is_byte_identical(notes, tmp_path):
+    for (example, fmt), note in notes.items():
+        before = note.read_bytes()
+        figures = {p: p.read_bytes() for p in note.parent.glob(f"{note.stem}_figures/*")}
+        assert main(["note", str(note.parent / f"{example}.circuit"), "-o", str(note)]) == 0
+        assert note.read_bytes() == before, (example, fmt)
+        for path, data in figures.items():
+            assert path.read_bytes() == data, path
+
+
+def test_standard_output_and_quantities(capsys, tmp_path):
+    example = ROOT / "examples" / "bridge_adc.circuit"
+    assert main(["note", str(example), "thevenin(out)", "-o", "-", "--format", "md"]) == 0
+    out = capsys.readouterr().out
+    assert _marker(out)["quantities"] == ["thevenin(out)"]
+    assert "thevenin(out).voltage" in out and "_figures/" not in out
+
+
+def test_refuses_to_write_over_the_input(tmp_path, capsys):
+    source = tmp_path / "bridge.circuit"
+    shutil.copy(ROOT / "examples" / "bridge_adc.circuit", source)
+    before = source.read_bytes()
+    assert main(["note", str(source), "-o", str(source), "--format", "md"]) == 2
+    assert "refusing to write the output over the input" in capsys.readouterr().err
+    assert source.read_bytes() == before
+
+
+def test_bad_input_is_reported_without_traceback(tmp_path, capsys):
+    source = tmp_path / "bad.circuit"
+    source.write_text('title "x"\nresistor R1 (a, gnd) = 10 nF\n', encoding="utf-8")
+    assert main(["note", str(source), "-o", str(tmp_path / "bad.md")]) == 2
+    err = capsys.readouterr().err
+    assert re.search(r"bad\.circuit:2:\d+: error: ", err) and "Traceback" not in err
+    assert not (tmp_path / "bad.md").exists()
+
+
+def _hostile_circuit(folder: Path) -> Path:
+    escaped = HOSTILE.replace("\\", "\\\\").replace('"', '\\"')
+    source = folder / "hostile.circuit"
+    source.write_text(
+        f'title "{escaped}"\n'
+        'voltage source U (in, gnd) = 5 V\n'
+        f'resistor R1 (in, out) = 1 kΩ ± 1 % "{escaped}"\n'
+        'resistor R2 (out, gnd) = 2 kΩ\n'
+        'derive V(out)\n', encoding="utf-8")
+    return source
+
+
+def test_hostile_title_from_a_file_renders_literally(tmp_path):
+    source = _hostile_circuit(tmp_path)
+    for extension in FORMATS.values():
+        assert main(["note", str(source), "-o", str(tmp_path / f"h{extension}")]) == 0
+    page = (tmp_path / "h.html").read_text(encoding="utf-8")
+    tree = html5lib.parse(page, namespaceHTMLElements=False)
+    assert "".join(tree.find(".//h1").itertext()) == HOSTILE
+    assert not list(tree.iter("script"))
+    from markdown_it import MarkdownIt
+
+    md = MarkdownIt("commonmark").enable("table").render(
+        (tmp_path / "h.md").read_text(encoding="utf-8"))
+    assert "".join(html5lib.parse(md, namespaceHTMLElements=False).find(".//h1")
+                   .itertext()) == HOSTILE
+    assert HOSTILE in " ".join(pdf_text(pdflatex(tmp_path / "h.tex")).split())
+
+
+def test_user_templates_override_through_the_command(tmp_path):
+    source = _hostile_circuit(tmp_path)
+    templates = tmp_path / "mine"
+    templates.mkdir()
+    (templates / "note.md.j2").write_text(
+        "{% for r in note.results %}{{ r.quantity }} = {{ r.nominal | eng(r.unit) }}\n"
+        "{% endfor %}", encoding="utf-8")
+    assert main(["note", str(source), "-o", str(tmp_path / "n.md"), "--template",
+                 str(templates)]) == 0
+    # V(out) of a 1 k / 2 k divider from 5 V: 5·2/3 = 3.333 V (voltage divider rule)
+    assert (tmp_path / "n.md").read_text(encoding="utf-8") == "V(out) = 3.333 V\n"
+
+
+def test_cautions_for_high_voltage_and_dissipation(tmp_path):
+    source = tmp_path / "mains.circuit"
+    source.write_text(
+        'title "Mains sensing divider"\n'
+        'voltage source Umains (line, gnd) = 325 V   "mains crest"\n'
+        'resistor Rtop (line, sense) = 100 kΩ\n'
+        'resistor Rbot (sense, gnd) = 1 kΩ\n'
+        'derive V(sense)\n', encoding="utf-8")
+    assert main(["note", str(source), "-o", str(tmp_path / "m.md")]) == 0
+    text = (tmp_path / "m.md").read_text(encoding="utf-8")
+    # independent figures: I = 325/101k; P(Rtop) = I²·100k ≈ 1.035 W; node line at 325 V
+    current = 325 / 101e3
+    assert current**2 * 100e3 > 0.25 and current**2 * 1e3 < 0.25
+    assert "Node line is at 325 V" in text
+    assert "Rtop dissipates 1.035 W" in text and "Rbot dissipates" not in text
+    assert "local codes" in text and "licensed" in text
+
+
+def test_no_caution_for_the_low_voltage_examples(notes):
+    for example in ("bridge_adc",):
+        assert "Caution" not in notes[(example, "markdown")].read_text(encoding="utf-8")

@@ -1,0 +1,63 @@
+"""Formula sheets: one table per circuit, several files in one sheet, LaTeX that compiles,
+spreads from the tolerance analysis."""
+
+from __future__ import annotations
+
+import itertools
+import re
+from pathlib import Path
+
+from symcirc.cli import main
+from tests.notes_support import pdf_pages, pdf_text, pdflatex
+
+ROOT = Path(__file__).resolve().parents[1]
+EXAMPLES = sorted((ROOT / "examples").glob("*.circuit"))
+
+
+def _divider(folder: Path) -> Path:
+    source = folder / "divider.circuit"
+    source.write_text(
+        'title "Reference divider"\n'
+        'voltage source U (in, gnd) = 5 V\n'
+        'resistor R1 (in, out) = 1 kΩ ± 1 %\n'
+        'resistor R2 (out, gnd) = 2 kΩ ± 1 %\n'
+        'derive V(out)\n', encoding="utf-8")
+    return source
+
+
+def test_sheet_of_all_examples_in_markdown_and_latex(tmp_path):
+    import symcirc
+
+    files = [str(e) for e in EXAMPLES]
+    assert main(["sheet", *files, "-o", str(tmp_path / "sheet.md")]) == 0
+    assert main(["sheet", *files, "-o", str(tmp_path / "sheet.tex")]) == 0
+    md = (tmp_path / "sheet.md").read_text(encoding="utf-8")
+    words = " ".join(pdf_text(pdflatex(tmp_path / "sheet.tex")).split())
+    assert pdf_pages(tmp_path / "sheet.pdf") >= 1
+    for example in EXAMPLES:
+        circuit = symcirc.load(str(example))
+        assert circuit.title in md and md.count(f"## {circuit.title}") == 1
+        assert " ".join(circuit.title.split()) in words
+    # one table per circuit: a header row for each
+    assert md.count("| Quantity | Formula | Nominal | Unit | Spread |") == len(EXAMPLES)
+
+
+def test_spread_is_the_worst_case_over_the_tolerances(tmp_path):
+    source = _divider(tmp_path)
+    assert main(["sheet", str(source), "-o", str(tmp_path / "s.md")]) == 0
+    row = next(line for line in (tmp_path / "s.md").read_text(encoding="utf-8").splitlines()
+               if line.startswith("| `V(out)`"))
+    # brute force over the four corners, independently of symcirc: V = U·R2/(R1 + R2)
+    values = [5 * r2 / (r1 + r2) for r1, r2 in itertools.product((990, 1010), (1980, 2020))]
+    nominal = 5 * 2000 / 3000
+    low, high = min(values) / nominal - 1, max(values) / nominal - 1
+    spread = re.search(r"\| ([−\-\d.]+) % / \+([\d.]+) % \|$", row)
+    assert spread, row
+    assert abs(float(spread.group(1).replace("−", "-")) / 100 - low) < 1e-4
+    assert abs(float(spread.group(2)) / 100 - high) < 1e-4
+    assert "3.333" in row and "| V |" in row
+
+
+def test_sheet_refuses_html(tmp_path, capsys):
+    assert main(["sheet", str(_divider(tmp_path)), "-o", str(tmp_path / "s.html")]) == 2
+    assert "not available" in capsys.readouterr().err
