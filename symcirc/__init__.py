@@ -19,8 +19,8 @@ __all__ = ["Circuit", "Location", "SymcircError", "__version__", "load", "parse"
 
 def parse(text: str, filename: str = "<input>") -> Circuit:
     """Read circuit text into a validated `Circuit`; raises `SymcircError` on any problem."""
-    from .model.elaborate import elaborate
     from .language.parser import parse_document
+    from .model.elaborate import elaborate
 
     return elaborate(parse_document(text, filename))
 

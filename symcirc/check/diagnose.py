@@ -1,0 +1,341 @@
+"""Why a claim does not hold, in the terms a reviewer would use.
+
+Each test proposes an explanation and proves it exactly (a random evaluation only filters
+candidates before the exact test): an overall sign, a constant factor, two like parts
+swapped, a missing, extra or wrong term, a limit in which the claim holds (`A -> oo`,
+`RL >> Ri`), an equality between parts under which it holds (`R1 = R2`), a factor. The
+first that explains the difference is reported.
+"""
+
+from __future__ import annotations
+
+import random
+from collections.abc import Callable, Iterator
+from fractions import Fraction
+from itertools import combinations
+
+import flint
+import sympy
+
+from .dimensions import Dimensions
+from .exact import LAPLACE_NAME, RatFunc, Space
+
+UNKNOWN = sympy.Symbol("#u")
+MAX_EQUALITY_PAIRS = 45
+"""Two equalities at once are tried when there are at most this many like pairs."""
+NICE_DENOMINATOR_TERMS = 3
+"""A term a person would have written: one term over at most this many."""
+
+
+class _Case:
+    """A claim that does not hold, with what the tests share."""
+
+    def __init__(self, space: Space, d: RatFunc, c: RatFunc, claimed: sympy.Expr,
+                 dims: Dimensions) -> None:
+        self.space, self.d, self.c, self.dims = space, d, c, dims
+        self.original = claimed
+        self.claimed = space.prepare(claimed)
+        self.names = [n for n in space.symbols if not n.startswith("#")]
+        rng = random.Random(7919)
+        self.point = [rng.randint(2, 10**6) for _ in space.gens]
+        self.d_vars = _used_variables(d)
+        self.used = self.d_vars | _used_variables(c)
+
+    def at(self, value: RatFunc, point: list[int]) -> Fraction | None:
+        return self.space.evaluate(value, point)
+
+    def index(self, name: str) -> int:
+        return self.space.symbols.index(name)
+
+    def like_pairs(self) -> Iterator[tuple[str, str]]:
+        """Pairs of parts of one dimension (free symbols pair with free ones)."""
+        parts = [n for n in self.names if n != LAPLACE_NAME and self.index(n) in self.used]
+        for a, b in combinations(parts, 2):
+            if self.dims.get(a) == self.dims.get(b):
+                yield a, b
+
+    def compose(self, value: RatFunc, mapping: dict[int, int]) -> RatFunc:
+        gens = list(self.space.gens)
+        args = [gens[mapping.get(i, i)] for i in range(len(gens))]
+        return RatFunc(value.num.compose(*args), value.den.compose(*args))
+
+    def show(self, value: RatFunc) -> str:
+        return sympy.sstr(self.space.ratfunc_to_sympy(value))
+
+
+def diagnose(space: Space, d: RatFunc, c: RatFunc, claimed: sympy.Expr,
+             dims: Dimensions) -> list[str]:
+    """Explanations of why `c` (the claim) differs from `d` (the derived result)."""
+    case = _Case(space, d, c, claimed, dims)
+    tests: list[Callable[[_Case], str | None]] = [_constant_factor]
+    if not space.relations:  # pi is one more variable here
+        tests += [_swapped, _whole_claim_term, _limit, _added_term, _inner_term, _factor,
+                  _equality, _in_a_limit]
+    for test in tests:
+        found = test(case)
+        if found:
+            return [found]
+    return []
+
+
+# ---------------------------------------------------------------- the tests
+
+
+def _constant_factor(case: _Case) -> str | None:
+    space = case.space
+    k = _ratio_guess(case)
+    if k is None or k == 0 or not space.equal(case.c, space.constant(k) * case.d):
+        return None
+    if k == -1:
+        return "overall sign: the claim is the negative of the derived result"
+    return f"constant factor: the claim is {_fraction_text(k)} times the derived result"
+
+
+def _ratio_guess(case: _Case) -> Fraction | None:
+    """claimed/derived at one point: exact in rational spaces, else a rational guess."""
+    space = case.space
+    if not space.relations:
+        dv, cv = case.at(case.d, case.point), case.at(case.c, case.point)
+        return None if not dv or cv is None else cv / dv
+    subs = {sympy.Symbol(n): sympy.Integer(v)
+            for n, v in zip(case.names, case.point, strict=False)}
+    exprs = [space.to_sympy(p).xreplace(subs) for p in (case.c.num, case.c.den, case.d.num,
+                                                          case.d.den)]
+    try:
+        cn, cd, dn, dd = (complex(e.evalf(40)) for e in exprs)
+        ratio = (cn * dd) / (cd * dn)
+    except (ZeroDivisionError, TypeError):
+        return None
+    if abs(ratio.imag) > 1e-9 * abs(ratio):
+        return None
+    return Fraction(ratio.real).limit_denominator(1000)
+
+
+def _swapped(case: _Case) -> str | None:
+    target = case.at(case.d, case.point)
+    found = []
+    for a, b in case.like_pairs():
+        i, j = case.index(a), case.index(b)
+        point = list(case.point)
+        point[i], point[j] = point[j], point[i]
+        if case.at(case.c, point) != target:
+            continue
+        if case.space.equal(case.compose(case.c, {i: j, j: i}), case.d):
+            found.append(f"{a} and {b}")
+    if not found:
+        return None
+    also = f" (or, equally, {' or '.join(found[1:])})" if len(found) > 1 else ""
+    return f"swapped parts: the claim holds with {found[0]} exchanged{also}"
+
+
+def _equality(case: _Case) -> str | None:
+    """The claim holds when one pair of like parts are equal, or else two pairs."""
+    pairs = list(case.like_pairs())
+    for pair in pairs:
+        if _holds_with_equal(case, [pair]):
+            return f"holds only when {pair[0]} = {pair[1]}"
+    if len(pairs) > MAX_EQUALITY_PAIRS:
+        return None
+    for first, second in combinations(pairs, 2):
+        if len({*first, *second}) == 4 and _holds_with_equal(case, [first, second]):
+            return (f"holds only when {first[0]} = {first[1]} "
+                    f"and {second[0]} = {second[1]}")
+    return None
+
+
+def _holds_with_equal(case: _Case, pairs: list[tuple[str, str]]) -> bool:
+    point = list(case.point)
+    mapping = {}
+    for a, b in pairs:
+        i, j = case.index(a), case.index(b)
+        point[j] = point[i]
+        mapping[j] = i
+    if case.at(case.c, point) != case.at(case.d, point):
+        return False
+    return case.space.equal(case.compose(case.c, mapping), case.compose(case.d, mapping))
+
+
+def _limit(case: _Case) -> str | None:
+    """The claim, written without some symbol x, is the derived result's limit in x."""
+    found = [_limit_text(case, name, toward) for name, toward, limit in _limits(case)
+             if case.space.equal(case.c, limit)]
+    if not found:
+        return None
+    return "holds only in the limit " + "; or ".join(found)
+
+
+def _limits(case: _Case) -> Iterator[tuple[str, str, RatFunc]]:
+    """(symbol, 'oo' or '0', the derived result's limit) for every symbol the derived result
+    uses and the claim does not, where that limit is finite and not zero."""
+    c_vars = _used_variables(case.c)
+    for name in case.names:
+        i = case.index(name)
+        if i not in case.d_vars or i in c_vars:
+            continue
+        for toward, pick in (("oo", max), ("0", min)):
+            pn, an = _coefficient(case.d.num, i, pick)
+            pd, ad = _coefficient(case.d.den, i, pick)
+            if pn == pd:
+                yield name, toward, RatFunc(an, ad)
+
+
+def _in_a_limit(case: _Case) -> str | None:
+    """In a limit the claim stands for, one of the simple explanations holds."""
+    for name, toward, limit in _limits(case):
+        inner = _Case(case.space, limit, case.c, case.original, case.dims)
+        for test in (_constant_factor, _swapped, _whole_claim_term, _inner_term):
+            found = test(inner)
+            if found:
+                return f"in the limit {_limit_text(case, name, toward)}: {found}"
+    return None
+
+
+def _limit_text(case: _Case, name: str, toward: str) -> str:
+    if name == LAPLACE_NAME:
+        band = "high frequencies" if toward == "oo" else "low frequencies"
+        return f"s -> {toward} (at {band} only)"
+    dim = case.dims.get(name)
+    like = [n for n in case.names if n not in (name, LAPLACE_NAME) and dim is not None
+            and case.dims.get(n) == dim and case.index(n) in case.used]
+    if not like:
+        return f"{name} -> {toward}"
+    relation = ">>" if toward == "oo" else "<<"
+    return f"{name} -> {toward} ({name} {relation} {', '.join(like)})"
+
+
+def _whole_claim_term(case: _Case) -> str | None:
+    return _term_test(case, case.claimed, top=True, negative=False)
+
+
+def _added_term(case: _Case) -> str | None:
+    """A term to subtract: reported after the limits, which usually explain it better
+    (`Ub` for `Ub*RL/(Ri + RL)` is the limit Ri -> 0 rather than a missing term)."""
+    return _term_test(case, case.claimed, top=True)
+
+
+def _inner_term(case: _Case) -> str | None:
+    for node in _sums(case.claimed):
+        if node is case.claimed:
+            continue
+        found = _term_test(case, node, top=False)
+        if found:
+            return found
+    return None
+
+
+def _term_test(case: _Case, node: sympy.Expr, top: bool, negative: bool = True) -> str | None:
+    """What must be added to `node` (a sum of the claim, or the whole claim) to make the
+    claim hold; reported when it is a missing, extra or wrong term."""
+    missing = _solve_for_term(case, node)
+    if missing is None:
+        return None
+    space = case.space
+    where = "the claim" if top else f"`{_short(node)}`"
+    terms = node.args if node.is_Add else ()
+    corrected = [(term, (space.convert(term) + missing).cancelled()) for term in terms]
+    for term, fixed in corrected:
+        if fixed.is_zero():
+            return f"extra term: `{_short(term)}` in {where} should not be there"
+    for term, fixed in corrected:
+        if _monomial(fixed):
+            return f"wrong term: `{_short(term)}` in {where} should be `{case.show(fixed)}`"
+    if _nice(missing) and (negative or missing.num.leading_coefficient() > 0):
+        shown = case.show(missing)
+        signed = f"- {shown[1:]}" if shown.startswith("-") else f"+ {shown}"
+        return f"missing term: {where} lacks the term `{signed}`"
+    for term, fixed in corrected:
+        off = (space.convert(term) / fixed).cancelled()
+        if _monomial(off):
+            return (f"wrong factor: `{_short(term)}` in {where} should be "
+                    f"`{case.show(fixed)}` (it is `{case.show(off)}` times that)")
+    return None
+
+
+def _solve_for_term(case: _Case, node: sympy.Expr) -> RatFunc | None:
+    """u such that the claim with `node` replaced by `node + u` equals the derived result
+    (when the claim is a ratio of first-degree expressions in u)."""
+    space = case.space
+    u = space.symbols.index(UNKNOWN.name)
+    try:
+        with_u = space.convert(case.claimed.xreplace({node: node + UNKNOWN}))
+    except ZeroDivisionError:
+        return None
+    n1, n0 = _split_linear(with_u.num, u, space)
+    m1, m0 = _split_linear(with_u.den, u, space)
+    if n1 is None or m1 is None:
+        return None
+    top = m0 * case.d.num - n0 * case.d.den
+    bottom = n1 * case.d.den - m1 * case.d.num
+    if bottom.is_zero() or top.is_zero():
+        return None
+    return RatFunc(top, bottom).cancelled()
+
+
+def _factor(case: _Case) -> str | None:
+    ratio = (case.c / case.d).cancelled()
+    if len(ratio.num) == 1 and len(ratio.den) == 1:
+        return f"factor: the claim is `{case.show(ratio)}` times the derived result"
+    return None
+
+
+# ---------------------------------------------------------------- polynomial helpers
+
+
+def _used_variables(value: RatFunc) -> set[int]:
+    used = set()
+    for poly in (value.num, value.den):
+        used.update(i for i, e in enumerate(poly.degrees()) if e)
+    return used
+
+
+def _coefficient(poly: flint.fmpz_mpoly, var: int, pick) -> tuple[int, flint.fmpz_mpoly]:
+    """Highest (pick=max) or lowest (pick=min) power of variable `var`, with its coefficient."""
+    terms = list(poly.terms())
+    power = pick(m[var] for m, _ in terms)
+    ctx = poly.context()
+    chosen = {m[:var] + (0,) + m[var + 1:]: c for m, c in terms if m[var] == power}
+    return power, ctx.from_dict(chosen)
+
+
+def _split_linear(poly, var: int, space: Space):
+    """(a, b) with poly = a*x + b in variable `var`, or (None, None) when of higher degree."""
+    if poly.degrees()[var] > 1:
+        return None, None
+    parts: dict[int, dict] = {0: {}, 1: {}}
+    for m, c in poly.terms():
+        parts[m[var]][m[:var] + (0,) + m[var + 1:]] = c
+    return space.ctx.from_dict(parts[1]), space.ctx.from_dict(parts[0])
+
+
+def _sums(expr: sympy.Expr) -> list[sympy.Expr]:
+    """Every sum in the expression, outermost first, each once."""
+    out: list[sympy.Expr] = []
+    stack = [expr]
+    while stack:
+        node = stack.pop(0)
+        if node.is_Add and node not in out:
+            out.append(node)
+        stack.extend(node.args)
+    return out
+
+
+def _nice(value: RatFunc) -> bool:
+    """A single term, possibly over a short sum: what a person writes as one term."""
+    return len(value.num) == 1 and len(value.den) <= NICE_DENOMINATOR_TERMS
+
+
+def _short(expr: sympy.Expr, width: int = 100) -> str:
+    """A subexpression of the claim as text; a long sum shortened to its ends."""
+    text = sympy.sstr(expr)
+    if len(text) <= width or not expr.is_Add:
+        return text
+    terms = sympy.Add.make_args(expr)
+    return f"{sympy.sstr(terms[0])} + ... + {sympy.sstr(terms[-1])} ({len(terms)} terms)"
+
+
+def _monomial(value: RatFunc) -> bool:
+    return len(value.num) == 1 and len(value.den) == 1
+
+
+def _fraction_text(k: Fraction) -> str:
+    return str(k.numerator) if k.denominator == 1 else f"{k.numerator}/{k.denominator}"

@@ -1,0 +1,317 @@
+"""Exact arithmetic for deciding claims, with no floating point anywhere in the decision.
+
+Expressions become ratios of integer polynomials (python-flint `fmpz_mpoly`). Element and
+parameter symbols are positive reals and `s` is complex; only polynomial identities are used,
+so the answer holds for every value. A radical `b^(p/q)` becomes a new variable `r` tied by
+`r^q = b`; an identity that reduces to zero modulo these relations holds on every branch, so
+in particular on the principal one. `pi` is transcendental and is simply one more variable.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from collections.abc import Iterable, Sequence
+from fractions import Fraction
+
+import flint
+import sympy
+
+LAPLACE_NAME = "s"
+SHOWN_TERMS = 120
+"""Results with more terms than this (numerator and denominator) are described, not shown."""
+
+
+class Undecidable(Exception):
+    """The expression lies outside what can be decided exactly (e.g. `R1^x`)."""
+
+
+def natural_key(name: str) -> tuple:
+    """Sort key putting R2 before R10."""
+    return tuple(int(part) if part.isdigit() else part for part in re.split(r"(\d+)", name))
+
+
+def positive_symbols(names: Iterable[str]) -> dict[sympy.Symbol, sympy.Symbol]:
+    """Plain symbols to positive ones (every name but the Laplace variable)."""
+    return {
+        sympy.Symbol(n): sympy.Symbol(n, positive=True) for n in names if n != LAPLACE_NAME
+    }
+
+
+class RatFunc:
+    """A ratio of two integer polynomials in one flint context (not necessarily cancelled)."""
+
+    __slots__ = ("num", "den")
+
+    def __init__(self, num: flint.fmpz_mpoly, den: flint.fmpz_mpoly) -> None:
+        self.num = num
+        self.den = den
+
+    def __add__(self, other: RatFunc) -> RatFunc:
+        if self.den == other.den:
+            return RatFunc(self.num + other.num, self.den)
+        if other.den.is_one():
+            return RatFunc(self.num + other.num * self.den, self.den)
+        if self.den.is_one():
+            return RatFunc(self.num * other.den + other.num, other.den)
+        g = self.den.gcd(other.den)
+        a, b = self.den / g, other.den / g
+        return RatFunc(self.num * b + other.num * a, self.den * b)
+
+    def __neg__(self) -> RatFunc:
+        return RatFunc(-self.num, self.den)
+
+    def __sub__(self, other: RatFunc) -> RatFunc:
+        return self + (-other)
+
+    def __mul__(self, other: RatFunc) -> RatFunc:
+        return RatFunc(self.num * other.num, self.den * other.den)
+
+    def __truediv__(self, other: RatFunc) -> RatFunc:
+        if other.num.is_zero():
+            raise ZeroDivisionError("division by zero")
+        return RatFunc(self.num * other.den, self.den * other.num)
+
+    def ratio(self, other: RatFunc) -> RatFunc:
+        """self / other in lowest terms, for operands in lowest terms (cheaper than
+        dividing, then cancelling)."""
+        g1, g2 = self.num.gcd(other.num), self.den.gcd(other.den)
+        num = (self.num / g1) * (other.den / g2)
+        den = (self.den / g2) * (other.num / g1)
+        return RatFunc(num, den).cancelled() if den.leading_coefficient() < 0 else RatFunc(num, den)
+
+    def __pow__(self, exponent: int) -> RatFunc:
+        if exponent >= 0:
+            return RatFunc(self.num**exponent, self.den**exponent)
+        return RatFunc(self.den ** (-exponent), self.num ** (-exponent))
+
+    def cancelled(self) -> RatFunc:
+        """Lowest terms, denominator with a positive leading coefficient."""
+        g = self.num.gcd(self.den)
+        num, den = (self.num / g, self.den / g) if not g.is_one() else (self.num, self.den)
+        if den.leading_coefficient() < 0:
+            num, den = -num, -den
+        return RatFunc(num, den)
+
+    def is_zero(self) -> bool:
+        return self.num.is_zero()
+
+
+class Space:
+    """The variables of the expressions compared: their symbols, radicals and `pi`.
+
+    Build it from every expression that will be compared, then `convert` each of them.
+    `extra` names variables of the caller's own (e.g. an unknown term being solved for).
+    """
+
+    def __init__(self, expressions: Sequence[sympy.Expr], extra: Sequence[str] = ()) -> None:
+        names = set()
+        for e in expressions:
+            names.update(str(x) for x in e.free_symbols)
+        self._positive = positive_symbols(names)
+        self.symbols = sorted(names, key=natural_key) + list(extra)
+        """Symbol names, in the order of the first variables (then `extra` ones)."""
+        prepared = [self.prepare(e) for e in expressions]
+        roots: dict[sympy.Expr, int] = {}  # radicand -> degree, inner radicals first
+        self.has_pi = False
+        for e in prepared:
+            self._collect(e, roots)
+        self.roots = list(roots.items())
+        variables = list(self.symbols) + [f"#root{i}" for i in range(len(self.roots))]
+        if self.has_pi:
+            variables.append("#pi")
+        if not variables:
+            variables.append("#one")  # flint needs at least one variable
+        self.ctx = flint.fmpz_mpoly_ctx.get(tuple(variables), "deglex")
+        self.gens = self.ctx.gens()
+        self._root_var = {
+            radicand: len(self.symbols) + i for i, (radicand, _) in enumerate(self.roots)
+        }
+        self._memo: dict[sympy.Expr, RatFunc] = {}
+        self.one = self.ctx.constant(1)
+        # Relations r^q * den(b) = num(b), converted in order so inner radicals exist first.
+        self.relations: list[tuple[int, int, RatFunc]] = []
+        for radicand, degree in self.roots:
+            self.relations.append((self._root_var[radicand], degree, self.convert(radicand)))
+
+    # -- building
+    def prepare(self, expr: sympy.Expr) -> sympy.Expr:
+        """Positive symbols, and radicands split into their positive factors."""
+        expr = expr.xreplace(self._positive) if self._positive else expr
+        return expr.replace(lambda e: e.is_Pow and _fractional(e.exp), _split_radical)
+
+    def _collect(self, expr: sympy.Expr, roots: dict[sympy.Expr, int]) -> None:
+        for arg in expr.args:
+            self._collect(arg, roots)
+        if expr is sympy.pi:
+            self.has_pi = True
+        elif expr.is_Pow and _fractional(expr.exp):
+            q = int(expr.exp.q)
+            roots[expr.base] = math.lcm(roots.get(expr.base, 1), q)
+        elif expr.is_Pow and not expr.exp.is_Integer:
+            raise Undecidable(f"a power with exponent {sympy.sstr(expr.exp)}")
+        elif isinstance(expr, sympy.Function):
+            raise Undecidable(f"the function {expr.func}")
+
+    def constant(self, value: Fraction | int) -> RatFunc:
+        value = Fraction(value)
+        return RatFunc(self.ctx.constant(value.numerator), self.ctx.constant(value.denominator))
+
+    def variable(self, name: str) -> RatFunc:
+        return RatFunc(self.gens[self.symbols.index(name)], self.one)
+
+    def convert(self, expr: sympy.Expr, prepared: bool = True) -> RatFunc:
+        """A sympy expression (built from our own trees) as an exact ratio of polynomials."""
+        if not prepared:
+            expr = self.prepare(expr)
+        done = self._memo.get(expr)
+        if done is None:
+            done = self._convert(expr)
+            self._memo[expr] = done
+        return done
+
+    def _convert(self, expr: sympy.Expr) -> RatFunc:
+        if expr.is_Rational:
+            return RatFunc(self.ctx.constant(int(expr.p)), self.ctx.constant(int(expr.q)))
+        if expr.is_Float:
+            return self.constant(Fraction(str(expr)))
+        if expr.is_Symbol:
+            return RatFunc(self.gens[self.symbols.index(expr.name)], self.one)
+        if expr is sympy.pi:
+            return RatFunc(self.gens[-1], self.one)
+        if expr.is_Add:
+            total = self.convert(expr.args[0])
+            for arg in expr.args[1:]:
+                total = total + self.convert(arg)
+            return total
+        if expr.is_Mul:
+            product = self.convert(expr.args[0])
+            for arg in expr.args[1:]:
+                product = product * self.convert(arg)
+            return product
+        if expr.is_Pow and expr.exp.is_Integer:
+            base = self.convert(expr.base)
+            if int(expr.exp) < 0 and base.num.is_zero():
+                raise Undecidable("a division by zero")
+            return base ** int(expr.exp)
+        if expr.is_Pow and _fractional(expr.exp):
+            var = self._root_var[expr.base]
+            degree = dict(self.roots)[expr.base]
+            power = int(expr.exp.p) * (degree // int(expr.exp.q))
+            return RatFunc(self.gens[var], self.one) ** power
+        if expr in (sympy.zoo, sympy.nan, sympy.oo, -sympy.oo):
+            raise Undecidable("a division by zero")
+        raise Undecidable(f"`{sympy.sstr(expr)}`")
+
+    # -- deciding
+    def reduce(self, poly: flint.fmpz_mpoly) -> flint.fmpz_mpoly:
+        """The polynomial with every radical's power below its degree (outer radicals first)."""
+        for var, degree, radicand in reversed(self.relations):
+            poly = _reduce_power(poly, var, degree, radicand, self.ctx)
+        return poly
+
+    def is_zero(self, value: RatFunc) -> bool:
+        """Exactly: is the value zero for every value of the symbols?"""
+        if not self.relations:
+            return value.num.is_zero()
+        return self.reduce(value.num).is_zero()
+
+    def equal(self, a: RatFunc, b: RatFunc) -> bool:
+        return self.is_zero(RatFunc(a.num * b.den - b.num * a.den, a.den * b.den))
+
+    @property
+    def rational(self) -> bool:
+        """True when no radical and no `pi` occur: values at rational points are rational."""
+        return not self.relations and not self.has_pi
+
+    def evaluate(self, value: RatFunc, point: Sequence[int]) -> Fraction | None:
+        """Exact value at integer values of the symbols (rational spaces only); None at a pole."""
+        args = list(point) + [0] * (len(self.gens) - len(point))
+        den = int(value.den(*args))
+        if den == 0:
+            return None
+        return Fraction(int(value.num(*args)), den)
+
+    # -- reading back
+    def to_sympy(self, poly: flint.fmpz_mpoly) -> sympy.Expr:
+        """A polynomial of this space as a sympy expression over plain symbols."""
+        symbols = [sympy.Symbol(n) for n in self.symbols]
+        plain = {v: k for k, v in self._positive.items()}
+        symbols += [sympy.Pow(r.xreplace(plain), sympy.Rational(1, d)) for r, d in self.roots]
+        if self.has_pi:
+            symbols.append(sympy.pi)
+        terms = []
+        for monom, coeff in poly.terms():
+            factors = [sym**e for sym, e in zip(symbols, monom, strict=False) if e]
+            terms.append(sympy.Mul(sympy.Integer(int(coeff)), *factors))
+        return sympy.Add(*terms)
+
+    def ratfunc_to_sympy(self, value: RatFunc, factor: bool = True) -> sympy.Expr:
+        """Cancelled, and factored when that is cheap: what a reader wants to see."""
+        value = value.cancelled()
+        return self._factored(value.num, factor) / self._factored(value.den, factor)
+
+    def show(self, value: RatFunc, most_terms: int = SHOWN_TERMS) -> str:
+        """The value as text: cancelled and factored, or its size when too large to read."""
+        value = value.cancelled()
+        if len(value.num) + len(value.den) <= most_terms:
+            return sympy.sstr(self.ratfunc_to_sympy(value))
+        if value.den.is_constant():
+            return f"(a polynomial of {len(value.num)} terms, too long to show)"
+        return (f"(a ratio of polynomials of {len(value.num)} and {len(value.den)} terms, "
+                "too long to show)")
+
+    def _factored(self, poly: flint.fmpz_mpoly, factor: bool) -> sympy.Expr:
+        if not factor or len(poly) > 400 or poly.is_constant():
+            return self.to_sympy(poly)
+        content, factors = poly.factor()
+        product = sympy.Mul(*(self.to_sympy(f) ** int(e) for f, e in factors))
+        if content == 1:
+            return product
+        if content == -1:
+            return -product
+        return sympy.Mul(sympy.Integer(int(content)), product, evaluate=False)
+
+
+def _fractional(exponent: sympy.Expr) -> bool:
+    return bool(exponent.is_Rational and not exponent.is_Integer)
+
+
+def _split_radical(power: sympy.Pow) -> sympy.Expr:
+    """`(4*(R1 + R2))^(1/2)` as `2*(R1 + R2)^(1/2)`: valid because every factor is positive."""
+    base, exponent = power.base, power.exp
+    if base.is_Atom or not base.is_polynomial() or len(sympy.Add.make_args(base)) > 50:
+        return power
+    if sympy.Symbol(LAPLACE_NAME) in base.free_symbols:
+        return power
+    content, factors = sympy.factor_list(base)
+    if content <= 0 or not all(_positive_coefficients(f) for f, _ in factors):
+        return power
+    out = sympy.Pow(content, exponent)
+    for f, e in factors:
+        out *= sympy.Pow(f, e * exponent)
+    return out
+
+
+def _positive_coefficients(poly: sympy.Expr) -> bool:
+    return all(c.is_positive for c in sympy.Poly(poly).coeffs())
+
+
+def _reduce_power(
+    poly: flint.fmpz_mpoly, var: int, degree: int, radicand: RatFunc, ctx
+) -> flint.fmpz_mpoly:
+    """Replace r^degree by radicand = num/den in `poly`, times a power of den (nonzero)."""
+    by_power: dict[int, dict] = {}
+    for monom, coeff in poly.terms():
+        by_power.setdefault(monom[var], {})[monom[:var] + (0,) + monom[var + 1:]] = coeff
+    top = max(by_power, default=0)
+    if top < degree:
+        return poly
+    scale = top // degree
+    out = ctx.constant(0)
+    r = ctx.gens()[var]
+    for power, terms in by_power.items():
+        k, rest = divmod(power, degree)
+        part = ctx.from_dict(terms) * r**rest
+        out += part * radicand.num**k * radicand.den ** (scale - k)
+    return out

@@ -1,0 +1,85 @@
+"""`symcirc export FILE QUANTITY... --lang python|c|numpy [--frequency] [-o OUT]`: the
+derived formulas as code, one function per quantity, common subexpressions shared.
+
+With no QUANTITY the file's `derive` statements are exported. `--frequency` replaces `s` by
+`j*omega` (the functions take `omega`, complex results). `-o -` or no `-o`: standard output.
+"""
+
+from __future__ import annotations
+
+import argparse
+from pathlib import Path
+
+from ..errors import SymcircError
+
+LANGUAGES = ("python", "numpy", "c")
+
+
+def add_arguments(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("file", metavar="FILE", help="the .circuit file to read")
+    parser.add_argument("quantities", metavar="QUANTITY", nargs="*",
+                        help="quantities such as 'thevenin(out)' (default: the file's derive "
+                             "statements)")
+    parser.add_argument("--lang", choices=LANGUAGES, required=True,
+                        help="python (scalars), numpy (arrays) or c (C99)")
+    parser.add_argument("--frequency", action="store_true",
+                        help="replace s by j*omega: functions of the angular frequency omega")
+    parser.add_argument("--substitute", action="store_true",
+                        help="replace defined symbols by their definitions")
+    parser.add_argument("-o", "--output", metavar="OUT", default="-",
+                        help="file to write (default: standard output)")
+
+
+def run(args: argparse.Namespace) -> int:
+    from .. import __version__, load
+    from ..export.functions import functions
+    from ..report.files import output_for, write_document
+
+    output = output_for(args.output, [args.file])
+    circuit = load(args.file)
+    results = _results(circuit, args)
+    units = {e.name: e.unit for e in circuit.elements.values()}
+    units.update({p.name: p.unit for p in circuit.parameters.values()})
+    units["s"] = "1/s"
+    title = circuit.title or Path(args.file).stem
+    if args.lang == "c":
+        from ..export.c import RESERVED, c_source
+
+        text = c_source(title, Path(args.file).name,
+                        functions(results, units, _nominals(circuit), args.frequency, RESERVED),
+                        __version__)
+    else:
+        from ..export.python import RESERVED, python_module
+
+        text = python_module(title, Path(args.file).name,
+                             functions(results, units, _nominals(circuit), args.frequency,
+                                       RESERVED), __version__, numpy=args.lang == "numpy")
+    write_document(output, text)
+    return 0
+
+
+def _nominals(circuit) -> dict:
+    return {str(symbol): value for symbol, value in circuit.symbol_nominals().items()}
+
+
+def _results(circuit, args) -> list:
+    from ..quantities import QUANTITY_ORIGIN, derive_quantity, parse
+    from ..quantities.registry import DeriveOptions
+
+    results = []
+    if args.quantities:
+        for text in args.quantities:
+            options = DeriveOptions(substitute=args.substitute, steps=False,
+                                    origin=(QUANTITY_ORIGIN, text))
+            results += derive_quantity(circuit, parse(text), options)
+    else:
+        if not circuit.derives:
+            raise SymcircError(f"{args.file} has no derive statements; name the quantities to "
+                               f"export, e.g. symcirc export {args.file} 'thevenin(out)' "
+                               "--lang c", args.file)
+        for statement in circuit.derives:
+            options = DeriveOptions(substitute=args.substitute, steps=False,
+                                    assumptions=statement.assumptions)
+            for quantity in statement.quantities:
+                results += derive_quantity(circuit, quantity, options)
+    return results
