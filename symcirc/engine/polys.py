@@ -34,6 +34,27 @@ class EngineError(SymcircError):
     system): raised with a message for the user; callers add the circuit's context."""
 
 
+MAX_TERMS = 5_000_000
+"""Largest polynomial (terms) the exact engine builds. Past it memory, not time, runs out,
+and python-flint aborts the whole process on a failed allocation instead of raising, so
+jobs that reach it are stopped with a clear error (`TooLarge`) before they get there."""
+
+
+class TooLarge(EngineError):
+    """An exact result (or a polynomial on the way to it) beyond MAX_TERMS terms."""
+
+
+def check_size(p: Any, what: str = "an intermediate polynomial") -> None:
+    """Raise TooLarge when polynomial `p` has more than MAX_TERMS terms (len() is O(1) for
+    both backends, so this costs nothing next to the arithmetic that made `p`)."""
+    if len(p) > MAX_TERMS:
+        raise TooLarge(
+            f"the exact derivation is too large: {what} has {len(p):,} terms (the limit is "
+            f"{MAX_TERMS:,}); stopped before memory runs out",
+            notes=("derive the circuit in parts: a section at a time, each joined to the "
+                   "next through its Thevenin equivalent",))
+
+
 class InexactDivision(ArithmeticError):
     """`exquo` was asked for a division that leaves a remainder (a programming error)."""
 
@@ -197,7 +218,9 @@ class PolynomialRing:
         return p.is_zero() if self.backend == "flint" else not p
 
     def is_constant(self, p: Poly) -> bool:
-        return p.is_constant() if self.backend == "flint" else p.is_ground
+        if self.backend == "flint":  # flint's own is_constant walks every term
+            return len(p) == 0 or (len(p) == 1 and not any(p.degrees()))
+        return p.is_ground
 
     def constant_value(self, p: Poly) -> int:
         """The integer a constant polynomial stands for."""

@@ -23,10 +23,6 @@ from .ratfunc import RationalFunction
 
 Path = Literal["forest", "elimination"]
 
-from importlib.util import find_spec  # noqa: E402  TEMPORARY until engine.forests lands
-
-_HAVE_FORESTS = find_spec("symcirc.engine.forests") is not None
-
 
 class Solution(Protocol):
     ring: object
@@ -42,7 +38,7 @@ def solution(circuit: Circuit, shorted: Iterable[str] = (), path: Path | None = 
     """The solved system of `circuit` with the ports in `shorted` short-circuited."""
     shorted = frozenset(shorted)
     network = build_network(circuit)
-    chosen = path or ("forest" if network.is_passive and _HAVE_FORESTS else "elimination")
+    chosen = path or ("forest" if network.is_passive else "elimination")
     key = ("solution", shorted, chosen)
     cached = circuit.cache.get(key)
     if cached is None:
