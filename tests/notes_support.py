@@ -69,6 +69,12 @@ def pdf_pages(pdf: Path) -> int:
     return int(re.search(r"^Pages:\s+(\d+)", info.stdout, re.M).group(1))
 
 
+def last_page(pdf: Path) -> int:
+    """The page LaTeX itself put the note's last line on (its `symcirc:end` label)."""
+    aux = pdf.with_suffix(".aux").read_text(errors="replace")
+    return int(re.search(r"\\newlabel\{symcirc:end\}\{\{[^}]*\}\{(\d+)\}", aux).group(1))
+
+
 def pdf_text(pdf: Path) -> str:
     return subprocess.run(["pdftotext", "-enc", "UTF-8", str(pdf), "-"], capture_output=True,
                           text=True, check=True).stdout

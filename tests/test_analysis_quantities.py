@@ -216,3 +216,121 @@ def test_plot_command_errors_exit_2(tmp_path, capsys):
     assert "does not depend on s" in capsys.readouterr().err
     assert main(["plot", str(path), "V(out)", "-o", str(tmp_path / "x.pdf")]) == 2
     assert ".png or .svg" in capsys.readouterr().err
+
+
+ANALYSES = ("sensitivities(V(out))", "tolerance(V(out))", "loading(out, Rm)",
+            "minimum_load(out, 0.1 %)", "solve(V(out) = 1.2, Ra)")
+
+
+@pytest.fixture()
+def sensor_file(tmp_path):
+    path = tmp_path / "sensor.circuit"
+    path.write_text(SENSOR, encoding="utf-8")
+    return path
+
+
+@pytest.mark.parametrize("fmt", ["text", "latex", "markdown", "json"])
+def test_every_analysis_through_derive_in_every_format(sensor_file, capsys, fmt):
+    """`symcirc derive` writes every analysis in every format with the same numbers; the
+    expected figures come from the hand formulas in the comments."""
+    assert main(["derive", str(sensor_file), *ANALYSES, "--format", fmt, "--seed", "11"]) == 0
+    out = capsys.readouterr().out
+    if fmt == "json":
+        results = json.loads(out)["results"]
+        kinds = {key for r in results for key in r
+                 if key in ("sensitivity", "tolerance", "loading", "minimum_load", "solve")}
+        assert kinds == {"sensitivity", "tolerance", "loading", "minimum_load", "solve"}
+        (spread,) = [r["tolerance"] for r in results if "tolerance" in r]
+        assert spread["monte_carlo"]["seed"] == 11
+        assert "uniformly distributed" in spread["monte_carlo"]["convention"]
+        notes = " ".join(n for r in results for n in r["notes"])
+    else:
+        notes = out
+        heading = {"text": "tolerance(V(out)) = ", "latex": r"\begin{equation*}",
+                   "markdown": "**`tolerance(V(out))`**"}[fmt]
+        assert heading in out
+    # source Ra ∥ Rb ∥ Rm = 999.0 Ω loaded by Rm = 1 MΩ: 1/1001 low (the 1000× rule)
+    assert "0.0999 % low" in notes
+    # minimum load for 0.1 %: 999·R_th with R_th = 1 kΩ ∥ 1 MΩ = 999.0 Ω: 998 kΩ
+    assert "998 kΩ" in notes
+    # Ra for 1.2 V from 3.3 V over Rb ∥ Rm = 1998 Ω: Ra = 1998·(3.3 − 1.2)/1.2 = 3.4965 kΩ
+    assert "E24: 3.3 kΩ gives" in notes and "3.493 kΩ" in notes
+    assert "seed 11" in notes and "uniformly distributed over its tolerance band" in notes
+    assert "Relative sensitivities (x/Q)·∂Q/∂x of Q = V(out)" in notes
+
+
+def test_analyses_from_derive_statements_and_the_python_api(tmp_path, capsys):
+    """The same analyses written as `derive` statements in the file, and through the API
+    with a seed: the file's statements and the API agree."""
+    path = tmp_path / "bridge.circuit"
+    path.write_text(BRIDGE + "derive tolerance(V(out), normal), sensitivities(V(out))\n",
+                    encoding="utf-8")
+    assert main(["derive", str(path), "--format", "json", "--seed", "4"]) == 0
+    results = json.loads(capsys.readouterr().out)["results"]
+    (spread,) = [r["tolerance"] for r in results if "tolerance" in r]
+    assert "3σ" in spread["monte_carlo"]["convention"] and spread["monte_carlo"]["seed"] == 4
+    (api,) = symcirc.load(str(path)).derive("tolerance(V(out), normal)", seed=4)
+    assert api.details["tolerance"]["monte_carlo"]["mean"] == spread["monte_carlo"]["mean"]
+    for end in ("low", "high"):
+        assert api.details["tolerance"]["extremes"][end] == spread["extremes"][end]
+
+
+def test_zero_output_with_two_sources_is_shown_in_its_own_unit(tmp_path):
+    """A difference of two equal dividers fed by two sources is zero at nominal with no single
+    excitation: the rows are x·∂Q/∂x in volts. By hand, Q = U1·R2/(R1 + R2) − U2·R4/(R3 + R4),
+    so x·∂Q/∂x for R1 is −U1·R1·R2/(R1 + R2)² = −2.5 V·1/4 = −0.625 V (and ±0.625 V for the
+    other arms, ±1.25 V for the sources)."""
+    circuit = symcirc.parse(
+        'title "Differential pressure sensor with two supplies (invented)"\n'
+        "voltage source U1 (p, gnd) = 2.5 V\nvoltage source U2 (q, gnd) = 2.5 V\n"
+        "resistor R1 (p, a) = 10 kΩ\nresistor R2 (a, gnd) = 10 kΩ\n"
+        "resistor R3 (q, b) = 10 kΩ\nresistor R4 (b, gnd) = 10 kΩ\nport out (a, b)\n")
+    results = {r.details["sensitivity"]["symbol"]: r for r in circuit.derive(
+        "sensitivities(V(out))")}
+    assert results["R1"].nominal_exact == Fraction(-5, 8) and results["R1"].unit == "V"
+    assert abs(results["U1"].nominal_exact) == Fraction(5, 4)
+    assert "no single excitation" in " ".join(n for r in results.values() for n in r.notes)
+    from symcirc.analysis.plots import plot
+
+    bars = tmp_path / "bars.svg"
+    plot(circuit, "sensitivities(V(out))", bars)
+    texts = svg_texts(bars)
+    assert "Sensitivity x·∂Q/∂x (V)" in texts
+    assert any(t.endswith(" V") and t.lstrip("−-")[0].isdigit() for t in texts)
+
+
+HEATER = """\
+title "Heater element on a bench supply (invented)"
+voltage source Us (p, gnd) = 12 V
+resistor Rs (p, o) = 4 Ω    "supply and lead resistance"
+resistor RL (o, gnd) = 10 Ω  "heater"
+port out (o, gnd)
+"""
+
+
+def test_solve_lists_every_real_positive_solution_and_says_so():
+    """5 W into RL from 12 V behind 4 Ω: 5·(Rs + RL)² = Us²·RL, by hand RL = 0.8 Ω or 20 Ω;
+    `loading(out, RL).power` names one part of the loading analysis."""
+    circuit = symcirc.parse(HEATER)
+    first, second = circuit.derive("solve(loading(out, RL).power = 5, RL)")
+    assert (first.nominal_exact, second.nominal_exact) == (Fraction(4, 5), 20)
+    assert "2 real positive solutions" in first.notes[0]
+    assert first.quantity.endswith(".solution1") and second.quantity.endswith(".solution2")
+    us, rs = sympy.symbols("Us Rs")
+    for result in (first, second):
+        rl = result.expression  # substituted back, the power is 5 W
+        assert sympy.simplify(us**2 * rl / (rs + rl) ** 2 - 5) == 0
+    assert "E24: 20 Ω is in the series and gives 5 W." in second.notes
+
+
+def test_parts_of_analyses_are_quantities_too():
+    circuit = symcirc.parse(HEATER)
+    (error,) = circuit.derive("loading(out, RL).error")
+    assert error.quantity == "loading(out, RL).error" and error.nominal_exact == Fraction(-2, 7)
+    (bound,) = circuit.derive("minimum_load(out, 1 %).resistance")
+    assert bound.nominal_exact == 99 * Fraction(40, 14)  # 99·(4 Ω ∥ 10 Ω)
+    (row,) = circuit.derive("sensitivities(V(out)).Rs")
+    assert row.nominal_exact == Fraction(-4, 14)  # −Rs/(Rs + RL)
+    assert row.notes[0].startswith("Relative sensitivities")
+    with pytest.raises(symcirc.SymcircError, match=r"has no part `.nothing`; it has .error"):
+        circuit.derive("loading(out, RL).nothing")

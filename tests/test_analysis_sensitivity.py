@@ -96,3 +96,24 @@ def test_large_results_keep_their_structure_with_the_same_values(monkeypatch):
             (b.symbol, b.derivative_value, b.relative_value)
         assert sympy.simplify(a.relative - b.relative) == 0
         assert sympy.simplify(a.derivative - b.derivative) == 0
+
+
+def test_tidy_cancels_and_factors_like_sympy():
+    """The fast tidy (engine polynomial rings) against sympy's factor(cancel(..)), computed
+    independently: equal rational functions, in lowest terms."""
+    from symcirc.analysis.tidy import tidy
+
+    s, C = sympy.symbols("s C")
+    cases = [
+        sympy.diff(BRIDGE, R1) * R1 / Ub,
+        (R1**2 - R2**2) / (R1 + R2) / 3,
+        sympy.Rational(2, 7) * (R1 * s * C + 1) ** 2 / (R1**2 * s * C + R1),
+        -Ub * R2 / (R1 + R2) ** 2 + Ub / (R1 + R2),
+    ]
+    for case in cases:
+        mine, reference = tidy(case), sympy.factor(sympy.cancel(case))
+        assert sympy.cancel(mine - reference) == 0, case
+        numerator, denominator = sympy.fraction(sympy.together(mine))
+        assert sympy.gcd(sympy.expand(numerator), sympy.expand(denominator)).is_number
+    assert tidy(sympy.sqrt(R1) * R1 / R1**2) == sympy.factor(sympy.cancel(sympy.sqrt(R1) / R1))
+    assert tidy(R1 - R1) == 0

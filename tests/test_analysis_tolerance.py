@@ -6,6 +6,7 @@ import itertools
 import math
 from fractions import Fraction
 
+import numpy as np
 import pytest
 import sympy
 from uncertainties import ufloat
@@ -114,8 +115,9 @@ def test_non_monotonic_quantity_is_searched():
     assert not a.extremes.monotonic and a.extremes.non_monotonic == ("RL",)
     assert "coordinate search" in a.extremes.method
     assert float(a.extremes.high) == pytest.approx(100 / 4000, rel=1e-9)
-    grid = [float(power.subs({Rs: 1000, U: 10, RL: 900 + 0.5 * k})) for k in range(401)]
-    assert float(a.extremes.low) == pytest.approx(min(grid), rel=1e-12)
+    loads = np.linspace(900.0, 1100.0, 401)
+    grid = 100 * loads / (1000 + loads) ** 2  # numpy, independently of the closed form
+    assert float(a.extremes.low) == pytest.approx(grid.min(), rel=1e-12)
 
 
 def test_definitions_count_each_toleranced_symbol_once():
@@ -139,15 +141,36 @@ def test_own_tolerance_of_a_defined_symbol():
     assert a.extremes.high == 200 * Fraction(101, 100) * Fraction(105, 100)
 
 
-def test_more_than_sixteen_symbols_use_the_gradient_signs():
+def test_more_than_sixteen_symbols_use_a_bounded_search_equal_to_brute_force():
+    """18 toleranced symbols: no corner enumeration; the bounded search must still land on
+    the extremes a brute-force numpy evaluation of all 262,144 corners finds."""
     xs = sympy.symbols("R1:19")
     q = sum(xs[:9]) / sum(xs)
     nominals = {x: Fraction(1000 + i) for i, x in enumerate(xs)}
     a = analyse(q, nominals, {x: _pct(1) for x in xs}, samples=2000)
-    high_corner = {x: nominals[x] * (Fraction(101, 100) if i < 9 else Fraction(99, 100))
-                   for i, x in enumerate(xs)}
-    assert a.extremes.high == q.subs(high_corner)
-    assert "more than 16" in a.extremes.method
+    assert "more than 16" in a.extremes.method and "bounded search" in a.extremes.method
+    assert "coordinate search" in a.extremes.method
+    bits = (np.arange(2**18)[:, None] >> np.arange(18)) & 1
+    lows = np.array([0.99 * float(nominals[x]) for x in xs])
+    corners = lows + bits * (0.02 * lows / 0.99)
+    values = corners[:, :9].sum(axis=1) / corners.sum(axis=1)
+    assert float(a.extremes.high) == pytest.approx(values.max(), rel=1e-13)
+    assert float(a.extremes.low) == pytest.approx(values.min(), rel=1e-13)
+
+
+def test_more_than_sixteen_symbols_find_an_interior_maximum():
+    """17 toleranced symbols, one of which (RL) puts a maximum inside its band (maximum
+    power transfer at RL = Rs, Hayt, Kemmerly & Durbin; from memory): the search finds
+    U²/(4·Rs) plus the other terms at their upper ends, which no corner reaches."""
+    Rs, RL, U = sympy.symbols("Rs RL U")
+    xs = sympy.symbols("x1:17")
+    q = U**2 * RL / (Rs + RL) ** 2 + sum(xs) / 1000
+    nominals = {Rs: Fraction(1000), RL: Fraction(1000), U: Fraction(10)}
+    nominals.update({x: Fraction(1) for x in xs})
+    a = analyse(q, nominals, {RL: _pct(10), **{x: _pct(5) for x in xs}}, samples=2000)
+    assert "bounded search" in a.extremes.method and a.extremes.non_monotonic == ("RL",)
+    assert float(a.extremes.high) == pytest.approx(100 / 4000 + 16 * 1.05 / 1000, rel=1e-9)
+    assert a.extremes.high_at["RL"] == pytest.approx(1000, rel=1e-6)
 
 
 def test_inputs_that_cannot_be_analysed():

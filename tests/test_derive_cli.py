@@ -158,3 +158,40 @@ def test_python_api_named_results_and_latex_display():
                           - th.voltage.expression) == 0
     limited = circuit.derive("gain(Uref, out)", limits={"Cf": "0"})[0]
     assert limited.text() == "Rt/(Rs + Rt)"
+
+
+def test_seed_option_sets_the_monte_carlo_seed_of_tolerance(tmp_path, capsys):
+    path = tmp_path / "divider.circuit"
+    path.write_text("voltage source U (i, gnd) = 5 V\nresistor R1 (i, o) = 10k ± 1 %\n"
+                    "resistor R2 (o, gnd) = 10k ± 1 %\nport out (o, gnd)\n", encoding="utf-8")
+
+    def monte_carlo(*extra):
+        code, out, _ = run(capsys, str(path), "tolerance(V(out))", "--format", "json", *extra)
+        assert code == 0
+        (item,) = json.loads(out)["results"]
+        return item["tolerance"]["monte_carlo"]
+
+    first, again, other = monte_carlo("--seed", "7"), monte_carlo("--seed", "7"), \
+        monte_carlo("--seed", "8")
+    assert first["seed"] == 7 and other["seed"] == 8
+    assert first["mean"] == again["mean"] and first["std"] == again["std"]
+    assert first["mean"] != other["mean"]
+    # both estimate the nominal 2.5 V of the equal-arm divider (common practice)
+    assert first["mean"] == pytest.approx(2.5, rel=1e-3)
+
+
+def test_no_steps_is_the_default_and_gives_the_canonical_forms_only(front_end, capsys):
+    code, plain, _ = run(capsys, front_end, "Z(tap)")
+    assert code == 0
+    code, explicit, _ = run(capsys, front_end, "Z(tap)", "--no-steps")
+    assert code == 0 and plain == explicit == "Z(tap) = Rs*Rt/(Rs + Rt)\n"
+
+
+def test_python_api_load_from_a_file(front_end):
+    circuit = symcirc.load(front_end)
+    (voltage, impedance) = circuit.derive("thevenin(tap)")
+    assert circuit.thevenin("tap").voltage.text() == voltage.text()
+    # Rt/(Rs + Rt) of the reference (common practice: a loaded divider's open voltage)
+    assert voltage.text() == "Rt*Uref/(Rs + Rt)"
+    assert voltage.nominal == pytest.approx(2.5 * 119.25 / 1119.25)
+    assert impedance.quantity == "thevenin(tap).impedance" and impedance.unit == "Ω"

@@ -92,3 +92,62 @@ def test_symbolic_weights_list_each_forest_once(seed):
         assert all(c == 1 for _, c in terms)
         found = {frozenset(n for n, e in zip(ring.names, m, strict=True) if e) for m, _ in terms}
         assert found == forests
+
+
+HANGING_TRIANGLE = """
+voltage source U (a, gnd)
+resistor R1 (a, b)
+resistor R2 (b, gnd)
+capacitor C3 (b, gnd)
+resistor R4 (b, x)
+inductor L5 (x, y)
+resistor R6 (y, b)
+port out (b, gnd)
+"""
+
+BRIDGE = """
+voltage source U (top, gnd)
+resistor R1 (top, l)
+resistor R2 (l, gnd)
+capacitor C3 (top, r)
+resistor R4 (r, gnd)
+resistor R5 (l, r)
+port out (l, r)
+"""
+
+
+@pytest.mark.parametrize("text", [HANGING_TRIANGLE, BRIDGE])
+def test_lowest_terms_without_a_general_gcd_match_elimination(text):
+    """The forest path's shortcut to lowest terms (a prime tree sum for 2-connected
+    graphs) gives the canonical result of elimination, with and without a cut vertex."""
+    import symcirc
+    from symcirc.engine.mna import Current, Voltage, port_excitation
+    from symcirc.engine.system import solution
+
+    circuit = symcirc.parse(text)
+    forest = solution(circuit, path="forest")
+    eliminated = solution(circuit, path="elimination")
+    measures = [Voltage(n, "gnd") for n in circuit.nodes[1:]]
+    measures += [Current(name) for name in circuit.elements]
+    for excitation in ("U", port_excitation("out")):
+        for measure in measures:
+            assert forest.transfer(measure, excitation) == eliminated.transfer(measure,
+                                                                               excitation)
+
+
+def test_prime_tree_sum_needs_two_connected_graph_and_own_variables():
+    from symcirc.engine.topological import _tree_sum_is_prime
+
+    ring = PolynomialRing(["s", "C1", "R1", "R2", "R3", "R4"])
+    one, s, c1 = ring.one, ring.gen("s"), ring.gen("C1")
+    r = {n: ring.gen(n) for n in ("R1", "R2", "R3", "R4")}
+    square = [("a", "b", one, r["R1"]), ("b", "c", one, r["R2"]),
+              ("c", "d", one, r["R3"]), ("d", "a", s * c1, one)]
+    assert _tree_sum_is_prime(square, None, ring)
+    path = square[:3]  # a-b-c-d: every inner node is a cut vertex
+    assert not _tree_sum_is_prime(path, None, ring)
+    assert _tree_sum_is_prime(path, ("a", "d"), ring)  # closing it makes a cycle
+    shared = square[:3] + [("d", "a", one, r["R1"])]  # R1 on two edges
+    assert not _tree_sum_is_prime(shared, None, ring)
+    squared = square[:3] + [("d", "a", one, r["R4"] ** 2)]
+    assert not _tree_sum_is_prime(squared, None, ring)

@@ -93,3 +93,22 @@ def test_much_less_is_the_same_assumption_read_the_other_way():
     eps = sympy.Symbol("eps", positive=True)
     series = sympy.series(exact.subs(R2, R1 / eps), eps, 0, 2).removeO()
     assert sympy.cancel(approximated.expression - series.subs(eps, 0)) == 0
+
+
+def test_an_approximation_too_large_to_read_is_not_made(monkeypatch):
+    import importlib
+
+    annotate_module = importlib.import_module("symcirc.forms.annotate")
+    circuit = symcirc.parse(LOADED_DIVIDER)
+    (v,) = circuit.derive("V(out)")
+    # U·R2·RL/(R1·R2 + R1·RL + R2·RL): 1 + 3 terms
+    assert sum(v.exact.size()) == 4
+    monkeypatch.setattr(annotate_module, "MAX_APPROXIMATED_TERMS", 3)
+    kept = approximate(circuit, v, Assumption("much_greater", "RL", "R2"))
+    assert kept is v and "neglected" not in kept.details
+    assert any("4 terms, more than the 3" in note for note in kept.notes)
+    monkeypatch.setattr(annotate_module, "MAX_APPROXIMATED_TERMS", 4)
+    (v,) = circuit.derive("V(out)")
+    made = approximate(circuit, v, Assumption("much_greater", "RL", "R2"))
+    # a divider unloaded: U·R2/(R1 + R2) (common practice)
+    assert sympy.cancel(made.expression - U * R2 / (R1 + R2)) == 0

@@ -70,3 +70,91 @@ def test_json_and_text_output():
     printed = steps_text(results[1])
     assert printed.splitlines()[0].startswith(" 1. Set the independent sources to zero: short U")
     assert "R12 = R1∥R2" in printed
+
+
+def test_equality_against_the_engines_own_result():
+    """The proof takes the engine's rational function as it is (no sympy conversion)."""
+    import symcirc
+
+    circuit = symcirc.parse(BRIDGE)
+    voltage, impedance = circuit.derive("thevenin(out)")
+    assert impedance.exact is not None
+    # Wheatstone bridge (common practice): R1∥R2 + R3∥R4, U·(R2/(R1 + R2) − R4/(R3 + R4))
+    assert equal(Parallel(R1, R2) + Parallel(R3, R4), impedance.exact)
+    assert equal(U * (R2 / (R1 + R2) - R4 / (R3 + R4)), voltage.exact)
+    assert not equal(Parallel(R1, R2) + Parallel(R3, R4) + 1, impedance.exact)
+    assert not equal(U * (R4 / (R3 + R4) - R2 / (R1 + R2)), voltage.exact)
+    # a symbol the result does not have
+    assert not equal(Parallel(R1, R2) + Parallel(R3, s), impedance.exact)
+
+
+def test_derive_shown_is_what_the_command_and_the_notes_show():
+    import symcirc
+    from symcirc.forms import derive_shown
+    from symcirc.model.circuit import Assumption
+    from symcirc.quantities.registry import DeriveOptions
+
+    circuit = symcirc.parse(BRIDGE)
+    voltage, impedance = derive_shown(circuit, "thevenin(out)")
+    assert impedance.form.expression == Parallel(R1, R2) + Parallel(R3, R4)
+    assert [step.kind for step in voltage.steps] == ["divider", "divider", "loop"]
+    (quiet,) = derive_shown(circuit, "Z(out)", DeriveOptions(steps=False))
+    assert quiet.form is None and quiet.steps == []
+    # `where R3 >> R1`: the approximation first, its derivation before it
+    (approximated,) = derive_shown(
+        circuit, "V(out)", DeriveOptions(assumptions=(Assumption("much_greater", "R3", "R1"),))
+    )
+    assert approximated.details["assumption"] == "R3 >> R1"
+    assert [step.kind for step in approximated.steps][-2:] == ["approximate", "error"]
+    # leading term in 1/R3: the b side of the bridge sits at U·R4/R3 → 0, so U·R2/(R1 + R2)
+    # (common practice: a divider with an open upper arm passes nothing)
+    assert sympy.cancel(approximated.expression - U * R2 / (R1 + R2)) == 0
+
+
+def test_results_above_the_size_bound_say_why_they_have_no_form(monkeypatch):
+    import importlib
+
+    import symcirc
+    from symcirc.forms import derive_shown
+
+    annotate_module = importlib.import_module("symcirc.forms.annotate")
+    monkeypatch.setattr(annotate_module, "MAX_TERMS", 8)
+    circuit = symcirc.parse(BRIDGE)
+    voltage, impedance = derive_shown(circuit, "thevenin(out)")
+    # the voltage has 2 + 4 terms, the impedance 4 + 4 (counted from the engine's result)
+    assert sum(voltage.exact.size()) == 6 and sum(impedance.exact.size()) == 8
+    assert voltage.form is not None
+    monkeypatch.setattr(annotate_module, "MAX_TERMS", 7)
+    circuit = symcirc.parse(BRIDGE)
+    _, impedance = derive_shown(circuit, "thevenin(out)")
+    assert impedance.form is None and impedance.steps == []
+    assert any("8 terms, more than the 7" in note for note in impedance.notes)
+
+
+def test_derive_command_json_text_and_switch(tmp_path, capsys):
+    from symcirc.cli import main
+
+    path = tmp_path / "bridge.circuit"
+    path.write_text(BRIDGE, encoding="utf-8")
+    assert main(["derive", str(path), "thevenin(out)", "--steps", "--format", "json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    voltage, impedance = data["results"]
+    assert impedance["form"]["text"] == "R1∥R2 + R3∥R4"
+    assert r"\parallel" in impedance["form"]["latex"]
+    assert [s["kind"] for s in impedance["steps"]] == [
+        "deactivate",
+        "parallel",
+        "parallel",
+        "series",
+    ]
+    assert [s["defines"] for s in impedance["steps"]] == [None, "R12", "R34", "R_th"]
+    assert impedance["steps"][1]["latex"] == r"R_{12} = R_{1} \parallel R_{2}"
+    assert all(s["sentence"].endswith(".") for s in voltage["steps"])
+    assert main(["derive", str(path), "thevenin(out)", "--steps"]) == 0
+    text_output = capsys.readouterr().out
+    assert "  design form: R1∥R2 + R3∥R4" in text_output
+    assert "   2. R1 and R2 are in parallel between nodes gnd and a." in text_output
+    assert "        R12 = R1∥R2" in text_output
+    assert main(["derive", str(path), "thevenin(out)", "--no-steps", "--format", "json"]) == 0
+    plain = json.loads(capsys.readouterr().out)["results"]
+    assert all("form" not in r and "steps" not in r for r in plain)

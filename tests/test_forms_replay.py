@@ -70,6 +70,45 @@ port out (s2, gnd)
 """
 
 
+MFB_BAND_PASS = """
+voltage source Uin (in, gnd)
+resistor R1 (in, x)
+resistor R2 (x, gnd)
+capacitor C1 (x, n)
+capacitor C2 (x, o)
+resistor R3 (n, o)
+opamp U1 (gnd, n, o)
+port out (o, gnd)
+"""
+
+BUFFERED_RC = """
+voltage source Uin (b0, gnd)
+resistor R1 (b0, x1)
+capacitor C1 (x1, gnd)
+opamp U1 (x1, b1, b1)
+resistor R2 (b1, x2)
+capacitor C2 (x2, gnd)
+opamp U2 (x2, b2, b2)
+resistor R3 (b2, x3)
+capacitor C3 (x3, gnd)
+port out (x3, gnd)
+"""
+
+LONG_LADDER = "voltage source U (n0, gnd)\n" + "".join(
+    f"resistor Rs{i} (n{i - 1}, n{i})\nresistor Rp{i} (n{i}, gnd)\n" for i in range(1, 6)
+) + "port out (n5, gnd)\n"
+
+TAPPED_BRIDGE = BRIDGE_LOADED + "port left (a, gnd)\n"
+
+LOADED_DIVIDER = """
+voltage source U (in, gnd)
+resistor R1 (in, o)
+resistor R2 (o, gnd)
+resistor RL (o, gnd)
+port out (o, gnd)
+"""
+
+
 def _voltage(source, pos, neg, active=None):
     return reference_voltage(symcirc.parse(source), pos, neg, active)
 
@@ -81,6 +120,12 @@ def _impedance(source, pos, neg):
 def _z21(source):
     volts, test = reference_solution(symcirc.parse(source), set(), ("exc", "gnd"))
     return sympy.cancel((volts["a"] - volts["b"]) / test)
+
+
+def _chain_a(source):
+    """A = V1/V2 with port 2 open: drive port 1 (exc, gnd) with a test current."""
+    volts, _ = reference_solution(symcirc.parse(source), set(), ("exc", "gnd"))
+    return sympy.cancel(volts["exc"] / (volts["a"] - volts["b"]))
 
 
 CASES = [
@@ -117,6 +162,22 @@ CASES = [
     (FINITE_GAIN, "V(out)", lambda: {None: _voltage(FINITE_GAIN, "o", "gnd")}),
     (TRANSFORMER, "V(out)", lambda: {None: _voltage(TRANSFORMER, "s2", "gnd")}),
     (TRANSFORMER, "Z(out)", lambda: {None: _impedance(TRANSFORMER, "s2", "gnd")}),
+    (TAPPED_BRIDGE, "V(left)", lambda: {None: _voltage(TAPPED_BRIDGE, "a", "gnd")}),
+    (BRIDGE_CURRENT, "twoport(supply, out)", lambda: {"A": _chain_a(BRIDGE_CURRENT)}),
+    (
+        MFB_BAND_PASS,
+        "gain(Uin, out)",
+        lambda: {None: _voltage(MFB_BAND_PASS, "o", "gnd") / sympy.Symbol("Uin")},
+    ),
+    (
+        BUFFERED_RC,
+        "gain(Uin, out)",
+        lambda: {None: _voltage(BUFFERED_RC, "x3", "gnd") / sympy.Symbol("Uin")},
+    ),
+    (LONG_LADDER, "thevenin(out)", lambda: {
+        "voltage": _voltage(LONG_LADDER, "n5", "gnd"),
+        "impedance": _impedance(LONG_LADDER, "n5", "gnd"),
+    }),
 ]
 
 
@@ -148,6 +209,18 @@ def test_limit_steps_replay():
     )
     env = numbers(finite, 3, keep=(a,))
     values, final = replay(h.steps, env)
+    assert sympy.cancel(values[final] - limit.xreplace(env)) == 0
+
+
+def test_open_circuit_limit_steps_replay():
+    """`where RL -> oo`: the load drops out and the rest is derived by its structure."""
+    exact = _voltage(LOADED_DIVIDER, "o", "gnd")
+    rl = sympy.Symbol("RL")
+    limit = sympy.limit(exact, rl, sympy.oo)
+    _, (v,) = annotated(LOADED_DIVIDER, "V(out)", {None: limit}, (Assumption("limit", "RL", "oo"),))
+    assert [s.kind for s in v.steps] == ["open", "divider", "error"]
+    env = numbers(exact, 5, keep=(rl,))
+    values, final = replay(v.steps, env)
     assert sympy.cancel(values[final] - limit.xreplace(env)) == 0
 
 

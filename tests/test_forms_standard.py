@@ -159,3 +159,42 @@ def test_first_order_forms_and_factored_real_poles():
     assert poles == {-1 / (R1 * C1), -1 / (R2 * C2)}
     # no standard form without s
     assert standard_form(R1 / (R1 + R2), "") is None
+
+
+# Three buffered RC sections smoothing a logger's reference (invented)
+BUFFERED_RC = """
+voltage source Uin (b0, gnd)
+resistor R1 (b0, x1)
+capacitor C1 (x1, gnd)
+opamp U1 (x1, b1, b1)
+resistor R2 (b1, x2)
+capacitor C2 (x2, gnd)
+opamp U2 (x2, b2, b2)
+resistor R3 (b2, x3)
+capacitor C3 (x3, gnd)
+port out (x3, gnd)
+"""
+
+
+def test_buffered_rc_chain_factors_into_real_poles():
+    circuit = symcirc.parse(BUFFERED_RC)
+    h = sympy.cancel(reference_voltage(circuit, "x3", "gnd") / sympy.Symbol("Uin"))
+    _, (result,) = annotated(BUFFERED_RC, "gain(Uin, out)", {None: h})
+    assert result.form.kind == "factored, order 3"
+    # the opamps are on the way: the nodal equations, solved by Cramer's rule
+    assert [x.kind for x in result.steps][:2] == ["nodal", "solve"]
+    c3 = sympy.Symbol("C3")
+    r3 = sympy.Symbol("R3")
+    names = {x.name: x for x in (R1, R2, r3, C1, C2, c3)}
+    poles = {
+        sympy.parse_expr(p["expression"], local_dict=names)
+        for name, p in result.form.parameters.items()
+        if name.startswith("p")
+    }
+    # buffered sections do not load each other: poles at −1/(Rk·Ck) (common practice)
+    assert poles == {-1 / (R1 * C1), -1 / (R2 * C2), -1 / (r3 * c3)}
+    values = {R1: 1e3, C1: 1e-6, R2: 2.2e3, C2: 1e-6, r3: 4.7e3, c3: 1e-7}
+    denominator = sympy.Poly(sympy.fraction(h)[1], s)
+    roots = numpy.roots([float(c.subs(values)) for c in denominator.all_coeffs()])
+    assert sorted(roots.real) == pytest.approx(sorted(float(p.subs(values)) for p in poles))
+    assert parameter(result, "K") == 1

@@ -267,3 +267,43 @@ port out (o, gnd)
     assert sympy.parse_expr(
         z.form.parameters["ω0"]["expression"], local_dict={"R": r, "C": c}
     ) == 1 / (r * c)
+
+
+def test_loaded_bridge_tap_voltage_needs_star_delta():
+    """V(a) of the bridge with R5 across its diagonal: no series or parallel pair is left,
+    so the star R3, R4, R5 at node b becomes a delta, after which it is a divider."""
+    import numpy
+
+    import symcirc
+
+    source = BRIDGE_LOADED + "port left (a, gnd)\n"
+    circuit = symcirc.parse(source)
+    canonical = reference_voltage(circuit, "a", "gnd")
+    _, (v,) = annotated(source, "V(left)", {None: canonical})
+    assert kinds(v) == ["star-delta", "parallel", "parallel", "divider"]
+    assert equal(v.form.expression, canonical)
+    # Kennelly's star-to-delta rule (A. E. Kennelly, Electrical World and Engineer, 1899,
+    # from memory): each delta side is the sum of the pairwise products of the star arms
+    # over the arm opposite it
+    star = v.steps[0].data["star"]
+    delta = v.steps[0].data["delta"]
+    za, zb, zc = star["u"], star["v"], star["w"]
+    products = za * zb + zb * zc + zc * za
+    for side, opposite in (("uv", zc), ("vw", za), ("wu", zb)):
+        value = v.steps[0].data["rhs"][delta[side]]
+        assert sympy.cancel(value - products / opposite) == 0
+    # numerically: node equations solved by numpy.linalg.solve at random part values
+    rng = random.Random(11)
+    values = {x: rng.randint(100, 9000) for x in (R1, R2, R3, R4, R5)}
+    g = {x: 1 / values[x] for x in values}
+    # unknowns V(a), V(b); V(exc) = U = 1
+    matrix = numpy.array(
+        [
+            [g[R1] + g[R2] + g[R5], -g[R5]],
+            [-g[R5], g[R3] + g[R4] + g[R5]],
+        ]
+    )
+    rhs = numpy.array([g[R1], g[R3]])
+    expected = numpy.linalg.solve(matrix, rhs)[0]
+    shown = float(v.form.expression.doit().subs({**values, U: 1}))
+    assert shown == pytest.approx(expected, rel=1e-12)

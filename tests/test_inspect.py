@@ -133,3 +133,13 @@ def test_unknown_quantity_is_a_warning(tmp_path, capsys):
     assert status == 0
     assert f"{path}:4:8: warning: unknown quantity `thevnin`; did you mean `thevenin`?" in err
     assert f"{path}:4:34: warning: unknown quantity `gian`; did you mean `gain`?" in err
+
+
+def test_empty_and_comment_only_files_read_with_a_warning(tmp_path, capsys):
+    for content in ("", "# nothing yet\n\n"):
+        path = tmp_path / "empty.circuit"
+        path.write_text(content, encoding="utf-8")
+        status, out, err = run(capsys, str(path))
+        assert status == 0 and out.startswith(str(path))
+        assert err == f"{path}: warning: the file describes no elements: there is no circuit " \
+                      "to analyse\n"

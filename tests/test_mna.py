@@ -142,3 +142,131 @@ def test_both_polynomial_backends_print_the_same_result(monkeypatch):
         circuit = symcirc.parse(text)
         outputs.append([r.text() for r in circuit.derive("thevenin(p)")])
     assert outputs[0] == outputs[1]
+
+
+# ---------------------------------------------------------------- backends and determinism
+
+EVERY_KIND = """\
+param k
+param g
+param rm
+param beta
+param A0
+param wa
+voltage source U (in, gnd)
+current source J (m, gnd)
+resistor R1 (in, m)
+conductance G1 (m, gnd)
+capacitor C1 (m, x)
+inductor L1 (x, gnd)
+inductor L2 (y, gnd)
+coupling K1 (L1, L2) = 0.5
+impedance Z1 (y, t)
+transformer T1 (t, gnd; w, gnd) = 3
+admittance Y1 (w, gnd)
+voltage source E (e, gnd) = k*V(m, x)
+resistor R2 (e, n)
+resistor R3 (n, o)
+opamp X (gnd, n, o)
+current source F (o, gnd) = g*V(x) + beta*I(R2)
+voltage source H (h, gnd) = rm*I(L1)
+resistor R4 (h, p)
+resistor R5 (p, q)
+capacitor C2 (q, gnd)
+opamp B (p, q, q) = A0/(1 + s/wa)
+port out (q, gnd)
+port src (m, gnd)
+"""
+
+QUANTITIES = ("V(o)", "V(q)", "I(L2)", "I(X)", "thevenin(out)", "gain(U, V(w))",
+              "twoport(src, out).z21", "sensitivity(V(o), k)")
+
+
+def _texts(monkeypatch, backend: str, text: str, quantities) -> list[str]:
+    monkeypatch.setenv("SYMCIRC_POLYNOMIALS", backend)
+    circuit = symcirc.parse(text)
+    out = []
+    for quantity in quantities:
+        for result in circuit.derive(quantity):
+            assert result.exact.ring.backend == backend  # the variable really selects it
+            out.append(f"{result.quantity} = {result.text()}")
+    return out
+
+
+def test_flint_and_sympy_polynomials_give_identical_results_for_every_element_kind(monkeypatch):
+    flint_texts = _texts(monkeypatch, "flint", EVERY_KIND, QUANTITIES)
+    sympy_texts = _texts(monkeypatch, "sympy", EVERY_KIND, QUANTITIES)
+    assert flint_texts == sympy_texts
+    assert all(" = 0" != t[-4:] for t in flint_texts[:3])  # non-trivial results compared
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_flint_and_sympy_polynomials_agree_on_random_passive_networks(monkeypatch, seed):
+    text = _random_passive(random.Random(100 + seed))
+    quantities = ("thevenin(p)", "I(U1)", "V(n1)", "gain(U1, p)", "gain(J1, p)")
+    assert _texts(monkeypatch, "flint", text, quantities) == \
+        _texts(monkeypatch, "sympy", text, quantities)
+
+
+def test_every_quantity_prints_the_same_whatever_the_order_of_the_lines():
+    """Deterministic term order: the variable order and term order come from the names, not
+    from the order the circuit was written in or from hashing."""
+    lines = EVERY_KIND.splitlines()
+    params = [line for line in lines if line.startswith("param")]
+    rest = [line for line in lines if not line.startswith("param")]
+    shuffled = rest[:]
+    random.Random(5).shuffle(shuffled)
+    first = symcirc.parse(EVERY_KIND)
+    second = symcirc.parse("\n".join(params + shuffled) + "\n")
+    for quantity in QUANTITIES:
+        assert [r.text() for r in first.derive(quantity)] == \
+            [r.text() for r in second.derive(quantity)]
+
+
+def test_the_same_circuit_prints_the_same_formula_in_every_process(tmp_path):
+    import os
+    import subprocess
+    import sys
+
+    path = tmp_path / "every.circuit"
+    path.write_text(EVERY_KIND, encoding="utf-8")
+    outputs = []
+    for hash_seed in ("1", "2"):
+        environment = dict(os.environ, PYTHONHASHSEED=hash_seed)
+        done = subprocess.run(
+            [sys.executable, "-c", "import sys; from symcirc.cli import main; "
+             "sys.exit(main(sys.argv[1:]))", "derive", str(path), "V(o)", "thevenin(out)"],
+            capture_output=True, text=True, env=environment, check=True)
+        outputs.append(done.stdout)
+    assert outputs[0] == outputs[1] and outputs[0].count("\n") >= 3
+
+
+def _ladder(n: int) -> str:
+    lines = ["voltage source U (n0, gnd)"]
+    for i in range(1, n + 1):
+        lines += [f"resistor Rs{i} (n{i - 1}, n{i})", f"resistor Rp{i} (n{i}, gnd)"]
+    return "\n".join(lines) + f"\nport out (n{n}, gnd)\n"
+
+
+def test_large_results_are_written_from_their_terms_without_building_sympy():
+    """Text and LaTeX come straight from the polynomial terms; the text still reads back
+    (sympy's parser, the JSON contract) to exactly the expression `to_sympy` builds."""
+    from sympy.parsing.sympy_parser import parse_expr
+
+    (impedance,) = symcirc.parse(_ladder(6)).derive("thevenin(out).impedance")
+    function = impedance.exact
+    assert function.size() == (144, 233)  # Fibonacci-sized continued fraction of a ladder
+    text, latex = impedance.text(), impedance.latex()
+    assert "_sympy" not in function.__dict__  # no sympy expression was needed to print
+    assert latex.startswith(r"\frac{") and text.count("+") == 144 + 233 - 2
+    local = {n: sympy.Symbol(n) for n in impedance.symbols}
+    assert parse_expr(text, local_dict=local) == function.to_sympy()
+
+
+def test_transfer_functions_are_collected_in_powers_of_s():
+    circuit = symcirc.parse("voltage source U (i, gnd)\nresistor R1 (i, a)\n"
+                            "capacitor C1 (a, gnd)\nresistor R2 (a, o)\ncapacitor C2 (o, gnd)\n"
+                            "port out (o, gnd)\n")
+    (gain,) = circuit.derive("gain(U, out)")
+    # one coefficient per power of s, ascending (the layout of every transfer function)
+    assert gain.text() == "1/(1 + (C1*R1 + C2*R1 + C2*R2)*s + C1*C2*R1*R2*s**2)"

@@ -15,8 +15,8 @@ import html5lib
 import pytest
 
 from symcirc.cli import main
-from symcirc.report.filters import escape_md, escape_tex_code
-from tests.notes_support import HOSTILE, pdf_pages, pdf_text, pdflatex
+from symcirc.report.filters import escape_md, escape_tex, escape_tex_code
+from tests.notes_support import HOSTILE, last_page, pdf_pages, pdf_text, pdflatex
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "examples").glob("*.circuit"))
@@ -54,7 +54,9 @@ def test_note_renders_in_every_format(notes, example):
     digest = hashlib.sha256((ROOT / "examples" / f"{example}.circuit").read_bytes()).hexdigest()
     for fmt in FORMATS:
         text = notes[(example, fmt)].read_text(encoding="utf-8")
-        escape = {"markdown": escape_md, "latex": escape_tex_code, "html": html.escape}[fmt]
+        escape = {"markdown": escape_md, "latex": escape_tex, "html": html.escape}[fmt]
+        escape_code = {"markdown": escape_md, "latex": escape_tex_code,
+                       "html": html.escape}[fmt]
         marker = _marker(text)
         assert marker == {"source": f"{example}.circuit", "sha256": digest,
                           "version": symcirc.__version__, "format": fmt, "quantities": None,
@@ -64,13 +66,14 @@ def test_note_renders_in_every_format(notes, example):
             assert escape(element) in text
         for statement in circuit.derives:
             for quantity in statement.texts:
-                assert escape(quantity) in text
+                assert escape_code(quantity) in text
 
 
 @pytest.mark.parametrize("example", [e.stem for e in EXAMPLES])
 def test_latex_note_compiles(notes, example):
     pdf = pdflatex(notes[(example, "latex")])
-    assert pdf_pages(pdf) > 0
+    # the PDF has as many pages as LaTeX counted up to the note's last line, and some
+    assert pdf_pages(pdf) == last_page(pdf) > 0
     words = " ".join(pdf_text(pdf).split())
     assert "Sign conventions" in words and "SHA-256" in words
     # long formulas are broken or scaled, never left running off the page (TeX's own
@@ -78,6 +81,11 @@ def test_latex_note_compiles(notes, example):
     log = pdf.with_suffix(".log").read_text(errors="replace")
     overfull = [float(x) for x in re.findall(r"Overfull \\hbox \(([\d.]+)pt too wide", log)]
     assert max(overfull, default=0) < 30, overfull
+    # a formula wider than its line is scaled down by TeX, but only a little: long ones are
+    # broken across lines (multline) instead, so none shrinks below 80 % (log of \fitmath)
+    scaled = [float(natural) / float(line) for natural, line in
+              re.findall(r"symcirc-fit: scaled ([\d.]+)pt to ([\d.]+)pt", log)]
+    assert max(scaled, default=1) < 1.25, scaled
 
 
 @pytest.mark.parametrize("example", [e.stem for e in EXAMPLES])
@@ -100,6 +108,23 @@ def test_html_note_parses_with_mathml_for_each_formula(notes, example):
 
 
 @pytest.mark.parametrize("example", [e.stem for e in EXAMPLES])
+def test_markdown_maths_survives_a_commonmark_renderer(notes, example):
+    """A renderer that reads Markdown before maths (CommonMark, markdown-it) must leave every
+    `$…$` formula whole: no emphasis started by a `_`, no table cell split by a `|`."""
+    from markdown_it import MarkdownIt
+
+    text = notes[(example, "markdown")].read_text(encoding="utf-8")
+    assert text.count("$$") % 2 == 0
+    rendered = MarkdownIt("commonmark").enable("table").render(text)
+    assert "<em>" not in rendered
+    shown = html.unescape(re.sub(r"<[^>]+>", "", rendered))
+    inline = re.findall(r"(?<![$\\])\$([^$\n]+)\$", text)
+    assert inline and all(formula in shown for formula in inline)
+    displayed = re.findall(r"^\$\$\n(.*?)\n\$\$$", text, re.S | re.M)
+    assert displayed and all("\\\\" not in block for block in displayed)
+
+
+@pytest.mark.parametrize("example", [e.stem for e in EXAMPLES])
 def test_figures_are_beside_the_note(notes, example):
     for fmt in FORMATS:
         note = notes[(example, fmt)]
@@ -118,6 +143,22 @@ def test_second_run_is_byte_identical(notes, tmp_path):
             assert path.read_bytes() == data, path
 
 
+def test_analyses_on_the_command_line_make_a_note_that_compiles(tmp_path):
+    """Loading, sensitivities and tolerance sections: their tables and figures reach the PDF."""
+    note = tmp_path / "analyses.tex"
+    assert main(["note", str(ROOT / "examples" / "bridge_adc.circuit"), "loading(out, Rin)",
+                 "sensitivities(thevenin(out).voltage)", "tolerance(gain(Uref, out))",
+                 "-o", str(note)]) == 0
+    text = note.read_text(encoding="utf-8")
+    figures = re.findall(r"\\includegraphics\[[^]]*\]\{(analyses_figures/[^}]+)\}", text)
+    assert any("loading" in f for f in figures) and any("histogram" in f for f in figures)
+    pdf = pdflatex(note)
+    assert pdf_pages(pdf) == last_page(pdf) > 0
+    words = " ".join(pdf_text(pdf).split())
+    for heading in ("Loading", "Sensitivities of", "Monte Carlo", "Tolerance"):
+        assert heading in words, heading
+
+
 def test_standard_output_and_quantities(capsys, tmp_path):
     example = ROOT / "examples" / "bridge_adc.circuit"
     assert main(["note", str(example), "thevenin(out)", "-o", "-", "--format", "md"]) == 0
@@ -133,6 +174,18 @@ def test_refuses_to_write_over_the_input(tmp_path, capsys):
     assert main(["note", str(source), "-o", str(source), "--format", "md"]) == 2
     assert "refusing to write the output over the input" in capsys.readouterr().err
     assert source.read_bytes() == before
+
+
+def test_unwritable_figures_folder_is_an_error_not_a_traceback(tmp_path, capsys):
+    source = tmp_path / "rc.circuit"
+    source.write_text('title "RC low-pass"\nvoltage source U (in, gnd)\n'
+                      'resistor R (in, o) = 1 kΩ\ncapacitor C (o, gnd) = 1 µF\nport out (o, gnd)\n'
+                      'derive gain(U, out)\n', encoding="utf-8")
+    (tmp_path / "rc_figures").write_text("a file where the figures folder goes")
+    assert main(["note", str(source), "-o", str(tmp_path / "rc.md")]) == 2
+    err = capsys.readouterr().err
+    assert "rc_figures: error: cannot write" in err and "Traceback" not in err
+    assert not (tmp_path / "rc.md").exists()
 
 
 def test_bad_input_is_reported_without_traceback(tmp_path, capsys):

@@ -94,6 +94,62 @@ def test_wide_fraction_is_written_with_numerator_and_denominator_apart():
     assert sympy.simplify(numerator / denominator - expr) == 0
 
 
+def _unbroken(lines: list[str]) -> str:
+    """The lines put back together without the delimiters a break adds."""
+    joined = " ".join(lines).replace(r"\right.", "").replace(r"\left.", "")
+    return "".join(joined.split())
+
+
+def test_breaks_inside_parentheses_close_and_reopen_them():
+    x = sympy.symbols("x0:30")
+    a, b = sympy.symbols("a b")
+    expr = a * b * sympy.Add(*[sympy.Integer(i + 2) * x[i] for i in range(30)], evaluate=False)
+    rhs = sympy.latex(expr)
+    assert len(top_level_terms(rhs)) == 1  # nothing to break at the top level
+    lines = break_lines("Q = ", rhs, width=40)
+    assert len(lines) > 2
+    for line in lines:  # each line typesets on its own
+        assert line.count(r"\left") == line.count(r"\right")
+    assert lines[0].endswith(r"\right.") and lines[1].startswith(r"\left.")
+    assert _unbroken(lines) == "".join(("Q = " + rhs).split())
+
+
+def test_wide_numerator_inside_a_line_is_written_as_one_over_the_denominator():
+    x = sympy.symbols("x0:30")
+    numerator = sympy.Add(*[sympy.Integer(i + 2) * x[i] for i in range(30)])
+    rhs = r"y \quad \left(\text{remark } " + rf"\frac{{{sympy.latex(numerator)}}}{{R + 1}}" \
+        + r"\right)"
+    lines = break_lines("Q = ", rhs, width=40)
+    assert all(line.count(r"\left") == line.count(r"\right") for line in lines)
+    assert len(lines) > 2 and r"\frac{1}{R + 1}" in lines[0]
+    # A/B is written (1/B)·(A): the same value
+    assert _unbroken(lines) == "".join(
+        ("Q = " + rhs.replace(rf"\frac{{{sympy.latex(numerator)}}}{{R + 1}}",
+                              rf"\frac{{1}}{{R + 1}} \left({sympy.latex(numerator)}\right)"))
+        .split())
+
+
+def test_wide_fraction_given_as_latex_is_split_like_sympy_splits_it():
+    r = sympy.symbols("R1:9")
+    expr = sympy.expand(sum(r) ** 3) / (r[0] + r[1])
+    laid = equations(r"\delta", sympy.latex(expr))  # LaTeX only, no expression
+    numerator, denominator = sympy.fraction(expr)
+    assert laid[0].lines == (r"\delta = \frac{\mathcal{N}}{\mathcal{D}}",)
+    assert _unbroken(list(laid[1].lines)) == "".join(
+        (r"\mathcal{N} = " + sympy.latex(numerator)).split())
+    assert laid[2].latex == r"\mathcal{D} = " + sympy.latex(denominator)
+
+
+def test_markdown_maths_is_left_whole_by_a_commonmark_renderer():
+    from markdown_it import MarkdownIt
+
+    latex = r"S^{\frac{V}{U}}_{C_{1}} = \left|H\right| \begin{matrix}a \\ b\end{matrix} x_{2}"
+    text = f"| a | b |\n|---|---|\n| ${filters.math_md(latex)}$ | c |\n"
+    html = MarkdownIt("commonmark").enable("table").render(text)
+    assert "<em>" not in html and html.count("<td>") == 2
+    assert r"\\" not in filters.math_md(latex) and r"\cr" in filters.math_md(latex)
+
+
 def test_fractions_count_their_wider_part():
     assert visible_width(r"\frac{abcdef}{ab}") < visible_width("abcdef + ab")
 

@@ -23,29 +23,41 @@ def test_si_prefix_attached_to_a_number(prefix, power):
     assert decode_number(f"2.5{prefix}").value == Fraction(5, 2) * Fraction(10) ** power
 
 
-# IEC 60062 (letter and numeral code for resistance and capacitance values), examples of the
-# RKM code: the letter stands where the decimal point goes and gives the multiplier
-# (R = 1, K/k = 10^3, M = 10^6, G = 10^9, T = 10^12 for resistance; p, n, µ/u, m for
-# capacitance). Values from memory.
+# IEC 60062:2016 (letter and numeral code for resistance and capacitance values), the RKM
+# code: the letter stands where the decimal point goes and gives the multiplier. For
+# resistance L = 10^-3, R = 1, K = 10^3, M = 10^6, G = 10^9, T = 10^12; for capacitance
+# p = 10^-12, n = 10^-9, µ = 10^-6, m = 10^-3, F = 1. The resistance examples of the
+# standard: R47 = 0.47 Ω, 4R7 = 4.7 Ω, 470R = 470 Ω, 4K7 = 4.7 kΩ, 47K = 47 kΩ,
+# 47K3 = 47.3 kΩ, 470K = 470 kΩ, 4M7 = 4.7 MΩ (as reproduced in secondary references on
+# the standard, not checked against the printed text). The other rows apply the same letters
+# (from memory); lowercase k and ASCII u are common practice.
 IEC_60062_EXAMPLES = [
     ("R47", Fraction(47, 100)),
     ("4R7", Fraction(47, 10)),
+    ("470R", Fraction(470)),
+    ("4K7", Fraction(4700)),
+    ("47K", Fraction(47000)),
+    ("47K3", Fraction(47300)),
+    ("470K", Fraction(470_000)),
+    ("4M7", Fraction(4_700_000)),
     ("2R2", Fraction(22, 10)),
     ("47R", Fraction(47)),
-    ("4K7", Fraction(4700)),
     ("4k7", Fraction(4700)),
-    ("47K", Fraction(47000)),
     ("1M5", Fraction(1_500_000)),
-    ("4M7", Fraction(4_700_000)),
     ("2G2", Fraction(2_200_000_000)),
     ("1T0", Fraction(10) ** 12),
+    ("6L8", Fraction(68, 10) * Fraction(10) ** -3),
+    ("47L", Fraction(47, 1000)),
     ("p47", Fraction(47, 100) * Fraction(10) ** -12),
     ("4p7", Fraction(47, 10) * Fraction(10) ** -12),
     ("4n7", Fraction(47, 10) * Fraction(10) ** -9),
     ("6n8", Fraction(68, 10) * Fraction(10) ** -9),
     ("4\u00b57", Fraction(47, 10) * Fraction(10) ** -6),
+    ("1\u00b50", Fraction(1, 10**6)),
     ("4u7", Fraction(47, 10) * Fraction(10) ** -6),
     ("4m7", Fraction(47, 10) * Fraction(10) ** -3),
+    ("4F7", Fraction(47, 10)),
+    ("1F0", Fraction(1)),
 ]
 
 
@@ -59,6 +71,9 @@ def test_rkm_with_a_leading_zero_and_with_a_unit():
     assert decode_number("0R47").value == Fraction(47, 100)
     assert decode_number("4k7 Ω") == (4700, "Ω")
     assert decode_number("4n7F") == (Fraction(47, 10) * Fraction(10) ** -9, "F")
+    # a code letter that is also a unit: `4F7` is the code, a bare `22F` is 22 farads
+    assert decode_number("4F7 F") == (Fraction(47, 10), "F")
+    assert decode_number("22F") == (22, "F")
 
 
 @pytest.mark.parametrize(("text", "value"), [
@@ -99,6 +114,7 @@ def test_percent_is_a_hundredth():
 
 @pytest.mark.parametrize(("text", "words"), [
     ("4k7k", "already has an SI prefix or RKM code"),
+    ("2R2k", "`k` after `2R2`, which already has an SI prefix or RKM code"),
     ("10kX", "`X` is not a unit"),
     ("3x", "`x` is not a unit"),
     ("1e", "incomplete exponent"),

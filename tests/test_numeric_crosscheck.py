@@ -126,7 +126,11 @@ def _mixed_circuit(rng: random.Random) -> _Mixed:
         nodes_ = m.voltage_pair() if kind == "voltage source" else tuple(m.pick())
         m.value(m.add(kind, prefix, tuple(nodes_)))
     # controlled sources: VCVS, VCCS, CCVS, CCCS (current control through passive elements)
-    controller = rng.choice([e[1] for e in m.elements if e[0] in ("resistor", "capacitor")])
+    # controlling currents through any two-terminal element or source, not only passive ones
+    controllable = ("resistor", "capacitor", "inductor", "impedance", "voltage source",
+                    "current source")
+    controller, controller2 = (rng.choice([e[1] for e in m.elements if e[0] in controllable])
+                               for _ in range(2))
     c, d = m.pick()
     k1 = m.name("k")
     m.values[k1] = Fraction(rng.choice([2, 3, 4, 5, 6, 8, 9]), 7)  # never 1: E = V(E) is singular
@@ -138,8 +142,8 @@ def _mixed_circuit(rng: random.Random) -> _Mixed:
     m.add("voltage source", "H", m.voltage_pair(), f"{k3}*I({controller})",
           ("I", k3, controller))
     k4 = m.value(m.name("b"), 1, 5)
-    m.add("current source", "K", tuple(m.pick()), f"-{k4}*I({controller})",
-          ("I", -1, k4, controller))
+    m.add("current source", "K", tuple(m.pick()), f"-{k4}*I({controller2})",
+          ("I", -1, k4, controller2))
     # an ideal opamp as an inverting stage on new nodes, output tied back by a resistor
     src = rng.choice(nodes)
     m.nodes += ["x1", "o1"]
@@ -218,16 +222,20 @@ def _numeric_solve(m: _Mixed) -> tuple[dict[str, complex], dict[str, complex]]:
             mutual = v[name] * float(_sqrt(m.values[la] * m.values[lb]))
             couplings[(la, lb)] = couplings[(lb, la)] = mutual
 
-    def current_terms(element):
-        """I(element) as {column: coefficient}."""
-        kind, name, (a, bb), _ = next(e for e in m.elements if e[1] == element)
+    def current_terms(element) -> tuple[dict[int, complex], complex]:
+        """I(element) as ({column: coefficient}, constant)."""
+        kind, name, (a, bb), data = next(e for e in m.elements if e[1] == element)
+        if name in extra:  # an element with its own current unknown
+            return {extra[name]: 1}, 0
+        if kind == "current source":  # independent: I(J) = -J by the sign rule
+            return {}, -v[name]
         y = admittance(kind, name)
         out = {}
         if a != "gnd":
             out[index[a]] = y
         if bb != "gnd":
             out[index[bb]] = out.get(index[bb], 0) - y
-        return out
+        return out, 0
 
     row_of = {}
     for kind, name, nodes_, data in m.elements:
@@ -278,8 +286,10 @@ def _numeric_solve(m: _Mixed) -> tuple[dict[str, complex], dict[str, complex]]:
                             A[row, index[p]] -= sign * v[k]
                 else:
                     _, k, controller = data
-                    for column, coefficient in current_terms(controller).items():
+                    terms, constant = current_terms(controller)
+                    for column, coefficient in terms.items():
                         A[row, column] -= v[k] * coefficient
+                    b[row] += v[k] * constant
             elif kind == "current source":  # controlled: I(element) = -value
                 A[row, col] += 1
                 if data[0] == "V":
@@ -289,8 +299,10 @@ def _numeric_solve(m: _Mixed) -> tuple[dict[str, complex], dict[str, complex]]:
                             A[row, index[p]] += sign * v[k]
                 else:
                     _, sign, k, controller = data
-                    for column, coefficient in current_terms(controller).items():
+                    terms, constant = current_terms(controller)
+                    for column, coefficient in terms.items():
                         A[row, column] += sign * v[k] * coefficient
+                    b[row] -= sign * v[k] * constant
             elif kind == "opamp":
                 p, n, o = nodes_
                 A[index[o], col] -= 1  # output current delivered into node o

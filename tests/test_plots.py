@@ -78,6 +78,7 @@ def test_loading_curve_png_and_svg(tmp_path):
     texts = svg_texts(svg)
     assert "Load resistance R_L (Ω)" in texts and "Loading error |ΔU/U| (%)" in texts
     assert "load: 0.99 %" in texts  # 750/(750 + 75 k) = 0.99 %
+    assert {"1 kΩ", "100 kΩ", "0.1 %", "1 %"} <= set(texts)  # engineering tick labels
 
 
 def test_other_extensions_are_refused(tmp_path):

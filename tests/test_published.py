@@ -424,3 +424,59 @@ def test_norton_equivalent_of_a_source_with_series_resistance():
     thevenin = circuit.thevenin("out")
     assert same(thevenin.voltage.expression,
                 norton.current.expression / norton.admittance.expression)
+
+
+def test_abcd_of_a_series_impedance_alone_as_its_shunt_vanishes():
+    # series Z: A = 1, B = Z, C = 0, D = 1 (Pozar, Microwave Engineering, 4th ed., ch. 4,
+    # from memory), read directly: the shunt Y0 that gives the ports a return is taken to 0
+    Z = sympy.Symbol("Z")
+    circuit = symcirc.parse("impedance Z (a, b)\nadmittance Y0 (b, gnd)\n"
+                            "port p1 (a, gnd)\nport p2 (b, gnd)\n")
+    got = [derived_from(circuit, f"twoport(p1, p2).{name}", limits={"Y0": "0"})
+           for name in "ABCD"]
+    assert got == [1, Z, 0, 1]
+    # and y parameters of the series element: y11 = -y12 = 1/Z (same source)
+    assert same(derived_from(circuit, "twoport(p1, p2).y11", limits={"Y0": "0"}), 1 / Z)
+    assert same(derived_from(circuit, "twoport(p1, p2).y12", limits={"Y0": "0"}), -1 / Z)
+
+
+def derived_from(circuit, quantity: str, **options) -> sympy.Expr:
+    (result,) = circuit.derive(quantity, **options)
+    return result.expression
+
+
+def test_h_g_and_chain_parameters_of_a_t_network_follow_the_conversion_table():
+    # the T network's z parameters (Pozar, ch. 4) converted by the standard table (e.g.
+    # Hayt, Kemmerly & Durbin, Engineering Circuit Analysis, two-port networks, from memory):
+    # h11 = dz/z22, h12 = z12/z22, h21 = -z21/z22, h22 = 1/z22; g11 = 1/z11,
+    # g12 = -z12/z11, g21 = z21/z11, g22 = dz/z11; A = z11/z21, B = dz/z21, C = 1/z21,
+    # D = z22/z21, with dz = z11*z22 - z12*z21
+    Za, Zb, Zc = sym("Za Zb Zc")
+    z11, z12, z21, z22 = Za + Zc, Zc, Zc, Zb + Zc
+    dz = z11 * z22 - z12 * z21
+    expected = {"h11": dz / z22, "h12": z12 / z22, "h21": -z21 / z22, "h22": 1 / z22,
+                "g11": 1 / z11, "g12": -z12 / z11, "g21": z21 / z11, "g22": dz / z11,
+                "A": z11 / z21, "B": dz / z21, "C": 1 / z21, "D": z22 / z21}
+    tee = symcirc.parse("impedance Za (a, m)\nimpedance Zb (m, b)\nimpedance Zc (m, gnd)\n"
+                        "port p1 (a, gnd)\nport p2 (b, gnd)\n")
+    got = {r.quantity.rsplit(".", 1)[1]: r for r in tee.derive("twoport(p1, p2)")}
+    for name, formula in expected.items():
+        assert same(got[name].expression, formula), name
+    assert got["h21"].unit == "" and got["h11"].unit == "Ω" and got["g11"].unit == "S"
+
+
+def test_sensitivities_of_a_voltage_divider():
+    # relative (Bode) sensitivity of the divider ratio R2/(R1 + R2): S_R2 = R1/(R1 + R2),
+    # S_R1 = -R1/(R1 + R2); absolute dV/dR2 = U*R1/(R1 + R2)**2. Bode, Network Analysis and
+    # Feedback Amplifier Design (1945), sensitivity defined as d ln H / d ln x (from memory)
+    U, R1, R2 = sym("U R1 R2")
+    text = ("voltage source U (i, gnd)\nresistor R1 (i, o)\nresistor R2 (o, gnd)\n"
+            "port out (o, gnd)\n")
+    assert same(derived(text, "relative_sensitivity(gain(U, out), R2)"), R1 / (R1 + R2))
+    assert same(derived(text, "relative_sensitivity(gain(U, out), R1)"), -R1 / (R1 + R2))
+    assert same(derived(text, "sensitivity(V(out), R2)"), U * R1 / (R1 + R2) ** 2)
+    # the relative sensitivities of a dimensionless ratio of resistances sum to zero
+    # (scaling every resistor leaves it unchanged: common practice)
+    total = derived(text, "relative_sensitivity(gain(U, out), R1)") + \
+        derived(text, "relative_sensitivity(gain(U, out), R2)")
+    assert same(total, 0)

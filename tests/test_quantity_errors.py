@@ -154,10 +154,59 @@ def test_opamp_without_feedback_is_named():
     assert err.line == 1 and err.file == "<quantity>"
 
 
-def test_voltage_source_that_sets_its_own_voltage_is_singular():
+def test_voltage_source_that_sets_its_own_voltage_is_singular_and_named():
     text = "param k\nvoltage source E (o, gnd) = V(o)\nresistor R (o, gnd)\nport out (o, gnd)\n"
     err = error_of(text, "V(out)")
     assert "no unique solution" in err.message
+    assert "controlled source E makes them dependent" in err.message
+    assert "set by V(o)" in err.message
+
+
+def test_current_source_that_cancels_the_current_it_copies_is_named_with_its_control():
+    # F drives into gnd exactly the current R draws from node a: node a is left undetermined
+    text = "current source Iq (gnd, a)\nresistor R (a, gnd)\ncurrent source F (a, gnd) = I(R)\n"
+    err = error_of(text, "V(a)")
+    assert "controlled source F makes them dependent" in err.message
+    assert "set by I(R)" in err.message
+
+
+def test_only_the_opamp_without_feedback_is_blamed():
+    # X has feedback through R2; Y shares X's inputs but nothing returns from its output
+    text = ("voltage source U (i, gnd)\nresistor R1 (i, n)\nopamp X (gnd, n, o)\n"
+            "resistor R2 (n, o)\nopamp Y (gnd, n, o2)\nresistor R3 (o2, gnd)\n")
+    err = error_of(text, "V(o)")
+    assert "opamp Y has no feedback" in err.message
+    assert "X" not in err.message.split("no unique solution")[1]
+
+
+def test_loop_of_sources_through_a_transformer_names_them():
+    # the transformer ties V(a) = T*V(b) while U and U2 set both: its current is undetermined
+    text = ("voltage source U (a, gnd)\nresistor R1 (a, gnd)\n"
+            "transformer T (a, gnd; b, gnd) = 2\nvoltage source U2 (b, gnd)\n")
+    err = error_of(text, "I(R1)")
+    assert "the current of T is not determined" in err.message
+    assert "among U, T, U2" in err.message
+
+
+def test_a_job_too_large_to_derive_stops_with_a_clear_error(tmp_path, capsys, monkeypatch):
+    """python-flint aborts the process when memory runs out, so the engine refuses
+    polynomials past a size limit (lowered here so that a small circuit reaches it)."""
+    from symcirc.engine import polys
+
+    lines = ["voltage source U (n0, gnd)"]
+    for i in range(1, 7):
+        lines += [f"resistor Rs{i} (n{i - 1}, n{i})", f"resistor Rp{i} (n{i}, gnd)"]
+    lines += ["opamp X (n6, o, o)", "resistor RL (o, gnd)", "port out (o, gnd)"]
+    path = tmp_path / "ladder.circuit"
+    path.write_text("\n".join(lines) + "\n", encoding="utf-8")
+    (voltage,) = symcirc.load(str(path)).derive("thevenin(out).voltage")
+    assert voltage.exact.size() == (1, 233)  # 233 terms: fine at the normal limit
+    monkeypatch.setattr(polys, "MAX_TERMS", 100)
+    code = main(["derive", str(path), "thevenin(out).voltage"])
+    err = capsys.readouterr().err
+    assert code == 2 and "Traceback" not in err
+    assert err.startswith("<command line>:1:1: error: the exact derivation is too large")
+    assert "the limit is 100" in err and "note: derive the circuit in parts" in err
 
 
 # ---------------------------------------------------------------- arguments
@@ -202,6 +251,23 @@ def test_limit_that_grows_without_bound_is_reported_at_the_where_clause(tmp_path
                     "port out (o, gnd)\nderive Z(out) where R1 -> oo, R2 -> oo\n")
     code = main(["derive", str(path)])
     assert code == 2
+
+
+def test_limit_that_grows_without_bound_names_the_quantity_and_the_clause(tmp_path, capsys):
+    path = tmp_path / "grow.circuit"
+    path.write_text("voltage source U (i, gnd)\nresistor R1 (i, o)\nresistor R2 (o, gnd)\n"
+                    "port out (o, gnd)\nderive Z(out) where R2 -> oo\n")
+    code = main(["derive", str(path)])
+    # Z(out) = R1*R2/(R1 + R2) tends to R1 as the shunt opens (common practice): finite
+    assert code == 0 and capsys.readouterr().out == "Z(out) where R2 -> oo = R1\n"
+    # I(R2) per volt is 1/(R1 + R2): 1/R1 as R2 -> 0, then unbounded as R1 -> 0
+    path.write_text("voltage source U (i, gnd)\nresistor R1 (i, o)\nresistor R2 (o, gnd)\n"
+                    "port out (o, gnd)\nderive gain(U, I(R2)) where R2 -> 0, R1 -> 0\n")
+    code = main(["derive", str(path)])
+    err = capsys.readouterr().err
+    assert code == 2 and "Traceback" not in err
+    assert "I(R2)" in err and "grows without bound" in err
+    assert f"{path}:5:" in err.splitlines()[0]
 
 
 def test_command_line_error_layout_and_exit_status(tmp_path, capsys):

@@ -4,6 +4,7 @@ spreads from the tolerance analysis."""
 from __future__ import annotations
 
 import itertools
+import math
 import re
 from pathlib import Path
 
@@ -40,6 +41,12 @@ def test_sheet_of_all_examples_in_markdown_and_latex(tmp_path):
         assert " ".join(circuit.title.split()) in words
     # one table per circuit: a header row for each
     assert md.count("| Quantity | Formula | Nominal | Unit | Spread |") == len(EXAMPLES)
+    # the parameters of a design form come with it: the anti-alias filter's corner, against
+    # f0 = 1/(2π·√(R1·R2·C1·C2)) of a unity-gain Sallen-Key low-pass (from memory)
+    f0 = 1 / (2 * math.pi * math.sqrt(10e3 * 10e3 * 220e-9 * 100e-9))
+    row = next(line for line in md.splitlines() if line.startswith("| ↳ f0 |"))
+    assert re.search(r"\| ([\d.]+) Hz \| Hz \|", row).group(1) == f"{f0:.4g}"
+    assert "\\quad $f_{0}$" in (tmp_path / "sheet.tex").read_text(encoding="utf-8")
 
 
 def test_spread_is_the_worst_case_over_the_tolerances(tmp_path):

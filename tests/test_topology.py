@@ -55,7 +55,8 @@ def _verdict(text: str) -> str | None:
         symcirc.parse(text)
     except symcirc.SymcircError as error:
         message = error.message
-        if "form a loop" in message or "forms a loop by itself" in message:
+        if "form a loop" in message or "forms a loop by itself" in message \
+                or "would short itself" in message:
             return "loop"
         if "no path through elements" in message:
             return "floating"
@@ -135,3 +136,46 @@ def test_union_find_matches_networkx_components():
         roots = {sets.find(node) for node in component}
         assert len(roots) == 1
     assert len({sets.find(n) for n in graph.nodes}) == nx.number_connected_components(graph)
+
+
+def test_opamp_outputs_count_as_voltage_sources_in_loops():
+    # An opamp's output is an ideal voltage source from its output node to the reference
+    # (shared/language.md: "output ideal"); networkx finds the loops independently.
+    rng = random.Random(31)
+    seen = set()
+    for _ in range(300):
+        nodes = [REFERENCE] + [f"n{i}" for i in range(rng.randint(1, 4))]
+        lines, parts = [], []
+        for index in range(rng.randint(1, 7)):
+            kind = rng.choices(["resistor", "voltage source", "opamp"], [5, 2, 2])[0]
+            if kind == "opamp":
+                p, n, o = (rng.choice(nodes) for _ in range(3))
+                lines.append(f"opamp X{index} ({p}, {n}, {o})")
+                parts.append((kind, p, n, o))
+            else:
+                a, b = rng.choice(nodes), rng.choice(nodes)
+                lines.append(f"{kind} X{index} ({a}, {b}) = 1")
+                parts.append((kind, a, b))
+        named = {x for part in parts for x in part[1:]}
+        if REFERENCE not in named:  # the first node seen becomes the reference
+            first = parts[0][1]
+            parts = [(k, *(REFERENCE if x == first else x for x in rest)) for k, *rest in parts]
+        sources = nx.MultiGraph()
+        every = nx.Graph()
+        every.add_node(REFERENCE)
+        for kind, *terminals in parts:
+            every.add_nodes_from(terminals)
+            edge = (terminals[2], REFERENCE) if kind == "opamp" else tuple(terminals)
+            every.add_edge(*edge)
+            if kind != "resistor":
+                sources.add_edge(*edge)
+        if nx.number_of_selfloops(sources) or any(True for _ in nx.simple_cycles(sources)):
+            expected = "loop"
+        elif nx.number_connected_components(every) > 1:
+            expected = "floating"
+        else:
+            expected = None
+        text = "\n".join(lines) + "\n"
+        assert _verdict(text) == expected, text
+        seen.add(expected)
+    assert seen == {None, "loop", "floating"}

@@ -203,6 +203,8 @@ def test_dangling_node_and_shorted_element_are_warnings():
     assert len(warnings) == 2
     assert warnings[0][0] == 5 and "node bb is touched only by R3" in warnings[0][1]
     assert warnings[1][0] == 6 and "both terminals of R4" in warnings[1][1]
+    # node `probe` is touched by R5 only, but `derive V(probe)` uses it: no typo
+    assert not any("probe" in message for _, message in warnings)
     assert not load("blocks").notices
 
 
@@ -222,3 +224,42 @@ def test_examples_read_and_use_every_common_construct():
     assert bridge.elements["R1"].nominal == 1000 and bridge.elements["Rt"].definition is not None
     # Rt = R0(1 + alpha T) at 25 °C: 1 kΩ × 1.09625 (linear platinum model, common practice)
     assert bridge.elements["Rt"].nominal == Fraction(109625, 100)
+
+
+def test_with_names_given_inside_blocks_can_be_renamed_again():
+    circuit = load("nested_renames")
+    e = circuit.elements
+    # R of pole1 is `Rf` inside filter, `Rfilt` inside channel, and R1 for instance ch1;
+    # without a `with` at the top it is `Rfilt_ch2` (<element>_<instance>, language page).
+    assert e["R1"].nodes == ("t_ch1", "x_pole1_flt_ch1")
+    assert e["Rfilt_ch2"].nodes == ("t_ch2", "x_pole1_flt_ch2")
+    assert "Rf_flt_ch1" not in e and "Rfilt_ch1" not in e
+    assert e["Cf_flt_ch1"].nodes == ("x_pole1_flt_ch1", "m_flt_ch1")
+    assert e["C_pole2_flt_ch2"].nodes == ("x_pole2_flt_ch2", "out2")
+    assert e["Rtop"].nodes == ("in", "t_ch1") and e["Rdiv_ch2"].nodes == ("in", "t_ch2")
+    assert len(e) == 15  # 1 source, 2 x 6 per channel, 2 loads
+    # a block-local parameter follows the renamed symbols of its own instance
+    fc = circuit.parameters["fc_pole1_flt_ch1"]
+    assert fc.value == 1 / (2 * sympy.pi * S("R1") * S("Cf_flt_ch1"))
+    # RC corner frequency 1/(2 pi R C) at 10 kΩ, 10 nF: 1591.55 Hz (common practice)
+    assert abs(float(fc.nominal) - 1591.5494309189535) < 1e-9
+
+
+def test_renaming_a_name_no_nested_instance_gives_is_an_error():
+    text = (VALID / "nested_renames.circuit").read_text(encoding="utf-8")
+    with pytest.raises(symcirc.SymcircError) as caught:
+        symcirc.parse(text.replace("with Rfilt = R1", "with Rf = R1"), "t.circuit")
+    # `Rf` is filter's name for it; inside channel it is called `Rfilt`
+    assert "block channel has no element or parameter `Rf` to rename" in caught.value.message
+    with pytest.raises(symcirc.SymcircError) as caught:
+        symcirc.parse(text.replace("with Rfilt = R1", "with Rflt = R1"), "t.circuit")
+    assert "`Rflt` to rename; did you mean `Rfilt`?" in caught.value.message
+
+
+def test_iec_60062_codes_with_letters_l_and_f_in_a_file():
+    e = load("values_units").elements
+    # IEC 60062:2016 letters: L = 10^-3 (resistance), F = 1 (capacitance); 47K3 = 47.3 kΩ
+    assert e["R9"].nominal == Fraction(68, 10_000) and e["R9"].unit == "Ω"
+    assert e["R10"].nominal == 47_300
+    assert e["C4"].nominal == Fraction(47, 10) and e["C4"].unit == "F"
+    assert e["R11"].nominal == Fraction(47, 100)

@@ -3,7 +3,8 @@
 Builds the wheel from a copy of the source tree (`python -m build`, whose isolated
 build environment comes from the package index), installs it into a fresh virtual
 environment that sees the running interpreter's site-packages for the runtime dependencies
-(through a `.pth` file, which adds the paths without running their install hooks), and runs `symcirc inspect` on an example from a directory outside the tree.
+(through a `.pth` file, which adds the paths without running their install hooks), and
+runs `symcirc inspect` on an example from a directory outside the tree.
 """
 
 import json

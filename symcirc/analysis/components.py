@@ -13,6 +13,7 @@ from fractions import Fraction
 import sympy
 
 from .eseries import DESIGN_SERIES, neighbours
+from .tidy import tidy
 from .values import exact_value, rational
 
 
@@ -59,7 +60,8 @@ class ComponentSolution:
 
 
 def _tidy(expression: sympy.Expr) -> sympy.Expr:
-    return sympy.factor(sympy.cancel(expression))
+    """A readable closed form: cancelled and factored (rational functions stay rational)."""
+    return tidy(expression)
 
 
 def solve_for(

@@ -53,11 +53,12 @@ class _Monomials:
         self.steps.append((parent, j))
         return known[row]
 
-    def table(self, columns: Sequence[Any], size: int):
-        """Monomials × points (row 0 is the constant 1)."""
+    def table(self, columns: Sequence[Any], size: int, out: Any = None):
+        """Monomials × points (row 0 is the constant 1), into `out` when given (reused
+        between chunks: fresh large arrays cost page faults)."""
         import numpy as np
 
-        out = np.empty((self.count, size))
+        out = np.empty((self.count, size)) if out is None else out[:, :size]
         out[0] = 1.0
         for row, (parent, j) in enumerate(self.steps, start=1):
             np.multiply(out[parent], columns[j], out=out[row])
@@ -93,19 +94,24 @@ class _Vectorised:
         """(start, a table, b table, points) for consecutive chunks of the points."""
         import numpy as np
 
+        width = min(CHUNK_POINTS, size)
+        a_buffer, b_buffer = np.empty((self.a.count, width)), np.empty((self.b.count, width))
         for start in range(0, size, CHUNK_POINTS):
             part = [np.asarray(c, dtype=float)[start:start + CHUNK_POINTS] for c in columns]
             m = min(CHUNK_POINTS, size - start)
-            yield start, self.a.table(part[:self.half], m), self.b.table(part[self.half:], m), m
+            yield (start, self.a.table(part[:self.half], m, a_buffer),
+                   self.b.table(part[self.half:], m, b_buffer), m)
 
     def values(self, columns: Sequence[Any], size: int):
         """Polynomials × points."""
         import numpy as np
 
         out = np.empty((len(self.by_a), size))
+        scratch = _Scratch()
         for start, a, b, m in self._chunks(columns, size):
             for k, groups in enumerate(self.by_a):
-                out[k, start:start + m] = np.einsum("ij,ij->j", a, _inner(groups, b, len(a)))
+                inner = _inner(groups, b, len(a), scratch)
+                out[k, start:start + m] = np.einsum("ij,ij->j", a, inner)
         return out
 
     def weighted(self, columns: Sequence[Any], size: int):
@@ -113,10 +119,11 @@ class _Vectorised:
         import numpy as np
 
         out = np.empty((len(self.by_a), size, self.n))
+        scratch = _Scratch()
         for start, a, b, m in self._chunks(columns, size):
             for k in range(len(self.by_a)):
-                first = self.a.exponents.T @ (a * _inner(self.by_a[k], b, len(a)))
-                second = self.b.exponents.T @ (b * _inner(self.by_b[k], a, len(b)))
+                first = self.a.exponents.T @ (a * _inner(self.by_a[k], b, len(a), scratch))
+                second = self.b.exponents.T @ (b * _inner(self.by_b[k], a, len(b), scratch))
                 out[k, start:start + m] = np.vstack([first, second]).T
         return out
 
@@ -155,11 +162,16 @@ class _Vectorised:
         a, b = self._corner_tables(lows, highs)
         out = np.empty((len(self.by_a), 2**self.n, self.n))
         for k in range(len(self.by_a)):
-            left, right = a.T @ self._dense(k), self._dense(k) @ b
+            dense = self._dense(k)
+            left, right = a.T @ dense, dense @ b
+            # only the monomials that contain x_j contribute to x_j·∂P/∂x_j
             for j, powers in enumerate(self.a.exponents.T):
-                out[k, :, j] = ((a.T * powers) @ right).T.ravel()
+                used = np.flatnonzero(powers)
+                out[k, :, j] = ((a.T[:, used] * powers[used]) @ right[used]).T.ravel()
             for j, powers in enumerate(self.b.exponents.T):
-                out[k, :, self.half + j] = (left @ (b * powers[:, None])).T.ravel()
+                used = np.flatnonzero(powers)
+                weighted = b[used] * powers[used, None]
+                out[k, :, self.half + j] = (left[:, used] @ weighted).T.ravel()
         return out
 
 
@@ -174,11 +186,27 @@ def _groups(outer, inner, coefficients) -> list[tuple[int, Any, Any]]:
             for s, e in zip(starts, ends, strict=True)]
 
 
-def _inner(groups, table, count: int):
-    """For every outer monomial, Σ c·(inner monomial) over its terms (rows × points)."""
-    import numpy as np
+class _Scratch:
+    """Work arrays kept between the chunks of one evaluation, grown when too small."""
 
-    out = np.zeros((count, table.shape[1]))
+    def __init__(self) -> None:
+        self.arrays: dict[str, Any] = {}
+
+    def get(self, name: str, rows: int, columns: int):
+        import numpy as np
+
+        array = self.arrays.get(name)
+        if array is None or array.shape[0] < rows or array.shape[1] < columns:
+            array = self.arrays[name] = np.empty((max(rows, 1), columns))
+        return array[:rows, :columns]
+
+
+def _inner(groups, table, count: int, scratch: _Scratch | None = None):
+    """For every outer monomial, Σ c·(inner monomial) over its terms (rows × points)."""
+    scratch = scratch or _Scratch()
+    size = table.shape[1]
+    out = scratch.get(f"inner{count}", count, size)
+    out[...] = 0.0
     for row, rows, coefficients in groups:
         out[row] = coefficients @ table[rows]
     return out

@@ -17,7 +17,8 @@ from fractions import Fraction
 import sympy
 
 from ..model.circuit import LAPLACE
-from .engineering import eng
+from ..model.units import eng
+from .tidy import tidy
 from .values import exact_value, rational
 
 HAZARDOUS_VOLTAGE = 50
@@ -27,7 +28,8 @@ CAUTION_POWER = Fraction(1, 4)
 
 
 def _tidy(expression: sympy.Expr) -> sympy.Expr:
-    return sympy.factor(sympy.cancel(expression))
+    """A readable closed form: cancelled and factored (rational functions stay rational)."""
+    return tidy(expression)
 
 
 @dataclass(frozen=True)

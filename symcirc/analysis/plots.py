@@ -44,6 +44,13 @@ def _eng_axis(axis, unit: str) -> None:
     axis.set_major_formatter(EngFormatter(unit=unit, sep=" "))
 
 
+def _percent_axis(axis) -> None:
+    """Plain decimal percentages on a log axis (`0.01 %`, not a power of ten)."""
+    from matplotlib.ticker import FuncFormatter
+
+    axis.set_major_formatter(FuncFormatter(lambda value, _: f"{value:g} %"))
+
+
 def _axis_label(name: str, unit: str) -> str:
     return f"{name} ({unit})" if unit else name
 
@@ -129,16 +136,22 @@ def histogram_figure(analysis: ToleranceAnalysis, label: str, unit: str = ""):
 
 
 @_styled
-def sensitivity_figure(table: SensitivityTable, label: str):
-    """Horizontal bars of the relative sensitivities, largest at the top."""
+def sensitivity_figure(table: SensitivityTable, label: str, unit: str = ""):
+    """Horizontal bars of the relative sensitivities, largest at the top; `unit` is that of
+    the rows when they are referred to something other than Q (x·∂Q/∂x has Q's unit)."""
     rows = [r for r in table.rows if r.relative_value is not None]
     figure, axes = _figure()
     names = [str(r.symbol) for r in rows][::-1]
     values = [float(r.relative_value) for r in rows][::-1]
     axes.barh(names, values, color=["C0" if v >= 0 else "C3" for v in values])
     axes.axvline(0, color="k", linewidth=0.8)
-    reference = "Q" if table.reference is None else str(table.reference)
-    axes.set_xlabel(f"Relative sensitivity (x/{reference})·∂Q/∂x")
+    if table.reference == 1:
+        axes.set_xlabel(_axis_label("Sensitivity x·∂Q/∂x", unit))
+    else:
+        reference = "Q" if table.reference is None else str(table.reference)
+        axes.set_xlabel(_axis_label(f"Relative sensitivity (x/{reference})·∂Q/∂x", unit))
+    if unit:
+        _eng_axis(axes.xaxis, unit)
     axes.set_ylabel("Symbol x")
     axes.set_title(f"Sensitivities of Q = {label}")
     return figure
@@ -167,13 +180,14 @@ def loading_figure(
     if bound is not None:
         axes.axhline(100 * bound, color="C2", linestyle="--", label=f"bound {100 * bound:.3g} %")
     if smallest is not None:
-        from .engineering import eng
+        from ..model.units import eng
 
         axes.axvline(smallest, color="C2", linestyle=":",
                      label=f"smallest load {eng(smallest, 'Ω')}")
     axes.set_xlabel("Load resistance R_L (Ω)")
     axes.set_ylabel("Loading error |ΔU/U| (%)")
     _eng_axis(axes.xaxis, "Ω")
+    _percent_axis(axes.yaxis)
     axes.set_title(f"Loading of {label}")
     if load is not None or bound is not None:
         axes.legend(loc="upper right", fontsize=7)
@@ -209,7 +223,8 @@ def plot(
             raise q.Reader(circuit, options).error(
                 quantity, f"no sensitivity of {result.quantity} has a value to plot (a symbol "
                           "without a nominal value, or s)")
-        figure = sensitivity_figure(table, result.quantity)
+        unit = q.sensitivity_unit(circuit, result, table)
+        figure = sensitivity_figure(table, result.quantity, unit)
     elif quantity.name in ("loading", "minimum_load"):
         case = q.loading_case(circuit, quantity, options)
         if not cmath.isfinite(case.source_impedance_value):

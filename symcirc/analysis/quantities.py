@@ -18,10 +18,11 @@ import sympy
 from ..errors import Location, SymcircError
 from ..language import syntax
 from ..model.circuit import LAPLACE, SOURCES, UNIT_OF_KIND, Circuit
+from ..model.units import eng
+from ..model.units import percent_text as percent
 from ..quantities.registry import DeriveOptions
 from ..results import Result
 from . import components, loading, sensitivity, tolerance
-from .engineering import eng, percent
 from .values import exact_value
 
 # ---------------------------------------------------------------- reading arguments
@@ -38,12 +39,25 @@ class Reader:
     def error(self, node: syntax.Node, message: str) -> SymcircError:
         return SymcircError.at(Location(self.file, node.line, node.column), message, self.source)
 
-    def arguments(self, quantity: syntax.Quantity, least: int, most: int, usage: str) -> tuple:
+    def arguments(self, quantity: syntax.Quantity, least: int, most: int, usage: str,
+                  parts: bool = False) -> tuple:
+        """The arguments; `parts`: the quantity may name one of its results (`.error`)."""
         if not least <= len(quantity.args) <= most:
             raise self.error(quantity, f"{quantity.name}(..) takes {usage}")
-        if quantity.attribute is not None:
+        if quantity.attribute is not None and not parts:
             raise self.error(quantity, f"{quantity.name}(..) has no part `.{quantity.attribute}`")
         return quantity.args
+
+    def select(self, quantity: syntax.Quantity, results: list[Result]) -> list[Result]:
+        """The results a part names (`loading(out, Rm).error`), or all of them."""
+        if quantity.attribute is None:
+            return results
+        chosen = [r for r in results if r.quantity.endswith("." + quantity.attribute)]
+        if not chosen:
+            known = sorted({r.quantity.rsplit(".", 1)[-1] for r in results})
+            raise self.error(quantity, f"{quantity.name}(..) has no part `.{quantity.attribute}`"
+                                       f"; it has {', '.join('.' + k for k in known)}")
+        return chosen
 
     def quantity(self, arg) -> syntax.Quantity:
         """A quantity argument: `V(out)` read as an expression is a quantity too."""
@@ -105,6 +119,13 @@ class Reader:
         raise self.error(arg, "expected a port name here")
 
 
+def base_text(quantity: syntax.Quantity) -> str:
+    """The quantity's text without the part it names: `loading(out, Rm)`."""
+    if quantity.attribute is None:
+        return quantity.text
+    return quantity.text[: -len(quantity.attribute) - 1]
+
+
 def _unit_of(circuit: Circuit, symbol: sympy.Symbol) -> str:
     """The unit of an element's or parameter's symbol ('' when none is known)."""
     name = str(symbol)
@@ -153,14 +174,6 @@ def _text(expression: sympy.Expr) -> str:
     return sympy.sstr(expression)
 
 
-def _float(value: Fraction | None) -> float | None:
-    return None if value is None else float(value)
-
-
-def _text(expression: sympy.Expr) -> str:
-    return sympy.sstr(expression)
-
-
 # ---------------------------------------------------------------- sensitivities
 
 
@@ -182,7 +195,8 @@ def sensitivity_tables(circuit: Circuit, quantity: syntax.Quantity, options: Der
     """(inner result, sensitivity table) for each result of `sensitivities(Q[, reference])`."""
     read = Reader(circuit, options)
     args = read.arguments(quantity, 1, 2, "a quantity and optionally a reference: "
-                                          "sensitivities(V(out)) or sensitivities(V(out), Ub)")
+                                          "sensitivities(V(out)) or sensitivities(V(out), Ub)",
+                          parts=True)
     named = read.expression(args[1]) if len(args) == 2 else None
     nominals = circuit.symbol_nominals()
     out = []
@@ -216,6 +230,11 @@ def _sensitivity_heading(circuit: Circuit, inner: Result, table) -> tuple[str, s
         f"of {q} as a fraction of {reference} per unit relative change of x, largest first.")
 
 
+def sensitivity_unit(circuit: Circuit, inner: Result, table) -> str:
+    """The unit of a table's rows: '' relative to Q, else Q's unit over the reference's."""
+    return _sensitivity_heading(circuit, inner, table)[1]
+
+
 def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
                            options: DeriveOptions) -> list[Result]:
     """One Result per valued symbol x, largest first: `sensitivities(Q).x` = (x/Q)·∂Q/∂x."""
@@ -237,7 +256,7 @@ def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
         for rank, row in enumerate(table.rows, start=1):
             derivative_unit = _per(inner.unit, _unit_of(circuit, row.symbol))
             result = Result(f"{quantity.name}({q}).{row.symbol}", row.relative, unit, nominals)
-            if rank == 1:
+            if rank == 1 or quantity.attribute == str(row.symbol):  # a row named alone
                 result.notes.append(heading[0].upper() + heading[1:])
             at = "" if row.derivative_value is None else \
                 f" = {eng(row.derivative_value, derivative_unit)} at the nominal values"
@@ -255,7 +274,7 @@ def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
                 "via": [str(v) for v in row.via],
             }
             results.append(result)
-    return results
+    return Reader(circuit, options).select(quantity, results)
 
 
 # ---------------------------------------------------------------- tolerance
@@ -322,10 +341,18 @@ def _tolerance_sentences(inner: Result, a: tolerance.ToleranceAnalysis) -> list[
         f"deviation {eng(mc.std, u)}, 0.1 % and 99.9 % quantiles {eng(mc.quantile_low, u)} "
         f"and {eng(mc.quantile_high, u)}.",
         "Largest contributions (linearised): " + ", ".join(
-            f"{c.variable.label} {eng(c.down, u)}/+{eng(c.up, u)}"
-            for c in a.contributions[:5]) + ".",
+            f"{c.variable.label} {_contribution(c, u)}" for c in a.contributions[:5]) + ".",
         *a.warnings,
     ]
+
+
+def _contribution(c: tolerance.Contribution, unit: str) -> str:
+    """`±1.25 mV`, `-0.2 mV/+0.8 mV`, or `0 V (∂Q/∂x = 0 at nominal)`."""
+    if c.up == c.down == 0:
+        return f"{eng(0, unit)} (∂Q/∂x = 0 at the nominal point)"
+    if c.up == -c.down:
+        return f"±{eng(c.up, unit)}"
+    return f"{eng(c.down, unit)}/+{eng(c.up, unit)}"
 
 
 def _tolerance_details(a: tolerance.ToleranceAnalysis) -> dict:
@@ -429,7 +456,7 @@ def loading_case(
              "loading(out, 10 kΩ, 1 kHz)" if quantity.name == "loading" else
              "a port, an error bound and optionally a frequency: minimum_load(out, 0.1 %), "
              "minimum_load(out, 0.1 %, 1 kHz)")
-    args = read.arguments(quantity, 2, 3, usage)
+    args = read.arguments(quantity, 2, 3, usage, parts=True)
     port = read.port(args[0])
     frequency = None
     if len(args) == 3:
@@ -450,7 +477,7 @@ def loading_case(
         if not 0 < bound < 1:
             raise read.error(args[1], "the loading error bound lies between 0 and 100 %")
     voltage, impedance = _thevenin(source, port, args[0], options)
-    return LoadingCase(quantity.text, port, voltage, impedance, load, frequency, bound,
+    return LoadingCase(base_text(quantity), port, voltage, impedance, load, frequency, bound,
                        circuit.symbol_nominals())
 
 
@@ -496,7 +523,7 @@ def loading_quantity(circuit: Circuit, quantity: syntax.Quantity,
             "port": port, "source_voltage": _text(u), "source_impedance": _text(z),
             "load": _text(case.load), "frequency": case.frequency,
         })
-    return results
+    return Reader(circuit, options).select(quantity, results)
 
 
 def _maximum_power(maximum: sympy.Expr, z: sympy.Expr, case: LoadingCase, value) -> Result:
@@ -589,7 +616,7 @@ def minimum_load_quantity(circuit: Circuit, quantity: syntax.Quantity,
             "source_impedance": _text(z), "resistance": bound.resistance_value,
             "capacitance": bound.capacitance_value,
         }
-    return results
+    return Reader(circuit, options).select(quantity, results)
 
 
 # ---------------------------------------------------------------- component values

@@ -16,6 +16,7 @@ from fractions import Fraction
 import sympy
 
 from .evaluate import RationalForm
+from .tidy import tidy
 from .values import exact_value, expand_definitions
 
 SIMPLIFY_TERMS = 60
@@ -48,7 +49,7 @@ class SensitivityTable:
 
 def _tidy(expression: sympy.Expr) -> sympy.Expr:
     """A readable closed form: cancelled and factored (rational functions stay rational)."""
-    return sympy.factor(sympy.cancel(expression))
+    return tidy(expression)
 
 
 class _Derivatives:

@@ -133,7 +133,7 @@ def independent(
             own[x] = definitions[x] * k if tol.relative else definitions[x] + k
             low, high = base - tol.minus, base + tol.plus
             variables.append(Variable(k, f"{x.name} (own tolerance)", base, low, high, tol))
-    expanded = expand_definitions(expression, {**definitions, **own})
+    expanded = expand_definitions(expression, _reaching(definitions, own, nominals, tolerances))
     used = expanded.free_symbols
     if LAPLACE in used:
         raise ToleranceInputError("the quantity depends on s (a transfer function)")
@@ -152,6 +152,26 @@ def independent(
     variables.sort(key=lambda v: v.label)
     fixed = {x: nominals[x] for x in sorted(used - toleranced, key=str)}
     return expanded, variables, fixed
+
+
+def _reaching(
+    definitions: Mapping[sympy.Symbol, sympy.Expr],
+    own: Mapping[sympy.Symbol, sympy.Expr],
+    nominals: Mapping[sympy.Symbol, Fraction],
+    tolerances: Mapping[sympy.Symbol, Tolerance],
+) -> dict[sympy.Symbol, sympy.Expr]:
+    """The definitions to expand: those through which a tolerance reaches Q. The others
+    (`Uin = Uref` with no tolerance on Uref) stay symbols at their nominal values, which
+    spares rebuilding a large closed form for nothing."""
+    spread = {x for x, t in tolerances.items() if t.plus or t.minus}
+    out = dict(own)
+    for x, definition in definitions.items():
+        if x in out:
+            continue
+        reached = expand_definitions(definition, definitions).free_symbols
+        if x not in nominals or reached & spread or any(y in own for y in reached):
+            out[x] = definition
+    return out
 
 
 def analyse(
@@ -277,24 +297,38 @@ def _extremes(form, variables: list[Variable], slopes: list[Fraction], rng) -> E
                                                                             strict=True)}
         high_at = {v.symbol: (v.high if s >= 0 else v.low) for v, s in zip(variables, slopes,
                                                                              strict=True)}
-        method = (f"{n} toleranced symbols (more than {MAX_CORNER_SYMBOLS}): the extreme corners "
-                  "were chosen by the sign of each partial derivative at the nominal point")
+        # a random corner that beats the gradient's choice is the better start
+        sampled = form.values(corners, INTERIOR_CHECKS)
+        if np.isfinite(sampled).any():
+            for best, at, lower in ((np.nanargmin(sampled), low_at, True),
+                                    (np.nanargmax(sampled), high_at, False)):
+                point = {v.symbol: _snap(float(c[best]), v)
+                         for v, c in zip(variables, corners, strict=True)}
+                if (exact_at(point) < exact_at(at)) == lower and exact_at(point) != exact_at(at):
+                    at.update(point)
+        method = (f"{n} toleranced symbols (more than {MAX_CORNER_SYMBOLS}, too many corners "
+                  "to evaluate them all): a bounded search, starting from the corners chosen by "
+                  "the sign of each partial derivative at the nominal point")
     low, high = exact_at(low_at), exact_at(high_at)
 
-    if bad:
+    if bad or not enumerate_all:
         searched_low = _coordinate_search(form, variables, low_at, maximise=False)
         searched_high = _coordinate_search(form, variables, high_at, maximise=True)
         if exact_at(searched_low) < low:
             low_at, low = searched_low, exact_at(searched_low)
         if exact_at(searched_high) > high:
             high_at, high = searched_high, exact_at(searched_high)
-        method += (
-            f"; Q is not monotonic in {', '.join(bad)} over the box ({where_checked}), so the "
-            f"extremes were then refined by a bounded coordinate search (sweeps of "
-            f"{SEARCH_GRID} points per symbol across its band, repeated until no sweep improves, "
-            "then the best interval narrowed tenfold per round); "
-            "a search can miss a narrow interior extremum"
+        searched = (
+            f"a bounded coordinate search (sweeps of {SEARCH_GRID} points per symbol across its "
+            "band, repeated until no sweep improves, then the best interval narrowed tenfold per "
+            "round); a search can miss a narrow interior extremum"
         )
+        if bad:
+            method += (f"; Q is not monotonic in {', '.join(bad)} over the box ({where_checked}), "
+                       f"so the extremes were then refined by {searched}")
+        else:
+            method += (f"; no partial derivative changed sign ({where_checked}), and the "
+                       f"extremes were then refined by {searched}")
     else:
         method += f"; Q is monotonic in every toleranced symbol over the box ({where_checked}), " \
                   "so the corner extremes are the extremes"

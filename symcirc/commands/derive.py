@@ -4,7 +4,8 @@ With no QUANTITY, the file's `derive` statements (with their `where` clauses) ar
 `where big >> small` approximations and, with `--steps`, design forms and derivation steps
 come from symcirc.forms.
 Formats: `text` (`quantity = expression` lines), `latex`, `markdown`, `json` (one object:
-file, title, results). `--values` adds each result's nominal value, or why it has none.
+file, title, results). `--values` adds each result's nominal value, or why it has none;
+`--seed N` seeds the Monte Carlo part of `tolerance(..)`.
 """
 
 from __future__ import annotations
@@ -37,6 +38,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                         help="add design forms and derivation steps where available")
     parser.add_argument("--no-steps", dest="steps", action="store_false",
                         help="only the canonical closed forms (default)")
+    parser.add_argument("--seed", type=int, default=None, metavar="N",
+                        help="Monte Carlo seed for tolerance(..) (default: the analysis' fixed "
+                             "seed, so that runs repeat)")
 
 
 def _allow_options_between_quantities(parser: argparse.ArgumentParser) -> None:
@@ -66,13 +70,16 @@ def run(args: argparse.Namespace) -> int:
     from ..quantities.registry import DeriveOptions
 
     circuit = load(args.file)
+    from ..check.dimensions import check_circuit
+
+    check_circuit(circuit)  # `where` clauses and controlled-source coefficients (issue 7)
     for notice in circuit.notices:
         print(_notice(notice, circuit), file=sys.stderr)
     jobs = []  # (quantity, options)
     if args.quantities:
         for text in args.quantities:
             options = DeriveOptions(substitute=args.substitute, steps=args.steps,
-                                    origin=(COMMAND_LINE, text))
+                                    seed=args.seed, origin=(COMMAND_LINE, text))
             jobs.append((parse(text, COMMAND_LINE), options))
     else:
         if not circuit.derives:
@@ -81,7 +88,7 @@ def run(args: argparse.Namespace) -> int:
                                "'thevenin(out)'", args.file)
         for statement in circuit.derives:
             options = DeriveOptions(substitute=args.substitute, steps=args.steps,
-                                    assumptions=statement.assumptions)
+                                    seed=args.seed, assumptions=statement.assumptions)
             jobs.extend((quantity, options) for quantity in statement.quantities)
     results: list[Result] = []
     for quantity, options in jobs:

@@ -15,6 +15,7 @@ from __future__ import annotations
 from collections.abc import Sequence
 from math import gcd
 
+from . import polys
 from .polys import EngineError, Poly, PolynomialRing
 from .ratfunc import RationalFunction
 
@@ -102,19 +103,26 @@ class _Elimination:
     # -- choosing pivots
     def _choose_pivot(self, exclude: set[int]) -> tuple[int, int] | None:
         ring = self.ring
+        n = self.n
         best = None
         best_key = None
+        row_counts: dict[int, int] = {}  # off-pivot entries of each row, counted once per call
         for j, rows_of_j in self.columns.items():
             if j in exclude or not rows_of_j:
                 continue
             col_count = len(rows_of_j) - 1
             for i in rows_of_j:
                 row = self.rows[i]
-                row_count = sum(1 for c in row if c < self.n) - 1
+                row_count = row_counts.get(i)
+                if row_count is None:
+                    row_count = row_counts[i] = sum(1 for c in row if c < n) - 1
+                fill = row_count * col_count
+                if best_key is not None and fill > best_key[0]:
+                    continue  # cannot win: skip looking at the entry itself
                 value = row[j]
                 terms = ring.nterms(value)
                 shape = 0 if ring.is_constant(value) else (1 if terms == 1 else 2)
-                key = (row_count * col_count, shape, terms, i, j)
+                key = (fill, shape, terms, i, j)
                 if best_key is None or key < best_key:
                     best_key, best = key, (i, j)
         return best
@@ -275,6 +283,10 @@ def _combine(row: Row, pivot_row: Row, p: Poly, a: Poly, ring: PolynomialRing) -
             value = -(a * v)
         if not ring.is_zero(value):
             new[j] = value
+    limit = polys.MAX_TERMS
+    for value in new.values():
+        if len(value) > limit:
+            polys.check_size(value, "an entry of the eliminated equations")
     return new
 
 

@@ -16,6 +16,7 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 
+from ..model.circuit import REFERENCE
 from . import eliminate
 from .network import Branch, CurrentControl, Network, Source, VoltageControl
 from .polys import LAPLACE_NAME, EngineError, Poly
@@ -316,15 +317,46 @@ class Equations:
         network = self.network
         opamps = [k[1] for k in columns if k[0] == "I" and k[1] in network.opamps]
         opamps += [e for r in rows for e in r.elements if e in network.opamps and e not in opamps]
+        if len(opamps) > 1:
+            # prefer the opamps whose output node's current balance is among the dependent
+            # equations: an opamp with feedback only shares its inputs with the culprit
+            outputs = {f"the current balance at node {network.opamps[o].out}": o for o in opamps}
+            culprits = [outputs[r.says] for r in rows if r.says in outputs]
+            opamps = culprits or opamps
         if opamps:
-            names = ", ".join(dict.fromkeys(opamps))
+            names = list(dict.fromkeys(opamps))
+            subject = (f"opamp {names[0]} has" if len(names) == 1
+                       else f"opamps {', '.join(names)} have")
             return SingularCircuit(
-                f"the circuit's equations have no unique solution: opamp {names} has no "
-                "feedback from its output to its inputs (or its inputs are held apart by "
-                "sources), so its output voltage is not determined",
-                tuple(dict.fromkeys(opamps)),
+                f"the circuit's equations have no unique solution: {subject} no feedback from "
+                "output to inputs (or inputs held apart by sources), so the output voltage is "
+                "not determined",
+                tuple(names),
                 ("an ideal opamp needs a path from its output back to an input; give it "
                  "feedback, or a finite gain (`opamp U (p, n, o) = A`)",))
+        involved_all = tuple(dict.fromkeys(e for r in rows for e in r.elements))
+        controlled = [e for e in involved_all
+                      if e in network.sources and network.sources[e].controls]
+        if controlled:
+            controllers, through = [], []
+            for name in controlled:
+                for control in network.sources[name].controls:
+                    if isinstance(control, CurrentControl):
+                        controllers.append(f"I({control.element})")
+                        through.append(control.element)
+                    elif control.b == REFERENCE:
+                        controllers.append(f"V({control.a})")
+                    else:
+                        controllers.append(f"V({control.a}, {control.b})")
+            subject = (f"controlled source {controlled[0]} makes" if len(controlled) == 1
+                       else "controlled sources " + ", ".join(controlled) + " make")
+            return SingularCircuit(
+                f"the circuit's equations have no unique solution: {subject} them "
+                f"dependent (a value set by {', '.join(dict.fromkeys(controllers))} that "
+                "cancels what it is connected to: for example a voltage source that equals "
+                "its own voltage, or a current source that cancels the current it copies)",
+                tuple(dict.fromkeys([*controlled, *(e for e in through if e in involved_all)])),
+                ("check the controlled source's coefficient and the direction of its control",))
         floating = [k[1] for k in columns if k[0] == "V"]
         involved = tuple(dict.fromkeys(e for r in rows for e in r.elements))
         if floating:
@@ -337,10 +369,13 @@ class Equations:
         currents = [k[1] for k in columns if k[0] == "I"]
         if currents:
             shown = ", ".join(c.removeprefix("port:") for c in currents[:8])
+            loop = [e for e in involved if e in network.transformers
+                    or (e in network.sources and network.sources[e].kind == "voltage")]
+            among = f" among {', '.join(loop)}" if loop else ""
             return SingularCircuit(
                 f"the circuit's equations have no unique solution: the current of {shown} "
-                "is not determined (a loop of voltage sources, transformer windings or "
-                "shorts, or a controlled source that cancels another element)", involved)
+                f"is not determined (a loop of voltage sources, transformer windings or "
+                f"shorts{among})", tuple(loop) or involved)
         listed = ", ".join(involved[:8]) or "the circuit"
         return SingularCircuit(
             f"the circuit's equations have no unique solution; the equations of {listed} "

@@ -56,6 +56,13 @@ class RationalFunction:
         return cls(value.numerator, value.denominator, ring)
 
     @classmethod
+    def coprime(cls, num: Poly, den: Poly, ring: PolynomialRing) -> RationalFunction:
+        """num/den already known to have no common factor: sign and content normalised."""
+        if ring.is_zero(den):
+            raise UndefinedValue("a rational function with a zero denominator")
+        return cls(*_normalise_sign_and_content(num, den, ring), ring, canonical=True)
+
+    @classmethod
     def symbol(cls, name: str, ring: PolynomialRing) -> RationalFunction:
         return cls(ring.gen(name), ring.one, ring, canonical=True)
 

@@ -22,7 +22,7 @@ from ..model.circuit import REFERENCE
 from . import forests
 from .mna import Current, Measure, MnaSolution, Voltage, port_excitation
 from .network import Network
-from .polys import EngineError, Poly
+from .polys import LAPLACE_NAME, EngineError, Poly
 from .ratfunc import RationalFunction
 
 Partition = frozenset[frozenset[str]]
@@ -80,6 +80,67 @@ def check_size(nodes: list[str], edges: list[tuple[str, str]], terminals: list[s
             f"the exact result would have about {count:.3g} terms (more than "
             f"{MAX_TERMS:,}); that is too large to derive exactly. Give some parts "
             "numbers in the quantity (e.g. equal arms) or split the network into blocks")
+
+
+def _tree_sum_is_prime(edges: list, joined: tuple[str, str] | None,
+                       ring) -> bool:
+    """True when the graph's spanning-tree sum is irreducible up to a monomial factor: the
+    graph (with `joined` merged, loops dropped) is 2-connected and each edge's weights are
+    monomials holding one variable of its own, of degree one (besides powers of s)."""
+    merge = {joined[1]: joined[0]} if joined and joined[0] != joined[1] else {}
+    owner: dict[str, int] = {}
+    graph: dict[str, list[tuple[str, int]]] = {}
+    for i, (u, v, inward, outward) in enumerate(edges):
+        u, v = merge.get(u, u), merge.get(v, v)
+        own = []
+        for weight in (inward, outward):
+            if len(weight) != 1:
+                return False
+            for name, degree in zip(ring.names, weight.degrees(), strict=True):
+                if degree and name != LAPLACE_NAME:
+                    if degree != 1 or name in owner:
+                        return False
+                    owner[name] = i
+                    own.append(name)
+        if len(own) != 1:
+            return False
+        if u != v:
+            graph.setdefault(u, []).append((v, i))
+            graph.setdefault(v, []).append((u, i))
+    return _biconnected(graph)
+
+
+def _biconnected(graph: dict[str, list[tuple[str, int]]]) -> bool:
+    """Connected with no cut vertex (Hopcroft and Tarjan's depth-first search)."""
+    if not graph:
+        return True
+    root = next(iter(graph))
+    order = {root: 0}
+    low = {root: 0}
+    root_children = 0
+    stack = [(root, -1, iter(graph[root]))]
+    while stack:
+        node, via, neighbours = stack[-1]
+        step = next(neighbours, None)
+        if step is None:
+            stack.pop()
+            if stack:
+                parent = stack[-1][0]
+                low[parent] = min(low[parent], low[node])
+                if parent != root and low[node] >= order[parent]:
+                    return False
+            continue
+        other, edge = step
+        if edge == via:
+            continue
+        if other in order:
+            low[node] = min(low[node], order[other])
+        else:
+            order[other] = low[other] = len(order)
+            if node == root:
+                root_children += 1
+            stack.append((other, edge, iter(graph[other])))
+    return len(order) == len(graph) and root_children <= 1
 
 
 class _Contraction:
@@ -144,6 +205,33 @@ class ForestSolution:
             self._sums[key] = forests.forest_polynomials(nodes, edges, sorted(terminals),
                                                           self.ring)
         return self._sums[key]
+
+    def _fraction(self, num: Poly, den: Poly, without: str | None,
+                  joined: tuple[str, str] | None) -> RationalFunction:
+        """num/den in lowest terms, where den is the spanning-tree sum of the graph without
+        `without` and with the nodes `joined` merged.
+
+        When that graph is 2-connected and every edge carries its own variable (of degree
+        one, times at most a power of s), its tree sum is irreducible but for a monomial
+        (the basis polynomial of a connected matroid is irreducible; a shared s only
+        scales it, by homogeneity), so the common factor is a monomial or den's
+        non-monomial part itself: found without a general gcd, which on results of
+        100,000 terms costs more than deriving them."""
+        ring = self.ring
+        _, edges = self._graph(without)
+        if ring.backend != "flint" or not _tree_sum_is_prime(edges, joined, ring):
+            return RationalFunction(num, den, ring)
+        common = ring.gcd(num.term_content(), den.term_content())
+        if common != 1:
+            num, den = ring.exquo(num, common), ring.exquo(den, common)
+        monomial = den.term_content()
+        prime = den if monomial == 1 else ring.exquo(den, monomial)
+        if not ring.is_constant(prime) and not ring.is_zero(num):
+            try:
+                num, den = num / prime, monomial
+            except Exception:  # flint's DomainError: prime does not divide num
+                pass
+        return RationalFunction.coprime(num, den, ring)
 
     def _two(self, sums: dict[Partition, Poly], first: set[str], second: set[str]) -> Poly:
         """F2(first|second): 2-forests with `first` in one tree and `second` in the other."""
@@ -210,7 +298,7 @@ class ForestSolution:
             if self.ring.is_zero(den):
                 return None
             num = self._two(sums, {p, c}, {n, d}) - self._two(sums, {p, d}, {n, c})
-            return RationalFunction(num, den, self.ring)
+            return self._fraction(num, den, excitation, (p, n))
         if excitation in self.currents:
             a, b = self.currents[excitation]
             merged, _ = self._graph(None)
@@ -222,7 +310,7 @@ class ForestSolution:
             if self.ring.is_zero(den):
                 return None
             num = self._two(sums, {a, c}, {b, d}) - self._two(sums, {a, d}, {b, c})
-            return RationalFunction(num, den, self.ring)
+            return self._fraction(num, den, None, None)
         return self._zero()  # not an excitation of this network: nothing drives it
 
     def _source_current(self, name: str, excitation: str) -> RationalFunction | None:
@@ -237,7 +325,7 @@ class ForestSolution:
             den = self._two(sums, {rp}, {rn})
             if self.ring.is_zero(den):
                 return None
-            return RationalFunction(-self._trees(sums), den, self.ring)
+            return self._fraction(-self._trees(sums), den, name, (rp, rn))
         # the current balance at a terminal that no other voltage-type element touches
         for node, sign in ((p, 1), (n, -1)):
             if any(node in ab for other, ab in self.voltages.items() if other != name):

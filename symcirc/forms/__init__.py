@@ -5,7 +5,8 @@ engineer would write (series/parallel and star–delta reduction, dividers, supe
 or the nodal equations solved by Cramer's rule) and a design form (`R1∥R2 + R3∥R4`, the
 standard transfer-function forms with K, ω0, Q), each proved equal to the canonical result.
 `approximate(circuit, result, assumption)` handles `big >> small`; `steps_text(result)`
-prints the steps for `--format text`.
+prints the steps for `--format text`. `derive_shown(circuit, quantity, options)` (and
+`finish` for results in hand) gives results as `symcirc derive` and the notes show them.
 """
 
 from __future__ import annotations
@@ -13,5 +14,6 @@ from __future__ import annotations
 from .annotate import annotate, approximate, steps_text
 from .form import Form
 from .parallel import Parallel
+from .shown import derive_shown, finish
 
-__all__ = ["Form", "Parallel", "annotate", "approximate", "steps_text"]
+__all__ = ["Form", "Parallel", "annotate", "approximate", "derive_shown", "finish", "steps_text"]

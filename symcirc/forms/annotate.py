@@ -31,6 +31,16 @@ from .verify import equal
 TRANSFER_KINDS = ("voltage", "gain", "norton", "current", "twoport")
 """Targets whose natural design form is a standard transfer-function form."""
 
+MAX_TERMS = 20_000
+"""Results with more terms (numerator and denominator together) get no design form and no
+steps: a form of that size helps no reader, and finding and proving it would take longer
+than the derivation itself (a 10-section ladder, 17 711 terms, takes about a second)."""
+
+MAX_APPROXIMATED_TERMS = 300
+"""Results with more terms keep their exact value under `where big >> small`: the neglected
+term and the relative error of such a result run to thousands of terms (a 6-section
+ladder, 377 terms, takes seconds), which no reader can use."""
+
 
 def annotate(
     circuit: Circuit, quantity: syntax.Quantity, results: list[Result], options: DeriveOptions
@@ -42,6 +52,15 @@ def annotate(
         attribute = quantity.attribute or _attribute(result.quantity)
         target = target_of(circuit, quantity, attribute)
         if target is None:
+            continue
+        terms = size(result)
+        if terms > MAX_TERMS:
+            note = (
+                f"no design form or derivation steps: the result has {terms} terms, more "
+                f"than the {MAX_TERMS} up to which they are worked out"
+            )
+            if note not in result.notes:
+                result.notes.append(note)
             continue
         key = (
             "forms",
@@ -60,13 +79,21 @@ def annotate(
                 result.details.setdefault(name, value)
 
 
+def size(result: Result) -> int:
+    """Terms of the result's numerator and denominator together."""
+    if result.exact is not None and hasattr(result.exact, "ring"):
+        return sum(result.exact.size())
+    num, den = sympy.fraction(result.expression)
+    return len(sympy.Add.make_args(num)) + len(sympy.Add.make_args(den))
+
+
 def _attribute(quantity_text: str) -> str | None:
     head, dot, tail = quantity_text.rpartition(").")
     return tail if dot and tail.isidentifier() else None
 
 
 def _annotation(circuit: Circuit, target: Target, result: Result, options: DeriveOptions):
-    canonical = result.expression
+    canonical = _canonical(result)
     nominals = _nominals(circuit)
     limits = [a for a in options.assumptions if a.kind == "limit"]
     for route in (structural_route, nodal_route):
@@ -98,8 +125,7 @@ def _annotation(circuit: Circuit, target: Target, result: Result, options: Deriv
                 return (*opened, details)
         form = _form(
             value,
-            canonical,
-            result.unit,
+            result,
             target,
             structural and not expansions,
             nominals,
@@ -156,12 +182,18 @@ def _opened(
     except Unsupported:
         return None
     value = rec.substitute(symbol)
-    if not equal(value, result.expression):
+    if not equal(value, _canonical(result)):
         return None
-    form = _form(value, result.expression, result.unit, target, True, nominals, rec, symbol)
+    form = _form(value, result, target, True, nominals, rec, symbol)
     for assumption, expansion in zip(limits, expansions, strict=False):
         _error_step(rec, expansion, f"{assumption.symbol} → {_arrow(assumption)}")
     return rec.steps, form
+
+
+def _canonical(result: Result) -> Any:
+    """The engine's exact value when there is one (proofs use it as it is), else sympy's."""
+    exact = result.exact
+    return exact if exact is not None and hasattr(exact, "ring") else result.expression
 
 
 def _arrow(assumption: Assumption) -> str:
@@ -170,15 +202,14 @@ def _arrow(assumption: Assumption) -> str:
 
 def _form(
     value: sympy.Expr,
-    canonical: sympy.Expr,
-    unit: str,
+    result: Result,
     target: Target,
     structural: bool,
     nominals: dict[str, Fraction],
     rec: Recorder,
     symbol: sympy.Expr,
 ) -> Form:
-    standard = standard_form(canonical, unit)
+    standard = standard_form(_canonical(result), result.unit) if "s" in result.symbols else None
     parameters = _parameters(standard, nominals) if standard else {}
     if standard is not None:
         _standard_step(rec, symbol, standard, parameters)
@@ -186,8 +217,9 @@ def _form(
         return Form(standard.expression, standard.text, standard.latex, parameters, standard.kind)
     if structural:
         return Form(value, text(value), latex(value), parameters, "structure")
+    canonical = result.expression
     shown = approx.grouped(canonical)
-    if not equal(shown, canonical):
+    if not equal(shown, _canonical(result)):
         shown = canonical
     return Form(shown, text(shown), latex(shown), parameters, "grouped")
 
@@ -352,6 +384,14 @@ def approximate(circuit: Circuit, result: Result, assumption: Assumption) -> Res
     """The result under `big >> small`: its leading term in small/big, with the neglected
     first-order term and the exact relative error in `details`, and the steps."""
     big, small = _symbol(circuit, assumption.symbol), _symbol(circuit, assumption.target)
+    terms = size(result)
+    if terms > MAX_APPROXIMATED_TERMS:
+        result.notes.append(
+            f"{big} >> {small} is not applied: the result has {terms} terms, more than the "
+            f"{MAX_APPROXIMATED_TERMS} up to which approximations are worked out; exact "
+            "result kept"
+        )
+        return result
     exact = result.expression
     try:
         expansion = approx.much_greater(exact, big, small)

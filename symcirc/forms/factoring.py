@@ -54,6 +54,42 @@ def factors(poly) -> tuple[sympy.Rational, list[tuple[sympy.Expr, int]]]:
     )
 
 
+def factors_in(poly, i: int, max_degree: int):
+    """The irreducible factors of a ring polynomial as coefficient lists in its generator i
+    (lowest power first, sympy expressions) with multiplicities, after the rational content:
+    `(content, [(coefficients, multiplicity)])`. None as soon as a factor has a degree above
+    `max_degree` in that generator: it is then never turned into sympy (the slow part)."""
+    flint = _flint()
+    symbols = tuple(poly.ring.symbols)
+    out = []
+    if flint is None:
+        content, found = sympy.factor_list(poly.as_expr(), *symbols)
+        for f, e in found:
+            in_x = sympy.Poly(f, symbols[i])
+            if in_x.degree() > max_degree:
+                return None
+            out.append(([c.as_expr() for c in reversed(in_x.all_coeffs())], int(e)))
+        return sympy.Rational(content), out
+    scale, integer = _integer(poly)
+    context = flint.fmpz_mpoly_ctx.get(tuple(s.name for s in symbols), "lex")
+    content, found = context.from_dict(integer).factor()
+    if any(f.degrees()[i] > max_degree for f, _ in found):
+        return None
+    for f, e in found:
+        by_power: dict[int, list[sympy.Expr]] = {}
+        for monom, coeff in f.to_dict().items():
+            parts = [sympy.Integer(int(coeff))]
+            parts += [
+                s if k == 1 else s**k
+                for j, (s, k) in enumerate(zip(symbols, monom, strict=True))
+                if k and j != i
+            ]
+            by_power.setdefault(monom[i], []).append(sympy.Mul(*parts))
+        top = max(by_power)
+        out.append(([sympy.Add(*by_power.get(k, [])) for k in range(top + 1)], int(e)))
+    return sympy.Rational(int(content), scale), out
+
+
 def cancel(num, den):
     """num/den (sympy ring polynomials over QQ) with their greatest common divisor divided
     out and a positive leading coefficient below; flint's gcd when it is there."""
@@ -79,18 +115,18 @@ def _from_flint(ring, poly, scale: int):
 
 def _integer(poly) -> tuple[int, dict]:
     """(k, terms) with k·poly having integer coefficients `terms`."""
-    scale = lcm(*[int(sympy.Rational(c).q) for c in poly.values()]) if poly else 1
-    return scale, {m: int(sympy.Rational(c) * scale) for m, c in poly.items()}
+    pairs = {m: (int(c.numerator), int(c.denominator)) for m, c in poly.items()}
+    scale = lcm(*[q for _, q in pairs.values()]) if pairs else 1
+    return scale, {m: p * (scale // q) for m, (p, q) in pairs.items()}
 
 
 def _expression(f, symbols: tuple[sympy.Symbol, ...]) -> sympy.Expr:
+    """A flint polynomial as a sympy sum of products (built flat: repeated `*=` is slow)."""
     terms = []
     for monom, coeff in f.to_dict().items():
-        term = sympy.Integer(int(coeff))
-        for s, e in zip(symbols, monom, strict=True):
-            if e:
-                term *= s**e
-        terms.append(term)
+        factors = [sympy.Integer(int(coeff))]
+        factors += [s if e == 1 else s**e for s, e in zip(symbols, monom, strict=True) if e]
+        terms.append(sympy.Mul(*factors))
     return sympy.Add(*terms)
 
 

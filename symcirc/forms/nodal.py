@@ -314,52 +314,105 @@ def _polynomial_rows(
     return rows, values
 
 
-def cramer(
-    system: System, targets: list[sympy.Symbol]
-) -> tuple[dict[sympy.Symbol, sympy.Expr], sympy.Expr]:
-    """Each target as a cancelled ratio of determinants, and the system determinant
-    (of the denominator-free rows)."""
-    from sympy.polys.matrices import DomainMatrix
-
+def cramer(system: System, targets: list[sympy.Symbol]) -> dict[sympy.Symbol, sympy.Expr]:
+    """Each target as a ratio of determinants, common factors cancelled."""
     rows, values = _polynomial_rows(system.matrix, system.rhs)
-    n = len(rows)
     generators = sorted(
         set().union(*[x.free_symbols for r in rows for x in r], *[x.free_symbols for x in values]),
         key=sympy.default_sort_key,
     )
     generators = generators or [sympy.Dummy("x")]
-    domain = (
-        sympy.ZZ[tuple(generators)]
-        if all(x.is_polynomial(*generators) for r in rows for x in r)
-        else None
-    )
-    if domain is None:
+    if not all(x.is_polynomial(*generators) for r in rows + [values] for x in r):
         raise Singular("entries are not polynomial")
-
-    def det(m: list[list[sympy.Expr]]):
-        return DomainMatrix([[domain.from_sympy(x) for x in r] for r in m], (n, n), domain).det()
-
-    delta = det(rows)
+    algebra = _Determinants(generators)
+    matrix = [[algebra.poly(x) for x in r] for r in rows]
+    right = [algebra.poly(x) for x in values]
+    delta = algebra.det(matrix)
     if not delta:
         raise Singular("the nodal equations are singular")
     out = {}
     for target in targets:
         k = system.unknowns.index(target)
-        replaced = [r[:k] + [values[i]] + r[k + 1 :] for i, r in enumerate(rows)]
-        numerator = det(replaced)
-        common = domain.gcd(numerator, delta)
-        num, den = domain.exquo(numerator, common), domain.exquo(delta, common)
-        if domain.is_negative(domain.canonical_unit(den)):  # a positive leading term below
+        numerator = algebra.det([r[:k] + [right[i]] + r[k + 1 :] for i, r in enumerate(matrix)])
+        num, den = algebra.cancel(numerator, delta)
+        out[target] = algebra.expr(num) / algebra.expr(den)
+    return out
+
+
+class _Determinants:
+    """Determinants of polynomial matrices by fraction-free (Bareiss) elimination over
+    python-flint's integer polynomials; sympy's DomainMatrix when flint is absent."""
+
+    def __init__(self, generators: list[sympy.Symbol]) -> None:
+        from .factoring import _flint
+
+        self.generators = generators
+        self.flint = _flint()
+        if self.flint is not None:
+            names = tuple(f"x{i}" for i in range(len(generators)))
+            self.ctx = self.flint.fmpz_mpoly_ctx.get(names, "lex")
+            self.index = {g: i for i, g in enumerate(generators)}
+        else:
+            self.domain = sympy.ZZ[tuple(generators)]
+
+    def poly(self, x: sympy.Expr):
+        if self.flint is None:
+            return self.domain.from_sympy(x)
+        terms = {
+            tuple(monom): int(coeff) for monom, coeff in sympy.Poly(x, *self.generators).terms()
+        }
+        return self.ctx.from_dict(terms) if terms else self.ctx.constant(0)
+
+    def det(self, m: list[list]):
+        n = len(m)
+        if self.flint is None:
+            from sympy.polys.matrices import DomainMatrix
+
+            return DomainMatrix(m, (n, n), self.domain).det()
+        a = [list(r) for r in m]
+        sign, previous = 1, self.ctx.constant(1)
+        for k in range(n - 1):
+            candidates = [r for r in range(k, n) if a[r][k]]
+            if not candidates:
+                return self.ctx.constant(0)
+            pivot = min(candidates, key=lambda r: len(a[r][k]))
+            if pivot != k:
+                a[k], a[pivot] = a[pivot], a[k]
+                sign = -sign
+            for i in range(k + 1, n):
+                for j in range(k + 1, n):
+                    a[i][j] = (a[i][j] * a[k][k] - a[i][k] * a[k][j]) // previous
+            previous = a[k][k]
+        return a[n - 1][n - 1] * sign if n else self.ctx.constant(1)
+
+    def cancel(self, num, den):
+        """num/den with their gcd divided out and a positive leading term below."""
+        if self.flint is None:
+            domain = self.domain
+            common = domain.gcd(num, den)
+            num, den = domain.exquo(num, common), domain.exquo(den, common)
+            if domain.is_negative(domain.canonical_unit(den)):
+                num, den = -num, -den
+            return num, den
+        common = num.gcd(den)
+        num, den = num // common, den // common
+        if int(den.leading_coefficient()) < 0:
             num, den = -num, -den
-        out[target] = domain.to_sympy(num) / domain.to_sympy(den)
-    return out, domain.to_sympy(delta)
+        return num, den
+
+    def expr(self, p) -> sympy.Expr:
+        if self.flint is None:
+            return self.domain.to_sympy(p)
+        from .factoring import _expression
+
+        return _expression(p, tuple(self.generators))
 
 
 def record(
     system: System, targets: list[sympy.Symbol], rec: Recorder, names: dict[sympy.Symbol, str]
 ) -> dict[sympy.Symbol, sympy.Symbol]:
     """Record the matrix equation and one Cramer step per target; returns target → symbol."""
-    solution, _ = cramer(system, targets)
+    solution = cramer(system, targets)
     matrix_latex = _bmatrix(
         [[latex(x) for x in system.matrix.row(i)] for i in range(system.matrix.rows)]
     )

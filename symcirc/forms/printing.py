@@ -9,6 +9,7 @@ puts its number and s first (`2·s·C1`).
 
 from __future__ import annotations
 
+import re
 from functools import lru_cache
 
 import sympy
@@ -214,7 +215,7 @@ def _product(expr: sympy.Expr, style: _Style, negate: bool = False) -> tuple[str
         factors.insert(0, abs(coefficient))
     numer: list[sympy.Expr] = []
     denom: list[sympy.Expr] = []
-    factors.sort(key=lambda f: 0 if f.is_Number else 1 if _is_laplace(f) else 2)  # `2·s·C1`
+    factors.sort(key=_factor_order)  # `2·s·C1`, `R0²·R1·Rin`
     for f in factors:
         if f.is_Rational and not f.is_Integer:
             if f.p != 1:
@@ -232,6 +233,27 @@ def _product(expr: sympy.Expr, style: _Style, negate: bool = False) -> tuple[str
         top = _print(numer[0], style)[0]
     bottom = [_print(f, style) for f in denom]
     return sign + style.fraction(top, bottom), (_ADD if sign else style.fraction_level)
+
+
+def _factor_order(factor: sympy.Expr) -> tuple:
+    """Numbers, then s, then symbols (and their powers) by name, then everything else in
+    sympy's order (sums last): `2·s·C1·R0²·Rin·(R1 + R2)`."""
+    if factor.is_Number:
+        return (0,)
+    if _is_laplace(factor):
+        return (1,)
+    base = factor.base if factor.is_Pow and factor.exp.is_Integer else factor
+    if base.is_Symbol:
+        return (2, _natural(base.name))
+    return (3,)
+
+
+def _natural(name: str) -> tuple:
+    """`R2` before `R10`: digit runs compare as numbers."""
+    return tuple(
+        (0, int(part), "") if part.isdigit() else (1, 0, part)
+        for part in re.findall(r"\d+|\D+", name)
+    )
 
 
 def _is_laplace(factor: sympy.Expr) -> bool:

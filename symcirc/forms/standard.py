@@ -12,13 +12,14 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from fractions import Fraction
+from typing import Any
 
 import sympy
 
 from ..model.circuit import LAPLACE
-from .factoring import factor, factors
+from .factoring import factor, factors, factors_in
 from .printing import code, latex, text
-from .verify import equal, to_ratio
+from .verify import NotRational, equal, ring_ratio, to_ratio
 
 s = LAPLACE
 
@@ -124,65 +125,82 @@ class _Factor:
         return s**2 * sympy.cancel(a / c) + s * sympy.cancel(b / c) + 1
 
 
-def _split(poly: sympy.Poly) -> tuple[sympy.Expr, int, list[_Factor]] | None:
-    """content, power of s, and first/second-order factors; None if an irreducible factor
-    of higher order remains."""
-    coefficient, factors = poly.factor_list()
-    content = (
-        coefficient.as_expr() if hasattr(coefficient, "as_expr") else sympy.sympify(coefficient)
-    )
+def _split(poly, i: int) -> tuple[sympy.Expr, int, list[_Factor]] | None:
+    """content, power of s, and first/second-order factors of a ring polynomial (s is its
+    generator i); None if an irreducible factor of higher order remains. Factored by
+    python-flint (factoring.factors_in): sympy's multivariate factoring takes seconds here."""
+    found = factors_in(poly, i, 2)
+    if found is None:
+        return None
+    content, pieces = found
     power = 0
     out: list[_Factor] = []
-    for f, e in factors:
-        degree = f.degree()
+    for coefficients, e in pieces:
+        degree = len(coefficients) - 1
         if degree == 0:
-            content *= f.as_expr() ** e
+            content *= coefficients[0] ** e
             continue
-        coeffs = [c for c in reversed(f.all_coeffs())]
-        if degree == 1 and coeffs[0] == 0:
+        if degree == 1 and coefficients[0] == 0:
             power += e
             continue
-        if degree > 2:
-            return None
-        out.extend([_Factor(degree, tuple(coeffs))] * e)
+        out.extend([_Factor(degree, tuple(coefficients))] * e)
     return content, power, out
 
 
-def standard_form(expr: sympy.Expr, unit: str) -> StandardForm | None:
-    """The standard form of a transfer function in s, or None when none applies."""
-    if s not in expr.free_symbols:
-        return None
-    num, den = sympy.fraction(sympy.cancel(sympy.together(expr)))
+def _coefficients_in_s(poly, i: int) -> list[sympy.Expr]:
+    """Coefficients of the powers of s (generator i) of a ring polynomial, lowest first."""
+    parts: dict[int, dict] = {}
+    for monom, coeff in poly.terms():
+        rest = monom[:i] + (0,) + monom[i + 1 :]
+        parts.setdefault(monom[i], {})[rest] = coeff
+    degree = max(parts, default=0)
+    return [
+        poly.ring.from_dict(parts[k]).as_expr() if k in parts else sympy.Integer(0)
+        for k in range(degree + 1)
+    ]
+
+
+def standard_form(expr: Any, unit: str) -> StandardForm | None:
+    """The standard form of a transfer function in s (a sympy expression or the engine's
+    exact value), or None when none applies."""
     try:
-        n_poly, d_poly = sympy.Poly(num, s), sympy.Poly(den, s)
-    except sympy.PolynomialError:
+        num, den = ring_ratio(expr, (s,))
+    except NotRational:
         return None
-    if d_poly.degree() < 1 or any(c.has(s) for c in n_poly.all_coeffs() + d_poly.all_coeffs()):
+    generators = list(num.ring.symbols)
+    if any(s in g.free_symbols for g in generators if g != s):
+        return None  # s under a root: not a rational function of s
+    i = generators.index(s)
+    order = den.degree(i)
+    if order < 1:
         return None
-    form = _conventional(n_poly, d_poly, unit)
+    form = None
+    if order <= 2:
+        form = _conventional(_coefficients_in_s(num, i), _coefficients_in_s(den, i), den, i, unit)
     if form is None:
-        form = _factored(n_poly, d_poly, unit)
+        form = _factored(num, den, i, unit)
     if form is None or not _proved(form, expr):
         return None
     return form
 
 
-def _proved(form: StandardForm, expr: sympy.Expr) -> bool:
+def _proved(form: StandardForm, expr: Any) -> bool:
     """Exact proof: the rational skeleton equals `expr`, and each root parameter squares
     to the rational value it stands for."""
     return equal(form.rational, expr) and all(equal(a, b) for a, b in form.checks)
 
 
-def _conventional(n_poly: sympy.Poly, d_poly: sympy.Poly, unit: str) -> StandardForm | None:
-    """One first- or second-order denominator that does not factor into real poles."""
-    d = [sympy.cancel(c) for c in reversed(d_poly.all_coeffs())]
-    n = [sympy.cancel(c) for c in reversed(n_poly.all_coeffs())]
-    order = d_poly.degree()
-    if order not in (1, 2) or d[0] == 0 or n_poly.degree() > order:
+def _conventional(
+    n: list[sympy.Expr], d: list[sympy.Expr], den, i: int, unit: str
+) -> StandardForm | None:
+    """One first- or second-order denominator that does not factor into real poles
+    (`n`, `d`: coefficients of the powers of s, lowest first; `den` the denominator)."""
+    order = len(d) - 1
+    if order not in (1, 2) or d[0] == 0 or len(n) - 1 > order:
         return None
-    n += [sympy.Integer(0)] * (order + 1 - len(n))
+    n = n + [sympy.Integer(0)] * (order + 1 - len(n))
     if order == 2:
-        split = _split(d_poly)
+        split = _split(den, i)
         if split is None or len(split[2]) != 1 or split[1]:
             return None  # real poles: the factored form reads better
         if d[1] == 0:
@@ -268,9 +286,10 @@ def _conventional(n_poly: sympy.Poly, d_poly: sympy.Poly, unit: str) -> Standard
     )
 
 
-def _factored(n_poly: sympy.Poly, d_poly: sympy.Poly, unit: str) -> StandardForm | None:
+def _factored(num, den, i: int, unit: str) -> StandardForm | None:
     """K·s^k·Π(numerator factors)/Π(denominator factors), each factor normalised."""
-    top, bottom = _split(n_poly), _split(d_poly)
+    order = den.degree(i)
+    top, bottom = _split(num, i), _split(den, i)
     if top is None or bottom is None or not bottom[2]:
         return None
     n_content, n_power, n_factors = top
@@ -286,13 +305,13 @@ def _factored(n_poly: sympy.Poly, d_poly: sympy.Poly, unit: str) -> StandardForm
     pieces_text, pieces_latex = [], []
     for role, group in (("z", n_factors), ("p", d_factors)):
         texts, latexes = [], []
-        for i, f in enumerate(group, 1):
-            name = f"{role}{i}" if len(group) > 1 else role
+        for k, f in enumerate(group, 1):
+            name = f"{role}{k}" if len(group) > 1 else role
             if f.order == 1:
                 b, a = f.coefficients
                 omega = sympy.cancel(b / a)
                 params.append(Parameter(f"omega_{name}", omega, "rad/s"))
-                params.append(Parameter(f"{role}_{i}", -omega, "rad/s"))
+                params.append(Parameter(f"{role}_{k}", -omega, "rad/s"))
                 closed = 1 + s / omega
                 texts.append(f"(1 + s/ω{name})")
                 latexes.append(rf"\left(1 + \frac{{s}}{{\omega_{{{name}}}}}\right)")
@@ -326,7 +345,7 @@ def _factored(n_poly: sympy.Poly, d_poly: sympy.Poly, unit: str) -> StandardForm
     )
     s_latex = "" if power == 0 else (f"s^{{{power}}}" if power != 1 else "s")
     latex_form = rf"K {s_latex} \frac{{{pieces_latex[0] or '1'}}}{{{pieces_latex[1]}}}"
-    kind = f"factored, order {d_poly.degree()}"
+    kind = f"factored, order {order}"
     return StandardForm(kind, expression, text_form, latex_form, params, rational, checks)
 
 

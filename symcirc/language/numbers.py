@@ -15,10 +15,12 @@ PREFIXES: dict[str, int] = {
 """SI prefix letter → power of ten (`u`, the micro sign and the Greek mu all mean micro)."""
 
 RKM_MARKERS: dict[str, int] = {
-    "R": 0, "k": 3, "K": 3, "M": 6, "G": 9, "T": 12,
-    "p": -12, "n": -9, "u": -6, "µ": -6, "μ": -6, "m": -3,
+    "L": -3, "R": 0, "k": 3, "K": 3, "M": 6, "G": 9, "T": 12,
+    "p": -12, "n": -9, "u": -6, "µ": -6, "μ": -6, "m": -3, "F": 0,
 }
-"""IEC 60062 RKM code letter (it stands where the decimal point goes) → power of ten."""
+"""IEC 60062 RKM code letter (it stands where the decimal point goes) → power of ten:
+L R K M G T for resistance (`6L8` = 6.8 mΩ), p n µ m F for capacitance (`4F7` = 4.7 F);
+`k`, `u` and the Greek mu are accepted as well. The code gives a number, not a unit."""
 
 UNITS: dict[str, str] = {
     "Ω": "Ω", "\u2126": "Ω", "ohm": "Ω", "V": "V", "A": "A", "F": "F", "H": "H",
@@ -36,7 +38,7 @@ _MANTISSA = r"(?P<mantissa>[0-9]+\.?[0-9]*|\.[0-9]+)(?P<exponent>[eE][+-]?[0-9]+
 _PLAIN = re.compile(_MANTISSA + f"(?P<prefix>{_PREFIX})?")
 _RKM = re.compile(
     r"(?P<whole>[0-9]*)(?P<marker>[" + "".join(RKM_MARKERS) + r"])(?P<fraction>[0-9]+)"
-    r"|(?P<whole_only>[0-9]+)(?P<end_marker>[RK])"
+    r"|(?P<whole_only>[0-9]+)(?P<end_marker>[RKL])"
 )
 _SUFFIX = re.compile(f"(?P<prefix>{_PREFIX})?(?P<unit>{_UNIT})")
 
@@ -95,7 +97,7 @@ def _number_part(text: str, head: str) -> tuple[Fraction, int, int]:
     rkm = _RKM.match(head)
     plain = _PLAIN.match(head)
     if rkm and (plain is None or rkm.end() >= plain.end()):
-        if rkm["whole_only"] is not None:  # `47R`, `47K`
+        if rkm["whole_only"] is not None:  # `470R`, `47K`, `47L`
             digits, fraction = rkm["whole_only"], ""
             power = RKM_MARKERS[rkm["end_marker"]]
         else:
@@ -126,7 +128,7 @@ def _ten_to(power: int) -> Fraction:
 
 def _bad_suffix(text: str, number: str, suffix: str, power: int) -> str:
     """A message for letters after a number that are neither a prefix nor a unit."""
-    if suffix[0] in PREFIXES and power:
+    if suffix[0] in PREFIXES and (power or any(c in RKM_MARKERS for c in number)):
         return (f"`{text}` is not a number: `{suffix[0]}` after `{number}`, which already has "
                 f"an SI prefix or RKM code")
     if suffix[0] in "eE":

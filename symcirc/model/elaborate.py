@@ -174,6 +174,8 @@ class _Elaborator:
         self.aliases: dict[str, str] = {}
         self.notices: list[Notice] = []
         self.used_nodes: set[str] = set()
+        self.quantity_nodes: set[str | None] = set()
+        """Nodes named by `derive` and `claim` quantities (never reported as dangling)."""
         self.dimensions: dict[str, units.Inferred] = {}
         self.draft_of: dict[str, _Draft] = {}
 
@@ -224,10 +226,13 @@ class _Elaborator:
         )
         circuit.derives, circuit.claims = self.directives_of(circuit)
         origins = {d.name: d.scope.trail for d in self.elements if d.scope.trail}
-        used = {self.node(n) for n in self.used_nodes}
+        used = {self.node(n) for n in self.used_nodes} | self.quantity_nodes
         for port in circuit.ports.values():
             used.update((port.positive, port.negative))
         warnings = topology.check(circuit, origins, used)
+        if not elements:
+            warnings.append(Notice("warning", "the file describes no elements: there is no "
+                                   "circuit to analyse", None))
         circuit.notices = (*self.notices, *sorted(warnings, key=_line_of))
         return circuit
 
@@ -414,10 +419,8 @@ class _Elaborator:
                    *scope.trail),
             expanding=(*scope.expanding, block.name.name),
         )
-        body_names = {
-            s.name.name: s for s in block.body
-            if isinstance(s, syntax.Param | syntax.ElementStatement)
-        }
+        body_names = _renamable(
+            block, lambda name: (found[0] if (found := defined_in.block(name)) else None))
         for rename in instance.renames:
             if rename.inner.name not in body_names:
                 close = get_close_matches(rename.inner.name, list(body_names), n=1)
@@ -428,9 +431,8 @@ class _Elaborator:
                 )
             if rename.inner.name in inner.renames:
                 raise self.error(rename.inner, f"`{rename.inner.name}` is renamed twice")
-            what = "parameter" if isinstance(body_names[rename.inner.name], syntax.Param) \
-                else "element"
-            inner.renames[rename.inner.name] = self.declare(rename.outer, what, scope)
+            inner.renames[rename.inner.name] = self.declare(
+                rename.outer, body_names[rename.inner.name], scope)
         self.walk(block.body, inner)
 
     # -------------------------------------------------------------- ports and the reference
@@ -815,6 +817,7 @@ class _Elaborator:
                 return
             for arg in args:
                 self.expect(arg, "node", circuit)
+                self.quantity_nodes.add(circuit.resolve_node(arg.name))
         elif name == "I" and args:
             self.expect(args[0], "element", circuit)
         elif name in ("thevenin", "norton", "Z", "Y", "twoport"):
@@ -868,6 +871,35 @@ class _Elaborator:
 
 
 # ---------------------------------------------------------------- small helpers
+
+
+def _renamable(block: syntax.Block, visible, seen: frozenset[int] = frozenset()
+               ) -> dict[str, str]:
+    """Names an instance of `block` may rename with `with` → 'parameter' or 'element': the
+    block's own parameters and elements, and the names that its nested instances give with
+    `with` (`inner i (x, y) with R = Rx` inside the block makes `Rx` renamable).
+    `visible(name)` is the block of that name seen where `block` is defined, or None."""
+    names = {
+        s.name.name: "parameter" if isinstance(s, syntax.Param) else "element"
+        for s in block.body if isinstance(s, syntax.Param | syntax.ElementStatement)
+    }
+    seen = seen | {id(block)}
+    local = {s.name.name: s for s in block.body if isinstance(s, syntax.Block)}
+
+    def inside(name: str) -> syntax.Block | None:
+        return local.get(name) or visible(name)
+
+    for statement in block.body:
+        if not isinstance(statement, syntax.Instance) or not statement.renames:
+            continue
+        nested = inside(statement.block.name)
+        if nested is None or id(nested) in seen:
+            continue  # an unknown or recursive block is reported when it is expanded
+        inner_names = _renamable(nested, inside, seen)
+        for rename in statement.renames:
+            if rename.inner.name in inner_names:
+                names.setdefault(rename.outer.name, inner_names[rename.inner.name])
+    return names
 
 
 def _evaluate_all(definitions: dict[str, sympy.Expr], known: dict[str, Fraction | None],

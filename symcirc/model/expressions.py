@@ -8,6 +8,7 @@ Laplace variable, `pi` is π and `sqrt` is the square root. Problems are raised 
 
 from __future__ import annotations
 
+import re
 from collections.abc import Callable, Hashable
 from difflib import get_close_matches
 from typing import TYPE_CHECKING
@@ -113,7 +114,14 @@ def unknown_name_message(name: str, symbols: set[str] | dict, ports: dict | set 
     close = get_close_matches(name, list(symbols), n=1)
     if close:
         message += f"; did you mean `{close[0]}`?"
+    if _LETTER_FIRST_CODE.fullmatch(name):
+        message += (f" (an IEC 60062 code that starts with its letter is written with a "
+                    f"leading zero: `0{name}`)")
     return message
+
+
+_LETTER_FIRST_CODE = re.compile(r"[LRKMGTpnumF][0-9]+")
+"""A name such as `R47` or `p68`: the RKM code of a value below one, missing its `0`."""
 
 
 # ---------------------------------------------------------------- the conversion

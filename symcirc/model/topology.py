@@ -60,7 +60,8 @@ def check(
     """Raise SymcircError for a structural problem; return warnings otherwise.
 
     `origins` gives, per element expanded from a block, notes saying which instance it
-    came from; `used_nodes` are nodes named by ports and controls (never "dangling").
+    came from; `used_nodes` are nodes named by ports, controls and `derive`/`claim`
+    quantities (never "dangling").
     """
     checker = _Checker(circuit, origins or {})
     checker.voltage_source_loops()
@@ -77,28 +78,35 @@ class _Checker:
     # -------------------------------------------------------------- errors
 
     def voltage_source_loops(self) -> None:
+        """Voltage sources and opamp outputs (each an ideal source from its output node to
+        the reference) must not form a loop: their currents would be undetermined."""
         sets = UnionFind()
-        placed: list[Element] = []
+        placed: list[tuple[Element, str, str]] = []
         for element in self.circuit.elements.values():
-            if element.kind != "voltage source":
+            if element.kind == "voltage source":
+                a, b = element.nodes
+            elif element.kind == "opamp":
+                a, b = element.nodes[2], REFERENCE
+            else:
                 continue
-            a, b = element.nodes
             if a == b:
-                raise self._error(
-                    element,
-                    f"voltage source {element.name} has both terminals on node {a}: it forms "
-                    "a loop by itself",
-                )
+                raise self._error(element, _self_loop(element, a))
             if not sets.union(a, b):
                 loop = [element, *_path(placed, a, b)]
-                names = ", ".join(e.name for e in loop)
+                if any(e.kind == "opamp" for e in loop):
+                    names = _and([_source_name(e) for e in loop])
+                else:
+                    names = "voltage sources " + ", ".join(e.name for e in loop)
+                notes = ("an opamp's output is an ideal voltage source from its output node "
+                         f"to {REFERENCE}",) if any(e.kind == "opamp" for e in loop) else ()
                 raise self._error(
                     element,
-                    f"voltage sources {names} form a loop made only of voltage sources: "
+                    f"{names} form a loop made only of voltage sources: "
                     "their voltages cannot all be imposed; put a resistance in series with one",
                     loop[1:],
+                    notes,
                 )
-            placed.append(element)
+            placed.append((element, a, b))
 
     def floating_groups(self) -> None:
         sets = UnionFind()
@@ -178,8 +186,8 @@ class _Checker:
                 element = first_toucher[node]
                 notices.append(Notice(
                     "warning",
-                    f"node {node} is touched only by {element.name} and used by no port or "
-                    "control: is it a typo?",
+                    f"node {node} is touched only by {element.name} and used by no port, "
+                    "control or quantity: is it a typo?",
                     element.location,
                 ))
         return notices
@@ -233,11 +241,28 @@ def _conducting_pairs(element: Element, include_current_sources: bool):
     return ()
 
 
-def _path(elements: list[Element], start: str, goal: str) -> list[Element]:
-    """The elements on the path from start to goal in a forest of two-terminal elements."""
+def _self_loop(element: Element, node: str) -> str:
+    if element.kind == "opamp":
+        return (f"the output of opamp {element.name} is the reference node {REFERENCE}: the "
+                "output is a voltage source to the reference, so it would short itself")
+    return (f"voltage source {element.name} has both terminals on node {node}: it forms "
+            "a loop by itself")
+
+
+def _source_name(element: Element) -> str:
+    if element.kind == "opamp":
+        return f"the output of opamp {element.name}"
+    return f"voltage source {element.name}"
+
+
+def _and(items: list[str]) -> str:
+    return items[0] if len(items) == 1 else ", ".join(items[:-1]) + " and " + items[-1]
+
+
+def _path(edges: list[tuple[Element, str, str]], start: str, goal: str) -> list[Element]:
+    """The elements on the path from start to goal in a forest of (element, a, b) edges."""
     adjacent: dict[str, list[tuple[str, Element]]] = {}
-    for element in elements:
-        a, b = element.nodes
+    for element, a, b in edges:
         adjacent.setdefault(a, []).append((b, element))
         adjacent.setdefault(b, []).append((a, element))
     came_from: dict[str, tuple[str, Element] | None] = {start: None}

@@ -135,8 +135,12 @@ def _pure_factor(expr: syntax.Expr) -> bool:
 def _sum(node: syntax.Binary, left: Inferred, right: Inferred) -> Inferred:
     if isinstance(left, tuple) and isinstance(right, tuple):
         if left != right:
+            from ..check.dimensions import expression_text  # only on error: no cycle
+
             raise UnitMismatch(
-                node, f"adds {describe(left)} and {describe(right)}: the terms' units differ"
+                node, f"adds {describe(left)} and {describe(right)}: the terms' units differ "
+                f"(`{expression_text(node.left)}` is in {describe(left)}, "
+                f"`{expression_text(node.right)}` in {describe(right)})"
             )
         return left
     if isinstance(left, tuple):
@@ -179,7 +183,27 @@ def constant_value(expr: syntax.Expr) -> Fraction | None:
 
 # ---------------------------------------------------------------- showing values
 
-_PREFIXES = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T"}
+PREFIXES = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T"}
+"""SI prefixes by power of ten, as engineering notation shows them."""
+
+
+def engineering_parts(value: float, digits: int = 5) -> tuple[str, str]:
+    """(mantissa, prefix) of `value` in engineering notation: 4700 → ('4.7', 'k').
+
+    The one engineering-notation algorithm of the package (inspect, analyses, reports).
+    Beyond the prefixes (f … T) the mantissa is plain scientific notation and the prefix ''.
+    """
+    x = float(value)
+    if x == 0 or not math.isfinite(x):
+        return f"{x:g}", ""
+    exponent = 3 * math.floor(math.log10(abs(x)) / 3)
+    if not -15 <= exponent <= 12:
+        return f"{x:.{digits}g}", ""
+    mantissa = float(f"{x / 10.0**exponent:.{digits}g}")
+    if abs(mantissa) >= 1000 and exponent < 12:  # rounding carried into the next prefix
+        exponent += 3
+        mantissa = float(f"{x / 10.0**exponent:.{digits}g}")
+    return f"{mantissa:.{digits}g}", PREFIXES[exponent]
 
 
 def engineering(value: Fraction, unit: str = "") -> str:
@@ -194,18 +218,23 @@ def engineering(value: Fraction, unit: str = "") -> str:
         return f"{scientific:.5g} {unit}".rstrip()
     if not unit and (number == 0 or 1e-3 <= abs(number) < 1e6):
         return f"{number:.6g}"
-    if number == 0 or not math.isfinite(number):
-        return f"{number:g} {unit}".rstrip()
-    exponent = 3 * math.floor(math.log10(abs(number)) / 3)
-    if not -15 <= exponent <= 12:  # beyond the prefixes: scientific notation
-        return f"{number:.5g} {unit}".rstrip()
-    mantissa = float(f"{number / 10**exponent:.5g}")
-    if abs(mantissa) >= 1000 and exponent < 12:  # rounding carried into the next prefix
-        exponent += 3
-        mantissa = float(f"{number / 10**exponent:.5g}")
-    if not unit:
-        return f"{mantissa:g}{_PREFIXES[exponent]}"
-    return f"{mantissa:g} {_PREFIXES[exponent]}{unit}"
+    mantissa, prefix = engineering_parts(number, 5)
+    return f"{mantissa}{prefix}" if not unit else f"{mantissa} {prefix}{unit}"
+
+
+def eng(value: float | Fraction, unit: str = "", digits: int = 4) -> str:
+    """A value in a sentence or table: eng(4700, 'Ω') == '4.7 kΩ'. Pure numbers and
+    reciprocal units (`1/F`) take no prefix, where one reads badly: eng(0.02295) == '0.02295'."""
+    x = float(value)
+    if not unit or unit.startswith("1/"):
+        return f"{x:.{digits}g} {unit}".rstrip()
+    mantissa, prefix = engineering_parts(x, digits)
+    return f"{mantissa} {prefix}{unit}"
+
+
+def percent_text(value: float | Fraction, digits: int = 3, signed: bool = False) -> str:
+    """A ratio as a percentage: percent_text(-0.000999) == '-0.0999 %'; signed: '+4.41 %'."""
+    return f"{float(value) * 100:{'+' if signed else ''}.{digits}g} %"
 
 
 def as_float(value: Fraction) -> float | None:

@@ -68,7 +68,7 @@ def parameters(circuit: Circuit) -> list[Parameter]:
     """The parameters table, in the order the file lists them."""
     rows = []
     for p in circuit.parameters.values():
-        written = None if p.value is None else _written(p.value, p.nominal)
+        written = None if p.value is None else _written(p.value, p.nominal, p.unit)
         rows.append(Parameter(p.name, written, _float(p.nominal), p.unit,
                               tolerance_text(p.tolerance, p.unit), p.description))
     return rows
@@ -100,9 +100,12 @@ def _without_tolerance(written: str | None) -> str | None:
     return re.split(r"\s*(?:±|\+-|\+\s*[\d.]+\s*%?\s*-)", written, maxsplit=1)[0].strip()
 
 
-def _written(value: sympy.Expr, nominal: Fraction | None) -> str:
+def _written(value: sympy.Expr, nominal: Fraction | None, unit: str) -> str:
+    """A parameter's value as a reader writes it: `1 kΩ` for a number, else the expression."""
     if value.is_Number and nominal is not None:
-        return f"{float(nominal):.6g}"
+        from .filters import eng
+
+        return eng(float(nominal), unit, digits=6)
     return sympy.sstr(value)
 
 
@@ -121,6 +124,10 @@ class Cell:
     latex: str | None = None
 
 
+LONG_CELL = 45.0
+"""Printed width (characters of maths) beyond which a formula does not go in a table cell."""
+
+
 @dataclass(frozen=True)
 class Table:
     """A small table (sensitivities, tolerance, loading): header and rows of cells."""
@@ -132,23 +139,43 @@ class Table:
 
     @property
     def wide_columns(self) -> tuple[int, ...]:
-        """Columns holding long formulas (LaTeX gives them a fixed width)."""
+        """Columns holding formulas or text that fit a cell only when it wraps (LaTeX gives
+        them a fixed width)."""
         from .formulas import visible_width
 
+        def wraps(cell: Cell) -> bool:
+            if cell.latex:
+                return 30 < visible_width(cell.latex) <= LONG_CELL
+            return len(cell.text) > 40  # a long text (a formula as text) wraps at its spaces
+
         return tuple(i for i in range(len(self.columns)) if any(
-            row[i].latex and visible_width(row[i].latex) > 30
-            for row in self.rows if i < len(row)))
+            wraps(row[i]) for row in self.rows if i < len(row)))
+
+    @property
+    def long_cells(self) -> tuple[tuple[int, int], ...]:
+        """(row, column) of each formula too long for a cell: LaTeX gives it in full below
+        the table, broken across lines, and the cell refers to it."""
+        from .formulas import visible_width
+
+        return tuple((i, j) for i, row in enumerate(self.rows) for j, c in enumerate(row)
+                     if c.latex and visible_width(c.latex) > LONG_CELL)
 
 
 @dataclass(frozen=True)
 class StepView:
-    """One derivation step: a sentence and its equation."""
+    """One derivation step: a sentence and its equation (laid out: a formula too wide for a
+    line may take several equations, as 𝒩/𝒟 with numerator and denominator below)."""
 
     number: int
     kind: str
     sentence: str
-    equation: Equation | None
+    equations: tuple[Equation, ...]
     defines: str | None
+
+    @property
+    def equation(self) -> Equation | None:
+        """The step's first equation (None when the step has none)."""
+        return self.equations[0] if self.equations else None
 
 
 @dataclass(frozen=True)
@@ -271,7 +298,7 @@ def result_view(result: Any, symbol: str | None = None) -> ResultView:
                 name, item.get("symbol_latex") or _parameter_latex(name),
                 item.get("latex") or "", item.get("nominal"), item.get("unit") or ""))
     steps = [
-        StepView(i, s.kind, s.sentence, _step_equation(s.latex), s.defines)
+        StepView(i, s.kind, s.sentence, _step_equations(s.latex), s.defines)
         for i, s in enumerate(getattr(result, "steps", None) or [], start=1)
     ]
     nominal = result.nominal
@@ -285,14 +312,13 @@ def result_view(result: Any, symbol: str | None = None) -> ResultView:
     )
 
 
-def _step_equation(latex: str | None) -> Equation | None:
+def _step_equations(latex: str | None) -> tuple[Equation, ...]:
     if not latex:
-        return None
+        return ()
     if " = " in latex:
         lhs, rhs = latex.split(" = ", 1)
-        laid_out = equations(lhs, rhs)
-        return laid_out[0]
-    return Equation((latex,))
+        return tuple(equations(lhs, rhs))
+    return (Equation((latex,)),)
 
 
 _PARAMETER_ORDER = ("K", "omega0", "ω0", "w0", "f0", "Q", "zeta", "ζ")

@@ -10,7 +10,7 @@ from dataclasses import dataclass, replace
 from typing import Any
 
 from ..errors import SymcircError
-from ..model.circuit import Assumption, Circuit
+from ..model.circuit import Circuit
 from ..quantities.registry import DeriveOptions
 from .content import (
     ResultView,
@@ -75,7 +75,7 @@ def sections(circuit: Circuit, wanted: list[Request],
         else:
             for result in results:
                 view = result_view(result)
-                _attach_details(view, result)
+                _attach_details(circuit, view, result)
                 if name not in ANALYSIS_QUANTITIES:
                     _attach_analyses(circuit, view, request.options, analyses)
                 section.results.append(view)
@@ -85,45 +85,10 @@ def sections(circuit: Circuit, wanted: list[Request],
 
 def derive_for_document(circuit: Circuit, quantity: Any, options: DeriveOptions) -> list[Any]:
     """Results as a document shows them: `where X >> Y` approximations applied, design forms
-    and derivation steps attached (when the derivation stage did not attach them already)."""
-    from ..quantities import derive
+    and derivation steps attached (symcirc.forms.derive_shown, as `symcirc derive` does)."""
+    from ..forms import derive_shown
 
-    results = derive(circuit, quantity, options)
-    forms = _forms()
-    if forms is None:
-        return results
-    approximations = [a for a in options.assumptions if a.kind == "much_greater"]
-    if approximations and hasattr(forms, "approximate"):
-        results = [_approximated(forms, circuit, r, approximations) for r in results]
-    if options.steps and hasattr(forms, "annotate") and not any(
-            r.form is not None or r.steps for r in results):
-        forms.annotate(circuit, _syntax(circuit, quantity), results, options)
-    return results
-
-
-def _approximated(forms: Any, circuit: Circuit, result: Any,
-                  assumptions: list[Assumption]) -> Any:
-    if "neglected" in result.details:  # already approximated by the derivation stage
-        return result
-    for assumption in assumptions:
-        result = forms.approximate(circuit, result, assumption)
-    return result
-
-
-def _forms() -> Any:
-    try:
-        import symcirc.forms as forms
-    except ImportError:  # pragma: no cover - the forms stage is part of the package
-        return None
-    return forms
-
-
-def _syntax(circuit: Circuit, quantity: Any) -> Any:
-    if not isinstance(quantity, str):
-        return quantity
-    from ..language.parser import parse_quantity
-
-    return parse_quantity(quantity)
+    return derive_shown(circuit, quantity, options)
 
 
 def _quantity_name(quantity: Any) -> str:
@@ -132,10 +97,11 @@ def _quantity_name(quantity: Any) -> str:
     return quantity.name
 
 
-def _attach_details(view: ResultView, result: Any) -> None:
+def _attach_details(circuit: Circuit, view: ResultView, result: Any) -> None:
     details = dict(result.details)
     if "tolerance" in details:
-        view.tables.extend(tolerance_tables(details.pop("tolerance"), result.unit))
+        view.tables.extend(tolerance_tables(details.pop("tolerance"), result.unit,
+                                            _units(circuit)))
         view.notes = tolerance_notes(view.notes)
         view.spread = spread(result.details)
     details.pop("sensitivity", None)
@@ -158,11 +124,19 @@ def _attach_analyses(circuit: Circuit, view: ResultView, options: DeriveOptions,
             tolerance = derive_for_document(circuit, f"tolerance({view.quantity})", quiet)
             if tolerance and "tolerance" in tolerance[0].details:
                 details = tolerance[0].details["tolerance"]
-                view.tables.extend(tolerance_tables(details, view.unit))
+                view.tables.extend(tolerance_tables(details, view.unit, _units(circuit)))
                 view.notes.extend(tolerance_notes(tolerance[0].notes))
                 view.spread = spread(tolerance[0].details)
     except SymcircError:  # a quantity the analyses cannot take (e.g. a result from a limit)
         return
+
+
+def _units(circuit: Circuit) -> dict[str, str]:
+    """The unit of every element's and parameter's symbol, by name."""
+    from ..quantities.common import unit_of_symbol
+
+    return {name: unit_of_symbol(circuit, name)
+            for name in (*circuit.elements, *circuit.parameters)}
 
 
 def _toleranced(circuit: Circuit, view: ResultView) -> bool:

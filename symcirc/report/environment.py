@@ -69,7 +69,8 @@ def render(env: jinja2.Environment, name: str, **context: Any) -> str:
         raise SymcircError(f"no template '{err.name}' (looked in the template folder and the "
                            "built-in templates)") from None
     except jinja2.TemplateSyntaxError as err:
-        raise SymcircError(f"template syntax: {err.message}", file=err.filename or name,
+        raise SymcircError(f"template syntax: {err.message}",
+                           file=err.filename or err.name or name,
                            line=err.lineno or 0, column=1) from None
     except jinja2.TemplateError as err:  # undefined variables and the like, at render time
         raise SymcircError(f"template '{name}': {err}", file=name) from None

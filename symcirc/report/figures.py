@@ -1,8 +1,8 @@
 """Plots that go beside a note, in a folder named after it: the frequency response of each
-transfer function, the Monte Carlo histogram of each `tolerance(Q)` the file asks for, the
-loading curve of each loading analysis. Names are decided when the note is rendered (so the
-note's text does not depend on whether the files are written); drawing happens only when
-they are.
+transfer function (not of sensitivities), the Monte Carlo histogram of each `tolerance(Q)`
+the file asks for, the loading curve of each loading analysis. Names are decided when the
+note is rendered (so the note's text does not depend on whether the files are written);
+drawing happens only when they are.
 """
 
 from __future__ import annotations
@@ -57,7 +57,7 @@ def plan(circuit: Circuit, sections: list[Section], wanted: list[Request], stem:
             add(None, section, "loading", f"Loading error of {request.text} against the load.",
                 _loading(circuit, request.text), f"{section.anchor}-loading")
         for view in section.results:
-            if view.is_transfer_function and _has_values(view):
+            if view.is_transfer_function and _has_values(view) and name not in _NOT_RESPONSES:
                 add(view, section, "frequency response",
                     f"Magnitude and phase of {view.quantity} at the nominal values.",
                     _frequency_response(circuit, view), f"{view.anchor}-response")
@@ -66,6 +66,11 @@ def plan(circuit: Circuit, sections: list[Section], wanted: list[Request], stem:
                     f"Monte Carlo histogram of {view.quantity} with the worst-case bounds.",
                     _histogram(circuit, view, request), f"{view.anchor}-histogram")
     return drawings
+
+
+_NOT_RESPONSES = ("sensitivity", "relative_sensitivity", "sensitivities")
+"""Functions of s that are not responses of the circuit: no Bode plot (each costs a second
+or more to draw, and the magnitude of a complex sensitivity is not what a reader expects)."""
 
 
 def _has_values(view: ResultView) -> bool:

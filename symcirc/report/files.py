@@ -7,7 +7,8 @@ from __future__ import annotations
 import os
 import sys
 import tempfile
-from collections.abc import Iterable
+from collections.abc import Iterable, Iterator
+from contextlib import contextmanager
 from dataclasses import dataclass
 from pathlib import Path
 
@@ -86,8 +87,19 @@ def path_inside(folder: Path, relative: str | Path) -> Path:
     target = (base / relative).resolve()
     if not target.is_relative_to(base):
         raise SymcircError(f"refusing to write '{relative}' outside the output folder '{folder}'")
-    target.parent.mkdir(parents=True, exist_ok=True)
+    with reported(target.parent):
+        target.parent.mkdir(parents=True, exist_ok=True)
     return target
+
+
+@contextmanager
+def reported(path: Path) -> Iterator[None]:
+    """Turn a failure to write `path` (permissions, a file where a folder should be, a full
+    disk) into an error for the user instead of a traceback."""
+    try:
+        yield
+    except OSError as err:
+        raise SymcircError(f"cannot write: {err.strerror or err}", file=str(path)) from None
 
 
 def write_inside(folder: Path, relative: str | Path, data: bytes) -> Path:
@@ -100,6 +112,11 @@ def write_inside(folder: Path, relative: str | Path, data: bytes) -> Path:
 def write_atomic(path: Path, data: bytes) -> None:
     """Write to a temporary file beside `path`, then rename it over `path`: readers see the
     old file or the new one, never half of one."""
+    with reported(path):
+        _write_atomic(path, data)
+
+
+def _write_atomic(path: Path, data: bytes) -> None:
     handle, temporary = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".tmp", dir=path.parent)
     try:
         with os.fdopen(handle, "wb") as stream:

@@ -7,13 +7,12 @@ escape automatically), so a title such as `a_b & <c>` shows literally in every f
 
 from __future__ import annotations
 
-import math
 from typing import Any
 
 from markupsafe import Markup
 
-PREFIXES = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T"}
-"""SI prefixes by power of ten."""
+from ..model.units import eng as units_eng
+from ..model.units import engineering_parts, percent_text
 
 _SIUNITX_PREFIX = {
     "f": r"\femto", "p": r"\pico", "n": r"\nano", "µ": r"\micro", "m": r"\milli", "": "",
@@ -68,7 +67,7 @@ def escape_tex(text: Any) -> str:
 
 def escape_tex_code(text: Any) -> str:
     """Like escape_tex, for code-like text (quantities): lines may break after `(` `,` `.`."""
-    return "".join(escape_tex(c) + (r"\allowbreak{}" if c in "(,." else "")
+    return "".join(escape_tex(c) + (r"\allowbreak{}" if c in "(,._" else "")
                    for c in str(text))
 
 
@@ -89,6 +88,18 @@ def escape_md(text: Any) -> str:
     return "".join(out)
 
 
+def math_md(latex: Any) -> str:
+    """LaTeX maths for between `$` signs in Markdown, written so that renderers which parse
+    Markdown before the maths still leave it whole: no `_` that could open emphasis (a space
+    follows each one after punctuation), `\\cr` for line breaks (`\\\\` would lose a
+    backslash), `\\vert` for `|` (which would split a table cell)."""
+    import re
+
+    text = str(latex).replace("\\\\", "\\cr ")
+    text = re.sub(r"\|(?=[A-Za-z])", r"\\vert ", text).replace("|", "\\vert")
+    return re.sub(r"(?<=[^A-Za-z0-9\\])_(?=\S)", "_ ", text)
+
+
 def code_md(text: Any) -> str:
     """`text` as a Markdown code span (for quantities and file names), safe in tables."""
     body = " ".join(str(text).split()).replace("|", "\\|")
@@ -98,23 +109,8 @@ def code_md(text: Any) -> str:
 
 
 def engineering(value: float, digits: int = 4) -> tuple[str, str]:
-    """(mantissa, prefix) of `value` in engineering notation: 4700 → ('4.7', 'k').
-
-    Values beyond the prefixes keep an exponent in the mantissa (`1.2e-18`).
-    """
-    x = float(value)
-    if x == 0 or not math.isfinite(x):
-        return f"{x:g}", ""
-    exponent = math.floor(math.log10(abs(x)))
-    step = min(max(3 * (exponent // 3), -15), 12)
-    mantissa = float(f"{x / 10.0**step:.{digits}g}")
-    if abs(mantissa) >= 1000 and step < 12:  # rounding carried into the next prefix
-        step += 3
-        mantissa = float(f"{x / 10.0**step:.{digits}g}")
-    text = f"{mantissa:.{digits}g}"
-    if "e" in text:
-        return f"{x:.{digits}g}", ""
-    return text, PREFIXES[step]
+    """(mantissa, prefix) of `value` in engineering notation: 4700 → ('4.7', 'k')."""
+    return engineering_parts(value, digits)
 
 
 def eng(value: Any, unit: str = "", digits: int = 4) -> str:
@@ -125,22 +121,18 @@ def eng(value: Any, unit: str = "", digits: int = 4) -> str:
     """
     if value is None:
         return "—"
-    if not unit:
-        return _plain(float(value), digits)
-    mantissa, prefix = engineering(float(value), digits)
-    return f"{mantissa.replace('-', '−')} {prefix}{unit}"
+    text = units_eng(value, unit, digits)
+    return text.replace("-", "−") if unit else _minus(text)
 
 
-def _plain(x: float, digits: int) -> str:
-    text = f"{x:.{digits}g}"
+def _minus(text: str) -> str:
+    """Typographic minus signs (an exponent's sign only, in scientific notation)."""
     return text.replace("-", "−") if "e" not in text else text.replace("e-", "e−")
 
 
 def percent(value: Any, digits: int = 3) -> str:
     """A ratio as a percentage: percent(0.00125) == '0.125 %'."""
-    if value is None:
-        return "—"
-    return f"{_plain(float(value) * 100, digits)} %"
+    return "—" if value is None else _minus(percent_text(value, digits))
 
 
 def unit_tex(unit: str, prefix: str = "") -> str:
@@ -216,12 +208,26 @@ def width(latex: Any) -> float:
     return visible_width(str(latex))
 
 
+def layout(latex: Any, lhs: str = "") -> list:
+    """Equations of `lhs = latex` laid out for a page (a list of `formulas.Equation`); with no
+    `lhs`, the formula alone."""
+    from .formulas import Equation, equations
+
+    if lhs:
+        return equations(lhs, str(latex))
+    laid = equations("\\square", str(latex))
+    first = laid[0].lines[0].replace("\\square = ", "", 1)
+    return [Equation((first, *laid[0].lines[1:])), *laid[1:]]
+
+
 FILTERS = {
     "width": width,
+    "layout": layout,
     "escape_tex": escape_tex,
     "escape_tex_code": escape_tex_code,
     "escape_md": escape_md,
     "code_md": code_md,
+    "math_md": math_md,
     "eng": eng,
     "percent": percent,
     "qty": qty,

@@ -1,5 +1,7 @@
-"""Equations laid out for a page: long formulas broken before top-level `+`/`−` terms, and a
-fraction too wide for a line written as 𝒩/𝒟 with numerator and denominator given below.
+"""Equations laid out for a page: long formulas broken before `+`/`−` terms (at the top level
+or inside `\\left(…\\right)` groups, closed with `\\right.` and reopened with `\\left.` across
+the break), before `\\quad` remarks, and a fraction too wide for a line written as 𝒩/𝒟 with
+numerator and denominator given below (or, inside a line, as 1/B·(A) so A can break).
 
 An `Equation` is a list of LaTeX lines, each continuing the one before; templates turn it
 into `multline*` (LaTeX), stacked MathML blocks (HTML) or an `aligned` block (Markdown).
@@ -44,6 +46,14 @@ def equations(lhs: str, rhs: str, expression: sympy.Expr | None = None,
                 *equations(NUMERATOR, sympy.latex(numerator), None, width),
                 *equations(DENOMINATOR, sympy.latex(denominator), None, width),
             ]
+    elif expression is None and (parts := fraction_parts(rhs)) is not None:
+        sign, numerator_tex, denominator_tex = parts
+        if max(visible_width(numerator_tex), visible_width(denominator_tex)) > width * 0.8:
+            return [
+                Equation((f"{lhs} = {sign}\\frac{{{NUMERATOR}}}{{{DENOMINATOR}}}",)),
+                *equations(NUMERATOR, numerator_tex, None, width),
+                *equations(DENOMINATOR, denominator_tex, None, width),
+            ]
     return [Equation(tuple(break_lines(f"{lhs} = ", rhs, width)))]
 
 
@@ -51,21 +61,143 @@ def _too_wide(expression: sympy.Expr, width: float) -> bool:
     return visible_width(sympy.latex(expression)) > width * 0.8
 
 
+def fraction_parts(tex: str) -> tuple[str, str, str] | None:
+    """(sign, numerator, denominator) when `tex` is one `\\frac{A}{B}`, perhaps after a sign;
+    else None."""
+    body = tex.strip()
+    sign = ""
+    if body[:1] in "+-":
+        sign, body = body[0] + " ", body[1:].lstrip()
+    if not body.startswith("\\frac{"):
+        return None
+    numerator_end = _group_end(body, len("\\frac"))
+    if numerator_end is None or body[numerator_end + 1:numerator_end + 2] != "{":
+        return None
+    denominator_end = _group_end(body, numerator_end + 1)
+    if denominator_end is None or body[denominator_end + 1:].strip():
+        return None
+    return (sign, body[len("\\frac") + 1:numerator_end],
+            body[numerator_end + 2:denominator_end])
+
+
+def _group_end(tex: str, start: int) -> int | None:
+    """Index of the `}` closing the brace group that opens at `tex[start]`."""
+    depth = 0
+    i = start
+    while i < len(tex):
+        c = tex[i]
+        if c == "\\":
+            i += 2
+            continue
+        if c == "{":
+            depth += 1
+        elif c == "}":
+            depth -= 1
+            if depth == 0:
+                return i
+        i += 1
+    return None
+
+
 def break_lines(head: str, rhs: str, width: float = WIDTH) -> list[str]:
     """`head + rhs` packed greedily into lines no wider than `width`, breaking only before a
-    top-level `+` or `−`; a single term wider than a line stays whole."""
+    `+` or `−` outside braces (at the top level or inside `\\left…\\right` groups, which are
+    closed with `\\right.` at the end of the line and reopened with `\\left.` on the next) or
+    before a top-level `\\quad`; a single piece wider than a line stays whole. Every line is
+    balanced, so each can be typeset (or converted to MathML) on its own."""
     lines: list[str] = []
     current = head
     current_width = visible_width(head)
-    for term in top_level_terms(rhs):
-        term_width = visible_width(term)
-        if current_width + term_width > width and current.strip() and current != head:
-            lines.append(current.rstrip())
-            current, current_width = "", 0.0
-        current += term
-        current_width += term_width
+    for piece, depth in _pieces(_open_wide_fractions(rhs, width)):
+        piece_width = visible_width(piece)
+        if current_width + piece_width > width and current.strip() and current != head:
+            lines.append(current.rstrip() + " \\right." * depth)
+            current = "\\left. " * depth
+            current_width = 0.0
+        current += piece
+        current_width += piece_width
     lines.append(current.rstrip())
     return lines
+
+
+def _pieces(tex: str) -> list[tuple[str, int]]:
+    """`tex` cut before each breakable sign or `\\quad`: (piece, open `\\left` groups at its
+    start). Nothing is cut inside braces (fractions, sub- and superscripts) or environments."""
+    pieces: list[tuple[str, int]] = []
+    braces = 0  # braces and environments: never broken inside
+    groups = 0  # open \\left…\\right groups: broken inside, closed and reopened
+    start, start_groups = 0, 0
+    previous = ""
+    i = 0
+    while i < len(tex):
+        c = tex[i]
+        if c == "\\":
+            end = i + 1
+            while end < len(tex) and tex[end].isalpha():
+                end += 1
+            name = tex[i + 1:end] or tex[i + 1:i + 2]
+            if name in ("left", "right"):
+                groups += 1 if name == "left" else -1
+                end += 1  # the delimiter
+                if tex[end - 1:end] == "\\":  # a delimiter given as a command (\\{, \\langle)
+                    while end < len(tex) and tex[end].isalpha():
+                        end += 1
+                    end = max(end, i + len(name) + 3)
+            elif name in ("begin", "end"):
+                braces += 1 if name == "begin" else -1
+            elif name == "quad" and braces == 0 and groups == 0 and i > start:
+                pieces.append((tex[start:i], start_groups))
+                start, start_groups = i, groups
+            elif end == i + 1:
+                end = i + 2  # an escaped character such as \\{ or \\,
+            previous = "\\" if name not in ("left",) else "("
+            i = end
+            continue
+        if c == "{":
+            braces += 1
+        elif c == "}":
+            braces -= 1
+        elif c in "([":
+            pass
+        elif c in "+-" and braces == 0 and previous not in ("", "=", "+", "-", "{", "(", "^",
+                                                           "_", ","):
+            pieces.append((tex[start:i], start_groups))
+            start, start_groups = i, groups
+        if not c.isspace():
+            previous = c
+        i += 1
+    pieces.append((tex[start:], start_groups))
+    return [(p, g) for p, g in pieces if p.strip()]
+
+
+def _open_wide_fractions(tex: str, width: float) -> str:
+    """Each `\\frac{A}{B}` outside braces whose numerator is too wide for a line but could be
+    broken, written `\\frac{1}{B} \\left(A\\right)` (the same value) so that A breaks."""
+    out = []
+    i = 0
+    braces = 0
+    while i < len(tex):
+        if tex.startswith("\\frac{", i) and braces == 0:
+            numerator_end = _group_end(tex, i + len("\\frac"))
+            if numerator_end is not None and tex[numerator_end + 1:numerator_end + 2] == "{":
+                denominator_end = _group_end(tex, numerator_end + 1)
+                numerator = tex[i + len("\\frac") + 1:numerator_end]
+                denominator = tex[numerator_end + 2:denominator_end] if denominator_end else ""
+                if (denominator_end is not None and visible_width(numerator) > width * 0.8
+                        and visible_width(denominator) <= width * 0.8
+                        and len(_pieces(numerator)) > 1):
+                    out.append(f"\\frac{{1}}{{{denominator}}} \\left({numerator}\\right)")
+                    i = denominator_end + 1
+                    continue
+        c = tex[i]
+        if c == "\\":
+            out.append(tex[i:i + 2])
+            i += 2
+            continue
+        braces += 1 if c == "{" else -1 if c == "}" else 0
+        out.append(c)
+        i += 1
+    return "".join(out)
 
 
 def top_level_terms(tex: str) -> list[str]:

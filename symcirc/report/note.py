@@ -25,7 +25,7 @@ from .content import (
     parts,
     ports,
 )
-from .files import Output, path_inside, write_document
+from .files import Output, path_inside, reported, write_document
 from .progress import Progress
 
 TEMPLATES = {"markdown": "note.md.j2", "latex": "note.tex.j2", "html": "note.html.j2"}
@@ -113,7 +113,9 @@ def write_note(
     note, drawings = build_note(path, format, quantities, template, output.path, progress)
     text = render_note(note, template)
     for drawing in drawings:
-        drawing.draw(path_inside(output.folder, drawing.figure.path))
+        target = path_inside(output.folder, drawing.figure.path)
+        with reported(target):
+            drawing.draw(target)
     write_document(output, text)
     return note
 

@@ -42,9 +42,12 @@ def sensitivity_table(results: list[Any], quantity: str) -> Table | None:
                  tuple(rows), caption)
 
 
-def tolerance_tables(details: dict[str, Any], unit: str) -> list[Table]:
+def tolerance_tables(details: dict[str, Any], unit: str,
+                     units: dict[str, str] | None = None) -> list[Table]:
     """The spread of a result (linearised, extremes, RSS, Monte Carlo) and the parts that
-    contribute most, from `details['tolerance']`."""
+    contribute most, from `details['tolerance']`; `units` gives each symbol's unit (for the
+    ranges of the toleranced values)."""
+    units = units or {}
     t = details
     nominal = t["nominal"]
 
@@ -74,7 +77,8 @@ def tolerance_tables(details: dict[str, Any], unit: str) -> list[Table]:
     tables = [Table("Tolerance", ("Method", "Low", "High", "Relative"), rows, caption)]
     contributions = [
         (Cell(c["symbol"], _label_latex(c["symbol"])),
-         Cell(f"{_number(c['low'], '')} … {_number(c['high'], '')}"),
+         Cell(f"{_number(c['low'], units.get(c['symbol'], ''))} … "
+              f"{_number(c['high'], units.get(c['symbol'], ''))}"),
          Cell(eng(c["derivative"])),
          Cell(eng(c["nominal"] * c["derivative"] / nominal) if nominal else "—"),
          Cell(eng(c["down"], unit)), Cell("+" + eng(c["up"], unit)))

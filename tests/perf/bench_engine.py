@@ -140,14 +140,36 @@ def baseline(family: str, size: int) -> list:
     raise ValueError(family)
 
 
-def run_baseline(family: str, size: int, cap: float) -> float | None:
-    """Seconds the baseline takes in a child process, or None past the cap."""
+def point_value(size: int, name: str) -> Fraction:
+    """The random rational value of symbol `name` at which both sides are compared (seeded
+    by the name, so that each side draws the same value for the same symbol)."""
+    rng = random.Random(f"{size}:{name}")
+    return Fraction(rng.randint(1, 97), rng.randint(1, 13))
+
+
+def run_baseline(family: str, size: int, cap: float) -> tuple[float, list[str]] | None:
+    """(seconds the baseline takes in a child process, its results at the comparison
+    point as 'p/q' texts), or None past the cap."""
     command = [sys.executable, __file__, "--baseline", family, str(size)]
     try:
         done = subprocess.run(command, capture_output=True, text=True, timeout=cap, check=True)
     except subprocess.TimeoutExpired:
         return None
-    return float(done.stdout.strip().splitlines()[-1])
+    seconds, *values = done.stdout.split()
+    return float(seconds), values
+
+
+def baseline_child(family: str, size: int) -> None:
+    """Time the baseline, then print its results at the comparison point (outside timing)."""
+    import sympy
+
+    start = time.perf_counter()
+    results = baseline(family, size)
+    print(time.perf_counter() - start)
+    for result in results:
+        point = {x: (1 if x.name == "I_test" else sympy.Rational(str(point_value(size, x.name))))
+                 for x in result.free_symbols}
+        print(result.xreplace(point))
 
 
 # ---------------------------------------------------------------- symcirc
@@ -177,32 +199,27 @@ def best_of(repeats: int, text: str, quantities: list[str]):
     return fastest[0], printed, fastest[2], fastest[3]
 
 
-def check_against_baseline(family: str, size: int, results: list) -> bool:
-    """The symcirc results equal the baseline's at random rational values (outside timing)."""
-    import sympy
-
-    expected = baseline(family, size)
-    rng = random.Random(size)
-    for result, reference in zip(results, expected, strict=True):
-        values = {n: Fraction(rng.randint(1, 97), rng.randint(1, 13)) for n in result.symbols}
-        ours = result.exact.evaluate(values)
-        point = {sympy.Symbol(n): sympy.Rational(v.numerator, v.denominator)
-                 for n, v in values.items()}
-        point[sympy.Symbol("I_test")] = 1
-        theirs = reference.xreplace(point)
-        if sympy.Rational(ours.numerator, ours.denominator) != theirs:
+def check_against_baseline(size: int, results: list, expected: list[str]) -> bool:
+    """The symcirc results equal the baseline's at the same random rational point."""
+    if len(results) != len(expected):
+        return False
+    for result, theirs in zip(results, expected, strict=True):
+        ours = result.exact.evaluate({n: point_value(size, n) for n in result.symbols})
+        if ours != Fraction(theirs):
             return False
     return True
 
 
 def cold_start(path: str) -> float:
     """Wall time of `symcirc derive FILE` in a fresh interpreter (imports included)."""
+    script = os.path.join(os.path.dirname(sys.executable), "symcirc")
+    if os.path.exists(script):
+        command = [script, "derive", path]
+    else:
+        command = [sys.executable, "-c", "import sys; from symcirc.cli import main; "
+                   "sys.exit(main(sys.argv[1:]))", "derive", path]
     start = time.perf_counter()
-    import shutil
-
-    command = [shutil.which("symcirc") or "symcirc", "derive", path]
-    subprocess.run(command, check=True,
-                   capture_output=True)
+    subprocess.run(command, check=True, capture_output=True)
     return time.perf_counter() - start
 
 
@@ -214,12 +231,9 @@ def main() -> None:
     parser.add_argument("--quick", action="store_true", help="smallest sizes only")
     args = parser.parse_args()
     if args.baseline:
-        family, size = args.baseline[0], int(args.baseline[1])
         import sympy  # noqa: F401  (imports are not part of the timed solve)
 
-        start = time.perf_counter()
-        baseline(family, size)
-        print(time.perf_counter() - start)
+        baseline_child(args.baseline[0], int(args.baseline[1]))
         return
 
     from symcirc.engine.polys import default_backend
@@ -230,30 +244,70 @@ def main() -> None:
               f"{'print s':>9} {'baseline s':>11} {'ratio':>9} {'µs/term':>8}  check")
     print(header)
     print("-" * len(header))
+    rows: dict[str, list[tuple[int, float, float, float]]] = {}
+    ratios: dict[str, list[float]] = {}
     for family, (build, sizes) in FAMILIES.items():
         baseline_alive = True
         for size in (list(sizes)[:2] if args.quick else sizes):
             text, quantities = build(size)
             run_symcirc(text, quantities)  # warm up: imports, grammar, caches of the ring
             derived, printed, terms, results = best_of(3 if size < 12 else 1, text, quantities)
-            base = run_baseline(family, size, args.cap) if baseline_alive else None
+            ran = run_baseline(family, size, args.cap) if baseline_alive else None
             check = "-"
-            if base is None:
+            if ran is None:
                 baseline_alive = False
                 base_text, ratio_text = f"> {args.cap:g}", "-"
             else:
+                base, expected = ran
                 base_text, ratio_text = f"{base:.3f}", f"{base / derived:.0f}x"
-                check = "equal" if check_against_baseline(family, size, results) else "DIFFERENT"
+                check = "equal" if check_against_baseline(size, results, expected) else "DIFFERENT"
+                ratios.setdefault(family, []).append(base / derived)
             per_term = derived / max(sum(terms), 1) * 1e6
+            rows.setdefault(family, []).append((size, derived, printed, per_term))
             print(f"{family:9} {size:>4} {f'{terms[0]}/{terms[1]}':>17} {derived:>10.4f} "
                   f"{printed:>9.4f} {base_text:>11} {ratio_text:>9} {per_term:>8.2f}  {check}",
                   flush=True)
     example = os.path.join(os.path.dirname(__file__), "..", "..", "examples",
                            "bridge_adc.circuit")
+    cold = None
     if os.path.exists(example):
         walls = [cold_start(example) for _ in range(3)]
-        print(f"cold start `symcirc derive examples/bridge_adc.circuit`: best {min(walls):.3f} s "
+        cold = min(walls)
+        print(f"cold start `symcirc derive examples/bridge_adc.circuit`: best {cold:.3f} s "
               f"wall of 3")
+    print_targets(rows, ratios, cold)
+
+
+def print_targets(rows: dict, ratios: dict, cold: float | None) -> None:
+    """The issue's targets, each with the measured figure and whether it is met."""
+    def at(family: str, size: int):
+        return next((r for r in rows.get(family, []) if r[0] == size), None)
+
+    checks = []
+    if ratios.get("ladder"):
+        worst = min(ratios["ladder"])
+        checks.append((f"ladder: >= 500x the baseline wherever it finishes (worst {worst:.0f}x)",
+                       worst >= 500))
+    ladder12 = at("ladder", 12)
+    if ladder12:
+        checks.append((f"ladder n = 12 derived in < 0.1 s ({ladder12[1]:.4f} s)",
+                       ladder12[1] < 0.1))
+        checks.append((f"ladder n = 12 printed in < 1 s ({ladder12[2]:.4f} s)", ladder12[2] < 1))
+    grid4 = at("grid", 4)
+    if grid4:
+        checks.append((f"grid k = 4 derived in < 0.5 s ({grid4[1]:.4f} s)", grid4[1] < 0.5))
+    for family, measured in rows.items():
+        per_term = [r[3] for r in measured]
+        spread = max(per_term) / min(per_term)
+        checks.append((f"{family}: µs per term flat within 3x (spread {spread:.1f}x)",
+                       spread <= 3))
+        checks.append((f"{family}: < 2 µs per term at the largest size ({per_term[-1]:.2f})",
+                       per_term[-1] < 2))
+    if cold is not None:
+        checks.append((f"cold start of symcirc derive < 1 s ({cold:.3f} s)", cold < 1))
+    print("targets:")
+    for text, met in checks:
+        print(f"  [{'met' if met else 'MISSED'}] {text}")
 
 
 if __name__ == "__main__":
