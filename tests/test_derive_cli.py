@@ -4,6 +4,7 @@ and the JSON contract (the expression reads back with sympy to the same expressi
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import pytest
 import sympy
@@ -11,6 +12,8 @@ from sympy.parsing.sympy_parser import parse_expr
 
 import symcirc
 from symcirc.cli import main
+
+EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 
 # A sensor front end (invented): an RTD divider, buffered, then an RC filter
 FRONT_END = """\
@@ -195,3 +198,24 @@ def test_python_api_load_from_a_file(front_end):
     assert voltage.text() == "Rt*Uref/(Rs + Rt)"
     assert voltage.nominal == pytest.approx(2.5 * 119.25 / 1119.25)
     assert impedance.quantity == "thevenin(tap).impedance" and impedance.unit == "Ω"
+
+
+def test_python_results_carry_the_design_form_and_steps():
+    """`Circuit.derive` shows results as `symcirc derive --steps` does: the impedance's form
+    is the engineer's Rin∥(R1∥R2 + Rt∥R4) (common practice for a bridge read by a meter),
+    checked as an expression, and `steps=False` leaves the canonical result alone."""
+    circuit = symcirc.load(EXAMPLES / "bridge_adc.circuit")
+    impedance = circuit.derive("thevenin(out)")[1]
+    assert impedance.form is not None and impedance.steps
+    R1, R2, Rt, R4, Rin = (sympy.Symbol(n) for n in ("R1", "R2", "Rt", "R4", "Rin"))
+
+    def par(a, b):
+        return a * b / (a + b)
+
+    expected = par(Rin, par(R1, R2) + par(Rt, R4))
+    shown = impedance.form.expression.doit()
+    assert sympy.cancel(shown - expected) == 0
+    assert sympy.cancel(impedance.expression - expected) == 0
+    assert impedance.form.text == "Rin∥(R1∥R2 + Rt∥R4)"
+    bare = circuit.derive("thevenin(out)", steps=False)[1]
+    assert bare.form is None and not bare.steps

@@ -101,7 +101,7 @@ def run(args: argparse.Namespace) -> int:
 
 def _with_forms(circuit, quantity, results: list[Result], options) -> list[Result]:
     """`where big >> small` approximations, then design forms and derivation steps
-    (symcirc.forms), each proved equal to the canonical result before it is shown."""
+    (symcirc.forms.finish, as the notes show them), each proved equal first."""
     approximations = [a for a in options.assumptions if a.kind == "much_greater"]
     if not approximations and not options.steps:
         return results
@@ -109,22 +109,15 @@ def _with_forms(circuit, quantity, results: list[Result], options) -> list[Resul
     from ..errors import Location
     from ..forms.dividers import Unsupported
 
-    if approximations:
-        approximated = []
-        for result in results:
-            for assumption in approximations:
-                try:
-                    result = forms.approximate(circuit, result, assumption)
-                except Unsupported as problem:
-                    where = assumption.location or Location(circuit.file, 0, 0)
-                    raise SymcircError.at(where, f"where {assumption.symbol} >> "
-                                          f"{assumption.target}: {problem}", circuit.source
-                                          ) from None
-            approximated.append(result)
-        results = approximated
-    if options.steps and not any(r.form is not None or r.steps for r in results):
-        forms.annotate(circuit, quantity, results, options)
-    return results
+    try:
+        return forms.finish(circuit, quantity, results, options)
+    except Unsupported as problem:
+        if not approximations:
+            raise
+        first = approximations[0]
+        where = first.location or Location(circuit.file, 0, 0)
+        raise SymcircError.at(where, f"where {first.symbol} >> {first.target}: {problem}",
+                              circuit.source) from None
 
 
 def _notice(notice, circuit) -> str:
@@ -200,7 +193,9 @@ def _latex_text(text: str) -> str:
 
 
 def as_markdown(circuit, results: list[Result], values: bool) -> str:
-    parts = [f"# {circuit.title or circuit.file}"]
+    from ..report.filters import escape_md
+
+    parts = [f"# {escape_md(circuit.title or circuit.file)}"]
     for result in results:
         parts.append(f"**`{result.quantity}`**")
         parts.append(f"$$\n{result.latex()}\n$$")
@@ -208,7 +203,7 @@ def as_markdown(circuit, results: list[Result], values: bool) -> str:
             parts.append(f"Design form: ${result.form.latex}$")
         if values:
             parts.append(value_text(result))
-        parts.extend(f"> {n}" for n in result.notes)
+        parts.extend(f"> {escape_md(n)}" for n in result.notes)
     return "\n\n".join(parts)
 
 

@@ -243,10 +243,14 @@ class Circuit:
 
     # Convenience API; the work is done by later stages (imported on use).
     def derive(self, quantity: str, **options: Any) -> list:
-        """Derive a quantity written as in the language (`"thevenin(out)"`)."""
-        from ..quantities import derive
+        """Derive a quantity written as in the language (`"thevenin(out)"`), with its design
+        form and derivation steps as `symcirc derive --steps` shows them (`steps=False`:
+        the canonical results only)."""
+        from ..forms import finish
+        from ..quantities import derive, options_from
 
-        return derive(self, quantity, **options)
+        results = derive(self, quantity, **options)
+        return finish(self, quantity, results, options_from(None, **options))
 
     def thevenin(self, port: str, **options: Any):
         from ..quantities import thevenin
