@@ -167,7 +167,11 @@ def test_a_claim_true_only_for_real_s_is_refused():
     verdict = check(s**2 * R, sympy.sqrt(s**2) ** 2 * R + sympy.sqrt(s**2) * 0)
     assert verdict.holds  # sqrt(s^2)^2 is s^2 on every branch: an identity
     verdict = check(s * R, sympy.sqrt(s**2) * R)
-    assert not verdict.holds
+    assert not verdict.holds and verdict.decided
+    # Equal for every positive s: the counterexample takes s off the positive axis.
+    example = verdict.counterexample
+    assert example.values == {"R": 2, "s": -1}
+    assert (example.claimed, example.derived) == (2, -2)
 
 
 def test_radicals_that_differ_are_refused_with_a_counterexample():

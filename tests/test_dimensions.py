@@ -152,3 +152,40 @@ def test_check_circuit_reports_a_bad_where_clause():
     with pytest.raises(SymcircError) as caught:
         check_circuit(bad)
     assert caught.value.line == CIRCUIT.count("\n") + 1
+
+
+# ---------------------------------------------------------------- through the commands
+
+STAGE = """\
+title "Sensor input stage"
+voltage source Uin (in, gnd)
+resistor  R1 (in, a) = 10 kΩ
+resistor  R2 (a, gnd)
+capacitor C1 (a, gnd)
+"""
+
+
+@pytest.mark.parametrize("command", ["derive", "check"])
+@pytest.mark.parametrize("extra, position, words", [
+    # A `where` clause comparing a resistance with a capacitance.
+    ("derive V(a) where R1 >> C1\n", (6, 19), "`R1 >> C1` compares Ω with F"),
+    # A transconductance written as a capacitance: the coefficient is named and pointed at.
+    ("current source G (a, gnd) = C1*V(in, gnd)\nderive V(a)\n", (6, 29),
+     "`C1` is in F, but the coefficient of V(..) in current source G is in S"),
+    # A defining value adding a capacitance to a resistance names both terms.
+    ("resistor R3 (a, gnd) = R1 + 10 nF\nderive V(a)\n", (6, 24),
+     "adds Ω and F: the terms' units differ (`R1` is in Ω, `10 nF` in F)"),
+])
+def test_commands_report_dimension_mismatches(tmp_path, capsys, command, extra, position,
+                                              words):
+    from symcirc.cli import main
+
+    path = tmp_path / "stage.circuit"
+    path.write_text(STAGE + extra, encoding="utf-8")
+    arguments = [command, str(path)] + (["V(a) = Uin"] if command == "check" else [])
+    assert main(arguments) == 2
+    err = capsys.readouterr().err
+    assert f"{path}:{position[0]}:{position[1]}: error: " in err and words in err
+    assert "Traceback" not in err
+    caret = err.splitlines()[-1]
+    assert caret.index("^") == 4 + position[1] - 1

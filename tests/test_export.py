@@ -3,6 +3,7 @@ gcc -std=c99 -Wall -Werror and called through ctypes) at 100 random points, to 1
 relative. The closed form is evaluated independently by sympy in exact arithmetic."""
 
 import ctypes
+import functools
 import importlib.util
 import keyword
 import random
@@ -14,6 +15,7 @@ import numpy
 import pytest
 import sympy
 
+import symcirc
 from symcirc.cli import main
 from symcirc.export import c as c_code
 from symcirc.export import python as py_code
@@ -53,25 +55,33 @@ RESULTS = [
 ]
 
 
-def _points(function, rng):
-    """POINTS random values of each argument in a range fitting its unit, as floats."""
-    return [
-        {a.name: (rng.uniform(*RANGES[a.unit]) if a.unit != "Ω" else
-                  10 ** rng.uniform(1, 6)) for a in function.arguments}
-        for _ in range(POINTS)
-    ]
+@functools.cache
+def _cases(frequency: bool) -> tuple[tuple[list[dict], list[complex]], ...]:
+    """For each result: POINTS random points (values by circuit symbol, in a range fitting
+    each unit) and the closed form there, in exact arithmetic (s = j*omega with
+    frequency). Shared by the three languages, so each reference is computed once."""
+    rng = random.Random(1 + frequency)
+    cases = []
+    for result, function in zip(RESULTS, functions(RESULTS, UNITS, {}, frequency, ()),
+                                strict=True):
+        points, references = [], []
+        for _ in range(POINTS):
+            point = {a.symbol: (10 ** rng.uniform(1, 6) if a.unit == "Ω" else
+                                rng.uniform(*RANGES[a.unit])) for a in function.arguments}
+            subs = {}
+            for arg in function.arguments:
+                value = sympy.Rational(Fraction(point[arg.symbol]))
+                subs[s if arg.frequency else sympy.Symbol(arg.symbol)] = \
+                    sympy.I * value if arg.frequency else value
+            points.append(point)
+            references.append(complex(result.expression.xreplace(subs).evalf(30)))
+        cases.append((points, references))
+    return tuple(cases)
 
 
-def _reference(result, function, point) -> complex:
-    """The closed form at the point, in exact arithmetic (s = j*omega with --frequency)."""
-    subs = {}
-    for arg in function.arguments:
-        value = sympy.Rational(Fraction(point[arg.name]))
-        if arg.frequency:
-            subs[s] = sympy.I * value
-        else:
-            subs[sympy.Symbol(arg.symbol)] = value
-    return complex(result.expression.xreplace(subs).evalf(30))
+def _named(function, point: dict) -> dict:
+    """A point keyed by the names of the function's arguments in one language."""
+    return {a.name: point[a.symbol] for a in function.arguments}
 
 
 def _close(got, want) -> bool:
@@ -91,11 +101,10 @@ def test_python_matches_the_closed_form(tmp_path, frequency):
     funcs = functions(RESULTS, UNITS, {}, frequency, py_code.RESERVED)
     module = _load_module(py_code.python_module("Test circuit", "t.circuit", funcs, "0"),
                           tmp_path / f"formulas_py_{frequency}.py")
-    rng = random.Random(1)
-    for result, function in zip(RESULTS, funcs, strict=True):
-        for point in _points(function, rng):
-            got = getattr(module, function.name)(**point)
-            assert _close(got, _reference(result, function, point)), function.name
+    for function, (points, references) in zip(funcs, _cases(frequency), strict=True):
+        for point, want in zip(points, references, strict=True):
+            got = getattr(module, function.name)(**_named(function, point))
+            assert _close(got, want), function.name
 
 
 @pytest.mark.parametrize("frequency", [False, True])
@@ -104,14 +113,13 @@ def test_numpy_matches_the_closed_form_on_arrays(tmp_path, frequency):
     module = _load_module(
         py_code.python_module("Test circuit", "t.circuit", funcs, "0", numpy=True),
         tmp_path / f"formulas_np_{frequency}.py")
-    rng = random.Random(2)
-    for result, function in zip(RESULTS, funcs, strict=True):
-        points = _points(function, rng)
-        arrays = {a.name: numpy.array([p[a.name] for p in points]) for a in function.arguments}
+    for function, (points, references) in zip(funcs, _cases(frequency), strict=True):
+        arrays = {a.name: numpy.array([p[a.symbol] for p in points])
+                  for a in function.arguments}
         got = getattr(module, function.name)(**arrays)
         assert numpy.shape(got) == (POINTS,)
-        for value, point in zip(got, points, strict=True):
-            assert _close(value, _reference(result, function, point)), function.name
+        for value, want in zip(got, references, strict=True):
+            assert _close(value, want), function.name
 
 
 @pytest.mark.parametrize("frequency", [False, True])
@@ -133,11 +141,10 @@ def test_c_compiles_strictly_and_matches_the_closed_form(tmp_path, frequency):
     subprocess.run(["gcc", "-std=c99", "-Wall", "-Werror", "-O2", "-shared", "-fPIC",
                     str(source), "-o", str(library), "-lm"], check=True)
     lib = ctypes.CDLL(str(library))
-    rng = random.Random(3)
-    for result, function in zip(RESULTS, funcs, strict=True):
+    for function, (points, references) in zip(funcs, _cases(frequency), strict=True):
         n = len(function.arguments)
-        for point in _points(function, rng):
-            args = [point[a.name] for a in function.arguments]
+        for point, want in zip(points, references, strict=True):
+            args = [point[a.symbol] for a in function.arguments]
             if function.is_complex:
                 call = getattr(lib, f"wrap_{function.name}")
                 call.argtypes = [ctypes.c_double] * n + [ctypes.POINTER(ctypes.c_double)] * 2
@@ -148,7 +155,7 @@ def test_c_compiles_strictly_and_matches_the_closed_form(tmp_path, frequency):
                 call = getattr(lib, function.name)
                 call.argtypes, call.restype = [ctypes.c_double] * n, ctypes.c_double
                 got = call(*args)
-            assert _close(got, _reference(result, function, point)), function.name
+            assert _close(got, want), function.name
 
 
 def test_names_arguments_and_documentation():
@@ -217,3 +224,57 @@ def test_export_command_without_quantities_or_derives_is_bad_input(tmp_path, cap
     plain.write_text("resistor R1 (a, gnd)\nport p (a, gnd)\n", encoding="utf-8")
     assert main(["export", str(plain), "--lang", "python"]) == 2
     assert "no derive statements" in capsys.readouterr().err
+
+
+@pytest.mark.parametrize("lang", ["python", "numpy", "c"])
+def test_exported_file_formulas_match_the_derived_closed_form(tmp_path, lang):
+    # The anti-alias example's derive statements (its gain, and two relative sensitivities,
+    # long rational functions of s) exported by the command with --frequency, against the
+    # closed forms symcirc derives, evaluated by sympy at s = j*omega exactly.
+    example = ROOT / "examples" / "antialias_filter.circuit"
+    out = tmp_path / ("formulas.c" if lang == "c" else f"formulas_{lang}.py")
+    assert main(["export", str(example), "--lang", lang, "--frequency", "-o", str(out)]) == 0
+    circuit = symcirc.load(str(example))
+    results = [r for d in circuit.derives for q in d.texts for r in circuit.derive(q)]
+    assert len(results) == 3
+    funcs = functions(results, {}, {}, True, c_code.RESERVED if lang == "c" else ())
+    if lang == "c":
+        wrappers = [f"void wrap_{f.name}(const double *x, double *re, double *im)\n"
+                    f"{{ double complex z = {f.name}("
+                    + ", ".join(f"x[{i}]" for i in range(len(f.arguments)))
+                    + "); *re = creal(z); *im = cimag(z); }" for f in funcs]
+        out.write_text(out.read_text(encoding="utf-8") + "\n".join(wrappers) + "\n",
+                       encoding="utf-8")
+        library = tmp_path / "formulas.so"
+        subprocess.run(["gcc", "-std=c99", "-Wall", "-Werror", "-shared", "-fPIC", str(out),
+                        "-o", str(library), "-lm"], check=True)
+        lib = ctypes.CDLL(str(library))
+    else:
+        module = _load_module(out.read_text(encoding="utf-8"), out)
+    rng = random.Random(5)
+    for result, function in zip(results, funcs, strict=True):
+        assert [a.name for a in function.arguments] == ["C1", "C2", "R1", "R2", "omega"]
+        points = [[rng.uniform(1e-9, 1e-6), rng.uniform(1e-9, 1e-6), 10 ** rng.uniform(3, 5),
+                   10 ** rng.uniform(3, 5), rng.uniform(1, 1e5)] for _ in range(POINTS)]
+        if lang == "numpy":
+            columns = numpy.array(points).T
+            got = getattr(module, function.name)(**{a.name: columns[i] for i, a in
+                                                     enumerate(function.arguments)})
+        elif lang == "python":
+            got = [getattr(module, function.name)(
+                **{a.name: p[i] for i, a in enumerate(function.arguments)}) for p in points]
+        else:
+            call = getattr(lib, f"wrap_{function.name}")
+            call.argtypes = [ctypes.POINTER(ctypes.c_double)] + \
+                [ctypes.POINTER(ctypes.c_double)] * 2
+            got = []
+            for p in points:
+                re, im = ctypes.c_double(), ctypes.c_double()
+                call((ctypes.c_double * 5)(*p), ctypes.byref(re), ctypes.byref(im))
+                got.append(complex(re.value, im.value))
+        for value, p in zip(got, points, strict=True):
+            exact = [sympy.Rational(Fraction(v)) for v in p]
+            subs = dict(zip((C1, C2, R1, R2), exact[:4], strict=True))
+            subs[s] = sympy.I * exact[4]
+            want = complex(result.expression.xreplace(subs).evalf(30))
+            assert _close(value, want), (function.name, p)

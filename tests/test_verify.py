@@ -52,6 +52,9 @@ def test_broken_markers_are_reported(text, words):
     ('### <a id="q1"></a>thevenin(out).impedance', "markdown", "thevenin(out).impedance"),
     (r"\subsection*{thevenin(out).impedance}", "latex", "thevenin(out).impedance"),
     (r"\section{Circuit}", "latex", "Circuit"),
+    (r"\section{\texttt{gain(\allowbreak{}Uref,\allowbreak{} out)}}\label{s:gain-uref-out}",
+     "latex", "gain(Uref, out)"),
+    (r"\section*{Spread of \{R1, R2\}}", "latex", "Spread of {R1, R2}"),
     ('<h2 id="c">Circuit &amp; parts</h2>', "html", "Circuit & parts"),
     ("| R2 | resistor |", "markdown", None),
 ])
@@ -155,3 +158,77 @@ def test_not_a_note_is_bad_input(tmp_path, capsys):
     assert main(["verify", str(other)]) == 2
     err = capsys.readouterr().err
     assert err.startswith(f"{other}: error: no `symcirc-note` marker")
+
+
+# ---------------------------------------------------------------- notes kept in a folder (CI)
+
+DIVIDER = """\
+title "Reference divider of a data logger (invented)"
+voltage source Uref (top, gnd) = 2.5 V
+resistor R1 (top, mid) = 10 kΩ
+resistor R2 (mid, gnd) = 10 kΩ
+port out (mid, gnd)
+derive thevenin(out)
+"""
+
+
+@pytest.fixture()
+def notes_folder(tmp_path, monkeypatch):
+    """A circuit, and notes about it in a sibling folder: one of the file's derive
+    statements, one of a quantity named on the command line (recorded in the marker)."""
+    source = tmp_path / "divider.circuit"
+    source.write_text(DIVIDER, encoding="utf-8")
+    folder = tmp_path / "notes"
+    folder.mkdir()
+    assert main(["note", str(source), "-o", str(folder / "divider.md")]) == 0
+    assert main(["note", str(source), "gain(Uref, out)", "-o", str(folder / "gain.tex")]) == 0
+    elsewhere = tmp_path / "elsewhere"
+    elsewhere.mkdir()
+    monkeypatch.chdir(elsewhere)  # the source is found through the note, not the cwd
+    return source, folder
+
+
+def test_a_folder_of_fresh_notes_passes(notes_folder, capsys):
+    _, folder = notes_folder
+    marker = read_marker((folder / "gain.tex").read_text(encoding="utf-8"))
+    assert marker.source == "../divider.circuit" and marker.quantities == ("gain(Uref, out)",)
+    capsys.readouterr()
+    assert main(["verify", str(folder / "divider.md"), str(folder / "gain.tex")]) == 0
+    out = capsys.readouterr().out.splitlines()
+    assert out == [f"{folder / 'divider.md'}: matches ../divider.circuit",
+                   f"{folder / 'gain.tex'}: matches ../divider.circuit"]
+
+
+def test_a_changed_formula_is_named_by_its_section(notes_folder, capsys):
+    # A meter loads the divider: the gain formula itself changes, from R2/(R1 + R2) to
+    # (R2∥RL)/(R1 + R2∥RL), and the note of that quantity must say so in its own section.
+    source, folder = notes_folder
+    source.write_text(DIVIDER.replace("port out", "resistor RL (mid, gnd) = 1 MΩ\nport out"),
+                      encoding="utf-8")
+    capsys.readouterr()
+    assert main(["verify", str(folder / "gain.tex")]) == 1
+    out = capsys.readouterr().out
+    assert "the source changed since the note was written" in out
+    section = out[out.index('section "gain(Uref, out)" changed:'):]
+    assert "- " in section and "\\frac{R_{2}}{R_{1} + R_{2}}" in section  # as written
+    assert "+ " in section and "R_{2} \\parallel RL" in section  # as it is now
+
+
+def test_one_stale_note_fails_the_folder_and_every_note_is_reported(notes_folder, capsys):
+    source, folder = notes_folder
+    source.write_text(DIVIDER.replace("= 10 kΩ\nport", "= 12 kΩ\nport"), encoding="utf-8")
+    capsys.readouterr()
+    assert main(["verify", str(folder / "divider.md"), str(folder / "gain.tex")]) == 1
+    out = capsys.readouterr().out
+    assert f"{folder / 'divider.md'}: does not match" in out
+    assert f"{folder / 'gain.tex'}: does not match" in out
+    assert "12 kΩ" in out
+
+
+def test_an_unreadable_note_among_good_ones_exits_2(notes_folder, capsys):
+    _, folder = notes_folder
+    capsys.readouterr()
+    assert main(["verify", str(folder / "divider.md"), str(folder / "missing.md")]) == 2
+    captured = capsys.readouterr()
+    assert "divider.md: matches" in captured.out
+    assert f"{folder / 'missing.md'}: error: no such note" in captured.err

@@ -16,7 +16,7 @@ import sympy
 
 from .diagnose import diagnose
 from .dimensions import Dimensions
-from .exact import RatFunc, Space, Undecidable
+from .exact import LAPLACE_NAME, RatFunc, Space, Undecidable
 
 SEARCH_TRIES = 400
 """Points tried when looking for a counterexample."""
@@ -26,7 +26,8 @@ SEARCH_TRIES = 400
 class Counterexample:
     """Small positive integer values where the claim and the derived result differ."""
 
-    values: dict[str, int]
+    values: dict[str, int | complex]
+    """Positive integers for the parts; `s` may be negative or imaginary (it is complex)."""
     claimed: Fraction | sympy.Expr
     derived: Fraction | sympy.Expr
 
@@ -92,8 +93,9 @@ def decide(
         verdict.diagnosis.append("the derived result is 0 for every value of the parts")
         return verdict
     verdict.ratio = space.show(_reduced(space, c.ratio(d)))
-    if not dimension_problem:
-        verdict.diagnosis.extend(diagnose(space, d, c, claimed, dims or {}))
+    # After a dimension mismatch (reported first) the other explanations still help: a
+    # gain claimed as `Ub*R2/(R1 + R2)` is also "the claim is `Ub` times the derived result".
+    verdict.diagnosis.extend(diagnose(space, d, c, claimed, dims or {}))
     return verdict
 
 
@@ -123,12 +125,20 @@ def find_counterexample(
             found = _numeric_difference(space, derived, claimed, values)
             if found is not None:
                 return Counterexample(values, found[1], found[0])
+    if LAPLACE_NAME in names and not space.rational:
+        # `s` is complex: a claim such as sqrt(s^2) = s fails only off the positive axis.
+        base = dict(zip(names, candidates[0], strict=True))
+        for value in (-1, -2, 1j, 2j, -1j, 1 + 1j):
+            values = {**base, LAPLACE_NAME: value}
+            found = _numeric_difference(space, derived, claimed, values)
+            if found is not None:
+                return Counterexample(values, found[1], found[0])
     return None
 
 
 def _numeric_difference(space: Space, derived, claimed, values: dict[str, int]):
     """Both values at a point, when they differ beyond doubt (50 digits, radicals exact)."""
-    subs = {sympy.Symbol(n): sympy.Integer(v) for n, v in values.items()}
+    subs = {sympy.Symbol(n): _number(v) for n, v in values.items()}
     dv, cv = derived.xreplace(subs), claimed.xreplace(subs)
     if not (dv.is_finite and cv.is_finite):
         return None
@@ -138,3 +148,9 @@ def _numeric_difference(space: Space, derived, claimed, values: dict[str, int]):
     if gap > 1e-30 * scale:
         return dv, cv
     return None
+
+
+def _number(value: int | complex) -> sympy.Expr:
+    if isinstance(value, complex):
+        return sympy.Integer(int(value.real)) + sympy.I * sympy.Integer(int(value.imag))
+    return sympy.Integer(value)

@@ -2,9 +2,9 @@
 
 Each test proposes an explanation and proves it exactly (a random evaluation only filters
 candidates before the exact test): an overall sign, a constant factor, two like parts
-swapped, a missing, extra or wrong term, a limit in which the claim holds (`A -> oo`,
-`RL >> Ri`), an equality between parts under which it holds (`R1 = R2`), a factor. The
-first that explains the difference is reported.
+swapped, a missing, extra or wrong term, a wrong factor (`R` for `s*L`), a limit in which
+the claim holds (`A -> oo`, `RL >> Ri`), an equality between parts under which it holds
+(`R1 = R2`), a factor. The first that explains the difference is reported.
 """
 
 from __future__ import annotations
@@ -23,6 +23,9 @@ from .exact import LAPLACE_NAME, RatFunc, Space
 UNKNOWN = sympy.Symbol("#u")
 MAX_EQUALITY_PAIRS = 45
 """Two equalities at once are tried when there are at most this many like pairs."""
+WRONG_FACTOR_TERMS = 40
+"""Claims with more terms than this (numerator and denominator) are not searched for a
+wrong factor: a hand-written claim is short, and the search solves once per factor."""
 NICE_DENOMINATOR_TERMS = 3
 """A term a person would have written: one term over at most this many."""
 
@@ -69,8 +72,8 @@ def diagnose(space: Space, d: RatFunc, c: RatFunc, claimed: sympy.Expr,
     case = _Case(space, d, c, claimed, dims)
     tests: list[Callable[[_Case], str | None]] = [_constant_factor]
     if not space.relations:  # pi is one more variable here
-        tests += [_swapped, _whole_claim_term, _limit, _added_term, _inner_term, _factor,
-                  _equality, _in_a_limit]
+        tests += [_swapped, _whole_claim_term, _limit, _added_term, _wrong_factor,
+                  _inner_term, _factor, _equality, _in_a_limit]
     for test in tests:
         found = test(case)
         if found:
@@ -129,18 +132,19 @@ def _swapped(case: _Case) -> str | None:
 
 
 def _equality(case: _Case) -> str | None:
-    """The claim holds when one pair of like parts are equal, or else two pairs."""
+    """The claim holds when one pair of like parts are equal, or else two pairs; every such
+    condition is named (a difference amplifier's `R2/R1*(V2 - V1)` holds when R1 = R3 and
+    R2 = R4, and also when R1 = R2 and R3 = R4)."""
     pairs = list(case.like_pairs())
-    for pair in pairs:
-        if _holds_with_equal(case, [pair]):
-            return f"holds only when {pair[0]} = {pair[1]}"
-    if len(pairs) > MAX_EQUALITY_PAIRS:
+    found = [f"{a} = {b}" for a, b in pairs if _holds_with_equal(case, [(a, b)])]
+    if not found and len(pairs) <= MAX_EQUALITY_PAIRS:
+        found = [f"{first[0]} = {first[1]} and {second[0]} = {second[1]}"
+                 for first, second in combinations(pairs, 2)
+                 if len({*first, *second}) == 4 and _holds_with_equal(case, [first, second])]
+    if not found:
         return None
-    for first, second in combinations(pairs, 2):
-        if len({*first, *second}) == 4 and _holds_with_equal(case, [first, second]):
-            return (f"holds only when {first[0]} = {first[1]} "
-                    f"and {second[0]} = {second[1]}")
-    return None
+    also = f" (or, equally, when {' or when '.join(found[1:])})" if len(found) > 1 else ""
+    return f"holds only when {found[0]}{also}"
 
 
 def _holds_with_equal(case: _Case, pairs: list[tuple[str, str]]) -> bool:
@@ -168,7 +172,8 @@ def _limits(case: _Case) -> Iterator[tuple[str, str, RatFunc]]:
     """(symbol, 'oo' or '0', the derived result's limit) for every symbol the derived result
     uses and the claim does not, where that limit is finite and not zero."""
     c_vars = _used_variables(case.c)
-    for name in case.names:
+    # Frequency limits first: "at low frequencies only" is the reading a reviewer expects.
+    for name in sorted(case.names, key=lambda n: n != LAPLACE_NAME):
         i = case.index(name)
         if i not in case.d_vars or i in c_vars:
             continue
@@ -204,7 +209,11 @@ def _limit_text(case: _Case, name: str, toward: str) -> str:
 
 
 def _whole_claim_term(case: _Case) -> str | None:
-    return _term_test(case, case.claimed, top=True, negative=False)
+    """Before the limits: an extra or wrong term, or a missing term made of parts the claim
+    does not use (`R3∥R4` forgotten) or a plain monomial (`+ 1`, `+ C*s`). A missing term
+    over the parts of the claim itself (`-gm*RD` for `-gm*RD/(1 + gm*RS)`) is better read as
+    a limit (RS -> 0), so it waits until the limits have been tried."""
+    return _term_test(case, case.claimed, top=True, negative=False, early=True)
 
 
 def _added_term(case: _Case) -> str | None:
@@ -223,7 +232,8 @@ def _inner_term(case: _Case) -> str | None:
     return None
 
 
-def _term_test(case: _Case, node: sympy.Expr, top: bool, negative: bool = True) -> str | None:
+def _term_test(case: _Case, node: sympy.Expr, top: bool, negative: bool = True,
+               early: bool = False) -> str | None:
     """What must be added to `node` (a sum of the claim, or the whole claim) to make the
     claim hold; reported when it is a missing, extra or wrong term."""
     missing = _solve_for_term(case, node)
@@ -239,7 +249,9 @@ def _term_test(case: _Case, node: sympy.Expr, top: bool, negative: bool = True) 
     for term, fixed in corrected:
         if _monomial(fixed):
             return f"wrong term: `{_short(term)}` in {where} should be `{case.show(fixed)}`"
-    if _nice(missing) and (negative or missing.num.leading_coefficient() > 0):
+    forgotten = not early or _monomial(missing) or not (
+        _used_variables(missing) & _used_variables(case.c))
+    if _nice(missing) and forgotten and (negative or missing.num.leading_coefficient() > 0):
         shown = case.show(missing)
         signed = f"- {shown[1:]}" if shown.startswith("-") else f"+ {shown}"
         return f"missing term: {where} lacks the term `{signed}`"
@@ -269,6 +281,82 @@ def _solve_for_term(case: _Case, node: sympy.Expr) -> RatFunc | None:
     if bottom.is_zero() or top.is_zero():
         return None
     return RatFunc(top, bottom).cancelled()
+
+
+def _wrong_factor(case: _Case) -> str | None:
+    """One factor of a product in the claim should be another product of parts of its own
+    dimension (`R/(R + s*L)` for `s*L/(R + s*L)`: `R` should be `L*s`)."""
+    space = case.space
+    if len(case.c.num) + len(case.c.den) > WRONG_FACTOR_TERMS:
+        return None  # each candidate is an exact solve over the whole claim
+    for node in _products(case.claimed):
+        for factor in node.args:
+            if factor.is_Number or factor.has(UNKNOWN):
+                continue
+            others = [a for a in node.args if a is not factor]
+            fixed = _solve_for_replacement(case, node, sympy.Mul(UNKNOWN, *others))
+            if fixed is None or not (_monomial(fixed) and fixed.den.is_one()):
+                continue
+            if fixed.num.leading_coefficient() < 0 or space.equal(fixed, space.convert(factor)):
+                continue
+            if not _same_dimension(case, factor, fixed) or _cancels(case, fixed, others):
+                continue
+            return (f"wrong factor: `{_short(factor)}` in the claim should be "
+                    f"`{case.show(fixed)}`")
+    return None
+
+
+def _cancels(case: _Case, fixed: RatFunc, others: list[sympy.Expr]) -> bool:
+    """True when the replacement is a part that stands alone elsewhere in the product
+    (`R1*Z/R2`: `R1` should be `R2` is better said as a factor `R1/R2`)."""
+    alone = {f.base if f.is_Pow else f for f in others}
+    names = {case.space.symbols[i] for i in _used_variables(fixed)}
+    return any(sympy.Symbol(n, positive=True) in alone or sympy.Symbol(n) in alone
+               for n in names)
+
+
+def _same_dimension(case: _Case, factor: sympy.Expr, fixed: RatFunc) -> bool:
+    from .dimensions import DimensionMismatch, sympy_dimension
+
+    try:
+        old = sympy_dimension(factor, case.dims)
+        new = sympy_dimension(case.space.ratfunc_to_sympy(fixed, factor=False), case.dims)
+    except DimensionMismatch:
+        return False
+    return old is not None and old == new
+
+
+def _solve_for_replacement(case: _Case, node: sympy.Expr, replaced: sympy.Expr
+                           ) -> RatFunc | None:
+    """u such that the claim with `node` written as `replaced` (which contains u) equals
+    the derived result (when the claim is a ratio of first-degree expressions in u)."""
+    space = case.space
+    u = space.symbols.index(UNKNOWN.name)
+    try:
+        with_u = space.convert(case.claimed.xreplace({node: replaced}))
+    except ZeroDivisionError:
+        return None
+    n1, n0 = _split_linear(with_u.num, u, space)
+    m1, m0 = _split_linear(with_u.den, u, space)
+    if n1 is None or m1 is None:
+        return None
+    top = m0 * case.d.num - n0 * case.d.den
+    bottom = n1 * case.d.den - m1 * case.d.num
+    if bottom.is_zero() or top.is_zero():
+        return None
+    return RatFunc(top, bottom).cancelled()
+
+
+def _products(expr: sympy.Expr) -> list[sympy.Expr]:
+    """Every product in the expression, outermost first, each once."""
+    out: list[sympy.Expr] = []
+    stack = [expr]
+    while stack:
+        node = stack.pop(0)
+        if node.is_Mul and node not in out:
+            out.append(node)
+        stack.extend(node.args)
+    return out
 
 
 def _factor(case: _Case) -> str | None:

@@ -476,9 +476,32 @@ def check_circuit(circuit: Circuit) -> None:
         for control in element.controls:
             per = VOLT if control.kind == "voltage" else AMPERE
             wanted = UNITS[UNIT_OF_KIND[element.kind]] / per
-            check_expression(circuit, control.coefficient, wanted, element.location,
-                             what=f"the coefficient of {'V' if per == VOLT else 'I'}(..) in "
-                                  f"{element.kind} {element.name}")
+            what = (f"the coefficient of {'V' if per == VOLT else 'I'}(..) in "
+                    f"{element.kind} {element.name}")
+            try:
+                check_expression(circuit, control.coefficient, wanted, element.location,
+                                 what=what)
+            except SymcircError:
+                at = _value_location(circuit, element)
+                if at is None:
+                    raise
+                check_expression(circuit, control.coefficient, wanted, at, what=what)
     for derive in circuit.derives:
         for assumption in derive.assumptions:
             check_assumption(circuit, assumption)
+
+
+def _value_location(circuit: Circuit, element) -> Location | None:
+    """Where the element's written value starts (for the caret), when it is written at the
+    top level of the file; None otherwise (e.g. inside a block)."""
+    from ..language.parser import parse_document
+
+    if element.location is None or circuit.source is None:
+        return None
+    for statement in parse_document(circuit.source, element.location.file).statements:
+        if (isinstance(statement, syntax.ElementStatement) and statement.value is not None
+                and statement.line == element.location.line
+                and statement.name.name == element.name):
+            where = statement.value.expression
+            return Location(element.location.file, where.line, where.column)
+    return None

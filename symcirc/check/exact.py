@@ -136,7 +136,11 @@ class Space:
 
     # -- building
     def prepare(self, expr: sympy.Expr) -> sympy.Expr:
-        """Positive symbols, and radicands split into their positive factors."""
+        """Positive symbols, and radicands split into their positive factors (a rational
+        expression, the common case, is returned as it is: positivity only matters for
+        radicals, and rebuilding with positive symbols is costly)."""
+        if not any(not p.exp.is_Integer for p in expr.atoms(sympy.Pow)):
+            return expr
         expr = expr.xreplace(self._positive) if self._positive else expr
         return expr.replace(lambda e: e.is_Pow and _fractional(e.exp), _split_radical)
 

@@ -80,7 +80,7 @@ def read_marker(text: str) -> Marker:
 
 _HEADINGS = {
     "markdown": re.compile(r"^#{1,6}\s+(.*?)\s*#*\s*$"),
-    "latex": re.compile(r"^\s*\\(?:sub)*section\*?\{(.*)\}\s*$"),
+    "latex": re.compile(r"^\s*\\(?:sub)*section\*?(\{.*)$"),
     "html": re.compile(r"<h[1-6][^>]*>(.*?)</h[1-6]>", re.I),
 }
 
@@ -90,11 +90,31 @@ def heading_text(line: str, fmt: str) -> str | None:
     match = _HEADINGS[fmt].search(line)
     if match is None:
         return None
-    text = re.sub(r"<[^>]+>", "", match.group(1))  # anchors and markup inside headings
+    text = match.group(1)
     if fmt == "latex":
-        text = re.sub(r"\\[A-Za-z]+\*?(\{)?", "", text).replace("}", "").replace("{", "")
-        text = text.replace("\\_", "_")
+        text = _braced(text)  # the argument only, not a `\label{..}` after it
+        if text is None:
+            return None
+    text = re.sub(r"<[^>]+>", "", text)  # anchors and markup inside headings
+    if fmt == "latex":
+        # Escaped characters (`\\{`, `\\_`, `\\&`...) stay; commands and grouping go.
+        parts = re.split(r"\\([{}_&%#$])", text)
+        parts[::2] = [re.sub(r"\\[A-Za-z]+\*?|[{}]", "", p) for p in parts[::2]]
+        text = "".join(parts)
     return html.unescape(text).strip() or None
+
+
+def _braced(text: str) -> str | None:
+    """The content of the balanced `{..}` group that `text` starts with (escaped braces
+    `\\{` `\\}` do not count), or None when it is not closed on this line."""
+    depth = 0
+    for i, char in enumerate(text):
+        if char in "{}" and i and text[i - 1] == "\\":
+            continue
+        depth += {"{": 1, "}": -1}.get(char, 0)
+        if depth == 0:
+            return text[1:i]
+    return None
 
 
 def sections(text: str, fmt: str) -> list[tuple[str, list[str]]]:

@@ -193,6 +193,8 @@ def _failure_report(claim: Claim, derived: sympy.Expr, verdict) -> str:
 
 
 def _number(value) -> str:
+    if isinstance(value, sympy.Rational):
+        value = Fraction(int(value.p), int(value.q))
     if isinstance(value, Fraction):
         if value.denominator == 1:
             return str(value.numerator)
