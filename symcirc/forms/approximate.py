@@ -13,7 +13,7 @@ from dataclasses import dataclass
 
 import sympy
 
-from .factoring import cancel, factor_ratio
+from .factoring import cancel, coefficients_in, factor_ratio
 from .verify import NotRational, to_ratio
 
 
@@ -53,7 +53,7 @@ def _expand(exact: sympy.Expr, x: sympy.Symbol, infinite: bool) -> Expansion:
     """Laurent expansion in the small quantity 1/x (infinite) or x, by polynomial
     arithmetic: f = N/D, c_j = P_j/d0^(j+1) with P_j = n_j·d0^j − Σ d_i·P_(j−i)·d0^(i−1)."""
     poly_ring, (num, den), i = _ring_ratio(exact, x)
-    n, d = _coefficients(num, i, poly_ring), _coefficients(den, i, poly_ring)
+    n, d = coefficients_in(num, i, poly_ring), coefficients_in(den, i, poly_ring)
     offset = 0
     if infinite:  # in t = 1/x: N = t^(−deg N)·Σ n_(deg N − i)·t^i
         offset = len(d) - len(n)
@@ -102,17 +102,6 @@ def _ring_ratio(expr: sympy.Expr, x: sympy.Symbol):
         raise NoExpansion("it is not a ratio of polynomials in the small quantity")
     return num.ring, (num, den), symbols.index(x)
 
-
-def _coefficients(poly, i: int, poly_ring) -> list:
-    """Coefficients of the powers of generator i (as polynomials without it)."""
-    parts: dict[int, dict] = {}
-    for monom, coeff in poly.terms():
-        rest = monom[:i] + (0,) + monom[i + 1 :]
-        parts.setdefault(monom[i], {})[rest] = coeff
-    degree = max(parts, default=0)
-    return [
-        poly_ring.from_dict(parts[k]) if k in parts else poly_ring.zero for k in range(degree + 1)
-    ]
 
 
 def _shown(num, den) -> sympy.Expr:

@@ -347,17 +347,7 @@ def _nodal_current(
     ):
         system = nodal.build_system(circuit, active)
         v = _solve_voltage(system, *element.nodes, rec, f"V_{element.name}")
-        symbol = rec.fresh([name], "I")
-        z = impedance_of(element)
-        rec.add(
-            "ohm",
-            f"Ohm's law for {element.name}: its current is its voltage over its impedance.",
-            symbol,
-            v / z,
-            voltage=v,
-            impedance=z,
-        )
-        return symbol
+        return structural.ohm(rec, element, name, v, impedance_of(element))
     if element.kind == "current source":
         raise Unsupported("the current of a current source is its value")
     system = nodal.build_system(circuit, active, currents=frozenset({element.name}))

@@ -137,3 +137,15 @@ def _flint():
     except ImportError:  # pragma: no cover - python-flint is a dependency; sympy otherwise
         return None
     return flint
+
+
+def coefficients_in(poly, i: int, poly_ring) -> list:
+    """Coefficients of the powers of generator i (as polynomials without it)."""
+    parts: dict[int, dict] = {}
+    for monom, coeff in poly.terms():
+        rest = monom[:i] + (0,) + monom[i + 1 :]
+        parts.setdefault(monom[i], {})[rest] = coeff
+    degree = max(parts, default=0)
+    return [
+        poly_ring.from_dict(parts[k]) if k in parts else poly_ring.zero for k in range(degree + 1)
+    ]

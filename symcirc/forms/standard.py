@@ -17,7 +17,7 @@ from typing import Any
 import sympy
 
 from ..model.circuit import LAPLACE
-from .factoring import factor, factors, factors_in
+from .factoring import coefficients_in, factor, factors, factors_in
 from .printing import code, latex, text
 from .verify import NotRational, equal, ring_ratio, to_ratio
 
@@ -149,15 +149,7 @@ def _split(poly, i: int) -> tuple[sympy.Expr, int, list[_Factor]] | None:
 
 def _coefficients_in_s(poly, i: int) -> list[sympy.Expr]:
     """Coefficients of the powers of s (generator i) of a ring polynomial, lowest first."""
-    parts: dict[int, dict] = {}
-    for monom, coeff in poly.terms():
-        rest = monom[:i] + (0,) + monom[i + 1 :]
-        parts.setdefault(monom[i], {})[rest] = coeff
-    degree = max(parts, default=0)
-    return [
-        poly.ring.from_dict(parts[k]).as_expr() if k in parts else sympy.Integer(0)
-        for k in range(degree + 1)
-    ]
+    return [c.as_expr() for c in coefficients_in(poly, i, poly.ring)]
 
 
 def standard_form(expr: Any, unit: str) -> StandardForm | None:

@@ -291,7 +291,13 @@ def current(
         if divided is not None:
             return divided
     v = voltage(circuit, element.nodes[0], element.nodes[1], rec, f"V_{element.name}", only)
-    symbol = rec.fresh([final], "I")
+    return ohm(rec, element, final, v, z)
+
+
+def ohm(rec: Recorder, element: Element, name: str, v: sympy.Expr, z: sympy.Expr
+        ) -> sympy.Symbol:
+    """The step `I = V/Z` for an element whose voltage v is known; returns its symbol."""
+    symbol = rec.fresh([name], "I")
     rec.add(
         "ohm",
         f"Ohm's law for {element.name}: its current is its voltage over its impedance.",
