@@ -243,12 +243,14 @@ class Circuit:
 
     # Convenience API; the work is done by later stages (imported on use).
     def derive(self, quantity: str, **options: Any) -> list:
-        """Derive a quantity written as in the language (`"thevenin(out)"`), with its design
-        form and derivation steps as `symcirc derive --steps` shows them (`steps=False`:
-        the canonical results only)."""
+        """Derive a quantity written as in the language (`"thevenin(out)"`), as `symcirc
+        derive` shows it: `where big >> small` approximations applied, and with `steps=True`
+        the design form and derivation steps attached (off by default, as on the command
+        line: they cost more than the derivation on large results)."""
         from ..forms import finish
         from ..quantities import derive, options_from
 
+        options.setdefault("steps", False)
         results = derive(self, quantity, **options)
         return finish(self, quantity, results, options_from(None, **options))
 
