@@ -9,7 +9,9 @@ for the impedance). The baseline runs in a child process capped at 60 s.
 
 Columns: size, output terms (numerator/denominator, summed over the results), symcirc time
 to the canonical result (parse included, printing excluded), time to print the results as
-text, baseline time, ratio baseline/symcirc, and symcirc time per output term.
+text, time to add design forms and derivation steps (symcirc.forms; results above its size
+bound are skipped, marked `skip`), baseline time, ratio baseline/symcirc, and symcirc time
+per output term.
 """
 
 from __future__ import annotations
@@ -192,6 +194,22 @@ def run_symcirc(text: str, quantities: list[str]) -> tuple[float, float, tuple[i
     return derived, printed, terms, results
 
 
+def forms_time(text: str, quantities: list[str]) -> tuple[float, bool]:
+    """(seconds to attach forms and steps to fresh results, whether any was skipped)."""
+    import symcirc
+    from symcirc.forms import finish
+    from symcirc.quantities.registry import DeriveOptions
+
+    circuit = symcirc.parse(text)
+    derived = [(q, circuit.derive(q)) for q in quantities]
+    start = time.perf_counter()
+    for quantity, results in derived:
+        finish(circuit, quantity, results, DeriveOptions())
+    seconds = time.perf_counter() - start
+    skipped = any(r.form is None for _, results in derived for r in results)
+    return seconds, skipped
+
+
 def best_of(repeats: int, text: str, quantities: list[str]):
     runs = [run_symcirc(text, quantities) for _ in range(repeats)]
     fastest = min(runs, key=lambda r: r[0])
@@ -241,7 +259,8 @@ def main() -> None:
     print(f"polynomial backend: {default_backend()}; machine shared, figures are noisy; "
           f"baseline capped at {args.cap:g} s")
     header = (f"{'family':9} {'size':>4} {'terms num/den':>17} {'symcirc s':>10} "
-              f"{'print s':>9} {'baseline s':>11} {'ratio':>9} {'µs/term':>8}  check")
+              f"{'print s':>9} {'steps s':>12} {'baseline s':>11} {'ratio':>9} {'µs/term':>8}"
+              "  check")
     print(header)
     print("-" * len(header))
     rows: dict[str, list[tuple[int, float, float, float]]] = {}
@@ -252,6 +271,8 @@ def main() -> None:
             text, quantities = build(size)
             run_symcirc(text, quantities)  # warm up: imports, grammar, caches of the ring
             derived, printed, terms, results = best_of(3 if size < 12 else 1, text, quantities)
+            steps, skipped = forms_time(text, quantities)
+            steps_text = f"{steps:.4f}" + (" skip" if skipped else "")
             ran = run_baseline(family, size, args.cap) if baseline_alive else None
             check = "-"
             if ran is None:
@@ -265,8 +286,8 @@ def main() -> None:
             per_term = derived / max(sum(terms), 1) * 1e6
             rows.setdefault(family, []).append((size, derived, printed, per_term))
             print(f"{family:9} {size:>4} {f'{terms[0]}/{terms[1]}':>17} {derived:>10.4f} "
-                  f"{printed:>9.4f} {base_text:>11} {ratio_text:>9} {per_term:>8.2f}  {check}",
-                  flush=True)
+                  f"{printed:>9.4f} {steps_text:>12} {base_text:>11} {ratio_text:>9} "
+                  f"{per_term:>8.2f}  {check}", flush=True)
     example = os.path.join(os.path.dirname(__file__), "..", "..", "examples",
                            "bridge_adc.circuit")
     cold = None
