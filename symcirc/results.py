@@ -125,7 +125,9 @@ class Result:
         # the engine writes LaTeX straight from its terms: far faster than sympy for big results
         if not isinstance(self._value, sympy.Basic) and hasattr(self._value, "to_latex"):
             return self._value.to_latex()
-        return sympy.latex(self.expression)
+        from .model.typeset import latex_of
+
+        return latex_of(self.expression)
 
     def _repr_latex_(self) -> str:
         return f"$\\displaystyle {self.quantity_latex()} = {self.latex()}$"

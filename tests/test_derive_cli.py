@@ -203,7 +203,8 @@ def test_python_api_load_from_a_file(front_end):
 def test_python_results_carry_the_design_form_and_steps():
     """`Circuit.derive` shows results as `symcirc derive --steps` does: the impedance's form
     is the engineer's Rin∥(R1∥R2 + Rt∥R4) (common practice for a bridge read by a meter),
-    checked as an expression, and by default (as on the command line) the canonical result is left alone."""
+    checked as an expression; by default (as on the command line) the canonical result is
+    left alone."""
     circuit = symcirc.load(EXAMPLES / "bridge_adc.circuit")
     impedance = circuit.derive("thevenin(out)", steps=True)[1]
     assert impedance.form is not None and impedance.steps

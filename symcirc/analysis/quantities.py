@@ -18,6 +18,7 @@ import sympy
 from ..errors import Location, SymcircError
 from ..language import syntax
 from ..model.circuit import LAPLACE, SOURCES, UNIT_OF_KIND, Circuit
+from ..model.typeset import latex_of
 from ..model.units import eng
 from ..model.units import percent_text as percent
 from ..quantities.registry import DeriveOptions
@@ -267,7 +268,7 @@ def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
                 "rank": rank,
                 "relative_to": relative_to,
                 "derivative": _text(row.derivative),
-                "derivative_latex": sympy.latex(row.derivative),
+                "derivative_latex": latex_of(row.derivative),
                 "derivative_unit": derivative_unit,
                 "derivative_nominal": _float(row.derivative_value),
                 "relative_nominal": _float(row.relative_value),

@@ -14,6 +14,7 @@ from functools import cached_property
 
 import sympy
 
+from ..model.typeset import latex_of
 from .polys import PolynomialRing
 from .ratfunc import RationalFunction
 
@@ -131,7 +132,7 @@ class AtomicValue:
         return self.function.to_text()
 
     def to_latex(self) -> str:
-        return sympy.latex(self.to_sympy())
+        return latex_of(self.to_sympy())
 
     def symbol_names(self) -> tuple[str, ...]:
         names = {n for n in self.function.symbol_names() if n not in self.atoms}

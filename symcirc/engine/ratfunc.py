@@ -17,6 +17,7 @@ from typing import Any
 
 import sympy
 
+from ..model.typeset import symbol_latex
 from . import polys
 from .polys import LAPLACE_NAME, EngineError, Poly, PolynomialRing
 
@@ -385,7 +386,7 @@ class _Printer:
         if style is _TEXT:
             self.names = list(ring.names)
         else:
-            self.names = [sympy.latex(sympy.Symbol(n)) for n in ring.names]
+            self.names = [symbol_latex(n) for n in ring.names]
         self.s_index = ring.index(LAPLACE_NAME) if LAPLACE_NAME in ring.names else None
 
     def _power(self, base: str, exp: int) -> str:

@@ -13,7 +13,7 @@ from ..model.circuit import REFERENCE, Circuit, Element
 from . import nodal, structural
 from .dividers import Unsupported
 from .network import impedance_of
-from .printing import text
+from .printing import latex, text
 from .steps import Recorder
 
 
@@ -375,7 +375,7 @@ def _two_port(circuit: Circuit, target: Target, rec: Recorder) -> sympy.Expr:
         f"{'current' if drive == 'I' else 'voltage'} {text(test)}; "
         f"{'short' if other == 'short' else 'leave open'} port {other_port} "
         f"({ports[other_port - 1].name}).",
-        equation=(f"{text(test)} at port {driven}", sympy.latex(test)),
+        equation=(f"{text(test)} at port {driven}", latex(test)),
         drive=test,
     )
     system = nodal.build_system(circuit, set(), tuple(extras))

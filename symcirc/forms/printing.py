@@ -10,10 +10,10 @@ puts its number and s first (`2·s·C1`).
 from __future__ import annotations
 
 import re
-from functools import lru_cache
 
 import sympy
 
+from ..model.typeset import symbol_latex
 from .parallel import Parallel
 
 GREEK = {
@@ -35,10 +35,9 @@ def name_text(name: str) -> str:
     return name
 
 
-@lru_cache(maxsize=4096)
 def name_latex(name: str) -> str:
-    """A symbol name in LaTeX as sympy writes it: `R1` → `R_{1}`, `omega_0` → `\\omega_{0}`."""
-    return sympy.latex(sympy.Symbol(name))
+    """A symbol name in LaTeX: `R1` → `R_{1}`, `Rin` → `R_{\\mathrm{in}}` (model.typeset)."""
+    return symbol_latex(name)
 
 
 def _s_degree(term: sympy.Expr) -> int:

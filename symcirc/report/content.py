@@ -15,6 +15,7 @@ from typing import Any
 import sympy
 
 from ..model.circuit import LAPLACE, Assumption, Circuit, Tolerance
+from ..model.typeset import symbol_latex
 from .formulas import Equation, equations
 
 # ---------------------------------------------------------------- the circuit
@@ -372,7 +373,7 @@ def latex_text(text: str) -> str:
 
 def name_latex(name: str) -> str:
     """An element or parameter name as the expressions print it (`R1` → `R_{1}`)."""
-    return sympy.latex(sympy.Symbol(name))
+    return symbol_latex(name)
 
 
 def node_latex(name: str) -> str:

@@ -196,9 +196,10 @@ def latex(item: Any) -> str:
         return item.latex()
     if isinstance(item, str):
         return item
-    import sympy
 
-    return sympy.latex(item)
+    from ..model.typeset import latex_of
+
+    return latex_of(item)
 
 
 def width(latex: Any) -> float:

@@ -13,6 +13,8 @@ from dataclasses import dataclass
 
 import sympy
 
+from ..model.typeset import latex_of
+
 WIDTH = 58.0
 """Characters of maths that fit on one line of an A4 page at 10 pt (estimated)."""
 
@@ -43,8 +45,8 @@ def equations(lhs: str, rhs: str, expression: sympy.Expr | None = None,
         if denominator != 1 and max(_too_wide(numerator, width), _too_wide(denominator, width)):
             return [
                 Equation((f"{lhs} = \\frac{{{NUMERATOR}}}{{{DENOMINATOR}}}",)),
-                *equations(NUMERATOR, sympy.latex(numerator), None, width),
-                *equations(DENOMINATOR, sympy.latex(denominator), None, width),
+                *equations(NUMERATOR, latex_of(numerator), None, width),
+                *equations(DENOMINATOR, latex_of(denominator), None, width),
             ]
     elif expression is None and (parts := fraction_parts(rhs)) is not None:
         sign, numerator_tex, denominator_tex = parts
@@ -58,7 +60,7 @@ def equations(lhs: str, rhs: str, expression: sympy.Expr | None = None,
 
 
 def _too_wide(expression: sympy.Expr, width: float) -> bool:
-    return visible_width(sympy.latex(expression)) > width * 0.8
+    return visible_width(latex_of(expression)) > width * 0.8
 
 
 def fraction_parts(tex: str) -> tuple[str, str, str] | None:
@@ -246,7 +248,7 @@ _SPACES = {",": 0.3, ";": 0.5, ":": 0.4, "quad": 1.0, "qquad": 2.0, " ": 0.3, "!
 
 def visible_width(tex: str) -> float:
     """Rough printed width of LaTeX maths in characters: fractions count their wider part,
-    sub- and superscripts count less, commands that print nothing count nothing."""
+    sub- and superscripts count three quarters, commands that print nothing count nothing."""
     width, _ = _width(tex, 0)
     return width
 
@@ -264,7 +266,7 @@ def _width(tex: str, i: int) -> tuple[float, int]:
             i += 1
         elif c in "^_":
             inner, i = _argument(tex, i + 1)
-            total += 0.6 * inner
+            total += 0.75 * inner
         elif c == "\\":
             j = i + 1
             while j < len(tex) and tex[j].isalpha():

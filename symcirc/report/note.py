@@ -16,6 +16,7 @@ from pathlib import Path
 from typing import Any
 
 from ..model.circuit import Circuit
+from ..model.typeset import latex_of
 from .content import (
     Parameter,
     Part,
@@ -239,7 +240,6 @@ def claims(circuit: Circuit) -> list[ClaimView]:
     """The status of every `claim` of the file, decided exactly by the check stage."""
     if not circuit.claims:
         return []
-    import sympy
 
     from ..check.claims import decide
     from ..check.dimensions import symbol_dimensions
@@ -260,7 +260,7 @@ def claims(circuit: Circuit) -> list[ClaimView]:
                 "does not hold" if verdict.decided else "undecided")
             details = tuple(_verdict_details(verdict))
         out.append(ClaimView(claim.quantity_text, claim.expression_text,
-                             sympy.latex(claim.expression), status, details,
+                             latex_of(claim.expression), status, details,
                              claim.location.line))
     return out
 

@@ -12,6 +12,7 @@ from typing import Any
 
 import sympy
 
+from ..model.typeset import latex_of
 from .content import Cell, Spread, Table, name_latex
 from .filters import eng, percent
 
@@ -161,5 +162,5 @@ def _cell(value: Any) -> Cell:
     if isinstance(value, float | int | Fraction):
         return Cell(eng(value))
     if isinstance(value, sympy.Basic):
-        return Cell(sympy.sstr(value), sympy.latex(value))
+        return Cell(sympy.sstr(value), latex_of(value))
     return Cell(str(value))
