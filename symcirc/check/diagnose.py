@@ -266,21 +266,7 @@ def _term_test(case: _Case, node: sympy.Expr, top: bool, negative: bool = True,
 def _solve_for_term(case: _Case, node: sympy.Expr) -> RatFunc | None:
     """u such that the claim with `node` replaced by `node + u` equals the derived result
     (when the claim is a ratio of first-degree expressions in u)."""
-    space = case.space
-    u = space.symbols.index(UNKNOWN.name)
-    try:
-        with_u = space.convert(case.claimed.xreplace({node: node + UNKNOWN}))
-    except ZeroDivisionError:
-        return None
-    n1, n0 = _split_linear(with_u.num, u, space)
-    m1, m0 = _split_linear(with_u.den, u, space)
-    if n1 is None or m1 is None:
-        return None
-    top = m0 * case.d.num - n0 * case.d.den
-    bottom = n1 * case.d.den - m1 * case.d.num
-    if bottom.is_zero() or top.is_zero():
-        return None
-    return RatFunc(top, bottom).cancelled()
+    return _solve_for_replacement(case, node, node + UNKNOWN)
 
 
 def _wrong_factor(case: _Case) -> str | None:
