@@ -12,12 +12,13 @@ from math import lcm
 
 import sympy
 
+from .printing import as_expr
 from .verify import NotRational, to_ratio
 
 
 def factor(expr: sympy.Expr) -> sympy.Expr:
     """`expr` (a rational function, possibly with `∥`) as a factored ratio."""
-    expr = sympy.sympify(expr)
+    expr = as_expr(expr)
     try:
         num, den = to_ratio(expr)
     except NotRational:

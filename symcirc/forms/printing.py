@@ -10,6 +10,7 @@ puts its number and s first (`2·s·C1`).
 from __future__ import annotations
 
 import re
+from fractions import Fraction
 
 import sympy
 
@@ -149,21 +150,33 @@ class _CodeStyle(_Style):
 _TEXT, _LATEX, _CODE = _Style(), _LatexStyle(), _CodeStyle()
 
 
+def as_expr(value: object) -> sympy.Expr:
+    """A sympy expression from an expression or an exact number; never from text (user
+    text is read by the grammar only)."""
+    if isinstance(value, sympy.Basic):
+        return value
+    if isinstance(value, int):
+        return sympy.Integer(value)
+    if isinstance(value, Fraction):
+        return sympy.Rational(value.numerator, value.denominator)
+    raise TypeError(f"not an expression: {value!r}")
+
+
 def code(expr: sympy.Expr) -> str:
     """`expr` as plain infix for machines (`**` for powers), `∥` written out as its value."""
     from .parallel import expand_parallel
 
-    return _print(expand_parallel(sympy.sympify(expr)), _CODE)[0]
+    return _print(expand_parallel(as_expr(expr)), _CODE)[0]
 
 
 def text(expr: sympy.Expr) -> str:
     """`expr` as plain text with `∥`, `·`, `−`."""
-    return _print(sympy.sympify(expr), _TEXT)[0]
+    return _print(as_expr(expr), _TEXT)[0]
 
 
 def latex(expr: sympy.Expr) -> str:
     """`expr` as LaTeX, `∥` as `\\parallel`."""
-    return _print(sympy.sympify(expr), _LATEX)[0]
+    return _print(as_expr(expr), _LATEX)[0]
 
 
 def _print(expr: sympy.Expr, style: _Style) -> tuple[str, float]:

@@ -15,6 +15,7 @@ import sympy
 from sympy.polys.rings import PolyElement, ring
 
 from .parallel import Parallel
+from .printing import as_expr
 
 
 class NotRational(Exception):
@@ -27,9 +28,9 @@ def equal(form: sympy.Expr, canonical: Any) -> bool:
     `canonical` is a sympy expression or the engine's rational function (`result.exact`,
     used as it is: turning a large result into sympy costs more than the proof).
     """
-    form = sympy.sympify(form)
+    form = as_expr(form)
     engine = canonical if _is_engine(canonical) else None
-    canonical = None if engine is not None else sympy.sympify(canonical)
+    canonical = None if engine is not None else as_expr(canonical)
     generators = _generators(form) | (set() if engine is not None else _generators(canonical))
     arithmetic = _Arithmetic(generators, engine)
     try:
@@ -260,7 +261,7 @@ def ring_ratio(value: Any, extra: tuple[sympy.Symbol, ...] = ()):
     """Like `to_ratio`, for a sympy expression or the engine's exact value; the engine's
     numerator and denominator (already in lowest terms) are taken over term by term."""
     if not _is_engine(value):
-        return to_ratio(sympy.sympify(value), extra)
+        return to_ratio(as_expr(value), extra)
     names = list(value.ring.names)
     symbols = [sympy.Symbol(n) for n in names]
     symbols += [x for x in extra if x not in symbols]
