@@ -335,14 +335,7 @@ def _solve_for_replacement(case: _Case, node: sympy.Expr, replaced: sympy.Expr
 
 def _products(expr: sympy.Expr) -> list[sympy.Expr]:
     """Every product in the expression, outermost first, each once."""
-    out: list[sympy.Expr] = []
-    stack = [expr]
-    while stack:
-        node = stack.pop(0)
-        if node.is_Mul and node not in out:
-            out.append(node)
-        stack.extend(node.args)
-    return out
+    return _parts(expr, lambda node: node.is_Mul)
 
 
 def _factor(case: _Case) -> str | None:
@@ -383,13 +376,18 @@ def _split_linear(poly, var: int, space: Space):
 
 def _sums(expr: sympy.Expr) -> list[sympy.Expr]:
     """Every sum in the expression, outermost first, each once."""
+    return _parts(expr, lambda node: node.is_Add)
+
+
+def _parts(expr: sympy.Expr, wanted: Callable[[sympy.Expr], bool]) -> list[sympy.Expr]:
+    """Every subexpression that is `wanted`, breadth first (outermost first), each once."""
     out: list[sympy.Expr] = []
-    stack = [expr]
-    while stack:
-        node = stack.pop(0)
-        if node.is_Add and node not in out:
+    queue = [expr]
+    while queue:
+        node = queue.pop(0)
+        if wanted(node) and node not in out:
             out.append(node)
-        stack.extend(node.args)
+        queue.extend(node.args)
     return out
 
 

@@ -181,6 +181,7 @@ class ForestSolution:
         self._mna: MnaSolution | None = None
         self._graphs: dict[str | None, tuple[_Contraction, list]] = {}
         self._sums: dict[tuple[str | None, frozenset[str]], dict[Partition, Poly]] = {}
+        self._primes: dict[tuple[str | None, tuple[str, str] | None], bool] = {}
 
     # -- graphs and forest sums
     def _graph(self, without: str | None) -> tuple[_Contraction, list]:
@@ -218,8 +219,7 @@ class ForestSolution:
         non-monomial part itself: found without a general gcd, which on results of
         100,000 terms costs more than deriving them."""
         ring = self.ring
-        _, edges = self._graph(without)
-        if ring.backend != "flint" or not _tree_sum_is_prime(edges, joined, ring):
+        if ring.backend != "flint" or not self._prime(without, joined):
             return RationalFunction(num, den, ring)
         common = ring.gcd(num.term_content(), den.term_content())
         if common != 1:
@@ -232,6 +232,13 @@ class ForestSolution:
             except Exception:  # flint's DomainError: prime does not divide num
                 pass
         return RationalFunction.coprime(num, den, ring)
+
+    def _prime(self, without: str | None, joined: tuple[str, str] | None) -> bool:
+        """`_tree_sum_is_prime` of the graph without `without`, once per graph."""
+        key = (without, joined)
+        if key not in self._primes:
+            self._primes[key] = _tree_sum_is_prime(self._graph(without)[1], joined, self.ring)
+        return self._primes[key]
 
     def _two(self, sums: dict[Partition, Poly], first: set[str], second: set[str]) -> Poly:
         """F2(first|second): 2-forests with `first` in one tree and `second` in the other."""

@@ -3,26 +3,7 @@
 from __future__ import annotations
 
 from ..language import syntax
-from ..model.circuit import Circuit
-from ..results import Result
-from .common import RATIO_UNITS, Context, Raw
-from .registry import DeriveOptions
-
-
-def voltage(circuit: Circuit, quantity: syntax.Quantity, options: DeriveOptions) -> list[Result]:
-    context = Context(circuit, options)
-    return context.finish(raw_voltage(context, quantity))
-
-
-def current(circuit: Circuit, quantity: syntax.Quantity, options: DeriveOptions) -> list[Result]:
-    context = Context(circuit, options)
-    return context.finish(raw_current(context, quantity))
-
-
-def gain_quantity(circuit: Circuit, quantity: syntax.Quantity,
-                  options: DeriveOptions) -> list[Result]:
-    context = Context(circuit, options)
-    return context.finish(raw_gain(context, quantity))
+from .common import RATIO_UNITS, Context, Raw, handler
 
 
 def _no_sources_note(context: Context) -> tuple[str, ...]:
@@ -70,3 +51,8 @@ def raw_gain(context: Context, quantity: syntax.Quantity) -> list[Raw]:
 
 def _described(kind: str) -> str:
     return ("an " if kind[0] in "aeiou" else "a ") + kind
+
+
+voltage = handler(raw_voltage)
+current = handler(raw_current)
+gain_quantity = handler(raw_gain)

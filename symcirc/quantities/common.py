@@ -8,11 +8,12 @@ Handlers first produce `Raw` results (exact functions in the circuit's own symbo
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass
 from difflib import get_close_matches
 from fractions import Fraction
+from typing import Any
 
 import sympy
 
@@ -346,3 +347,15 @@ def unit_of_symbol(circuit: Circuit, name: str) -> str:
         return UNIT_OF_KIND.get(element.kind, "")
     parameter = circuit.parameters.get(name)
     return parameter.unit if parameter is not None else ""
+
+
+def handler(raw: Callable[..., Iterable[Raw]], **fixed: Any
+            ) -> Callable[[Circuit, syntax.Quantity, DeriveOptions], list[Result]]:
+    """The registry's handler for a `raw_*` derivation: a Context around it, then `finish`."""
+    def derive(circuit: Circuit, quantity: syntax.Quantity,
+               options: DeriveOptions) -> list[Result]:
+        context = Context(circuit, options)
+        return context.finish(raw(context, quantity, **fixed))
+
+    derive.__doc__ = raw.__doc__
+    return derive

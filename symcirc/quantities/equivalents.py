@@ -12,35 +12,8 @@ from __future__ import annotations
 from ..engine.mna import Current, SingularCircuit, Voltage, port_excitation
 from ..engine.ratfunc import RationalFunction
 from ..language import syntax
-from ..model.circuit import REFERENCE, Circuit
-from ..results import Result
-from .common import Context, Raw
-from .registry import DeriveOptions
-
-
-def thevenin_quantity(circuit: Circuit, quantity: syntax.Quantity,
-                      options: DeriveOptions) -> list[Result]:
-    context = Context(circuit, options)
-    return context.finish(raw_thevenin(context, quantity))
-
-
-def norton_quantity(circuit: Circuit, quantity: syntax.Quantity,
-                    options: DeriveOptions) -> list[Result]:
-    context = Context(circuit, options)
-    return context.finish(raw_norton(context, quantity))
-
-
-def impedance_quantity(circuit: Circuit, quantity: syntax.Quantity,
-                       options: DeriveOptions) -> list[Result]:
-    context = Context(circuit, options)
-    return context.finish(raw_impedance(context, quantity))
-
-
-def admittance_quantity(circuit: Circuit, quantity: syntax.Quantity,
-                        options: DeriveOptions) -> list[Result]:
-    context = Context(circuit, options)
-    return context.finish(raw_admittance(context, quantity))
-
+from ..model.circuit import REFERENCE
+from .common import Context, Raw, handler
 
 # ---------------------------------------------------------------- the parts
 
@@ -170,3 +143,9 @@ def raw_admittance(context: Context, quantity: syntax.Quantity) -> list[Raw]:
         else:
             admittance = found[1].inverse()
     return [Raw(quantity.text, admittance, "S")]
+
+
+thevenin_quantity = handler(raw_thevenin)
+norton_quantity = handler(raw_norton)
+impedance_quantity = handler(raw_impedance)
+admittance_quantity = handler(raw_admittance)

@@ -10,30 +10,15 @@ from __future__ import annotations
 
 from ..engine.ratfunc import RationalFunction
 from ..language import syntax
-from ..model.circuit import Circuit
-from ..results import Result
 from .basic import raw_current, raw_gain, raw_voltage
-from .common import Context, Raw, per, unit_of_symbol
+from .common import Context, Raw, handler, per, unit_of_symbol
 from .equivalents import raw_admittance, raw_impedance, raw_norton, raw_thevenin
-from .registry import DeriveOptions
 from .twoports import raw_twoport
 
 RAW = {
     "V": raw_voltage, "I": raw_current, "gain": raw_gain, "thevenin": raw_thevenin,
     "norton": raw_norton, "Z": raw_impedance, "Y": raw_admittance, "twoport": raw_twoport,
 }
-
-
-def sensitivity_quantity(circuit: Circuit, quantity: syntax.Quantity,
-                         options: DeriveOptions) -> list[Result]:
-    context = Context(circuit, options)
-    return context.finish(raw_sensitivity(context, quantity, relative=False))
-
-
-def relative_sensitivity_quantity(circuit: Circuit, quantity: syntax.Quantity,
-                                  options: DeriveOptions) -> list[Result]:
-    context = Context(circuit, options)
-    return context.finish(raw_sensitivity(context, quantity, relative=True))
 
 
 def raw_quantity(context: Context, arg) -> list[Raw]:
@@ -89,3 +74,7 @@ def raw_sensitivity(context: Context, quantity: syntax.Quantity, relative: bool)
             out.append(Raw(text, derivative, per(raw.unit, unit_of_symbol(context.circuit, name)),
                            tuple(notes)))
     return out
+
+
+sensitivity_quantity = handler(raw_sensitivity, relative=False)
+relative_sensitivity_quantity = handler(raw_sensitivity, relative=True)

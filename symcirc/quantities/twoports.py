@@ -14,10 +14,7 @@ from __future__ import annotations
 from ..engine.mna import Current, SingularCircuit, Voltage, port_excitation
 from ..engine.ratfunc import RationalFunction
 from ..language import syntax
-from ..model.circuit import Circuit
-from ..results import Result
-from .common import Context, Raw
-from .registry import DeriveOptions
+from .common import Context, Raw, handler
 
 VARIABLES = ("V1", "I1", "V2", "I2")
 
@@ -56,12 +53,6 @@ WHY_MISSING = {
     "chain": "port 2's voltage and current do not determine port 1's (no transmission from "
              "port 1 to port 2)",
 }
-
-
-def twoport_quantity(circuit: Circuit, quantity: syntax.Quantity,
-                     options: DeriveOptions) -> list[Result]:
-    context = Context(circuit, options)
-    return context.finish(raw_twoport(context, quantity))
 
 
 def family_of(attribute: str) -> str:
@@ -164,3 +155,6 @@ def _parameters(relations: list[dict[str, RationalFunction]], family: str
     # dependent = -inverse(md) * mf * independent
     return [-(inverse[i][0] * mf[0][j] + inverse[i][1] * mf[1][j])
             for i in range(2) for j in range(2)]
+
+
+twoport_quantity = handler(raw_twoport)
