@@ -463,30 +463,29 @@ class _FlintText:
     def __init__(self, ring: PolynomialRing) -> None:
         self.ring = ring
 
-    def _segments(self, p: Poly) -> list[tuple[str, int, bool, bool]]:
-        """(signed text, summands, plain terms?, all negative?) per power of s, ascending."""
+    def _segments(self, p: Poly) -> list[tuple[str, int]]:
+        """(signed text, number of summands) per power of s, ascending."""
         ring = self.ring
         if LAPLACE_NAME in ring.names:
             powers = sorted(ring.coefficients(p, LAPLACE_NAME).items())
         else:
             powers = [(0, p)]
-        segments: list[tuple[str, int, bool, bool]] = []
+        segments: list[tuple[str, int]] = []
         for k, c in powers:
-            negative = all(x < 0 for x in c.coeffs())
-            s_power = "" if k == 0 else (LAPLACE_NAME if k == 1 else f"{LAPLACE_NAME}**{k}")
+            s_power = LAPLACE_NAME if k == 1 else f"{LAPLACE_NAME}**{k}"
             if k == 0:
-                segments.append((_flint_str(c), len(c), True, negative))
+                segments.append((_flint_str(c), len(c)))
             elif len(c) == 1:
                 if ring.is_constant(c):
                     value = ring.constant_value(c)
                     text = {1: s_power, -1: "-" + s_power}.get(value, f"{value}*{s_power}")
                 else:
                     text = _flint_str(c) + "*" + s_power
-                segments.append((text, 1, True, negative))
-            elif segments and negative:
-                segments.append(("-(" + _flint_str(-c) + ")*" + s_power, 1, False, True))
+                segments.append((text, 1))
+            elif segments and all(x < 0 for x in c.coeffs()):
+                segments.append(("-(" + _flint_str(-c) + ")*" + s_power, 1))
             else:
-                segments.append(("(" + _flint_str(c) + ")*" + s_power, 1, False, False))
+                segments.append(("(" + _flint_str(c) + ")*" + s_power, 1))
         return segments
 
     def _all_negative(self, p: Poly) -> bool:
@@ -505,9 +504,9 @@ class _FlintText:
             return "0", 1
         segments = self._segments(p)
         out = [segments[0][0]]
-        for text, _, _, _ in segments[1:]:
+        for text, _ in segments[1:]:
             out.append(" - " + text[1:] if text.startswith("-") else " + " + text)
-        return "".join(out), sum(n for _, n, _, _ in segments)
+        return "".join(out), sum(n for _, n in segments)
 
     def fraction(self, num: Poly, den: Poly) -> str:
         ring = self.ring
