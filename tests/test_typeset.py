@@ -24,6 +24,9 @@ from symcirc.model.typeset import latex_of, symbol_latex
     ("alpha", r"\alpha"),
     ("omega0", r"\omega_{0}"),
     ("omega_0", r"\omega_{0}"),
+    ("R_th", r"R_{\mathrm{th}}"),
+    ("R4t", r"R_{4\mathrm{t}}"),
+    ("V_a", "V_{a}"),
 ])
 def test_symbol_names(name, expected):
     assert symbol_latex(name) == expected
