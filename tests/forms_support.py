@@ -18,6 +18,21 @@ from symcirc.results import Result
 S = sympy.Symbol("s")
 
 # A strain-gauge bridge on a data-logger input (invented scenario).
+# Three buffered RC sections smoothing a logger's reference (invented)
+BUFFERED_RC = """
+voltage source Uin (b0, gnd)
+resistor R1 (b0, x1)
+capacitor C1 (x1, gnd)
+opamp U1 (x1, b1, b1)
+resistor R2 (b1, x2)
+capacitor C2 (x2, gnd)
+opamp U2 (x2, b2, b2)
+resistor R3 (b2, x3)
+capacitor C3 (x3, gnd)
+port out (x3, gnd)
+"""
+
+
 BRIDGE = """
 title "Strain-gauge bridge, logger channel 2"
 voltage source U (exc, gnd)

@@ -10,6 +10,7 @@ from forms_support import (
     BRIDGE,
     BRIDGE_CURRENT,
     BRIDGE_LOADED,
+    BUFFERED_RC,
     S,
     annotated,
     numbers,
@@ -81,18 +82,6 @@ opamp U1 (gnd, n, o)
 port out (o, gnd)
 """
 
-BUFFERED_RC = """
-voltage source Uin (b0, gnd)
-resistor R1 (b0, x1)
-capacitor C1 (x1, gnd)
-opamp U1 (x1, b1, b1)
-resistor R2 (b1, x2)
-capacitor C2 (x2, gnd)
-opamp U2 (x2, b2, b2)
-resistor R3 (b2, x3)
-capacitor C3 (x3, gnd)
-port out (x3, gnd)
-"""
 
 LONG_LADDER = "voltage source U (n0, gnd)\n" + "".join(
     f"resistor Rs{i} (n{i - 1}, n{i})\nresistor Rp{i} (n{i}, gnd)\n" for i in range(1, 6)

@@ -6,7 +6,7 @@ from __future__ import annotations
 import numpy
 import pytest
 import sympy
-from forms_support import annotated, reference_voltage
+from forms_support import BUFFERED_RC, annotated, reference_voltage
 
 import symcirc
 
@@ -161,19 +161,6 @@ def test_first_order_forms_and_factored_real_poles():
     assert standard_form(R1 / (R1 + R2), "") is None
 
 
-# Three buffered RC sections smoothing a logger's reference (invented)
-BUFFERED_RC = """
-voltage source Uin (b0, gnd)
-resistor R1 (b0, x1)
-capacitor C1 (x1, gnd)
-opamp U1 (x1, b1, b1)
-resistor R2 (b1, x2)
-capacitor C2 (x2, gnd)
-opamp U2 (x2, b2, b2)
-resistor R3 (b2, x3)
-capacitor C3 (x3, gnd)
-port out (x3, gnd)
-"""
 
 
 def test_buffered_rc_chain_factors_into_real_poles():
