@@ -16,7 +16,7 @@ import sympy
 
 
 class ExactValue(Protocol):
-    """What the engine hands over: a canonical ratio of polynomials (engine.ratfunc)."""
+    """What the engine hands over: a canonical ratio of polynomials (algebra.rational)."""
 
     def to_sympy(self) -> sympy.Expr: ...
 

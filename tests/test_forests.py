@@ -18,8 +18,8 @@ import networkx as nx
 import pytest
 import sympy
 
+from symcirc.algebra.polynomials import PolynomialRing
 from symcirc.engine.forests import forest_polynomials
-from symcirc.engine.polys import PolynomialRing
 
 
 def _random_graph(seed: int) -> tuple[list[str], list[tuple[str, str]]]:

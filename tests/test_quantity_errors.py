@@ -191,7 +191,7 @@ def test_loop_of_sources_through_a_transformer_names_them():
 def test_a_job_too_large_to_derive_stops_with_a_clear_error(tmp_path, capsys, monkeypatch):
     """python-flint aborts the process when memory runs out, so the engine refuses
     polynomials past a size limit (lowered here so that a small circuit reaches it)."""
-    from symcirc.engine import polys
+    from symcirc.algebra import polynomials as polys
 
     lines = ["voltage source U (n0, gnd)"]
     for i in range(1, 7):

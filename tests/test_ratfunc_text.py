@@ -8,8 +8,8 @@ import random
 import flint  # noqa: F401  (a runtime dependency: the fast path must exist)
 import pytest
 
-from symcirc.engine.polys import PolynomialRing
-from symcirc.engine.ratfunc import _TEXT, _FlintText, _Printer
+from symcirc.algebra.polynomials import PolynomialRing
+from symcirc.algebra.rational import _TEXT, _FlintText, _Printer
 
 
 def _random_poly(ring: PolynomialRing, rng: random.Random):

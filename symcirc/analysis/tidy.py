@@ -48,7 +48,7 @@ def _integer_parts(expression: sympy.Expr, symbols: list[sympy.Symbol]):
 
 
 def _factored(scale, numerator, denominator, symbols) -> sympy.Expr:
-    from ..engine.polys import PolynomialRing
+    from ..algebra.polynomials import PolynomialRing
 
     names = [str(x) for x in symbols]
     ring = PolynomialRing(names)

@@ -14,9 +14,9 @@ from fractions import Fraction
 
 import sympy
 
+from ..algebra.identity import LAPLACE_NAME, RatFunc, Space, Undecidable
 from .diagnose import diagnose
 from .dimensions import Dimensions
-from .exact import LAPLACE_NAME, RatFunc, Space, Undecidable
 
 SEARCH_TRIES = 400
 """Points tried when looking for a counterexample."""

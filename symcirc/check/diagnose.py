@@ -17,8 +17,8 @@ from itertools import combinations
 import flint
 import sympy
 
+from ..algebra.identity import LAPLACE_NAME, RatFunc, Space
 from .dimensions import Dimensions
-from .exact import LAPLACE_NAME, RatFunc, Space
 
 UNKNOWN = sympy.Symbol("#u")
 MAX_EQUALITY_PAIRS = 45

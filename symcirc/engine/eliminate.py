@@ -15,14 +15,14 @@ from __future__ import annotations
 from collections.abc import Sequence
 from math import gcd
 
-from . import polys
-from .polys import EngineError, Poly, PolynomialRing
-from .ratfunc import RationalFunction
+from ..algebra import polynomials as polys
+from ..algebra.polynomials import AlgebraError, Poly, PolynomialRing
+from ..algebra.rational import RationalFunction
 
 Row = dict[int, Poly]
 
 
-class SingularSystem(EngineError):
+class SingularSystem(AlgebraError):
     """The system has no unique solution; `rows` and `columns` (0-based indices of the
     original system) name the equations and unknowns involved."""
 

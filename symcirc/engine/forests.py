@@ -18,7 +18,7 @@ from __future__ import annotations
 import heapq
 from collections.abc import Sequence
 
-from .polys import Poly, PolynomialRing
+from ..algebra.polynomials import Poly, PolynomialRing
 
 Edge = tuple[str, str, Poly, Poly]
 """(node, node, inward weight, outward weight)."""

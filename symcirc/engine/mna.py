@@ -16,11 +16,11 @@ from __future__ import annotations
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 
+from ..algebra.polynomials import LAPLACE_NAME, AlgebraError, Poly
+from ..algebra.rational import RationalFunction
 from ..model.circuit import REFERENCE
 from . import eliminate
 from .network import Branch, CurrentControl, Network, Source, VoltageControl
-from .polys import LAPLACE_NAME, EngineError, Poly
-from .ratfunc import RationalFunction
 
 Unknown = tuple[str, str]
 """("V", node) or ("I", element); test ports' shorts are ("I", "port:NAME")."""
@@ -60,7 +60,7 @@ class Row:
     elements: tuple[str, ...]
 
 
-class SingularCircuit(EngineError):
+class SingularCircuit(AlgebraError):
     """The circuit's equations have no unique solution; `elements` are the likely culprits."""
 
     def __init__(self, message: str, elements: tuple[str, ...] = (),

@@ -24,10 +24,10 @@ from typing import Literal
 
 import sympy
 
+from ..algebra.convert import atoms_of, names_of, to_function
+from ..algebra.polynomials import LAPLACE_NAME, Poly, PolynomialRing
+from ..algebra.rational import RationalFunction
 from ..model.circuit import REFERENCE, Circuit, Element
-from .convert import atoms_of, names_of, to_function
-from .polys import LAPLACE_NAME, Poly, PolynomialRing
-from .ratfunc import RationalFunction
 
 PASSIVE = ("resistor", "capacitor", "inductor", "conductance", "impedance", "admittance")
 
@@ -122,7 +122,7 @@ class Network:
     transformers: dict[str, Transformer] = field(default_factory=dict)
     couplings: dict[str, Coupling] = field(default_factory=dict)
     atoms: dict[str, sympy.Expr] = field(default_factory=dict)
-    """Irrational pieces held as ring variables (see engine.convert)."""
+    """Irrational pieces held as ring variables (see algebra.convert)."""
 
     @property
     def is_passive(self) -> bool:

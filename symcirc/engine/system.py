@@ -16,10 +16,10 @@ from __future__ import annotations
 from collections.abc import Iterable
 from typing import Literal, Protocol
 
+from ..algebra.rational import RationalFunction
 from ..model.circuit import Circuit
 from .mna import Equations, Measure, MnaSolution
 from .network import Network, build_network
-from .ratfunc import RationalFunction
 
 Path = Literal["forest", "elimination"]
 

@@ -18,12 +18,12 @@ from __future__ import annotations
 from collections.abc import Callable, Mapping
 from math import comb
 
+from ..algebra.polynomials import LAPLACE_NAME, AlgebraError, Poly
+from ..algebra.rational import RationalFunction
 from ..model.circuit import REFERENCE
 from . import forests
 from .mna import Current, Measure, MnaSolution, Voltage, port_excitation
 from .network import Network
-from .polys import LAPLACE_NAME, EngineError, Poly
-from .ratfunc import RationalFunction
 
 Partition = frozenset[frozenset[str]]
 
@@ -76,7 +76,7 @@ def check_size(nodes: list[str], edges: list[tuple[str, str]], terminals: list[s
     joined = [(u, v) for u, v in joined if u != v]
     count = max(spanning_trees(nodes, edges), spanning_trees(joined_nodes, joined))
     if count > MAX_TERMS:
-        raise EngineError(
+        raise AlgebraError(
             f"the exact result would have about {count:.3g} terms (more than "
             f"{MAX_TERMS:,}); that is too large to derive exactly. Give some parts "
             "numbers in the quantity (e.g. equal arms) or split the network into blocks")

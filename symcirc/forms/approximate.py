@@ -13,7 +13,7 @@ from dataclasses import dataclass
 
 import sympy
 
-from .factoring import cancel, coefficients_in, factor_ratio
+from ..algebra.factor import cancel, coefficients_in, factor_ratio
 from .verify import NotRational, to_ratio
 
 

@@ -344,7 +344,7 @@ class _Determinants:
     python-flint's integer polynomials; sympy's DomainMatrix when flint is absent."""
 
     def __init__(self, generators: list[sympy.Symbol]) -> None:
-        from .factoring import _flint
+        from ..algebra.factor import _flint
 
         self.generators = generators
         self.flint = _flint()
@@ -403,7 +403,7 @@ class _Determinants:
     def expr(self, p) -> sympy.Expr:
         if self.flint is None:
             return self.domain.to_sympy(p)
-        from .factoring import _expression
+        from ..algebra.factor import _expression
 
         return _expression(p, tuple(self.generators))
 

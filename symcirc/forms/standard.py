@@ -16,8 +16,9 @@ from typing import Any
 
 import sympy
 
+from ..algebra.factor import coefficients_in, factors, factors_in
 from ..model.circuit import LAPLACE
-from .factoring import coefficients_in, factor, factors, factors_in
+from .factoring import factor
 from .printing import code, latex, text
 from .verify import NotRational, equal, ring_ratio, to_ratio
 

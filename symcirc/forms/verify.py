@@ -238,7 +238,7 @@ def _plain(g: sympy.Expr) -> bool:
 
 
 def _flint():
-    from .factoring import _flint as load
+    from ..algebra.factor import _flint as load
 
     return load()
 
@@ -252,7 +252,7 @@ def to_ratio(expr: sympy.Expr, extra: tuple[sympy.Symbol, ...] = ()):
     num, den = _ratio(expr, poly_ring, index)
     if not den:
         raise NotRational("division by zero")
-    from .factoring import cancel
+    from ..algebra.factor import cancel
 
     return cancel(num, den)
 

@@ -17,7 +17,7 @@ from typing import Any
 
 import sympy
 
-from ..engine.convert import (
+from ..algebra.convert import (
     atom_name,
     atom_value,
     atoms_of,
@@ -26,10 +26,10 @@ from ..engine.convert import (
     substitute_root,
     to_function,
 )
+from ..algebra.polynomials import AlgebraError
+from ..algebra.rational import InfiniteLimit, RationalFunction
 from ..engine.mna import Current, Measure, Voltage
 from ..engine.network import Network, build_network
-from ..engine.polys import EngineError
-from ..engine.ratfunc import InfiniteLimit, RationalFunction
 from ..engine.system import solution
 from ..errors import Location, SymcircError
 from ..language import syntax
@@ -85,7 +85,7 @@ class Context:
         """Engine errors raised inside are reported at `node` (the quantity asked for)."""
         try:
             yield
-        except EngineError as problem:
+        except AlgebraError as problem:
             raise self.error(node, problem.message, problem.notes) from None
 
     # -- arguments

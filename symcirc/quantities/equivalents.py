@@ -9,8 +9,8 @@ the Norton equivalent comes from that system.
 
 from __future__ import annotations
 
+from ..algebra.rational import RationalFunction
 from ..engine.mna import Current, SingularCircuit, Voltage, port_excitation
-from ..engine.ratfunc import RationalFunction
 from ..language import syntax
 from ..model.circuit import REFERENCE
 from .common import Context, Raw, handler

@@ -8,7 +8,7 @@ substituted first: the chain rule, stated in a note.
 
 from __future__ import annotations
 
-from ..engine.ratfunc import RationalFunction
+from ..algebra.rational import RationalFunction
 from ..language import syntax
 from .basic import raw_current, raw_gain, raw_voltage
 from .common import Context, Raw, handler, per, unit_of_symbol

@@ -11,8 +11,8 @@ variables the relations do not determine does not exist, and saying so is the an
 
 from __future__ import annotations
 
+from ..algebra.rational import RationalFunction
 from ..engine.mna import Current, SingularCircuit, Voltage, port_excitation
-from ..engine.ratfunc import RationalFunction
 from ..language import syntax
 from .common import Context, Raw, handler
 

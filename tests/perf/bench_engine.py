@@ -254,7 +254,7 @@ def main() -> None:
         baseline_child(args.baseline[0], int(args.baseline[1]))
         return
 
-    from symcirc.engine.polys import default_backend
+    from symcirc.algebra.polynomials import default_backend
 
     print(f"polynomial backend: {default_backend()}; machine shared, figures are noisy; "
           f"baseline capped at {args.cap:g} s")

@@ -15,8 +15,8 @@ from functools import cached_property
 import sympy
 
 from ..model.typeset import latex_of
-from .polys import PolynomialRing
-from .ratfunc import RationalFunction
+from .polynomials import PolynomialRing
+from .rational import RationalFunction
 
 ATOM_DIGITS = 40
 """Decimal digits kept when an atom (π, a square root) is evaluated at rational values."""

@@ -29,8 +29,8 @@ Poly = Any
 Monomial = tuple[int, ...]
 
 
-class EngineError(SymcircError):
-    """A derivation that has no exact finite answer (a pole, an infinite limit, a singular
+class AlgebraError(SymcircError):
+    """An exact computation that has no finite answer (a pole, an infinite limit, a singular
     system): raised with a message for the user; callers add the circuit's context."""
 
 
@@ -40,7 +40,7 @@ and python-flint aborts the whole process on a failed allocation instead of rais
 jobs that reach it are stopped with a clear error (`TooLarge`) before they get there."""
 
 
-class TooLarge(EngineError):
+class TooLarge(AlgebraError):
     """An exact result (or a polynomial on the way to it) beyond MAX_TERMS terms."""
 
 
@@ -81,7 +81,7 @@ def default_backend() -> str:
         import flint  # noqa: F401
     except ImportError:
         if wanted == "flint":
-            raise EngineError(
+            raise AlgebraError(
                 "SYMCIRC_POLYNOMIALS=flint, but python-flint is not installed") from None
         return "sympy"
     return "flint"

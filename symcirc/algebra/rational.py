@@ -18,18 +18,18 @@ from typing import Any
 import sympy
 
 from ..model.typeset import symbol_latex
-from . import polys
-from .polys import LAPLACE_NAME, EngineError, Poly, PolynomialRing
+from . import polynomials as polys
+from .polynomials import LAPLACE_NAME, AlgebraError, Poly, PolynomialRing
 
 Operand = Any
 """A RationalFunction, a polynomial of the same ring, an int or a Fraction."""
 
 
-class UndefinedValue(EngineError, ZeroDivisionError):
+class UndefinedValue(AlgebraError, ZeroDivisionError):
     """The denominator vanishes at the point asked for."""
 
 
-class InfiniteLimit(EngineError):
+class InfiniteLimit(AlgebraError):
     """A limit that grows without bound."""
 
 
