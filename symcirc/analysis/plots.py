@@ -55,24 +55,30 @@ def _axis_label(name: str, unit: str) -> str:
     return f"{name} ({unit})" if unit else name
 
 
-def save(figure, path: str | os.PathLike) -> None:
-    """Write `figure` as PNG or SVG (by extension), atomically, deterministically."""
+def image(figure, fmt: str) -> bytes:
+    """`figure` as PNG or SVG bytes (`fmt`: 'png' or 'svg'), deterministically."""
     from matplotlib import rc_context
 
-    path = Path(path)
-    if path.suffix.lower() not in FORMATS:
-        raise ValueError(f"plots are written as .png or .svg, not {path.suffix or 'no extension'}")
-    fmt = path.suffix.lower()[1:]
     metadata = {"Date": None} if fmt == "svg" else {"Software": None}
     buffer = io.BytesIO()
     with rc_context(_STYLE):
         figure.savefig(buffer, format=fmt, metadata=metadata)
-    temporary = path.with_name(f".{path.name}.partial")
-    try:
-        temporary.write_bytes(buffer.getvalue())
-        os.replace(temporary, path)
-    finally:
-        temporary.unlink(missing_ok=True)
+    return buffer.getvalue()
+
+
+def image_format(path: str | os.PathLike) -> str:
+    """'png' or 'svg' from the file's extension; ValueError for any other."""
+    suffix = Path(path).suffix.lower()
+    if suffix not in FORMATS:
+        raise ValueError(f"plots are written as .png or .svg, not {suffix or 'no extension'}")
+    return suffix[1:]
+
+
+def save(figure, path: str | os.PathLike, inputs: Sequence[str | os.PathLike] = ()) -> None:
+    """Write `figure` as PNG or SVG (by extension) through the one output writer."""
+    from ..output import write_file
+
+    write_file(path, image(figure, image_format(path)), inputs)
 
 
 def _styled(build):
@@ -200,7 +206,13 @@ def loading_figure(
 def plot(
     circuit: Circuit, quantity_text: str, path: str | os.PathLike, seed: int | None = None
 ) -> None:
-    """Plot a quantity of `circuit` to `path` (.png or .svg).
+    """Plot a quantity of `circuit` to `path` (.png or .svg), never over the circuit's file."""
+    image_format(path)
+    save(figure_of(circuit, quantity_text, seed), path, inputs=(circuit.file,))
+
+
+def figure_of(circuit: Circuit, quantity_text: str, seed: int | None = None):
+    """The figure of a quantity of `circuit`.
 
     `tolerance(Q)`: Monte Carlo histogram with the worst-case bounds; `sensitivities(Q)`:
     bars; `loading(port, Z)` and `minimum_load(port, error)`: loading error against load;
@@ -210,8 +222,6 @@ def plot(
     from ..quantities.registry import DeriveOptions
     from . import quantities as q
 
-    if Path(path).suffix.lower() not in FORMATS:
-        raise ValueError(f"plots are written as .png or .svg, not {Path(path).suffix or '-'}")
     quantity = parse(quantity_text)
     options = DeriveOptions(seed=seed, origin=(QUANTITY_ORIGIN, quantity_text))
     if quantity.name == "tolerance":
@@ -247,7 +257,7 @@ def plot(
         except ValueError as problem:
             raise read.error(quantity, str(problem)) from None
         figure = frequency_response_figure(frequencies, response, result.quantity, result.unit)
-    save(figure, path)
+    return figure
 
 
 def frequency_response(expression, nominals):

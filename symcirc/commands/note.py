@@ -22,7 +22,7 @@ def run(args: argparse.Namespace) -> int:
     from ..report.files import format_of, output_for
     from ..report.note import write_note
 
-    output = output_for(args.output, [args.file])
+    output = output_for(args.output, [args.file], args.template)
     fmt = format_of(output, args.format, ("markdown", "latex", "html"))
     note = write_note(args.file, fmt, output, args.quantities or None, args.template)
     failing = [c for c in note.claims if c.status != "holds"]

@@ -26,12 +26,12 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 def run(args: argparse.Namespace) -> int:
     from .. import load
     from ..analysis.plots import FORMATS, plot
+    from ..output import check_target
 
     output = Path(args.output)
     if output.suffix.lower() not in FORMATS:
         raise SymcircError(f"the figure is written as .png or .svg, not "
                            f"`{output.suffix or output.name}`", str(output))
-    if not output.parent.is_dir():
-        raise SymcircError("the folder to write into does not exist", str(output))
+    check_target(output, [args.file])  # before the work: a link, device or the input itself
     plot(load(args.file), args.quantity, output, seed=args.seed)
     return 0

@@ -19,7 +19,7 @@ def run(args: argparse.Namespace) -> int:
     from ..report.files import format_of, output_for, write_document
     from ..report.sheet import render_sheet_for
 
-    output = output_for(args.output, args.files)
+    output = output_for(args.output, args.files, args.template)
     fmt = format_of(output, args.format, ("markdown", "latex"))
     write_document(output, render_sheet_for(args.files, fmt, args.template, progress=True))
     return 0

@@ -3,13 +3,20 @@ transfer function (not of sensitivities), the Monte Carlo histogram of each `tol
 the file asks for, the loading curve of each loading analysis. Names are decided when the
 note is rendered (so the note's text does not depend on whether the files are written);
 drawing happens only when they are.
+
+A figure's name ends in a digest of what it is drawn from (the source's SHA-256, the
+symcirc version, the note's format, the figure and its quantity), and drawing is
+deterministic: a name always holds the same picture. So a new note never overwrites a figure
+the old note shows, and writing the note last commits the note and its figures together
+(`symcirc.output`).
 """
 
 from __future__ import annotations
 
+import hashlib
+import re
 from collections.abc import Callable
 from dataclasses import dataclass, replace
-from pathlib import Path
 
 from ..model.circuit import Circuit
 from .content import Figure, ResultView, Section
@@ -24,7 +31,11 @@ class Drawing:
     """A figure of the note and how to draw it into a file."""
 
     figure: Figure
-    draw: Callable[[Path], None]
+    draw: Callable[[], bytes]
+    """The figure's PNG or SVG bytes."""
+
+
+DIGEST_LENGTH = 12
 
 
 def folder_name(stem: str) -> str:
@@ -32,21 +43,31 @@ def folder_name(stem: str) -> str:
     return f"{stem}_figures"
 
 
+def figure_names(text: str, stem: str) -> set[str]:
+    """File names of the figures a note's text shows in its figures folder."""
+    pattern = re.escape(folder_name(stem)) + r"/([a-z0-9-]+-[0-9a-f]{%d}\.(?:svg|png))" \
+        % DIGEST_LENGTH
+    return set(re.findall(pattern, text))
+
+
 def plan(circuit: Circuit, sections: list[Section], wanted: list[Request], stem: str,
-         fmt: str) -> list[Drawing]:
-    """Decide every figure of the note and attach it to its result view."""
+         fmt: str, origin: str) -> list[Drawing]:
+    """Decide every figure of the note and attach it to its result view; `origin` (the
+    source's SHA-256 and the version) goes into each figure's digest."""
     folder = folder_name(stem)
     extension = IMAGE_EXTENSION[fmt]
     drawings: list[Drawing] = []
     used: set[str] = set()
 
     def add(view: ResultView | None, section: Section, kind: str, caption: str,
-            draw: Callable[[Path], None], key: str) -> None:
+            draw: Callable[[], bytes], key: str) -> None:
         name = key
         while name in used:  # the same quantity shown twice (e.g. with and without `where`)
             name += "-2"
         used.add(name)
-        figure = Figure(f"{folder}/{name}{extension}", caption, kind,
+        recipe = "\0".join((origin, fmt, name, kind, caption, section.heading))
+        digest = hashlib.sha256(recipe.encode("utf-8")).hexdigest()[:DIGEST_LENGTH]
+        figure = Figure(f"{folder}/{name}-{digest}{extension}", caption, kind,
                         view.quantity if view else section.heading)
         (view.figures if view else section.figures).append(figure)
         drawings.append(Drawing(figure, draw))
@@ -55,16 +76,17 @@ def plan(circuit: Circuit, sections: list[Section], wanted: list[Request], stem:
         name = request.text.split("(", 1)[0].strip()
         if name in ("loading", "minimum_load") and not request.options.assumptions:
             add(None, section, "loading", f"Loading error of {request.text} against the load.",
-                _loading(circuit, request.text), f"{section.anchor}-loading")
+                _loading(circuit, request.text, extension), f"{section.anchor}-loading")
         for view in section.results:
             if view.is_transfer_function and _has_values(view) and name not in _NOT_RESPONSES:
                 add(view, section, "frequency response",
                     f"Magnitude and phase of {view.quantity} at the nominal values.",
-                    _frequency_response(circuit, view), f"{view.anchor}-response")
+                    _frequency_response(circuit, view, extension), f"{view.anchor}-response")
             if view.spread is not None and name == "tolerance":  # asked for by the file
                 add(view, section, "histogram",
                     f"Monte Carlo histogram of {view.quantity} with the worst-case bounds.",
-                    _histogram(circuit, view, request), f"{view.anchor}-histogram")
+                    _histogram(circuit, view, request, extension),
+                    f"{view.anchor}-histogram")
     return drawings
 
 
@@ -77,19 +99,22 @@ def _has_values(view: ResultView) -> bool:
     return view.missing == ("s",)
 
 
-def _frequency_response(circuit: Circuit, view: ResultView) -> Callable[[Path], None]:
-    def draw(path: Path) -> None:
+def _frequency_response(circuit: Circuit, view: ResultView,
+                        extension: str) -> Callable[[], bytes]:
+    def draw() -> bytes:
         from ..analysis import plots
 
         frequencies, response = plots.frequency_response(
             view.result.expression, circuit.symbol_nominals())
-        plots.save(plots.frequency_response_figure(frequencies, response, view.quantity,
-                                                   view.unit), path)
+        return plots.image(plots.frequency_response_figure(frequencies, response,
+                                                           view.quantity, view.unit),
+                           extension[1:])
     return draw
 
 
-def _histogram(circuit: Circuit, view: ResultView, request: Request) -> Callable[[Path], None]:
-    def draw(path: Path) -> None:
+def _histogram(circuit: Circuit, view: ResultView, request: Request,
+               extension: str) -> Callable[[], bytes]:
+    def draw() -> bytes:
         from ..analysis import plots
         from ..analysis.quantities import tolerance_analyses
         from ..language.parser import parse_quantity
@@ -99,13 +124,14 @@ def _histogram(circuit: Circuit, view: ResultView, request: Request) -> Callable
         pairs = tolerance_analyses(circuit, parse_quantity(text), options)
         analysis = next((a for inner, a in pairs
                          if f"tolerance({inner.quantity})" == view.quantity), pairs[0][1])
-        plots.save(plots.histogram_figure(analysis, view.quantity, view.unit), path)
+        return plots.image(plots.histogram_figure(analysis, view.quantity, view.unit),
+                           extension[1:])
     return draw
 
 
-def _loading(circuit: Circuit, text: str) -> Callable[[Path], None]:
-    def draw(path: Path) -> None:
+def _loading(circuit: Circuit, text: str, extension: str) -> Callable[[], bytes]:
+    def draw() -> bytes:
         from ..analysis import plots
 
-        plots.plot(circuit, text, path)
+        return plots.image(plots.figure_of(circuit, text), extension[1:])
     return draw

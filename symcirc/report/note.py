@@ -10,6 +10,7 @@ from __future__ import annotations
 import hashlib
 import json
 import os
+import stat
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -26,7 +27,7 @@ from .content import (
     parts,
     ports,
 )
-from .files import Output, path_inside, reported, write_document
+from .files import Output, write_document
 from .progress import Progress
 
 TEMPLATES = {"markdown": "note.md.j2", "latex": "note.tex.j2", "html": "note.html.j2"}
@@ -109,16 +110,46 @@ def write_note(
     template: str | Path | None = None,
     progress: bool = True,
 ) -> Note:
-    """Render the note, write its figures beside it, then the note itself (atomically);
-    returns the note's content (claims, figures) for the caller to report on."""
+    """Render the note, draw its figures, then write figures and note together through the
+    one writer (figures first, the note last; see `symcirc.output`); returns the note's
+    content (claims, figures) for the caller to report on."""
+    from ..output import Transaction
+    from .figures import figure_names, folder_name
+
     note, drawings = build_note(path, format, quantities, template, output.path, progress)
     text = render_note(note, template)
-    for drawing in drawings:
-        target = path_inside(output.folder, drawing.figure.path)
-        with reported(target):
-            drawing.draw(target)
-    write_document(output, text)
+    if output.path is None:
+        write_document(output, text)
+        return note
+    images = [(drawing.figure.path, drawing.draw()) for drawing in drawings]
+    folder = output.folder / folder_name(output.stem)
+    shown = {Path(name).name for name, _ in images}
+    old = figure_names(_previous_text(output.path), output.stem)
+    with Transaction(output.inputs) as files:
+        if images:
+            files.folder(folder)
+        for name, data in images:
+            files.add(output.folder / name, data)
+        files.add(output.path, text.encode("utf-8"))
+        files.remove_after_commit(folder / name for name in sorted(old - shown))
+        files.commit()
     return note
+
+
+def _previous_text(path: Path) -> str:
+    """The note now at `path` (to find the figures it shows), or '' when there is none."""
+    try:
+        handle = os.open(path, os.O_RDONLY | os.O_NOFOLLOW | os.O_NONBLOCK)
+    except OSError:
+        return ""
+    with os.fdopen(handle, "rb") as stream:
+        if not stat.S_ISREG(os.fstat(handle).st_mode):
+            return ""  # not a note (the writer refuses such a target anyway)
+        return stream.read(PREVIOUS_NOTE_LIMIT).decode("utf-8", errors="replace")
+
+
+PREVIOUS_NOTE_LIMIT = 64 * 1024 * 1024
+"""Bytes of an old note read to find its figures (notes are far smaller)."""
 
 
 def build_note(
@@ -148,7 +179,8 @@ def build_note(
 
     drawings: list = []
     if output_path is not None:  # figures only beside a note written to a file
-        drawings = plan(circuit, derived, wanted, Path(output_path).stem, format)
+        origin = f"{hashlib.sha256(data).hexdigest()}\0{symcirc.__version__}"
+        drawings = plan(circuit, derived, wanted, Path(output_path).stem, format, origin)
     note = _note(circuit, source, data, format, quantities, template, folder, derived,
                  claim_views, cautions_found,
                  folder_name(Path(output_path).stem) if drawings else None)
