@@ -189,11 +189,15 @@ def notes_folder(tmp_path, monkeypatch):
 
 
 def test_a_folder_of_fresh_notes_passes(notes_folder, capsys):
-    _, folder = notes_folder
+    source, folder = notes_folder
     marker = read_marker((folder / "gain.tex").read_text(encoding="utf-8"))
     assert marker.source == "../divider.circuit" and marker.quantities == ("gain(Uref, out)",)
     capsys.readouterr()
-    assert main(["verify", str(folder / "divider.md"), str(folder / "gain.tex")]) == 0
+    # The sources lie outside the notes' folder: verify reads them only when allowed to.
+    assert main(["verify", str(folder / "divider.md")]) == 2
+    assert "outside the note's folder" in capsys.readouterr().err
+    assert main(["verify", str(folder / "divider.md"), str(folder / "gain.tex"),
+                 "--source-folder", str(source.parent)]) == 0
     out = capsys.readouterr().out.splitlines()
     assert out == [f"{folder / 'divider.md'}: matches ../divider.circuit",
                    f"{folder / 'gain.tex'}: matches ../divider.circuit"]
@@ -206,7 +210,7 @@ def test_a_changed_formula_is_named_by_its_section(notes_folder, capsys):
     source.write_text(DIVIDER.replace("port out", "resistor RL (mid, gnd) = 1 MΩ\nport out"),
                       encoding="utf-8")
     capsys.readouterr()
-    assert main(["verify", str(folder / "gain.tex")]) == 1
+    assert main(["verify", str(folder / "gain.tex"), "--source", str(source)]) == 1
     out = capsys.readouterr().out
     assert "the source changed since the note was written" in out
     section = out[out.index('section "gain(Uref, out)" changed:'):]
@@ -218,7 +222,8 @@ def test_one_stale_note_fails_the_folder_and_every_note_is_reported(notes_folder
     source, folder = notes_folder
     source.write_text(DIVIDER.replace("= 10 kΩ\nport", "= 12 kΩ\nport"), encoding="utf-8")
     capsys.readouterr()
-    assert main(["verify", str(folder / "divider.md"), str(folder / "gain.tex")]) == 1
+    assert main(["verify", str(folder / "divider.md"), str(folder / "gain.tex"),
+                 "--source-folder", str(source.parent)]) == 1
     out = capsys.readouterr().out
     assert f"{folder / 'divider.md'}: does not match" in out
     assert f"{folder / 'gain.tex'}: does not match" in out
@@ -226,9 +231,10 @@ def test_one_stale_note_fails_the_folder_and_every_note_is_reported(notes_folder
 
 
 def test_an_unreadable_note_among_good_ones_exits_2(notes_folder, capsys):
-    _, folder = notes_folder
+    source, folder = notes_folder
     capsys.readouterr()
-    assert main(["verify", str(folder / "divider.md"), str(folder / "missing.md")]) == 2
+    assert main(["verify", str(folder / "divider.md"), str(folder / "missing.md"),
+                 "--source-folder", str(source.parent)]) == 2
     captured = capsys.readouterr()
     assert "divider.md: matches" in captured.out
     assert f"{folder / 'missing.md'}: error: no such note" in captured.err

@@ -42,11 +42,16 @@ class Marker:
     format: str
     quantities: tuple[str, ...] | None
     template: str | None
+    line: int = 0
+    """Line of the note the marker is on (1-based)."""
+    text: str = ""
+    """The marker's line as written."""
 
 
 def read_marker(text: str) -> Marker:
     """The marker of a note; NoteProblem when there is none or it cannot be read."""
-    found = [m for m in map(_MARKER_LINE.match, text.splitlines()) if m]
+    lines = text.splitlines()
+    found = [m for m in map(_MARKER_LINE.match, lines) if m]
     if not found:
         raise NoteProblem(f"no `{MARKER}` marker: not a note written by `symcirc note`")
     if len(found) > 1:
@@ -72,8 +77,10 @@ def read_marker(text: str) -> Marker:
     template = data["template"]
     if template is not None and not isinstance(template, str):
         raise NoteProblem(f"the `{MARKER}` marker's template must be a string or null")
+    number = next(i for i, line in enumerate(lines, 1) if _MARKER_LINE.match(line))
     return Marker(data["source"], data["sha256"], data["version"], data["format"],
-                  None if quantities is None else tuple(quantities), template)
+                  None if quantities is None else tuple(quantities), template,
+                  number, lines[number - 1])
 
 
 # ---------------------------------------------------------------- sections
