@@ -63,7 +63,7 @@ def check_target(path: str | os.PathLike, inputs: Iterable[str | os.PathLike] = 
 def _check(path: Path, inputs: dict[tuple[int, int], str]) -> Path:
     try:
         info = os.lstat(path)
-    except FileNotFoundError:
+    except (FileNotFoundError, NotADirectoryError):
         info = None
     except OSError as err:
         raise _error(path, err) from None
@@ -87,7 +87,11 @@ def _check(path: Path, inputs: dict[tuple[int, int], str]) -> Path:
                                "regular files (`-o -` writes to standard output)", file=str(path))
     folder = path.parent
     if not folder.is_dir():
-        raise SymcircError(f"folder '{folder}' does not exist", file=str(path))
+        problem = "is not a folder" if os.path.lexists(folder) else "does not exist"
+        raise SymcircError(f"folder '{folder}' {problem}", file=str(path))
+    if not os.access(folder, os.W_OK | os.X_OK):
+        raise SymcircError(f"cannot write into folder '{folder}': it is read-only for this user",
+                           file=str(path))
     return path
 
 

@@ -9,9 +9,9 @@ import pytest
 import sympy
 
 from symcirc.errors import SymcircError
+from symcirc.output import write_file
 from symcirc.report import filters
 from symcirc.report.environment import environment, render
-from symcirc.output import write_file
 from symcirc.report.files import format_of, output_for
 from symcirc.report.formulas import break_lines, equations, top_level_terms, visible_width
 from symcirc.report.note import render_note

@@ -157,7 +157,7 @@ def render(env: jinja2.Environment, name: str, **context: Any) -> str:
         raise
     except SecurityError as err:
         raise _located(env, err, name, "the template tried something templates may not do "
-                       f"({err}); templates run in a sandbox") from None
+                       f"({str(err).rstrip('.')}); templates run in a sandbox") from None
     except jinja2.TemplateError as err:  # undefined variables and the like, at render time
         raise _located(env, err, name, f"template: {err}") from None
     except (ArithmeticError, TypeError, ValueError, LookupError, RecursionError) as err:

@@ -45,8 +45,8 @@ def folder_name(stem: str) -> str:
 
 def figure_names(text: str, stem: str) -> set[str]:
     """File names of the figures a note's text shows in its figures folder."""
-    pattern = re.escape(folder_name(stem)) + r"/([a-z0-9-]+-[0-9a-f]{%d}\.(?:svg|png))" \
-        % DIGEST_LENGTH
+    pattern = re.escape(folder_name(stem)) + \
+        rf"/([a-z0-9-]+-[0-9a-f]{{{DIGEST_LENGTH}}}\.(?:svg|png))"
     return set(re.findall(pattern, text))
 
 
