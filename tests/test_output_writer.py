@@ -7,6 +7,8 @@ import os
 import re
 import signal
 import stat
+import subprocess
+import sys
 from concurrent.futures import ThreadPoolExecutor
 from pathlib import Path
 
@@ -286,3 +288,34 @@ def test_an_interrupted_note_leaves_the_old_note_with_its_figures(rc, tmp_path, 
         assert note.read_bytes() == before
         assert {p.name: p.read_bytes() for p in folder.iterdir()} == figures_before
     assert _hidden(tmp_path) == []
+
+
+# ---------------------------------------------------------------- the parser's cache
+
+PARSE = "import symcirc; symcirc.parse('resistor R1 (a, gnd) = 1k')"
+
+
+def _parse_in_a_fresh_process(cache: Path, temporary: Path) -> None:
+    environment = dict(os.environ, XDG_CACHE_HOME=str(cache), TMPDIR=str(temporary))
+    subprocess.run([sys.executable, "-c", PARSE], env=environment, check=True, timeout=120)
+
+
+def test_the_parser_cache_is_private_and_never_in_the_shared_temporary_folder(tmp_path):
+    # lark's own cache file is a pickle under a predictable name in the temporary folder:
+    # anyone able to write there could make every user's run load their code.
+    cache, temporary = tmp_path / "cache", tmp_path / "tmp"
+    temporary.mkdir()
+    _parse_in_a_fresh_process(cache, temporary)
+    assert os.listdir(temporary) == []
+    folder = cache / "symcirc"
+    assert stat.S_IMODE(os.stat(folder).st_mode) == 0o700
+    assert [p.suffix for p in folder.iterdir()] == [".lark"]
+
+
+def test_a_parser_cache_others_may_write_is_not_used(tmp_path):
+    cache, temporary = tmp_path / "cache", tmp_path / "tmp"
+    (cache / "symcirc").mkdir(parents=True)
+    temporary.mkdir()
+    os.chmod(cache / "symcirc", 0o777)
+    _parse_in_a_fresh_process(cache, temporary)
+    assert os.listdir(cache / "symcirc") == [] and os.listdir(temporary) == []

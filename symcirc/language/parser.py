@@ -1,5 +1,6 @@
 """Text → syntax tree: reading files, the LALR parser (built once per process and cached on
-disk by lark), and the entry points for files, quantities, expressions and claims.
+disk by lark in a folder only the user can write), and the entry points for files,
+quantities, expressions and claims.
 
 Every function here raises only SymcircError for bad input.
 """
@@ -7,6 +8,10 @@ Every function here raises only SymcircError for bad input.
 from __future__ import annotations
 
 import gc
+import hashlib
+import os
+import stat
+import sys
 import threading
 from functools import lru_cache
 from pathlib import Path
@@ -31,8 +36,36 @@ def _parser():
     grammar = files("symcirc.grammar").joinpath("circuit.lark").read_text(encoding="utf-8")
     builder = TreeBuilder()
     parser = Lark(grammar, parser="lalr", lexer="contextual", start=_STARTS,
-                  transformer=builder, maybe_placeholders=True, cache=True)
+                  transformer=builder, maybe_placeholders=True, cache=_cache_file(grammar))
     return parser, builder
+
+
+def _cache_file(grammar: str) -> str | bool:
+    """Where lark keeps the built parser (a pickle, so loading it runs whatever it holds):
+    `$XDG_CACHE_HOME/symcirc` or `~/.cache/symcirc`, made private (0700), and used only
+    when it and the folder holding it belong to this user and no one else may write them.
+    False (no cache, ~0.15 s more per run) otherwise; never lark's shared temporary folder,
+    where anyone could plant a file under the name it would read."""
+    import lark
+
+    base = os.environ.get("XDG_CACHE_HOME") or os.path.join(os.path.expanduser("~"), ".cache")
+    folder = os.path.join(base, "symcirc")
+    try:
+        os.makedirs(folder, mode=0o700, exist_ok=True)
+        if not all(_private(path) for path in (base, folder)):
+            return False
+    except (OSError, ValueError):
+        return False
+    key = hashlib.sha256(grammar.encode("utf-8")).hexdigest()[:16]
+    version = f"{lark.__version__}-py{sys.version_info[0]}{sys.version_info[1]}"
+    return os.path.join(folder, f"parser-{key}-{version}.lark")
+
+
+def _private(path: str) -> bool:
+    """A real folder of this user that no one else may write into."""
+    info = os.lstat(path)
+    return (stat.S_ISDIR(info.st_mode) and info.st_uid == os.getuid()
+            and not info.st_mode & (stat.S_IWGRP | stat.S_IWOTH))
 
 
 def _parse(text: str, filename: str, start: str):
