@@ -67,6 +67,8 @@ def _check(path: Path, inputs: dict[tuple[int, int], str]) -> Path:
         info = None
     except OSError as err:
         raise _error(path, err) from None
+    except ValueError:  # a NUL in the name
+        raise SymcircError("not a valid file name", file=repr(str(path))) from None
     if info is not None:
         try:
             followed = os.stat(path)
