@@ -79,8 +79,9 @@ def _check(path: Path, inputs: dict[tuple[int, int], str]) -> Path:
             raise SymcircError(f"refusing to write the output over the input file '{source}'",
                                file=str(path))
         if stat.S_ISLNK(info.st_mode):
-            raise SymcircError("the output is a symbolic link; symcirc does not write through "
-                               "links: remove it or name the file itself", file=str(path))
+            raise SymcircError(f"the output is a symbolic link (to '{_link_target(path)}'); "
+                               "symcirc does not write through links: remove it, name the file "
+                               "itself, or use `-o -` for standard output", file=str(path))
         if stat.S_ISDIR(info.st_mode):
             raise SymcircError("the output is a folder; give a file name", file=str(path))
         if not stat.S_ISREG(info.st_mode):
@@ -95,6 +96,13 @@ def _check(path: Path, inputs: dict[tuple[int, int], str]) -> Path:
         raise SymcircError(f"cannot write into folder '{folder}': it is read-only for this user",
                            file=str(path))
     return path
+
+
+def _link_target(path: Path) -> str:
+    try:
+        return os.readlink(path)
+    except OSError:
+        return "?"
 
 
 def write_file(path: str | os.PathLike, data: bytes,

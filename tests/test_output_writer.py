@@ -319,3 +319,21 @@ def test_a_parser_cache_others_may_write_is_not_used(tmp_path):
     os.chmod(cache / "symcirc", 0o777)
     _parse_in_a_fresh_process(cache, temporary)
     assert os.listdir(cache / "symcirc") == [] and os.listdir(temporary) == []
+
+
+def test_a_link_planted_between_writing_and_renaming_is_refused(tmp_path):
+    victim = tmp_path / "victim.txt"
+    victim.write_bytes(b"precious")
+    target = tmp_path / "n.md"
+    with pytest.raises(SymcircError, match="symbolic link"):
+        with Transaction() as files:
+            files.add(target, b"new")
+            target.symlink_to(victim)  # planted after the check, before the rename
+            files.commit()
+    assert victim.read_bytes() == b"precious" and target.is_symlink()
+    assert sorted(os.listdir(tmp_path)) == ["n.md", "victim.txt"]
+
+
+def test_standard_output_as_a_link_is_refused(rc, capsys):
+    status, err = _run("export", rc, Path("/dev/stdout"), capsys)
+    assert status == 2 and "use `-o -` for standard output" in err
