@@ -79,7 +79,11 @@ def verify_note(path: Path, source: str | None = None, source_folder: str | None
                                        f"'{marker.template}' (its marker says so); verify uses "
                                        "only a template folder named on the command line: "
                                        "look at that folder, then pass --template DIR")
-    digest = hashlib.sha256(circuit.read_bytes()).hexdigest()
+    try:
+        digest = hashlib.sha256(circuit.read_bytes()).hexdigest()
+    except OSError as err:
+        raise SymcircError(f"cannot read the circuit: {err.strerror or err}",
+                           str(circuit)) from None
     try:
         fresh = render_note_for(circuit, marker.format, marker.quantities, template,
                                 output_path=path)
