@@ -4,8 +4,9 @@
   created exclusively, never through an existing name or link), then is renamed over the
   target: readers see the old file or the new one, never half of one.
 - A target that is a symbolic link, a folder or anything but a regular file (a device, a
-  FIFO, a socket) is refused, never replaced; so is a target that is one of the command's
-  own inputs (same device and inode: links and hard links to an input count).
+  FIFO, a socket) is refused, never replaced; so is a read-only file (no write permission
+  for anyone, or not for this user) and a target that is one of the command's own inputs
+  (same device and inode: links and hard links to an input count).
 - Several files are committed together (`Transaction`): all go to temporaries first, then
   are renamed in the order they were added, the document last. Figures of a note are named
   after what they show (see `report.figures`), so a new figure never takes the name of one
@@ -88,6 +89,9 @@ def _check(path: Path, inputs: dict[tuple[int, int], str]) -> Path:
             kind = next((k for test, k in _KINDS.items() if test(info.st_mode)), "not a file")
             raise SymcircError(f"the output is {kind}, not a regular file; symcirc writes only "
                                "regular files (`-o -` writes to standard output)", file=str(path))
+        if not info.st_mode & 0o222 or not os.access(path, os.W_OK):
+            raise SymcircError("the output is read-only; make it writable or choose another "
+                               "name", file=str(path))
     folder = path.parent
     if not folder.is_dir():
         problem = "is not a folder" if os.path.lexists(folder) else "does not exist"

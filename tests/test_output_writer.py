@@ -337,3 +337,13 @@ def test_a_link_planted_between_writing_and_renaming_is_refused(tmp_path):
 def test_standard_output_as_a_link_is_refused(rc, capsys):
     status, err = _run("export", rc, Path("/dev/stdout"), capsys)
     assert status == 2 and "use `-o -` for standard output" in err
+
+
+@pytest.mark.parametrize("command", sorted(COMMANDS))
+def test_a_read_only_file_is_not_replaced(command, rc, tmp_path, capsys):
+    target = tmp_path / "out.svg"
+    target.write_bytes(b"kept")
+    os.chmod(target, 0o444)  # no write permission for anyone: refused even for root
+    status, err = _run(command, rc, target, capsys)
+    assert status == 2 and f"{target}: error: the output is read-only" in err
+    assert target.read_bytes() == b"kept"
