@@ -189,3 +189,18 @@ def test_an_explicit_source_is_used_and_its_errors_shown(divider, tmp_path, caps
     broken.write_text("resistr R1 (a, gnd) = 1k\n", encoding="utf-8")
     assert main(["verify", str(note), "--source", str(broken)]) == 2
     assert "resistr R1" in capsys.readouterr().err  # the user named it: shown in full
+
+
+def test_a_note_written_with_own_templates_verifies_when_they_are_given(divider, tmp_path,
+                                                                         capsys):
+    templates = tmp_path / "mine"
+    templates.mkdir()
+    (templates / "note.md.j2").write_text(
+        "# {{ note.title | escape_md }}\n{% for r in note.results %}{{ r.quantity }}\n"
+        "{% endfor %}<!-- symcirc-note {{ note.marker }} -->\n", encoding="utf-8")
+    note = tmp_path / "n.md"
+    assert main(["note", str(divider), "-o", str(note), "--template", str(templates)]) == 0
+    capsys.readouterr()
+    assert main(["verify", str(note)]) == 2  # the marker's folder is not used on its own
+    assert main(["verify", str(note), "--template", str(templates)]) == 0
+    assert "matches divider.circuit" in capsys.readouterr().out
