@@ -347,3 +347,15 @@ def test_a_read_only_file_is_not_replaced(command, rc, tmp_path, capsys):
     status, err = _run(command, rc, target, capsys)
     assert status == 2 and f"{target}: error: the output is read-only" in err
     assert target.read_bytes() == b"kept"
+
+
+def test_concurrent_runs_both_succeed(rc, tmp_path):
+    target = tmp_path / "p.py"
+    command = [sys.executable, "-m", "symcirc.cli", "export", str(rc), "--lang", "python",
+               "-o", str(target)]
+    runs = [subprocess.Popen(command, stdout=subprocess.PIPE, stderr=subprocess.PIPE)
+            for _ in range(2)]
+    results = [run.communicate(timeout=300) for run in runs]
+    assert [run.returncode for run in runs] == [0, 0]
+    assert all(b"Traceback" not in err for _, err in results)
+    assert b"def " in target.read_bytes() and _hidden(tmp_path) == []
