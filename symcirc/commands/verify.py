@@ -67,10 +67,10 @@ def verify_note(path: Path, source: str | None = None, source_folder: str | None
         marker = read_marker(text)
     except NoteProblem as problem:
         raise SymcircError(str(problem), str(path)) from None
-    named = source is None
+    from_marker = source is None
     circuit = Path(source) if source is not None else _marked_source(path, marker, source_folder)
     if not circuit.is_file():
-        if named:
+        if from_marker:
             raise _at_marker(path, marker, f"the note's source '{marker.source}' is missing "
                                            f"(looked for {circuit})")
         raise SymcircError("no such circuit file", source)
@@ -88,7 +88,7 @@ def verify_note(path: Path, source: str | None = None, source_folder: str | None
         fresh = render_note_for(circuit, marker.format, marker.quantities, template,
                                 output_path=path)
     except SymcircError as err:
-        if named and _is_about(err, circuit):  # never show the text of a file a note named
+        if from_marker and _is_about(err, circuit):  # never show the text of a file a note named
             where = f" (line {err.line}, column {err.column})" if err.line else ""
             raise _at_marker(path, marker, f"the note's source '{marker.source}' cannot be read "
                                            f"as a circuit{where}; see why with: symcirc inspect "
