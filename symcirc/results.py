@@ -139,7 +139,7 @@ class Result:
         return f"<Result {self.quantity} = {self.text()}>"
 
     def to_json(self) -> dict[str, Any]:
-        """The object of `--format json` (see shared/design.md)."""
+        """The object of `--format json` (one per result)."""
         out: dict[str, Any] = {
             "quantity": self.quantity,
             "expression": self.text(),

@@ -205,12 +205,12 @@ PUBLISHED = {
     "transimpedance": ("current source Iin (n, gnd)\ncapacitor Cs (n, gnd)\n"
                        "resistor Rf (n, o)\nopamp U1 (gnd, n, o)\nport out (o, gnd)\n"),
     "common_source": ("param gm\nvoltage source Uin (g, gnd)\nresistor RD (d, gnd)\n"
-                      "resistor RS (src, gnd)\ncurrent source Gm (src, d) = gm*V(g, src)\n"
+                      "resistor RS (src, gnd)\ncurrent source Igm (src, d) = gm*V(g, src)\n"
                       "port out (d, gnd)\n"),
     "common_emitter": ("param gm\nvoltage source Uin (b, gnd)\nresistor rpi (b, e)\n"
                        "resistor RC (c, gnd)\nresistor RE (e, gnd)\n"
-                       "current source Gm (e, c) = gm*V(b, e)\nport out (c, gnd)\n"),
-    "miller": ("param A\nvoltage source E (o, gnd) = -A*V(i)\ncapacitor C (i, o)\n"
+                       "current source Igm (e, c) = gm*V(b, e)\nport out (c, gnd)\n"),
+    "miller": ("param A\nvoltage source Uamp (o, gnd) = -A*V(i)\ncapacitor C (i, o)\n"
                "port in (i, gnd)\n"),
     "tee": ("impedance Za (a, m)\nimpedance Zb (m, b)\nimpedance Zc (m, gnd)\n"
             "port p1 (a, gnd)\nport p2 (b, gnd)\n"),

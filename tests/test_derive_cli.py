@@ -106,7 +106,7 @@ def test_json_contract_and_readback(front_end, capsys):
 def test_json_readback_with_pi_and_square_roots(tmp_path, capsys):
     path = tmp_path / "coupled.circuit"
     path.write_text("param f0 = 1 kHz\nvoltage source U (a, gnd)\ninductor L1 (a, gnd)\n"
-                    "inductor L2 (b, gnd)\nresistor R (b, gnd)\ncoupling K (L1, L2) = 0.5\n"
+                    "inductor L2 (b, gnd)\nresistor R (b, gnd)\ncoupling k12 (L1, L2) = 0.5\n"
                     "capacitor C (b, gnd) = 1/(2*pi*f0*R)\nresistor R2 (a, gnd) = 1k\n"
                     "port out (b, gnd)\n", encoding="utf-8")
     code, out, _ = run(capsys, str(path), "gain(U, out)", "--substitute", "--format", "json")

@@ -35,9 +35,9 @@ resistor  R1 (in, a) = 10 kΩ
 resistor  R2 (a, gnd)
 capacitor Cf (a, out) = 10 nF
 inductor  L1 (out, b)
-conductance G1 (b, gnd)
+conductance Gp (b, gnd)
 voltage source Uin (in, gnd)
-current source Gm (out, gnd) = gm*V(a, gnd)
+current source Igm (out, gnd) = gm*V(a, gnd)
 opamp U1 (gnd, a, out) = A0/(1 + s*tau)
 param A0 = 100000
 port o (out, gnd)
@@ -82,8 +82,8 @@ def test_unknown_units_are_not_guessed():
 def test_symbol_dimensions(circuit):
     dims = symbol_dimensions(circuit)
     assert dims["R1"] == dims["R2"] == UNITS["Ω"]
-    assert dims["Cf"] == UNITS["F"] and dims["L1"] == UNITS["H"] and dims["G1"] == UNITS["S"]
-    assert dims["Uin"] == UNITS["V"] and dims["Gm"] == UNITS["A"]
+    assert dims["Cf"] == UNITS["F"] and dims["L1"] == UNITS["H"] and dims["Gp"] == UNITS["S"]
+    assert dims["Uin"] == UNITS["V"] and dims["Igm"] == UNITS["A"]
     assert dims["U1"] == DIMENSIONLESS and dims["s"] == UNITS["Hz"]
     assert dims["Rb"] == UNITS["Ω"]
     assert dims["tau"] == UNITS["s"]  # from its definition Rb*Cf
@@ -170,8 +170,8 @@ capacitor C1 (a, gnd)
     # A `where` clause comparing a resistance with a capacitance.
     ("derive V(a) where R1 >> C1\n", (6, 19), "`R1 >> C1` compares Ω with F"),
     # A transconductance written as a capacitance: the coefficient is named and pointed at.
-    ("current source G (a, gnd) = C1*V(in, gnd)\nderive V(a)\n", (6, 29),
-     "`C1` is in F, but the coefficient of V(..) in current source G is in S"),
+    ("current source Igm (a, gnd) = C1*V(in, gnd)\nderive V(a)\n", (6, 31),
+     "`C1` is in F, but the coefficient of V(..) in current source Igm is in S"),
     # A defining value adding a capacitance to a resistance names both terms.
     ("resistor R3 (a, gnd) = R1 + 10 nF\nderive V(a)\n", (6, 24),
      "adds Ω and F: the terms' units differ (`R1` is in Ω, `10 nF` in F)"),

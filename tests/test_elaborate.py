@@ -69,10 +69,10 @@ def test_every_symbol_is_a_plain_symbol():
 
 
 def test_port_voltage_in_a_control_and_current_of_source():
-    circuit = symcirc.parse(DIVIDER + "voltage source E (o, gnd) = 3*V(out) + I(U1)\n"
+    circuit = symcirc.parse(DIVIDER + "voltage source Uamp (o, gnd) = 3*V(out) + I(U1)\n"
                             "resistor RL (o, gnd) = 1k\n")
     controls = {(c.kind, c.nodes, c.element): c.coefficient
-                for c in circuit.elements["E"].controls}
+                for c in circuit.elements["Uamp"].controls}
     assert controls == {("voltage", ("b", REFERENCE), None): 3, ("current", (), "U1"): 1}
 
 
@@ -84,7 +84,7 @@ def test_port_voltage_in_a_control_and_current_of_source():
 def test_controls_match_sympy_derivatives(terms):
     # A random linear combination; sympy differentiates the same sum independently.
     text = " + ".join(f"({c}){m}*{v}" for c, v, m in terms)
-    source = (DIVIDER + "param k = 2\n" + f"current source G (gnd, o) = {text}\n"
+    source = (DIVIDER + "param k = 2\n" + f"current source Igm (gnd, o) = {text}\n"
               "resistor RL (o, gnd) = 1k\n")
     placeholders = {v: S(f"x{i}") for i, v in enumerate(["V(a)", "V(b)", "V(a, b)",
                                                          "I(R1)", "I(U1)"])}
@@ -101,9 +101,9 @@ def test_controls_match_sympy_derivatives(terms):
     circuit = symcirc.parse(source)
     if all(sympy.simplify(v) == 0 for v in expected.values()):
         # every term cancelled: an independent source of value 0
-        assert not circuit.elements["G"].controls and circuit.elements["G"].nominal == 0
+        assert not circuit.elements["Igm"].controls and circuit.elements["Igm"].nominal == 0
     got = {(c.kind, c.nodes if c.kind == "voltage" else c.element): c.coefficient
-           for c in circuit.elements["G"].controls}
+           for c in circuit.elements["Igm"].controls}
     for key, value in expected.items():
         assert sympy.simplify(got.get(key, 0) - value) == 0, (text, key)
 
@@ -140,8 +140,8 @@ def test_units_of_expressions_are_checked():
 
 
 def test_plain_numbers_take_any_unit():
-    circuit = symcirc.parse(DIVIDER + "current source G (gnd, b) = 10m*V(a)\n")
-    assert circuit.elements["G"].controls[0].coefficient == Fraction(1, 100)
+    circuit = symcirc.parse(DIVIDER + "current source Igm (gnd, b) = 10m*V(a)\n")
+    assert circuit.elements["Igm"].controls[0].coefficient == Fraction(1, 100)
 
 
 def test_block_defined_inside_a_block_and_recursion_through_nesting():

@@ -47,19 +47,19 @@ resistor   Rt (exc, b) = R0*(1 + alpha*T)   "sensor"
 capacitor  C1 (b, 0) = 10 nF +80 % -20 %
 inductor   L1 (b, c) = 4.7 mH
 inductor   L2 (d, gnd) = 10 mH
-conductance G1 (c, gnd) = 1 mS
+conductance Gp (c, gnd) = 1 mS
 impedance  Z1 (a, c)
 admittance Y1 (c, gnd)
 current source Iq (a, gnd) = 1 mA
-voltage source E1 (e, gnd) = 2*V(a, b)
-current source F1 (e, gnd) = gm*V(c)
+voltage source Uamp (e, gnd) = 2*V(a, b)
+current source Igm (e, gnd) = gm*V(c)
 opamp      U1 (a, f, f)
 opamp      U2 (b, g, g) = A0/(1 + s/wa)
 transformer T1 (g, gnd; h, gnd) = N
-coupling   K1 (L1, L2) = k
+coupling   k12 (L1, L2) = k
 resistor   R9 (h, d) = 1k
 resistor   R10 (e, gnd) = 10k
-voltage source H1 (m, gnd) = 50*I(R9)
+voltage source Urm (m, gnd) = 50*I(R9)
 resistor   R11 (m, gnd) = sqrt(R0*R10)/pi
 port out (a, b)   "ADC input"
 

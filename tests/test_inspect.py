@@ -70,13 +70,13 @@ def test_controls_and_opamps_in_json(capsys):
     path = str(ROOT / "tests" / "valid" / "sources_controls.circuit")
     _, out, _ = run(capsys, path, "--format", "json")
     elements = {e["name"]: e for e in json.loads(out)["elements"]}
-    assert elements["E1"]["controls"] == [
+    assert elements["Uamp"]["controls"] == [
         {"kind": "voltage", "coefficient": "A", "nodes": ["b", "e"]},
         {"kind": "voltage", "coefficient": "-2", "nodes": ["c", "gnd"]},
     ]
-    assert elements["H1"]["independent"] == "1"
+    assert elements["Urm"]["independent"] == "1"
     assert elements["U1"]["ideal"] and not elements["U2"]["ideal"]
-    assert elements["K1"]["coupled"] == ["L1", "L2"]
+    assert elements["k12"]["coupled"] == ["L1", "L2"]
 
 
 def test_notices_go_to_stderr_as_warnings(capsys):

@@ -69,7 +69,7 @@ def test_every_matrix_entry_is_a_polynomial_even_with_rational_coefficients():
     """A controlled source with coefficient A/(1 + s*tau) is multiplied through."""
     circuit = symcirc.parse(
         "param A\nparam tau\nvoltage source U (a, gnd)\nresistor R1 (a, b)\n"
-        "voltage source E (o, gnd) = A/(1 + s*tau)*V(b)\nresistor R2 (b, gnd)\n"
+        "voltage source Uamp (o, gnd) = A/(1 + s*tau)*V(b)\nresistor R2 (b, gnd)\n"
         "resistor R3 (o, gnd)\n")
     equations = Equations(build_network(circuit))
     ring = equations.ring
@@ -77,7 +77,7 @@ def test_every_matrix_entry_is_a_polynomial_even_with_rational_coefficients():
         for entry in row.values():
             assert ring.is_zero(entry) or ring.terms(entry)  # a polynomial of the ring
     (gain,) = circuit.derive("gain(U, V(o))")
-    # E's output is A/(1 + s*tau) times the divider R2/(R1 + R2) (common practice)
+    # Uamp's output is A/(1 + s*tau) times the divider R2/(R1 + R2) (common practice)
     A, tau, s, R1, R2 = sympy.symbols("A tau s R1 R2")
     assert sympy.cancel(gain.expression - A / (1 + s * tau) * R2 / (R1 + R2)) == 0
 
@@ -156,20 +156,20 @@ param wa
 voltage source U (in, gnd)
 current source J (m, gnd)
 resistor R1 (in, m)
-conductance G1 (m, gnd)
+conductance Gp (m, gnd)
 capacitor C1 (m, x)
 inductor L1 (x, gnd)
 inductor L2 (y, gnd)
-coupling K1 (L1, L2) = 0.5
+coupling k12 (L1, L2) = 0.5
 impedance Z1 (y, t)
 transformer T1 (t, gnd; w, gnd) = 3
 admittance Y1 (w, gnd)
-voltage source E (e, gnd) = k*V(m, x)
+voltage source Uamp (e, gnd) = k*V(m, x)
 resistor R2 (e, n)
 resistor R3 (n, o)
 opamp X (gnd, n, o)
-current source F (o, gnd) = g*V(x) + beta*I(R2)
-voltage source H (h, gnd) = rm*I(L1)
+current source Igm (o, gnd) = g*V(x) + beta*I(R2)
+voltage source Urm (h, gnd) = rm*I(L1)
 resistor R4 (h, p)
 resistor R5 (p, q)
 capacitor C2 (q, gnd)

@@ -133,16 +133,16 @@ def _mixed_circuit(rng: random.Random) -> _Mixed:
                                for _ in range(2))
     c, d = m.pick()
     k1 = m.name("k")
-    m.values[k1] = Fraction(rng.choice([2, 3, 4, 5, 6, 8, 9]), 7)  # never 1: E = V(E) is singular
-    m.add("voltage source", "E", m.voltage_pair(), f"{k1}*V({c}, {d})", ("V", k1, c, d))
+    m.values[k1] = Fraction(rng.choice([2, 3, 4, 5, 6, 8, 9]), 7)  # never 1: a unity source across its own control is singular
+    m.add("voltage source", "Uamp", m.voltage_pair(), f"{k1}*V({c}, {d})", ("V", k1, c, d))
     k2 = m.value(m.name("g"), 1, 5)
     c, d = m.pick()
-    m.add("current source", "F", tuple(m.pick()), f"{k2}*V({c}, {d})", ("V", k2, c, d))
+    m.add("current source", "Igm", tuple(m.pick()), f"{k2}*V({c}, {d})", ("V", k2, c, d))
     k3 = m.value(m.name("r"), 1, 50)
-    m.add("voltage source", "H", m.voltage_pair(), f"{k3}*I({controller})",
+    m.add("voltage source", "Urm", m.voltage_pair(), f"{k3}*I({controller})",
           ("I", k3, controller))
     k4 = m.value(m.name("b"), 1, 5)
-    m.add("current source", "K", tuple(m.pick()), f"-{k4}*I({controller2})",
+    m.add("current source", "Ibeta", tuple(m.pick()), f"-{k4}*I({controller2})",
           ("I", -1, k4, controller2))
     # an ideal opamp as an inverting stage on new nodes, output tied back by a resistor
     src = rng.choice(nodes)

@@ -1,5 +1,5 @@
 """The parser: every construct of the circuit language (the normative page is
-shared/language.md) becomes the expected syntax-tree dataclasses, with line and column."""
+docs/language.md) becomes the expected syntax-tree dataclasses, with line and column."""
 
 import ast
 import re
@@ -93,9 +93,9 @@ def test_element_value_is_an_expression_of_parameters():
 
 
 def test_controlled_sources_use_voltages_and_currents():
-    text = ("voltage source E1 (o, gnd) = A*V(p, n)\n"
-            "current source F1 (c, e) = beta*I(Rb)\n"
-            "current source Gm (c, e) = gm*V(b)")
+    text = ("voltage source Uamp (o, gnd) = A*V(p, n)\n"
+            "current source Ibeta (c, e) = beta*I(Rb)\n"
+            "current source Igm (c, e) = gm*V(b)")
     e1, f1, gm = parse_document(text).statements
     assert e1.value.expression == sx.Binary(
         *where(text, "A*"), "*", name(text, "A"),
@@ -109,7 +109,7 @@ def test_controlled_sources_use_voltages_and_currents():
 def test_opamp_transformer_and_coupling():
     text = ("opamp        U2 (p, n, o) = A0/(1 + s/wa)\n"
             "transformer  T1 (p1, n1; p2, n2) = N\n"
-            "coupling     K1 (L1, L2) = k")
+            "coupling     k12 (L1, L2) = k")
     opamp, transformer, coupling = parse_document(text).statements
     assert opamp.kind == "opamp"
     assert [t.name for t in opamp.terminals] == ["p", "n", "o"]
@@ -117,7 +117,7 @@ def test_opamp_transformer_and_coupling():
     assert transformer.terminals == tuple(name(text, n) for n in ("p1", "n1", "p2", "n2"))
     assert transformer.value.expression == name(text, "N")
     assert coupling == sx.ElementStatement(
-        3, 1, "coupling", name(text, "K1"), (name(text, "L1"), name(text, "L2")),
+        3, 1, "coupling", name(text, "k12"), (name(text, "L1"), name(text, "L2")),
         sx.Value(*where(text, "k"), name(text, "k"), None, "k"), None)
 
 

@@ -330,10 +330,10 @@ def test_common_source_gain_with_and_without_degeneration():
     # gm*v_gs flows from drain to source through the device: a source driving into `src`.
     gm, RD, RS = sym("gm RD RS")
     plain = ("param gm\nvoltage source Uin (g, gnd)\nresistor RD (d, gnd)\n"
-             "current source Gm (gnd, d) = gm*V(g, gnd)\nport out (d, gnd)\n")
+             "current source Igm (gnd, d) = gm*V(g, gnd)\nport out (d, gnd)\n")
     assert same(derived(plain, "gain(Uin, out)"), -gm * RD)
     degenerated = ("param gm\nvoltage source Uin (g, gnd)\nresistor RD (d, gnd)\n"
-                   "resistor RS (src, gnd)\ncurrent source Gm (src, d) = gm*V(g, src)\n"
+                   "resistor RS (src, gnd)\ncurrent source Igm (src, d) = gm*V(g, src)\n"
                    "port out (d, gnd)\n")
     assert same(derived(degenerated, "gain(Uin, out)"), -gm * RD / (1 + gm * RS))
 
@@ -344,11 +344,11 @@ def test_common_emitter_gain_hybrid_pi_with_and_without_degeneration():
     # amplifier with emitter resistance (from memory)
     gm, RC, RE, rpi = sym("gm RC RE rpi")
     plain = ("param gm\nvoltage source Uin (b, gnd)\nresistor rpi (b, gnd)\nresistor RC (c, gnd)\n"
-             "current source Gm (gnd, c) = gm*V(b, gnd)\nport out (c, gnd)\n")
+             "current source Igm (gnd, c) = gm*V(b, gnd)\nport out (c, gnd)\n")
     assert same(derived(plain, "gain(Uin, out)"), -gm * RC)
     degenerated = ("param gm\nvoltage source Uin (b, gnd)\nresistor rpi (b, e)\n"
                    "resistor RC (c, gnd)\nresistor RE (e, gnd)\n"
-                   "current source Gm (e, c) = gm*V(b, e)\nport out (c, gnd)\n")
+                   "current source Igm (e, c) = gm*V(b, e)\nport out (c, gnd)\n")
     beta = gm * rpi
     assert same(derived(degenerated, "gain(Uin, out)"), -beta * RC / (rpi + (beta + 1) * RE))
 
@@ -358,7 +358,7 @@ def test_miller_input_capacitance():
     # the load in the plate circuit", Sci. Papers Bur. Standards 15 (1920): a capacitance C
     # across an inverting gain -A appears at the input as C*(1 + A)
     A, C = sym("A C")
-    text = ("param A\nvoltage source E (o, gnd) = -A*V(i)\ncapacitor C (i, o)\nport in (i, gnd)\n")
+    text = ("param A\nvoltage source Uamp (o, gnd) = -A*V(i)\ncapacitor C (i, o)\nport in (i, gnd)\n")
     assert same(derived(text, "Y(in)"), s * C * (1 + A))
 
 

@@ -90,9 +90,9 @@ def test_transfer_from_a_source_the_quantity_does_not_depend_on_is_zero_and_says
 
 
 def test_gain_from_a_controlled_source_or_an_element_is_refused():
-    text = DIVIDER + "param k\nvoltage source E (e, gnd) = k*V(o)\nresistor R3 (e, gnd)\n"
-    err = error_of(text, "gain(E, out)")
-    assert "E is a controlled source" in err.message
+    text = DIVIDER + "param k\nvoltage source Uamp (e, gnd) = k*V(o)\nresistor R3 (e, gnd)\n"
+    err = error_of(text, "gain(Uamp, out)")
+    assert "Uamp is a controlled source" in err.message
     err = error_of(text, "gain(R1, out)")
     assert "R1 is a resistor, not a source" in err.message
 
@@ -155,18 +155,18 @@ def test_opamp_without_feedback_is_named():
 
 
 def test_voltage_source_that_sets_its_own_voltage_is_singular_and_named():
-    text = "param k\nvoltage source E (o, gnd) = V(o)\nresistor R (o, gnd)\nport out (o, gnd)\n"
+    text = "param k\nvoltage source Uamp (o, gnd) = V(o)\nresistor R (o, gnd)\nport out (o, gnd)\n"
     err = error_of(text, "V(out)")
     assert "no unique solution" in err.message
-    assert "controlled source E makes them dependent" in err.message
+    assert "controlled source Uamp makes them dependent" in err.message
     assert "set by V(o)" in err.message
 
 
 def test_current_source_that_cancels_the_current_it_copies_is_named_with_its_control():
-    # F drives into gnd exactly the current R draws from node a: node a is left undetermined
-    text = "current source Iq (gnd, a)\nresistor R (a, gnd)\ncurrent source F (a, gnd) = I(R)\n"
+    # Icopy drives into gnd exactly the current R draws from node a: node a is left undetermined
+    text = "current source Iq (gnd, a)\nresistor R (a, gnd)\ncurrent source Icopy (a, gnd) = I(R)\n"
     err = error_of(text, "V(a)")
-    assert "controlled source F makes them dependent" in err.message
+    assert "controlled source Icopy makes them dependent" in err.message
     assert "set by I(R)" in err.message
 
 
@@ -234,8 +234,8 @@ def test_bad_arguments_are_reported_with_their_position(quantity, message):
 
 def test_current_of_a_coupling_is_refused():
     text = ("voltage source U (a, gnd)\ninductor L1 (a, gnd)\ninductor L2 (b, gnd)\n"
-            "resistor R (b, gnd)\ncoupling K (L1, L2) = 0.9\n")
-    err = error_of(text, "I(K)")
+            "resistor R (b, gnd)\ncoupling k12 (L1, L2) = 0.9\n")
+    err = error_of(text, "I(k12)")
     assert "carries no current" in err.message and "I(L1)" in err.message
 
 

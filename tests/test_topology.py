@@ -24,7 +24,7 @@ def _random_circuit(rng: random.Random) -> tuple[str, list[tuple[str, str, str, 
 def _expected(parts) -> str | None:
     """What networkx says is wrong first: loop, floating group, cut set, or nothing."""
     if all(REFERENCE not in (a, b) for _, _, a, b in parts):
-        # no reference named: the first node seen becomes it (shared/language.md)
+        # no reference named: the first node seen becomes it (docs/language.md)
         first = parts[0][2]
         parts = [(k, n, *(REFERENCE if x == first else x for x in (a, b)))
                  for k, n, a, b in parts]
@@ -118,10 +118,10 @@ def test_transformer_windings_and_opamp_output():
 
 def test_controlled_current_source_cut_set():
     text = ("voltage source U (b, gnd) = 1\nresistor Rb (b, gnd) = 1k\n"
-            "current source G (c, gnd) = gm*V(b)\nparam gm = 1m\n")
+            "current source Igm (c, gnd) = gm*V(b)\nparam gm = 1m\n")
     with pytest.raises(symcirc.SymcircError) as caught:
         symcirc.parse(text)
-    assert "node c connects to the rest of the circuit only through current source G" \
+    assert "node c connects to the rest of the circuit only through current source Igm" \
         in caught.value.message
 
 
@@ -140,7 +140,7 @@ def test_union_find_matches_networkx_components():
 
 def test_opamp_outputs_count_as_voltage_sources_in_loops():
     # An opamp's output is an ideal voltage source from its output node to the reference
-    # (shared/language.md: "output ideal"); networkx finds the loops independently.
+    # (docs/language.md: the output is ideal); networkx finds the loops independently.
     rng = random.Random(31)
     seen = set()
     for _ in range(300):

@@ -1,5 +1,5 @@
 """The valid corpus (tests/valid/*.circuit) read into the model: nodes, values, nominal
-numbers, tolerances, controls and block expansion names, as shared/language.md defines them.
+numbers, tolerances, controls and block expansion names, as docs/language.md defines them.
 """
 
 from fractions import Fraction
@@ -42,11 +42,11 @@ def test_numbers_prefixes_and_codes():
     assert e["C2"].nominal == Fraction(22, 10**7)
     assert e["C3"].nominal == Fraction(1, 10**9)
     assert e["L1"].nominal == Fraction(1, 10**5)
-    assert e["G1"].nominal == Fraction(2, 1000)
+    assert e["Gp"].nominal == Fraction(2, 1000)
     assert e["R8"].nominal == 2_500_000
-    assert all(e[n].definition is None for n in ("R2", "R3", "R4", "C1", "G1"))
+    assert all(e[n].definition is None for n in ("R2", "R3", "R4", "C1", "Gp"))
     assert e["R2"].symbol == S("R2")
-    assert e["C1"].unit == "F" and e["G1"].unit == "S" and e["L1"].unit == "H"
+    assert e["C1"].unit == "F" and e["Gp"].unit == "S" and e["L1"].unit == "H"
     assert e["R3"].written == "4k7 +- 5 Ω"
 
 
@@ -104,17 +104,17 @@ def test_symbol_nominals_cover_parameters_and_elements():
 
 def test_controlled_sources_are_linear_terms():
     e = load("sources_controls").elements
-    gm = e["Gm"]
+    gm = e["Igm"]
     assert gm.is_controlled and gm.nominal is None and gm.independent is None
     (term,) = gm.controls
     assert (term.kind, term.nodes, term.coefficient) == ("voltage", ("b", "e"), S("gm"))
     # V(port) expands to the port's nodes; terms keep their own coefficients
-    e1 = {c.nodes: c.coefficient for c in e["E1"].controls}
+    e1 = {c.nodes: c.coefficient for c in e["Uamp"].controls}
     assert e1 == {("b", "e"): S("A"), ("c", REFERENCE): -2}
-    (h,) = e["H1"].controls
+    (h,) = e["Urm"].controls
     assert (h.kind, h.element, h.coefficient) == ("current", "Rs", S("rm"))
-    assert e["H1"].independent == 1
-    (f,) = e["F1"].controls
+    assert e["Urm"].independent == 1
+    (f,) = e["Ibeta"].controls
     assert (f.element, f.coefficient) == ("Rb", S("beta") / 2)
 
 
@@ -126,8 +126,8 @@ def test_opamps_transformer_and_coupling():
     assert not e["U2"].is_ideal_opamp
     assert e["U3"].nominal == 200_000 and not e["U3"].is_ideal_opamp
     assert e["T1"].nodes == ("o5", REFERENCE, "s1", "s2") and e["T1"].nominal == 10
-    assert e["K1"].coupled == ("L1", "L2") and e["K1"].nodes == ()
-    assert e["K1"].nominal == Fraction(9, 10)
+    assert e["k12"].coupled == ("L1", "L2") and e["k12"].nodes == ()
+    assert e["k12"].nominal == Fraction(9, 10)
     assert circuit.ports["vin"].positive == "b" and circuit.ports["vin"].negative == "e"
 
 

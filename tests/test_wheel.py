@@ -31,7 +31,7 @@ def test_wheel_installs_and_reads_an_example(tmp_path: Path):
     wheels = tmp_path / "wheels"
     _run(sys.executable, "-m", "build", "--wheel", "--outdir", str(wheels), str(source),
          cwd=tmp_path)
-    (wheel,) = wheels.glob("symcirc-*.whl")
+    (wheel,) = wheels.glob("circuit_formulary-*.whl")
 
     venv = tmp_path / "venv"
     _run(sys.executable, "-m", "venv", str(venv), cwd=tmp_path)

@@ -72,7 +72,7 @@ def run(args: argparse.Namespace) -> int:
     circuit = load(args.file)
     from ..check.dimensions import check_circuit
 
-    check_circuit(circuit)  # `where` clauses and controlled-source coefficients (issue 7)
+    check_circuit(circuit)  # `where` clauses and controlled-source coefficients
     for notice in circuit.notices:
         print(_notice(notice, circuit), file=sys.stderr)
     jobs = []  # (quantity, options)

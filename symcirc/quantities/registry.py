@@ -16,7 +16,7 @@ from dataclasses import dataclass
 from ..model.circuit import Assumption
 
 HANDLERS: dict[str, str] = {
-    # engine quantities (issue: derive)
+    # engine quantities
     "V": "symcirc.quantities.basic:voltage",
     "I": "symcirc.quantities.basic:current",
     "thevenin": "symcirc.quantities.equivalents:thevenin_quantity",
@@ -27,7 +27,7 @@ HANDLERS: dict[str, str] = {
     "twoport": "symcirc.quantities.twoports:twoport_quantity",
     "sensitivity": "symcirc.quantities.sensitivity:sensitivity_quantity",
     "relative_sensitivity": "symcirc.quantities.sensitivity:relative_sensitivity_quantity",
-    # design analyses (issue: analyses)
+    # design analyses
     "sensitivities": "symcirc.analysis.quantities:sensitivities_quantity",
     "tolerance": "symcirc.analysis.quantities:tolerance_quantity",
     "loading": "symcirc.analysis.quantities:loading_quantity",
