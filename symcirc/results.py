@@ -15,6 +15,13 @@ from typing import Any, Protocol
 import sympy
 
 
+def markdown_text(text: str) -> str:
+    """Plain text safe in Markdown (no markup characters act)."""
+    for char in "\\`*_[]<>#|$":
+        text = text.replace(char, "\\" + char)
+    return text
+
+
 class ExactValue(Protocol):
     """What the engine hands over: a canonical ratio of polynomials (algebra.rational)."""
 
@@ -67,6 +74,9 @@ class Result:
         self.steps: list[Step] = []
         self.details: dict[str, Any] = {}
         """Extra named results (analyses put tables here)."""
+        self.cautions: list[str] = []
+        """Safety cautions shown with the result (set by `Circuit.derive`; see
+        symcirc.analysis.cautions)."""
 
     # -- the value
     @property
@@ -131,6 +141,14 @@ class Result:
 
     def _repr_latex_(self) -> str:
         return f"$\\displaystyle {self.quantity_latex()} = {self.latex()}$"
+
+    def _repr_markdown_(self) -> str | None:
+        """In Jupyter: the formula, then its cautions (None without any: LaTeX is shown)."""
+        if not self.cautions:
+            return None
+        lines = [f"$$ {self.quantity_latex()} = {self.latex()} $$", ""]
+        lines += [f"> **Caution.** {markdown_text(c)}\n>" for c in self.cautions]
+        return "\n".join(lines)
 
     def quantity_latex(self) -> str:
         return r"\mathrm{" + self.quantity.replace("_", r"\_") + "}"

@@ -252,9 +252,11 @@ def test_cautions_for_high_voltage_and_dissipation(tmp_path):
     # independent figures: I = 325/101k; P(Rtop) = I²·100k ≈ 1.035 W; node line at 325 V
     current = 325 / 101e3
     assert current**2 * 100e3 > 0.25 and current**2 * 1e3 < 0.25
-    assert "Node line is at 325 V" in text
+    assert "325 V DC between line and gnd" in text
     assert "Rtop dissipates 1.035 W" in text and "Rbot dissipates" not in text
     assert "local codes" in text and "licensed" in text
+    # the cautions come right under the title, before the results
+    assert text.index("## Cautions") < text.index("## Summary")
 
 
 def test_no_caution_for_the_low_voltage_examples(notes):

@@ -133,7 +133,7 @@ def _mixed_circuit(rng: random.Random) -> _Mixed:
                                for _ in range(2))
     c, d = m.pick()
     k1 = m.name("k")
-    m.values[k1] = Fraction(rng.choice([2, 3, 4, 5, 6, 8, 9]), 7)  # never 1: a unity source across its own control is singular
+    m.values[k1] = Fraction(rng.choice([2, 3, 4, 5, 6, 8, 9]), 7)  # never 1: singular
     m.add("voltage source", "Uamp", m.voltage_pair(), f"{k1}*V({c}, {d})", ("V", k1, c, d))
     k2 = m.value(m.name("g"), 1, 5)
     c, d = m.pick()

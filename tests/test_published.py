@@ -358,7 +358,8 @@ def test_miller_input_capacitance():
     # the load in the plate circuit", Sci. Papers Bur. Standards 15 (1920): a capacitance C
     # across an inverting gain -A appears at the input as C*(1 + A)
     A, C = sym("A C")
-    text = ("param A\nvoltage source Uamp (o, gnd) = -A*V(i)\ncapacitor C (i, o)\nport in (i, gnd)\n")
+    text = ("param A\nvoltage source Uamp (o, gnd) = -A*V(i)\ncapacitor C (i, o)\n"
+            "port in (i, gnd)\n")
     assert same(derived(text, "Y(in)"), s * C * (1 + A))
 
 

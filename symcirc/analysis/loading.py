@@ -18,14 +18,9 @@ import sympy
 
 from ..model.circuit import LAPLACE
 from ..model.units import eng
+from .cautions import value_caution
 from .tidy import tidy
 from .values import exact_value, rational
-
-HAZARDOUS_VOLTAGE = 50
-"""Volts: above this at nominal, results carry a safety caution (a common low-voltage limit)."""
-CAUTION_POWER = Fraction(1, 4)
-"""Watts: above this in one part (at nominal) results carry a power-rating caution."""
-
 
 def _tidy(expression: sympy.Expr) -> sympy.Expr:
     """A readable closed form: cancelled and factored (rational functions stay rational)."""
@@ -161,17 +156,19 @@ def minimum_load(
 
 
 def cautions(voltage: float | None, power: float | None, where: str) -> list[str]:
-    """Safety cautions for a voltage or dissipation at nominal that calls for one."""
+    """Safety cautions for a voltage or dissipation at nominal that calls for one (the limits
+    of symcirc.analysis.cautions)."""
     out = []
-    if voltage is not None and abs(voltage) > HAZARDOUS_VOLTAGE:
+    above = value_caution(voltage, "V")
+    if above:
         out.append(
-            f"Caution: {eng(abs(voltage), 'V')} at {where} (above {HAZARDOUS_VOLTAGE} V). "
-            "Voltages at this level can be hazardous: follow local electrical codes and licensed "
-            "practice for insulation, clearances and protection; this result is no safety review.")
-    if power is not None and abs(power) > CAUTION_POWER:
+            f"Caution: {eng(abs(voltage), 'V')} at {where}: {above}. Voltages at this level can "
+            "be hazardous: follow local electrical codes and licensed practice for insulation, "
+            "clearances and protection; this result is no safety review.")
+    above = value_caution(power, "W")
+    if above:
         out.append(
-            f"Caution: {eng(abs(power), 'W')} dissipated in {where} (above "
-            f"{float(CAUTION_POWER)} W). Check the part's power rating with derating for the "
-            "ambient temperature and its surface temperature; follow local codes and licensed "
-            "practice.")
+            f"Caution: {eng(abs(power), 'W')} dissipated in {where}: {above}. Check the part's "
+            "power rating with derating for the ambient temperature and its surface "
+            "temperature; follow local codes and licensed practice.")
     return out

@@ -95,8 +95,24 @@ def run(args: argparse.Namespace) -> int:
         results += _with_forms(circuit, quantity, derive_quantity(circuit, quantity, options),
                                options)
     write = {"text": as_text, "latex": as_latex, "markdown": as_markdown, "json": as_json}
+    if args.values:
+        _print_cautions(circuit, results)
     print(write[args.format](circuit, results, args.values))
     return 0
+
+
+def _print_cautions(circuit, results: list[Result]) -> None:
+    """The circuit's safety cautions and those beside hazardous values, on standard error."""
+    from ..analysis.cautions import assess, value_caution
+
+    assessment = assess(circuit)
+    for line in assessment.lines():
+        print(f"{circuit.file}: {line}", file=sys.stderr)
+    for result in results:
+        caution = value_caution(result.nominal, result.unit, assessment.ac)
+        if caution is not None:
+            print(f"{circuit.file}: Caution: {result.quantity} {value_text(result)}: {caution}.",
+                  file=sys.stderr)
 
 
 def _with_forms(circuit, quantity, results: list[Result], options) -> list[Result]:
@@ -208,5 +224,15 @@ def as_markdown(circuit, results: list[Result], values: bool) -> str:
 
 
 def as_json(circuit, results: list[Result], values: bool) -> str:
-    return json.dumps({"file": circuit.file, "title": circuit.title,
-                       "results": [r.to_json() for r in results]}, ensure_ascii=False, indent=2)
+    from ..analysis.cautions import assess, value_caution
+
+    assessment = assess(circuit)
+    shown = []
+    for result in results:
+        item = result.to_json()
+        caution = value_caution(result.nominal, result.unit, assessment.ac)
+        if caution is not None:
+            item["caution"] = caution
+        shown.append(item)
+    return json.dumps({"file": circuit.file, "title": circuit.title, "results": shown,
+                       **assessment.to_json()}, ensure_ascii=False, indent=2)

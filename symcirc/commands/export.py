@@ -32,6 +32,7 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from .. import __version__, load
+    from ..analysis.cautions import assess
     from ..export.functions import functions
     from ..report.files import output_for, write_document
 
@@ -42,18 +43,20 @@ def run(args: argparse.Namespace) -> int:
     units.update({p.name: p.unit for p in circuit.parameters.values()})
     units["s"] = "1/s"
     title = circuit.title or Path(args.file).stem
+    cautions = assess(circuit).lines()
     if args.lang == "c":
         from ..export.c import RESERVED, c_source
 
         text = c_source(title, Path(args.file).name,
                         functions(results, units, _nominals(circuit), args.frequency, RESERVED),
-                        __version__)
+                        __version__, cautions)
     else:
         from ..export.python import RESERVED, python_module
 
         text = python_module(title, Path(args.file).name,
                              functions(results, units, _nominals(circuit), args.frequency,
-                                       RESERVED), __version__, numpy=args.lang == "numpy")
+                                       RESERVED), __version__, numpy=args.lang == "numpy",
+                             cautions=cautions)
     write_document(output, text)
     return 0
 

@@ -133,7 +133,8 @@ def _element_row(e: Element) -> list[str]:
         nominal = "ideal"
     else:
         nominal = _nominal(e.nominal, e.unit)
-    return [e.name, e.kind, nodes, e.written or "", nominal, _tolerance(e.tolerance, e.unit),
+    written = (e.written or "") + (f" at {e.frequency_text}" if e.frequency_text else "")
+    return [e.name, e.kind, nodes, written, nominal, _tolerance(e.tolerance, e.unit),
             e.description or ""]
 
 
@@ -238,6 +239,8 @@ def _element_json(e: Element) -> dict[str, Any]:
             for c in e.controls
         ]
         out["independent"] = None if e.independent is None else sympy.sstr(e.independent)
+    if e.frequency is not None:
+        out["frequency"] = as_float(e.frequency) if e.frequency.is_Rational else str(e.frequency)
     if e.coupled:
         out["coupled"] = list(e.coupled)
     if e.kind == "opamp":

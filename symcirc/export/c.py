@@ -3,10 +3,12 @@
 
 from __future__ import annotations
 
+from collections.abc import Sequence
+
 import sympy
 from sympy.printing.c import C99CodePrinter
 
-from .functions import Function, argument_lines, complex_steps, is_complex
+from .functions import Function, argument_lines, caution_lines, complex_steps, is_complex
 
 RESERVED = {
     "auto", "break", "case", "char", "const", "continue", "default", "do", "double", "else",
@@ -50,10 +52,17 @@ class _Printer(C99CodePrinter):
         return f"{power}({self._print(base)}, {self._print(sympy.Float(exp, 17))})"
 
 
-def c_source(title: str, file: str, functions: list[Function], version: str) -> str:
-    """The text of a C99 source file with one function per formula."""
+def c_source(title: str, file: str, functions: list[Function], version: str,
+             cautions: Sequence[str] = ()) -> str:
+    """The text of a C99 source file with one function per formula, the circuit's safety
+    cautions (if any) in a comment at the top."""
     uses_complex = any(f.is_complex for f in functions)
-    lines = [
+    lines = []
+    if cautions:
+        lines += ["/* SAFETY CAUTIONS"]
+        lines += [f" * {_comment(line)}" for line in caution_lines(cautions)]
+        lines += [" */", ""]
+    lines += [
         f"/* Formulas of {_comment(title)}, derived by symcirc {version}",
         f" * from {_comment(file)}. One function per quantity; arguments in SI units;",
         " * a frequency response takes the angular frequency omega in rad/s (s = j*omega). */",

@@ -5,6 +5,7 @@ arguments (the symbols it uses, named), and its body with common subexpressions 
 from __future__ import annotations
 
 import re
+import textwrap
 from collections.abc import Iterable, Sequence
 from dataclasses import dataclass
 from fractions import Fraction
@@ -12,6 +13,17 @@ from fractions import Fraction
 import sympy
 
 LAPLACE = sympy.Symbol("s")
+COMMENT_WIDTH = 88
+"""Width of the caution lines in a generated file's header comment."""
+
+
+def caution_lines(cautions: Sequence[str]) -> list[str]:
+    """The safety cautions of the circuit, wrapped for a header comment (none: empty)."""
+    lines: list[str] = []
+    for sentence in cautions:
+        lines += textwrap.wrap(sentence, COMMENT_WIDTH, subsequent_indent="  ")
+    return lines
+
 OMEGA = "omega"
 """Name of the angular-frequency argument when `s` is replaced by `j*omega`."""
 

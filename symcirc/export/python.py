@@ -7,12 +7,13 @@ position, so no two can be exchanged by mistake.
 from __future__ import annotations
 
 import keyword
+from collections.abc import Sequence
 
 import sympy
 from sympy.printing.numpy import NumPyPrinter
 from sympy.printing.pycode import PythonCodePrinter
 
-from .functions import Function, argument_lines, complex_steps
+from .functions import Function, argument_lines, caution_lines, complex_steps
 from .functions import is_complex as _is_complex
 
 RESERVED = set(keyword.kwlist) | {"math", "cmath", "numpy"}
@@ -37,8 +38,9 @@ class _ScalarPrinter(PythonCodePrinter):
 
 
 def python_module(title: str, file: str, functions: list[Function], version: str,
-                  numpy: bool = False) -> str:
-    """The text of a Python module with one function per formula."""
+                  numpy: bool = False, cautions: Sequence[str] = ()) -> str:
+    """The text of a Python module with one function per formula, the circuit's safety
+    cautions (if any) in comment lines at the top (the docstring stays the docstring)."""
     bodies, imports = [], set()
     for function in functions:
         complex_symbols = complex_steps(function)
@@ -46,7 +48,9 @@ def python_module(title: str, file: str, functions: list[Function], version: str
         bodies.append(_function_text(title, function, printer))
         imports.update(printer.module_imports)
     kind = "numpy arrays or scalars" if numpy else "Python numbers"
-    header = [
+    header = ["# SAFETY CAUTIONS", *(f"# {line}" for line in caution_lines(cautions)), ""] \
+        if cautions else []
+    header += [
         f'"""Formulas of {_quoted(title)}, derived by symcirc {version} from {_quoted(file)}.',
         "",
         f"One function per quantity. Arguments are keyword-only, in SI units, as {kind};",

@@ -25,7 +25,7 @@ _TOKEN_NAMES = {
     "PLUS": "`+`", "MINUS": "`-`", "STAR": "`*`", "SLASH": "`/`", "POWER": "`^`",
     "ARROW": "`->`", "MUCH_GREATER": "`>>`", "MUCH_LESS": "`<<`", "PLUSMINUS": "`±`",
     "ASYMMETRIC": "a tolerance `+A % -B %`", "_NL": "the end of the line",
-    "$END": "the end of the file", "AND": "`and`",
+    "$END": "the end of the file", "AND": "`and`", "AT": "`at`",
 }
 _STARTS = ("a statement starts with a keyword (title, param, resistor, capacitor, ..., port, "
            "block, derive, claim) or the name of a block")

@@ -93,12 +93,14 @@ class Tolerance(Node):
 
 @dataclass(frozen=True)
 class Value(Node):
-    """`= EXPRESSION [TOLERANCE]`."""
+    """`= EXPRESSION [TOLERANCE] [at FREQUENCY]`."""
 
     expression: Expr
     tolerance: Tolerance | None
     text: str
-    """The value as written (without the `=`), for tables."""
+    """The value as written (without the `=` and the frequency), for tables."""
+    frequency: Number | Name | None = None
+    """`at 50 Hz` or `at f`: the frequency of a source given as a sinusoid's peak amplitude."""
 
 
 # ---------------------------------------------------------------- quantities

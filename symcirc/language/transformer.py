@@ -234,13 +234,21 @@ class TreeBuilder(Transformer):
 
     # ------------------------------------------------------------ values
 
-    def value(self, _equal: Token, expression: st.Expr, tolerance: st.Tolerance | None
-              ) -> st.Value:
+    def value(self, _equal: Token, expression: st.Expr, tolerance: st.Tolerance | None,
+              frequency: st.Number | st.Name | None = None) -> st.Value:
         self._check_expression(expression)
         start, end, _, line, column = self._spans[id(expression)]
         if tolerance is not None:
             end = self._spans[id(tolerance)][1]
-        return st.Value(line, column, expression, tolerance, _as_written(self.source[start:end]))
+        return st.Value(line, column, expression, tolerance, _as_written(self.source[start:end]),
+                        frequency)
+
+    def frequency(self, _at: Token, target: Token) -> st.Number | st.Name:
+        """`at 50 Hz` or `at f`."""
+        if target.type == "NAME":
+            return st.Name(target.line, target.column, target.value)
+        value, unit = self._decode(target)
+        return st.Number(target.line, target.column, value, unit, target.value)
 
     def tolerance(self, sign: Token, magnitude: Token | None = None) -> st.Tolerance:
         if magnitude is None:

@@ -123,6 +123,20 @@ class Element:
     """For a coupling: the two inductors it couples."""
     written: str | None = None
     """The value as the user wrote it (for tables in notes)."""
+    frequency: sympy.Expr | None = None
+    """For an independent source given `at 50 Hz` (or `at f`): its frequency in Hz, a number
+    or a parameter's symbol; its value is then a sinusoid's peak amplitude. None: DC."""
+
+    @property
+    def frequency_text(self) -> str | None:
+        """`50 Hz` or the parameter's name, as a source's frequency is shown; None for DC."""
+        if self.frequency is None:
+            return None
+        if self.frequency.is_Rational:
+            from .units import engineering
+
+            return engineering(Fraction(int(self.frequency.p), int(self.frequency.q)), "Hz")
+        return str(self.frequency)
 
     @property
     def is_controlled(self) -> bool:
@@ -247,12 +261,30 @@ class Circuit:
         derive` shows it: `where big >> small` approximations applied, and with `steps=True`
         the design form and derivation steps attached (off by default, as on the command
         line: they cost more than the derivation on large results)."""
+        from ..analysis.cautions import attach
         from ..forms import finish
         from ..quantities import derive, options_from
 
         options.setdefault("steps", False)
         results = derive(self, quantity, **options)
-        return finish(self, quantity, results, options_from(None, **options))
+        return attach(self, finish(self, quantity, results, options_from(None, **options)))
+
+    def _repr_markdown_(self) -> str:
+        """In Jupyter: the title, the parts and nodes, and the safety cautions."""
+        from ..analysis.cautions import assess
+        from ..results import markdown_text as _markdown_text
+
+        title = (self.title or self.file).replace("\n", " ")
+        lines = [f"**{_markdown_text(title)}**: {len(self.elements)} parts, "
+                 f"{len(self.nodes)} nodes ({_markdown_text(', '.join(self.nodes))})."]
+        assessment = assess(self)
+        if assessment.shown:
+            lines.append("")
+            lines += [f"> **Caution.** {_markdown_text(c)}\n>" for c in assessment.cautions]
+            lines += [f"> **Not assessed.** {_markdown_text(n)}\n>"
+                      for n in assessment.not_assessed]
+            lines.append(f"> {_markdown_text(assessment.advice)}")
+        return "\n".join(lines)
 
     def thevenin(self, port: str, **options: Any):
         from ..quantities import thevenin

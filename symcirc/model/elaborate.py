@@ -545,6 +545,9 @@ class _Elaborator:
         expression = nominal = tolerance = None
         unit = ""
         if value is not None:
+            if value.frequency is not None:
+                raise self.error(value.frequency, f"`at` gives the frequency of a source; "
+                                 f"parameter {draft.name} takes none", draft.scope.trail)
             expression = self.convert(value.expression, draft.scope)
             if expression.is_Rational:
                 nominal = Fraction(int(expression.p), int(expression.q))
@@ -586,6 +589,9 @@ class _Elaborator:
             elif expression is not None:
                 definition = expression
             tolerance = self.tolerance(value, unit, f"{kind} {draft.name}", scope)
+        frequency = None
+        if value is not None and value.frequency is not None:
+            frequency = self.frequency(statement, value.frequency, bool(controls), scope)
         coupled = None
         if kind == "coupling":
             coupled = tuple(self.coupled_inductor(t, scope) for t in statement.terminals)
@@ -595,7 +601,24 @@ class _Elaborator:
             tolerance=tolerance, unit=unit, description=statement.description,
             location=self.at(statement), controls=controls, independent=independent,
             coupled=coupled, written=value.text if value is not None else None,  # type: ignore[arg-type]
+            frequency=frequency,
         )
+
+    def frequency(self, statement: syntax.ElementStatement, written: syntax.Number | syntax.Name,
+                  controlled: bool, scope: _Scope) -> sympy.Expr:
+        """`at 50 Hz` or `at f`: only an independent source has a frequency of its own."""
+        what = f"{statement.kind} {statement.name.name}"
+        if statement.kind not in SOURCES or controlled:
+            raise self.error(written, f"`at` gives the frequency of an independent source; "
+                             f"{what} takes none", scope.trail)
+        if isinstance(written, syntax.Name):
+            return self.convert(written, scope)
+        if written.unit not in (None, "Hz"):
+            raise self.error(written, f"the frequency of {what} is in Hz, not {written.unit}",
+                             scope.trail)
+        if written.value <= 0:
+            raise self.error(written, f"the frequency of {what} must be above 0 Hz", scope.trail)
+        return sympy.Rational(written.value.numerator, written.value.denominator)
 
     def convert(self, expression: syntax.Expr, scope: _Scope) -> sympy.Expr:
         try:

@@ -58,7 +58,7 @@ class PortRow:
 def parts(circuit: Circuit) -> list[Part]:
     """The parts table, in the order the file lists them."""
     return [
-        Part(e.name, e.kind, tuple(e.coupled or e.nodes), _without_tolerance(e.written),
+        Part(e.name, e.kind, tuple(e.coupled or e.nodes), _value_text(e),
              _float(e.nominal),
              e.unit, tolerance_text(e.tolerance, e.unit), e.description)
         for e in circuit.elements.values()
@@ -92,6 +92,14 @@ def tolerance_text(tolerance: Tolerance | None, unit: str) -> str | None:
     if tolerance.symmetric:
         return f"± {amount(tolerance.plus)}"
     return f"+{amount(tolerance.plus)} / −{amount(tolerance.minus)}"
+
+
+def _value_text(element) -> str | None:
+    """The value as written without its tolerance, with a source's frequency (`325 V at 50 Hz`)."""
+    value = _without_tolerance(element.written)
+    if value and element.frequency_text:
+        value += f" at {element.frequency_text}"
+    return value
 
 
 def _without_tolerance(written: str | None) -> str | None:
@@ -241,6 +249,8 @@ class ResultView:
     tables: list[Table] = field(default_factory=list)
     figures: list[Figure] = field(default_factory=list)
     spread: Spread | None = None
+    caution: str | None = None
+    """A short safety caution beside the nominal value (symcirc.analysis.cautions), or None."""
     result: Any = None
     """The symcirc.results.Result itself, for templates that want more."""
 

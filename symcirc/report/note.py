@@ -16,6 +16,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any
 
+from ..analysis.cautions import Assessment, assess, value_caution
 from ..model.circuit import Circuit
 from ..model.typeset import latex_of
 from .content import (
@@ -69,11 +70,16 @@ class Note:
     claims: list[ClaimView]
     conventions: list[str]
     cautions: list[str]
+    """Safety cautions (symcirc.analysis.cautions), shown under the title."""
     caution_advice: str
     figures_folder: str | None
     marker: str
     """The marker comment's JSON (one line)."""
     circuit: Any = field(default=None, repr=False)
+    not_assessed: list[str] = field(default_factory=list)
+    """Sources and parts the cautions could not judge (shown when some were judged)."""
+    caution_thresholds: list[str] = field(default_factory=list)
+    """The limits used and where they come from (shown with the cautions)."""
 
     @property
     def results(self) -> list:
@@ -174,7 +180,7 @@ def build_note(
         derived = sections(circuit, wanted, progress=bar)
         bar.step("checking claims and cautions")
         claim_views = claims(circuit)
-        cautions_found = _cautions(circuit)
+        assessment = assess(circuit)
     from .figures import folder_name, plan
 
     drawings: list = []
@@ -182,7 +188,7 @@ def build_note(
         origin = f"{hashlib.sha256(data).hexdigest()}\0{symcirc.__version__}"
         drawings = plan(circuit, derived, wanted, Path(output_path).stem, format, origin)
     note = _note(circuit, source, data, format, quantities, template, folder, derived,
-                 claim_views, cautions_found,
+                 claim_views, assessment,
                  folder_name(Path(output_path).stem) if drawings else None)
     return note, drawings
 
@@ -196,11 +202,10 @@ def render_note(note: Note, template: str | Path | None = None) -> str:
 
 def _note(circuit: Circuit, source: Path, data: bytes, fmt: str,
           quantities: Sequence[str] | None, template: str | Path | None, folder: Path,
-          derived: list[Section], claim_views: list[ClaimView], cautions_found: list[str],
+          derived: list[Section], claim_views: list[ClaimView], assessment: Assessment,
           figures_folder: str | None) -> Note:
     import symcirc
 
-    from .cautions import DEFER
     from .conventions import conventions
 
     digest = hashlib.sha256(data).hexdigest()
@@ -214,6 +219,7 @@ def _note(circuit: Circuit, source: Path, data: bytes, fmt: str,
         "quantities": list(quantities) if quantities else None,
         "template": None if template is None else _relative(Path(template), folder),
     }
+    mark_cautions(derived, assessment)
     uses_laplace = any(view.is_transfer_function for s in derived for view in s.results)
     return Note(
         title=circuit.title or source.stem,
@@ -230,8 +236,10 @@ def _note(circuit: Circuit, source: Path, data: bytes, fmt: str,
         sections=derived,
         claims=claim_views,
         conventions=conventions(circuit, shown, uses_laplace),
-        cautions=cautions_found,
-        caution_advice=DEFER,
+        cautions=list(assessment.cautions),
+        not_assessed=list(assessment.not_assessed) if assessment.shown else [],
+        caution_thresholds=list(assessment.thresholds) if assessment.shown else [],
+        caution_advice=assessment.advice,
         figures_folder=figures_folder,
         marker=marker_json(marker),
         circuit=circuit,
@@ -262,10 +270,11 @@ def _notice(notice: Any) -> str:
     return f"{notice.kind}: {where}{notice.message}"
 
 
-def _cautions(circuit: Circuit) -> list[str]:
-    from .cautions import cautions
-
-    return cautions(circuit)
+def mark_cautions(derived: list[Section], assessment: Assessment) -> None:
+    """Put a short caution beside every shown value that calls for one."""
+    for section in derived:
+        for view in section.results:
+            view.caution = value_caution(view.nominal, view.unit, assessment.ac)
 
 
 def claims(circuit: Circuit) -> list[ClaimView]:

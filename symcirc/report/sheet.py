@@ -22,6 +22,9 @@ class SheetCircuit:
     source: str
     sha256: str
     results: list[ResultView]
+    cautions: list[str]
+    """Safety cautions of the circuit (symcirc.analysis.cautions)."""
+    not_assessed: list[str]
 
 
 @dataclass(frozen=True)
@@ -31,6 +34,9 @@ class Sheet:
     circuits: list[SheetCircuit]
     version: str
     format: str
+    caution_thresholds: list[str]
+    """The limits the cautions use and where they come from."""
+    caution_advice: str
 
 
 def render_sheet_for(paths: Sequence[str | Path], format: str,
@@ -39,9 +45,10 @@ def render_sheet_for(paths: Sequence[str | Path], format: str,
     of each result where one exists, the spread from the tolerance analysis where toleranced."""
     import symcirc
 
+    from ..analysis.cautions import DEFER, THRESHOLDS, assess
     from .derivations import requests, sections
     from .environment import environment, render
-    from .note import _read
+    from .note import _read, mark_cautions
 
     loaded = []
     for path in paths:
@@ -53,8 +60,12 @@ def render_sheet_for(paths: Sequence[str | Path], format: str,
         for path, data, circuit in loaded:
             derived = sections(circuit, requests(circuit, None), analyses=("tolerance",),
                                progress=bar)
+            assessment = assess(circuit)
+            mark_cautions(derived, assessment)
             results = [view for section in derived for view in section.results]
-            circuits.append(SheetCircuit(circuit.title or path.stem, path.as_posix(),
-                                         hashlib.sha256(data).hexdigest(), results))
-    sheet = Sheet(circuits, symcirc.__version__, format)
+            circuits.append(SheetCircuit(
+                circuit.title or path.stem, path.as_posix(), hashlib.sha256(data).hexdigest(),
+                results, list(assessment.cautions),
+                list(assessment.not_assessed) if assessment.shown else []))
+    sheet = Sheet(circuits, symcirc.__version__, format, list(THRESHOLDS), DEFER)
     return render(environment(template), TEMPLATES[format], sheet=sheet)

@@ -1,0 +1,348 @@
+"""Safety cautions of a circuit, computed once here and shown by every command and the API.
+
+At the nominal values, every independent source that has a value drives the circuit (DC, or
+a sinusoid of peak amplitude equal to its value when written `at 50 Hz`; sources add by
+superposition). The voltage between every pair of nodes is judged against the touch and
+extra-low-voltage limits below, and the dissipation of every resistor and conductance
+against a small part's usual rating. Sources or parts without a value are listed as not
+assessed; the rest is still judged.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from fractions import Fraction
+
+from ..engine.convert import atom_value
+from ..engine.mna import Voltage
+from ..engine.ratfunc import RationalFunction
+from ..engine.system import solution
+from ..errors import SymcircError
+from ..model.circuit import REFERENCE, SOURCES, Circuit
+from ..model.units import engineering
+from ..quantities.common import Context
+from ..quantities.registry import DeriveOptions
+
+
+@dataclass(frozen=True)
+class Limit:
+    """A voltage limit: above `volts` (rms for AC) a caution says `what` and `source`."""
+
+    volts: float
+    what: str
+    source: str
+
+
+DC_LIMITS = (
+    Limit(120.0, "the upper limit of extra-low voltage for ripple-free DC",
+          "IEC 61140 / IEC 60449 band I, from memory"),
+    Limit(60.0, "the limit for ripple-free DC that may be touched",
+          "class ES1 of IEC 62368-1, from memory"),
+)
+"""Highest first: the first limit a DC voltage exceeds is the one stated."""
+AC_LIMITS = (
+    Limit(50.0, "the upper limit of extra-low voltage for AC",
+          "IEC 61140 / IEC 60449 band I, from memory"),
+    Limit(30.0, "the limit for AC that may be touched",
+          "class ES1 of IEC 62368-1, from memory"),
+)
+POWER_LIMIT = 0.25
+"""Watts in one resistor or conductance from which a caution is given (common practice: a
+small through-hole resistor is rated 1/4 W, a 0805 chip resistor about 1/8 W)."""
+LISTED = 8
+"""Pairs of nodes named one by one; more are counted."""
+
+DEFER = ("These cautions are a design aid, not a safety review: check ratings, clearances "
+         "and protection against the applicable standards and local codes, and have the "
+         "design reviewed by a licensed or otherwise qualified person before building or "
+         "connecting it.")
+
+THRESHOLDS = (
+    "Voltage between any two nodes: ripple-free DC above 60 V (ES1 of IEC 62368-1) and above "
+    "120 V (extra-low-voltage limit of IEC 61140 / IEC 60449); AC above 30 V rms (ES1) and "
+    "above 50 V rms (extra-low-voltage limit); the limits are quoted from memory.",
+    "Dissipation in one resistor or conductance above 0.25 W, the usual rating of a small "
+    "through-hole resistor (common practice).",
+    "Judged at the nominal values: a source given a frequency (at 50 Hz) is a sinusoid whose "
+    "peak amplitude is its value, any other source is DC; sources add by superposition.",
+)
+
+_DISSIPATING = ("resistor", "conductance")
+
+
+@dataclass(frozen=True)
+class Assessment:
+    """What every output shows: cautions, what was not assessed, thresholds and advice."""
+
+    cautions: tuple[str, ...]
+    not_assessed: tuple[str, ...]
+    """Sentences naming the sources and parts left out for want of a value."""
+    assessed: bool
+    """True when at least one source was judged (else the circuit is all symbols)."""
+    ac: bool
+    """True when a judged source has a frequency (limits for shown values are then AC)."""
+
+    @property
+    def shown(self) -> bool:
+        """Whether outputs show a cautions block: a caution, or a partial assessment."""
+        return bool(self.cautions) or (self.assessed and bool(self.not_assessed))
+
+    @property
+    def thresholds(self) -> tuple[str, ...]:
+        return THRESHOLDS
+
+    @property
+    def advice(self) -> str:
+        return DEFER
+
+    def lines(self) -> list[str]:
+        """Every sentence of the block, in order (for text outputs and code comments)."""
+        if not self.shown:
+            return []
+        out = [f"Caution: {c}" for c in self.cautions]
+        out += [f"Not assessed: {n}" for n in self.not_assessed]
+        out += [f"Threshold: {t}" for t in THRESHOLDS]
+        return out + [DEFER]
+
+    def to_json(self) -> dict:
+        return {"cautions": list(self.cautions), "not_assessed": list(self.not_assessed),
+                "thresholds": list(THRESHOLDS) if self.shown else [],
+                "advice": DEFER if self.shown else None}
+
+
+def assess(circuit: Circuit) -> Assessment:
+    """The cautions of `circuit` (computed once per circuit)."""
+    cached = circuit.cache.get("cautions")
+    if cached is None:
+        cached = circuit.cache["cautions"] = _Assessor(circuit).run()
+    return cached
+
+
+def attach(circuit: Circuit, results: list) -> list:
+    """Give each result the cautions a reader must see beside it (the Python API's display):
+    its own value's, then the circuit's."""
+    assessment = assess(circuit)
+    shared = list(assessment.cautions)
+    if assessment.shown:
+        shared += list(assessment.not_assessed) + [DEFER]
+    for result in results:
+        own = value_caution(result.nominal, result.unit, assessment.ac)
+        result.cautions = ([f"{result.quantity} is {engineering(result.nominal_exact, result.unit)}"
+                            f": {own}."] if own else []) + shared
+    return results
+
+
+def value_caution(value: float | None, unit: str, ac: bool = False) -> str | None:
+    """A short caution for a value shown on its own (a result's nominal), or None.
+
+    A voltage is held against the limits above (in a circuit driven at a frequency, the AC
+    limits as peaks: 42.4 V and 70.7 V); a power against the small-part rating."""
+    if value is None:
+        return None
+    if unit == "V":
+        for limit in AC_LIMITS if ac else DC_LIMITS:
+            volts = limit.volts * math.sqrt(2) if ac else limit.volts
+            if abs(value) > volts:
+                kind = f"{limit.volts:g} V rms" if ac else f"{limit.volts:g} V DC"
+                return f"above {kind}, a shock hazard"
+    if unit == "W" and abs(value) > POWER_LIMIT:
+        return f"above {POWER_LIMIT:g} W, check the part's rating"
+    return None
+
+
+class _Assessor:
+    def __init__(self, circuit: Circuit) -> None:
+        self.circuit = circuit
+        self.context = Context(circuit, DeriveOptions(steps=False))
+        self.not_assessed: list[str] = []
+
+    def run(self) -> Assessment:
+        groups = self.groups()  # frequency (None: DC) -> [(excitation, value)]
+        if not groups:
+            return Assessment((), tuple(self.not_assessed), False, False)
+        unvalued = self.unvalued_parts()
+        if unvalued:
+            names = ", ".join(unvalued)
+            one = len(unvalued) == 1
+            self.not_assessed.append(f"{'Part' if one else 'Parts'} {names} "
+                                     f"{'has' if one else 'have'} no value, so no voltage or "
+                                     "dissipation could be computed.")
+            return Assessment((), tuple(self.not_assessed), True, False)
+        try:
+            voltages = {f: self.node_voltages(f, parts) for f, parts in groups.items()}
+        except (SymcircError, ZeroDivisionError, KeyError) as problem:
+            self.not_assessed.append(f"The operating point could not be computed ({problem}).")
+            return Assessment((), tuple(self.not_assessed), True, False)
+        voltages = {f: v for f, v in voltages.items() if v is not None}
+        ac = any(f is not None for f in voltages)
+        cautions = self.voltage_cautions(voltages) + self.power_cautions(voltages)
+        return Assessment(tuple(cautions), tuple(self.not_assessed), True, ac)
+
+    # -- what drives the circuit
+    def groups(self) -> dict[float | None, list[tuple[str, complex | Fraction]]]:
+        nominals = self.context.nominals
+        out: dict[float | None, list[tuple[str, complex | Fraction]]] = {}
+        for name, value in self.context.network.excitations().items():
+            element = self.circuit.elements.get(name)
+            missing = [n for n in value.symbol_names() if n not in nominals]
+            if missing:
+                self.not_assessed.append(f"Source {name} has no value: it was left out, the "
+                                         "other sources were judged.")
+                continue
+            frequency = None
+            if element is not None and element.frequency is not None:
+                frequency = self.frequency(element)
+                if frequency is None:
+                    continue
+            amount = value.evaluate({n: nominals[n] for n in value.symbol_names()})
+            out.setdefault(frequency, []).append((name, amount))
+        return out
+
+    def frequency(self, element) -> float | None:
+        written = element.frequency
+        if written.is_Rational:
+            return float(written)
+        value = self.context.nominals.get(str(written))
+        if value is None or value <= 0:
+            self.not_assessed.append(f"Source {element.name} was left out: its frequency "
+                                     f"{written} has no positive value.")
+            return None
+        return float(value)
+
+    def unvalued_parts(self) -> list[str]:
+        nominals = self.context.nominals
+        names = set()
+        for element in self.circuit.elements.values():
+            if element.kind in SOURCES and not element.controls:
+                continue
+            if element.controls:
+                for control in element.controls:
+                    names |= {str(x) for x in control.coefficient.free_symbols
+                              if str(x) != "s" and str(x) not in nominals}
+                continue
+            if element.kind == "opamp":
+                if element.definition is not None:
+                    names |= {str(x) for x in element.definition.free_symbols
+                              if str(x) != "s" and str(x) not in nominals}
+                continue
+            if element.nominal is None:
+                names.add(element.name)
+        return sorted(names)
+
+    # -- solving at the nominal values
+    def node_voltages(self, frequency: float | None, parts) -> dict[str, complex] | None:
+        """Every node's voltage (a DC value, or a phasor of peak amplitude) for one group."""
+        found = solution(self.circuit)
+        s = 0 if frequency is None else complex(0.0, 2 * math.pi * frequency)
+        out: dict[str, complex] = {REFERENCE: 0j}
+        for node in self.circuit.nodes:
+            if node == REFERENCE:
+                continue
+            total = 0j
+            for excitation, amount in parts:
+                transfer = found.transfer(Voltage(node, REFERENCE), excitation)
+                total += self.at(transfer, s, frequency) * complex(amount)
+            out[node] = total
+        return out
+
+    def at(self, function: RationalFunction, s: complex, frequency: float | None) -> complex:
+        """The function's value at the nominal values and the Laplace variable s."""
+        point = dict(self.context.nominals)
+        for name, expr in self.context.atoms.items():
+            if name not in point:
+                point[name] = atom_value(expr, point)
+        if frequency is None:
+            point["s"] = Fraction(0)
+            try:
+                return complex(function.evaluate({n: point[n] for n in function.symbol_names()}))
+            except ZeroDivisionError:
+                raise ZeroDivisionError("a node has no finite DC voltage") from None
+        point_c = {n: complex(v) for n, v in point.items()}
+        point_c["s"] = s
+        den = _polynomial_at(function.ring, function.denominator, point_c)
+        if den == 0:
+            raise ZeroDivisionError(f"the circuit resonates at {frequency:g} Hz")
+        return _polynomial_at(function.ring, function.numerator, point_c) / den
+
+    # -- judging
+    def voltage_cautions(self, voltages: dict[float | None, dict[str, complex]]) -> list[str]:
+        nodes = self.circuit.nodes
+        found = []
+        for i, a in enumerate(nodes):
+            for b in nodes[i + 1:]:
+                dc = sum((v[a] - v[b]).real for f, v in voltages.items() if f is None)
+                peaks = {f: abs(v[a] - v[b]) for f, v in voltages.items() if f is not None}
+                peaks = {f: p for f, p in peaks.items() if p > 1e-12}
+                judged = _judge_voltage(dc, peaks)
+                if judged is not None:  # the reference, listed first, is named second
+                    first, second = (b, a) if a == REFERENCE else (a, b)
+                    found.append((judged[0], first, second, judged[1], judged[2]))
+        found.sort(key=lambda item: -item[0])
+        out = [f"{text} between {a} and {b} at the nominal values: above "
+               f"{limit.volts:g} V{'' if limit in DC_LIMITS else ' rms'}, "
+               f"{limit.what} ({limit.source}); a shock hazard."
+               for _, a, b, text, limit in found[:LISTED]]
+        if len(found) > LISTED:
+            out.append(f"{len(found) - LISTED} more pairs of nodes are above a voltage limit.")
+        return out
+
+    def power_cautions(self, voltages: dict[float | None, dict[str, complex]]) -> list[str]:
+        out = []
+        for element in self.circuit.elements.values():
+            if element.kind not in _DISSIPATING or not element.nominal:
+                continue
+            a, b = element.nodes[:2]
+            squares = 0.0  # mean square voltage across the part
+            for f, v in voltages.items():
+                across = abs(v[a] - v[b])
+                squares += across**2 if f is None else across**2 / 2
+            value = float(element.nominal)
+            power = squares / value if element.kind == "resistor" else squares * value
+            if power > POWER_LIMIT:
+                kinds = ", ".join("DC" if f is None else f"{f:g} Hz" for f in voltages)
+                out.append(f"{element.name} dissipates {engineering(_exactish(power), 'W')} "
+                           f"({kinds}) at the nominal values: above {POWER_LIMIT:g} W, the "
+                           "usual rating of a small through-hole resistor (common practice); "
+                           "check its rating, derating and temperature.")
+        return out
+
+
+def _judge_voltage(dc: float, peaks: dict[float, float]) -> tuple[float, str, Limit] | None:
+    """(size, how it is described, the limit exceeded) or None when within every limit."""
+    if not peaks:
+        for limit in DC_LIMITS:
+            if abs(dc) > limit.volts:
+                return abs(dc), f"{engineering(_exactish(abs(dc)), 'V')} DC", limit
+        return None
+    rms = math.sqrt(dc**2 + sum(p**2 / 2 for p in peaks.values()))
+    for limit in AC_LIMITS:
+        if rms > limit.volts:
+            peak = abs(dc) + sum(peaks.values())
+            where = ", ".join(f"{f:g} Hz" for f in sorted(peaks))
+            text = (f"{engineering(_exactish(rms), 'V')} rms "
+                    f"({engineering(_exactish(peak), 'V')} peak, {where}"
+                    f"{' with DC' if abs(dc) > 1e-12 else ''})")
+            return rms, text, limit
+    return None
+
+
+def _exactish(value: float) -> Fraction:
+    """Four significant digits, as the cautions show values."""
+    return Fraction(float(f"{value:.4g}"))
+
+
+def _polynomial_at(ring, p, point: dict[str, complex]) -> complex:
+    names = ring.names
+    total = 0j
+    for monomial, coefficient in ring.terms(p):
+        term = complex(coefficient)
+        for name, exponent in zip(names, monomial, strict=False):
+            if exponent:
+                term *= point[name] ** int(exponent)
+        total += term
+    return total
+
+
+__all__ = ["AC_LIMITS", "DC_LIMITS", "DEFER", "POWER_LIMIT", "THRESHOLDS", "Assessment",
+           "assess", "attach", "value_caution"]
