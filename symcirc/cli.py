@@ -36,8 +36,14 @@ def _module(name: str):
     return importlib.import_module(f"symcirc.commands.{name}")
 
 
+EPILOG = ("The circuit language is specified in docs/language.md of the project (statements, "
+          "values, units, tolerances, sign conventions, blocks, quantities, directives, "
+          "errors); `symcirc COMMAND --help` describes each command.")
+
+
 def build_parser(argv: list[str]) -> argparse.ArgumentParser:
-    parser = _Parser(prog="symcirc", description="Closed-form design equations of linear circuits.")
+    parser = _Parser(prog="symcirc", description="Closed-form design equations of linear circuits.",
+                     epilog=EPILOG)
     from . import __version__
 
     parser.add_argument("--version", action="version", version=f"symcirc {__version__}")

@@ -139,7 +139,7 @@ class Network:
 
 
 def mutual_name(coupling: str, taken: set[str]) -> str:
-    """`M_K1`, or with trailing underscores when the circuit already uses that name."""
+    """`M_k12`, or with trailing underscores when the circuit already uses that name."""
     name = f"M_{coupling}"
     while name in taken:
         name += "_"
