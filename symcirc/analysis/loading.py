@@ -22,6 +22,7 @@ from .cautions import value_caution
 from .tidy import tidy
 from .values import exact_value, rational
 
+
 def _tidy(expression: sympy.Expr) -> sympy.Expr:
     """A readable closed form: cancelled and factored (rational functions stay rational)."""
     return tidy(expression)
