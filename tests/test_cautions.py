@@ -184,3 +184,15 @@ def test_frequency_given_by_a_parameter_and_refused_elsewhere():
         with pytest.raises(symcirc.SymcircError) as caught:
             symcirc.parse(text)
         assert message in caught.value.message
+
+
+def test_parts_defined_with_s_are_judged_at_the_source_frequency():
+    circuit = symcirc.parse("param Rs = 1 kΩ\nvoltage source Ugen (a, gnd) = 100 V at 1 kHz\n"
+                            "impedance Zs (a, b) = Rs + 1/(s*1 µF)\n"
+                            "resistor Rload (b, gnd) = 100 Ω\n")
+    # numpy: 100 V peak through 1 kΩ + 1/(jω·1 µF) and 100 Ω at 1 kHz; mean power |I|²R/2
+    omega = 2 * numpy.pi * 1e3
+    current = 100 / (1000 + 1 / (1j * omega * 1e-6) + 100)
+    power = abs(current) ** 2 * 100 / 2
+    (dissipation,) = [c for c in assess(circuit).cautions if "dissipates" in c]
+    assert dissipation.startswith(f"Rload dissipates {power * 1e3:.4g} mW (1 kHz)")

@@ -174,7 +174,6 @@ class _Assessor:
         except (SymcircError, ZeroDivisionError, KeyError) as problem:
             self.not_assessed.append(f"The operating point could not be computed ({problem}).")
             return Assessment((), tuple(self.not_assessed), True, False)
-        voltages = {f: v for f, v in voltages.items() if v is not None}
         ac = any(f is not None for f in voltages)
         cautions = self.voltage_cautions(voltages) + self.power_cautions(voltages)
         return Assessment(tuple(cautions), tuple(self.not_assessed), True, ac)
@@ -211,27 +210,27 @@ class _Assessor:
         return float(value)
 
     def unvalued_parts(self) -> list[str]:
+        """Names (parts, or the parameters their values use) without a nominal value."""
         nominals = self.context.nominals
-        names = set()
+        names: set[str] = set()
         for element in self.circuit.elements.values():
             if element.kind in SOURCES and not element.controls:
-                continue
+                continue  # judged one by one in groups()
             if element.controls:
-                for control in element.controls:
-                    names |= {str(x) for x in control.coefficient.free_symbols
-                              if str(x) != "s" and str(x) not in nominals}
-                continue
-            if element.kind == "opamp":
-                if element.definition is not None:
-                    names |= {str(x) for x in element.definition.free_symbols
-                              if str(x) != "s" and str(x) not in nominals}
-                continue
-            if element.nominal is None:
+                used = [c.coefficient for c in element.controls]
+            elif element.definition is not None:
+                used = [element.definition]
+            elif element.nominal is None and not element.is_ideal_opamp:
                 names.add(element.name)
+                continue
+            else:
+                continue
+            names |= {str(x) for expr in used for x in expr.free_symbols
+                      if str(x) != "s" and str(x) not in nominals}
         return sorted(names)
 
     # -- solving at the nominal values
-    def node_voltages(self, frequency: float | None, parts) -> dict[str, complex] | None:
+    def node_voltages(self, frequency: float | None, parts) -> dict[str, complex]:
         """Every node's voltage (a DC value, or a phasor of peak amplitude) for one group."""
         found = solution(self.circuit)
         s = 0 if frequency is None else complex(0.0, 2 * math.pi * frequency)
@@ -248,7 +247,11 @@ class _Assessor:
 
     def at(self, function: RationalFunction, s: complex, frequency: float | None) -> complex:
         """The function's value at the nominal values and the Laplace variable s."""
-        point = dict(self.context.nominals)
+        nominals = self.context.nominals
+        if any(n not in nominals and n != "s" for n in function.symbol_names()):
+            # an element defined with s (`Rs + 1/(s*C)`) has no nominal: use its definition
+            function = self.context.substitute_all(function)
+        point = dict(nominals)
         for name, expr in self.context.atoms.items():
             if name not in point:
                 point[name] = atom_value(expr, point)
@@ -300,7 +303,7 @@ class _Assessor:
             value = float(element.nominal)
             power = squares / value if element.kind == "resistor" else squares * value
             if power > POWER_LIMIT:
-                kinds = ", ".join("DC" if f is None else f"{f:g} Hz" for f in voltages)
+                kinds = ", ".join("DC" if f is None else _hertz(f) for f in voltages)
                 out.append(f"{element.name} dissipates {engineering(_exactish(power), 'W')} "
                            f"({kinds}) at the nominal values: above {POWER_LIMIT:g} W, the "
                            "usual rating of a small through-hole resistor (common practice); "
@@ -319,12 +322,16 @@ def _judge_voltage(dc: float, peaks: dict[float, float]) -> tuple[float, str, Li
     for limit in AC_LIMITS:
         if rms > limit.volts:
             peak = abs(dc) + sum(peaks.values())
-            where = ", ".join(f"{f:g} Hz" for f in sorted(peaks))
+            where = ", ".join(_hertz(f) for f in sorted(peaks))
             text = (f"{engineering(_exactish(rms), 'V')} rms "
                     f"({engineering(_exactish(peak), 'V')} peak, {where}"
                     f"{' with DC' if abs(dc) > 1e-12 else ''})")
             return rms, text, limit
     return None
+
+
+def _hertz(frequency: float) -> str:
+    return engineering(_exactish(frequency), "Hz")
 
 
 def _exactish(value: float) -> Fraction:
