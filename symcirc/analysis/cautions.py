@@ -14,9 +14,9 @@ import math
 from dataclasses import dataclass
 from fractions import Fraction
 
-from ..engine.convert import atom_value
+from ..algebra.convert import atom_value
+from ..algebra.rational import RationalFunction
 from ..engine.mna import Voltage
-from ..engine.ratfunc import RationalFunction
 from ..engine.system import solution
 from ..errors import SymcircError
 from ..model.circuit import REFERENCE, SOURCES, Circuit
