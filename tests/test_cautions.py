@@ -196,3 +196,26 @@ def test_parts_defined_with_s_are_judged_at_the_source_frequency():
     power = abs(current) ** 2 * 100 / 2
     (dissipation,) = [c for c in assess(circuit).cautions if "dissipates" in c]
     assert dissipation.startswith(f"Rload dissipates {power * 1e3:.4g} mW (1 kHz)")
+
+
+def test_a_large_ladder_is_judged_numerically():
+    # 40 sections: the symbolic node voltages would have ~1e16 terms; the cautions solve the
+    # same equations numerically. numpy's own nodal analysis gives the reference values.
+    sections = 40
+    lines = ["voltage source Uhv (n0, gnd) = 400 V"]
+    for i in range(sections):
+        lines += [f"resistor Rs{i} (n{i}, n{i + 1}) = 1 kΩ",
+                  f"resistor Rp{i} (n{i + 1}, gnd) = 2 kΩ"]
+    conductance = numpy.zeros((sections + 1, sections + 1))
+    for i in range(sections):  # series 1 kΩ from node i to i + 1, shunt 2 kΩ at i + 1
+        conductance[i, i] += 1e-3
+        conductance[i + 1, i + 1] += 1e-3 + 1 / 2000
+        conductance[i, i + 1] -= 1e-3
+        conductance[i + 1, i] -= 1e-3
+    volts = numpy.linalg.solve(conductance[1:, 1:], -conductance[1:, 0] * 400)
+    assert volts[0] == pytest.approx(200)  # the ladder's input resistance is 2 kΩ
+    assessment = assess(symcirc.parse("\n".join(lines) + "\n"))
+    rs0 = f"Rs0 dissipates {(400 - volts[0]) ** 2 / 1000:.4g} W (DC)"
+    assert any(c.startswith(rs0) for c in assessment.cautions)
+    assert assessment.cautions[0].startswith("400 V DC between n0 and gnd")
+    assert assessment.not_assessed == ()

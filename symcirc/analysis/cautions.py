@@ -13,13 +13,15 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 from fractions import Fraction
+from functools import cached_property
+
+import numpy
+import sympy
 
 from ..algebra.convert import atom_value
-from ..algebra.rational import RationalFunction
-from ..engine.mna import Voltage
-from ..engine.system import solution
+from ..engine.mna import Equations
 from ..errors import SymcircError
-from ..model.circuit import REFERENCE, SOURCES, Circuit
+from ..model.circuit import LAPLACE, REFERENCE, SOURCES, Circuit
 from ..model.units import engineering
 from ..quantities.common import Context
 from ..quantities.registry import DeriveOptions
@@ -151,6 +153,10 @@ def value_caution(value: float | None, unit: str, ac: bool = False) -> str | Non
     return None
 
 
+class _Unsolvable(Exception):
+    """The operating point cannot be computed (said in the not-assessed list)."""
+
+
 class _Assessor:
     def __init__(self, circuit: Circuit) -> None:
         self.circuit = circuit
@@ -171,8 +177,9 @@ class _Assessor:
             return Assessment((), tuple(self.not_assessed), True, False)
         try:
             voltages = {f: self.node_voltages(f, parts) for f, parts in groups.items()}
-        except (SymcircError, ZeroDivisionError, KeyError) as problem:
-            self.not_assessed.append(f"The operating point could not be computed ({problem}).")
+        except (SymcircError, _Unsolvable) as problem:
+            message = problem.message if isinstance(problem, SymcircError) else str(problem)
+            self.not_assessed.append(f"The operating point could not be computed: {message}.")
             return Assessment((), tuple(self.not_assessed), True, False)
         ac = any(f is not None for f in voltages)
         cautions = self.voltage_cautions(voltages) + self.power_cautions(voltages)
@@ -231,42 +238,50 @@ class _Assessor:
 
     # -- solving at the nominal values
     def node_voltages(self, frequency: float | None, parts) -> dict[str, complex]:
-        """Every node's voltage (a DC value, or a phasor of peak amplitude) for one group."""
-        found = solution(self.circuit)
-        s = 0 if frequency is None else complex(0.0, 2 * math.pi * frequency)
-        out: dict[str, complex] = {REFERENCE: 0j}
-        for node in self.circuit.nodes:
-            if node == REFERENCE:
-                continue
-            total = 0j
-            for excitation, amount in parts:
-                transfer = found.transfer(Voltage(node, REFERENCE), excitation)
-                total += self.at(transfer, s, frequency) * complex(amount)
-            out[node] = total
-        return out
+        """Every node's voltage for one group of sources (a DC value, or a phasor of peak
+        amplitude): the engine's equations with every symbol at its nominal value, solved
+        by numpy (the symbolic solution of a large circuit would be far too big)."""
+        equations = self.equations
+        s = 0j if frequency is None else complex(0.0, 2 * math.pi * frequency)
+        point = self.point(s)
+        size = len(equations.unknowns)
+        if len(equations.rows) != size:
+            raise _Unsolvable("the circuit's equations are not square")
+        matrix = numpy.zeros((size, size), dtype=complex)
+        for i, row in enumerate(equations.rows):
+            for j, entry in row.items():
+                matrix[i, j] = _polynomial_at(equations.ring, entry, point)
+        drive = numpy.zeros(size, dtype=complex)
+        for excitation, amount in parts:
+            for i, entry in equations.rhs.get(excitation, {}).items():
+                drive[i] += _polynomial_at(equations.ring, entry, point) * complex(amount)
+        try:
+            solved = numpy.linalg.solve(matrix, drive)
+        except numpy.linalg.LinAlgError:
+            where = "at DC" if frequency is None else f"at {_hertz(frequency)}"
+            raise _Unsolvable(f"the circuit has no unique operating point {where}") from None
+        return {node: complex(solved[equations.index[("V", node)]])
+                if ("V", node) in equations.index else 0j for node in self.circuit.nodes}
 
-    def at(self, function: RationalFunction, s: complex, frequency: float | None) -> complex:
-        """The function's value at the nominal values and the Laplace variable s."""
+    @cached_property
+    def equations(self) -> Equations:
+        return Equations(self.context.network)
+
+    def point(self, s: complex) -> dict[str, complex]:
+        """A value for every variable of the engine's ring: nominal values, atoms (pi,
+        square roots), elements defined with s (`Rs + 1/(s*C)`) at this s."""
         nominals = self.context.nominals
-        if any(n not in nominals and n != "s" for n in function.symbol_names()):
-            # an element defined with s (`Rs + 1/(s*C)`) has no nominal: use its definition
-            function = self.context.substitute_all(function)
-        point = dict(nominals)
+        point = {name: complex(value) for name, value in nominals.items()}
         for name, expr in self.context.atoms.items():
-            if name not in point:
-                point[name] = atom_value(expr, point)
-        if frequency is None:
-            point["s"] = Fraction(0)
-            try:
-                return complex(function.evaluate({n: point[n] for n in function.symbol_names()}))
-            except ZeroDivisionError:
-                raise ZeroDivisionError("a node has no finite DC voltage") from None
-        point_c = {n: complex(v) for n, v in point.items()}
-        point_c["s"] = s
-        den = _polynomial_at(function.ring, function.denominator, point_c)
-        if den == 0:
-            raise ZeroDivisionError(f"the circuit resonates at {frequency:g} Hz")
-        return _polynomial_at(function.ring, function.numerator, point_c) / den
+            point.setdefault(name, complex(atom_value(expr, nominals)))
+        values = {sympy.Symbol(n): sympy.Rational(v.numerator, v.denominator)
+                  for n, v in nominals.items()}
+        values[LAPLACE] = sympy.Float(s.real) + sympy.I * sympy.Float(s.imag)
+        for element in self.circuit.elements.values():
+            if element.name not in point and element.definition is not None:
+                point[element.name] = complex(sympy.N(element.definition.xreplace(values)))
+        point["s"] = s
+        return point
 
     # -- judging
     def voltage_cautions(self, voltages: dict[float | None, dict[str, complex]]) -> list[str]:
@@ -346,6 +361,8 @@ def _polynomial_at(ring, p, point: dict[str, complex]) -> complex:
         term = complex(coefficient)
         for name, exponent in zip(names, monomial, strict=False):
             if exponent:
+                if name not in point:
+                    raise _Unsolvable(f"{name} has no value")
                 term *= point[name] ** int(exponent)
         total += term
     return total
