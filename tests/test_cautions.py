@@ -219,3 +219,14 @@ def test_a_large_ladder_is_judged_numerically():
     assert any(c.startswith(rs0) for c in assessment.cautions)
     assert assessment.cautions[0].startswith("400 V DC between n0 and gnd")
     assert assessment.not_assessed == ()
+
+
+def test_parts_without_value_leave_the_sources_own_voltages_judged():
+    hazardous = assess(symcirc.parse("voltage source Uhv (a, gnd) = 400 V\nresistor R1 (a, b)\n"
+                                     "resistor R2 (b, gnd) = 1 kΩ\n"))
+    assert hazardous.cautions[0].startswith("400 V DC between a and gnd")
+    assert hazardous.not_assessed == ("Part R1 has no value: only the voltage sources' own "
+                                      "voltages were judged.",)
+    quiet = assess(symcirc.parse("voltage source Uref (a, gnd) = 1 V\nresistor R1 (a, b)\n"
+                                 "resistor R2 (b, gnd) = 1 kΩ\n"))
+    assert not quiet.shown and quiet.lines() == []

@@ -172,9 +172,13 @@ class _Assessor:
             names = ", ".join(unvalued)
             one = len(unvalued) == 1
             self.not_assessed.append(f"{'Part' if one else 'Parts'} {names} "
-                                     f"{'has' if one else 'have'} no value, so no voltage or "
-                                     "dissipation could be computed.")
-            return Assessment((), tuple(self.not_assessed), True, False)
+                                     f"{'has' if one else 'have'} no value: only the voltage "
+                                     "sources' own voltages were judged.")
+            # the sources' own voltages are still judged; the gap is said only where a source
+            # is itself above a limit (a symbolic circuit with a 1 V reference needs no word)
+            cautions = self.voltage_cautions(self.source_pairs(groups))
+            return Assessment(tuple(cautions), tuple(self.not_assessed), self.hazardous(groups),
+                              any(f is not None for f in groups))
         try:
             voltages = {f: self.node_voltages(f, parts) for f, parts in groups.items()}
         except (SymcircError, _Unsolvable) as problem:
@@ -182,7 +186,8 @@ class _Assessor:
             self.not_assessed.append(f"The operating point could not be computed: {message}.")
             return Assessment((), tuple(self.not_assessed), True, False)
         ac = any(f is not None for f in voltages)
-        cautions = self.voltage_cautions(voltages) + self.power_cautions(voltages)
+        cautions = self.voltage_cautions(self.node_pairs(voltages)) \
+            + self.power_cautions(voltages)
         return Assessment(tuple(cautions), tuple(self.not_assessed), True, ac)
 
     # -- what drives the circuit
@@ -204,6 +209,18 @@ class _Assessor:
             amount = value.evaluate({n: nominals[n] for n in value.symbol_names()})
             out.setdefault(frequency, []).append((name, amount))
         return out
+
+    def hazardous(self, groups) -> bool:
+        """True when a voltage source's own value is above the lowest voltage limit."""
+        for frequency, parts in groups.items():
+            limit = min(DC_LIMITS, key=lambda x: x.volts).volts if frequency is None \
+                else min(AC_LIMITS, key=lambda x: x.volts).volts * math.sqrt(2)
+            for name, amount in parts:
+                element = self.circuit.elements.get(name)
+                if element is not None and element.kind == "voltage source" \
+                        and abs(complex(amount)) > limit:
+                    return True
+        return False
 
     def frequency(self, element) -> float | None:
         written = element.frequency
@@ -284,18 +301,34 @@ class _Assessor:
         return point
 
     # -- judging
-    def voltage_cautions(self, voltages: dict[float | None, dict[str, complex]]) -> list[str]:
+    def node_pairs(self, voltages: dict[float | None, dict[str, complex]]):
+        """(a, b, V(a) - V(b) per frequency) for every pair of nodes."""
         nodes = self.circuit.nodes
-        found = []
         for i, a in enumerate(nodes):
             for b in nodes[i + 1:]:
-                dc = sum((v[a] - v[b]).real for f, v in voltages.items() if f is None)
-                peaks = {f: abs(v[a] - v[b]) for f, v in voltages.items() if f is not None}
-                peaks = {f: p for f, p in peaks.items() if p > 1e-12}
-                judged = _judge_voltage(dc, peaks)
-                if judged is not None:  # the reference, listed first, is named second
-                    first, second = (b, a) if a == REFERENCE else (a, b)
-                    found.append((judged[0], first, second, judged[1], judged[2]))
+                yield a, b, {f: v[a] - v[b] for f, v in voltages.items()}
+
+    def source_pairs(self, groups) -> list[tuple[str, str, dict[float | None, complex]]]:
+        """(p, n, value per frequency) of every valued voltage source: known without
+        solving, so judged even when other parts have no value."""
+        across: dict[tuple[str, str], dict[float | None, complex]] = {}
+        for frequency, parts in groups.items():
+            for name, amount in parts:
+                element = self.circuit.elements.get(name)
+                if element is not None and element.kind == "voltage source":
+                    values = across.setdefault((element.nodes[0], element.nodes[1]), {})
+                    values[frequency] = values.get(frequency, 0j) + complex(amount)
+        return [(a, b, values) for (a, b), values in across.items()]
+
+    def voltage_cautions(self, pairs) -> list[str]:
+        found = []
+        for a, b, across in pairs:
+            dc = sum(v.real for f, v in across.items() if f is None)
+            peaks = {f: abs(v) for f, v in across.items() if f is not None and abs(v) > 1e-12}
+            judged = _judge_voltage(dc, peaks)
+            if judged is not None:  # the reference is named second
+                first, second = (b, a) if a == REFERENCE else (a, b)
+                found.append((judged[0], first, second, judged[1], judged[2]))
         found.sort(key=lambda item: -item[0])
         out = [f"{text} between {a} and {b} at the nominal values: above "
                f"{limit.volts:g} V{'' if limit in DC_LIMITS else ' rms'}, "
