@@ -52,6 +52,8 @@ AC_LIMITS = (
 POWER_LIMIT = 0.25
 """Watts in one resistor or conductance from which a caution is given (common practice: a
 small through-hole resistor is rated 1/4 W, a 0805 chip resistor about 1/8 W)."""
+MAX_UNKNOWNS = 2000
+"""Largest system solved for the cautions (a dense complex matrix of 64 MB)."""
 LISTED = 8
 """Pairs of nodes named one by one; more are counted."""
 
@@ -262,6 +264,9 @@ class _Assessor:
         s = 0j if frequency is None else complex(0.0, 2 * math.pi * frequency)
         point = self.point(s)
         size = len(equations.unknowns)
+        if size > MAX_UNKNOWNS:
+            raise _Unsolvable(f"the circuit has {size} unknowns; cautions are computed for up "
+                              f"to {MAX_UNKNOWNS}")
         if len(equations.rows) != size:
             raise _Unsolvable("the circuit's equations are not square")
         matrix = numpy.zeros((size, size), dtype=complex)
@@ -302,11 +307,21 @@ class _Assessor:
 
     # -- judging
     def node_pairs(self, voltages: dict[float | None, dict[str, complex]]):
-        """(a, b, V(a) - V(b) per frequency) for every pair of nodes."""
-        nodes = self.circuit.nodes
-        for i, a in enumerate(nodes):
-            for b in nodes[i + 1:]:
-                yield a, b, {f: v[a] - v[b] for f, v in voltages.items()}
+        """(a, b, V(a) - V(b) per frequency) for every pair of nodes that may be above a
+        limit; the pairs are screened with numpy so that a large circuit costs little."""
+        nodes = list(self.circuit.nodes)
+        rows = {f: numpy.array([v[n] for n in nodes]) for f, v in voltages.items()}
+        dc = rows[None].real if None in rows else numpy.zeros(len(nodes))
+        between = numpy.abs(dc[:, None] - dc[None, :])
+        candidates = between > min(limit.volts for limit in DC_LIMITS)
+        squares = between**2
+        for f, row in rows.items():
+            if f is not None:
+                squares = squares + numpy.abs(row[:, None] - row[None, :]) ** 2 / 2
+        if len(rows) > (None in rows):  # a frequency: the AC limits apply to the rms value
+            candidates |= numpy.sqrt(squares) > min(limit.volts for limit in AC_LIMITS)
+        for i, j in zip(*numpy.nonzero(numpy.triu(candidates, 1)), strict=True):
+            yield nodes[i], nodes[j], {f: v[nodes[i]] - v[nodes[j]] for f, v in voltages.items()}
 
     def source_pairs(self, groups) -> list[tuple[str, str, dict[float | None, complex]]]:
         """(p, n, value per frequency) of every valued voltage source: known without
