@@ -230,3 +230,13 @@ def test_parts_without_value_leave_the_sources_own_voltages_judged():
     quiet = assess(symcirc.parse("voltage source Uref (a, gnd) = 1 V\nresistor R1 (a, b)\n"
                                  "resistor R2 (b, gnd) = 1 kΩ\n"))
     assert not quiet.shown and quiet.lines() == []
+
+
+def test_without_an_operating_point_the_sources_are_still_judged():
+    # a current source charging a capacitor has no DC operating point
+    assessment = assess(symcirc.parse("current source Ich (gnd, a) = 1 mA\n"
+                                      "capacitor C1 (a, gnd) = 1 µF\n"
+                                      "voltage source Uhv (b, gnd) = 400 V\n"
+                                      "resistor R1 (b, gnd) = 1 MΩ\n"))
+    assert assessment.cautions[0].startswith("400 V DC between b and gnd")
+    assert "no unique operating point at DC" in assessment.not_assessed[0]

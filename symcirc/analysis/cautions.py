@@ -185,8 +185,11 @@ class _Assessor:
             voltages = {f: self.node_voltages(f, parts) for f, parts in groups.items()}
         except (SymcircError, _Unsolvable) as problem:
             message = problem.message if isinstance(problem, SymcircError) else str(problem)
-            self.not_assessed.append(f"The operating point could not be computed: {message}.")
-            return Assessment((), tuple(self.not_assessed), True, False)
+            self.not_assessed.append(f"The operating point could not be computed: {message}; "
+                                     "only the voltage sources' own voltages were judged.")
+            cautions = self.voltage_cautions(self.source_pairs(groups))
+            return Assessment(tuple(cautions), tuple(self.not_assessed), True,
+                              any(f is not None for f in groups))
         ac = any(f is not None for f in voltages)
         cautions = self.voltage_cautions(self.node_pairs(voltages)) \
             + self.power_cautions(voltages)
