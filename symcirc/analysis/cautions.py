@@ -4,8 +4,10 @@ At the nominal values, every independent source that has a value drives the circ
 a sinusoid of peak amplitude equal to its value when written `at 50 Hz`; sources add by
 superposition). The voltage between every pair of nodes is judged against the touch and
 extra-low-voltage limits below, and the dissipation of every resistor and conductance
-against a small part's usual rating. Sources or parts without a value are listed as not
-assessed; the rest is still judged.
+against a small part's usual rating. The circuit is solved numerically at the nominal
+values (the engine's equations with numbers, solved by numpy), so a large circuit costs
+little. Sources or parts without a value are listed as not assessed; the rest is still
+judged.
 """
 
 from __future__ import annotations
@@ -129,7 +131,7 @@ def attach(circuit: Circuit, results: list) -> list:
     assessment = assess(circuit)
     shared = list(assessment.cautions)
     if assessment.shown:
-        shared += list(assessment.not_assessed) + [DEFER]
+        shared += list(assessment.not_assessed) + list(THRESHOLDS) + [DEFER]
     for result in results:
         own = value_caution(result.nominal, result.unit, assessment.ac)
         result.cautions = ([f"{result.quantity} is {engineering(result.nominal_exact, result.unit)}"
@@ -160,6 +162,9 @@ class _Unsolvable(Exception):
 
 
 class _Assessor:
+    """One assessment: which sources drive the circuit, the solved node voltages, the
+    cautions they call for."""
+
     def __init__(self, circuit: Circuit) -> None:
         self.circuit = circuit
         self.context = Context(circuit, DeriveOptions(steps=False))

@@ -283,6 +283,7 @@ class Circuit:
             lines += [f"> **Caution.** {_markdown_text(c)}\n>" for c in assessment.cautions]
             lines += [f"> **Not assessed.** {_markdown_text(n)}\n>"
                       for n in assessment.not_assessed]
+            lines += [f"> {_markdown_text(x)}\n>" for x in assessment.thresholds]
             lines.append(f"> {_markdown_text(assessment.advice)}")
         return "\n".join(lines)
 
