@@ -55,7 +55,7 @@ def test_ideal_opamp_output_port_has_zero_thevenin_impedance_and_no_norton():
 NEGATIVE_CONDUCTANCE = (
     # a controlled source that exactly cancels Rx: the port sees an ideal current source
     "current source Iq (gnd, a)\nresistor Rx (a, gnd)\n"
-    "current source Gneg (a, gnd) = V(a)/Rx\nport out (a, gnd)\n"
+    "current source Ineg (a, gnd) = V(a)/Rx\nport out (a, gnd)\n"
 )
 
 
