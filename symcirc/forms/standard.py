@@ -6,6 +6,11 @@ First order `K/(1 + s/ω0)`, `K·(s/ω0)/(1 + s/ω0)`; second order
 and second-order factors when the polynomials factor over the symbols. Each parameter is
 given in closed form (ω0 and Q with square factors taken out of the root), with f0 = ω0/2π,
 ζ = 1/(2Q), and the real zeros and poles.
+
+Signs are exact: ω0 = √(c/a) is the positive root (only factors that are positive for
+positive symbols leave the root), and Q = (c/b)/ω0 keeps the sign of the s coefficient, so a
+section with a right-half-plane pair has Q < 0. The proof checks ω0² = c/a and Q·ω0 = c/b
+as identities, not squares.
 """
 
 from __future__ import annotations
@@ -59,7 +64,7 @@ class StandardForm:
     rational: sympy.Expr = field(repr=False, default=sympy.Integer(0))
     """The same form with ω0² and Q·ω0 as the rational functions they stand for."""
     checks: list[tuple[sympy.Expr, sympy.Expr]] = field(repr=False, default_factory=list)
-    """Pairs that must be equal: each root parameter squared and its rational value."""
+    """Pairs that must be equal exactly: ω0² and c/a, Q·ω0 and c/b (signs included)."""
 
 
 def nominal(expr: sympy.Expr, nominals: dict[str, Fraction]) -> float | None:
@@ -76,7 +81,8 @@ def nominal(expr: sympy.Expr, nominals: dict[str, Fraction]) -> float | None:
 
 
 def sqrt_of(expr: sympy.Expr) -> sympy.Expr:
-    """The positive square root of a ratio of polynomials, square factors taken outside."""
+    """The positive square root of a ratio of polynomials: square factors whose coefficients
+    share one sign (so positive, up to that sign, for positive symbols) taken outside."""
     num, den = to_ratio(expr)
     out_num, in_num = _split_square(num)
     out_den, in_den = _split_square(den)
@@ -101,8 +107,12 @@ def _split_square(poly) -> tuple[sympy.Expr, sympy.Expr]:
     else:
         inside *= content
     for f, e in found:
-        outside *= f ** (e // 2)
-        inside *= f ** (e % 2)
+        signs = {c > 0 for c in sympy.Poly(f).coeffs()} if f.free_symbols else {f > 0}
+        if len(signs) == 1:
+            outside *= (f if signs == {True} else -f) ** (e // 2)
+            inside *= f ** (e % 2)
+        else:  # sign unknown: √(f²) = |f| stays under the root
+            inside *= f ** e
     return outside, inside
 
 
@@ -232,7 +242,7 @@ def _conventional(
     w_squared = sympy.cancel(c / a)
     q_w = sympy.cancel(c / b)  # Q·ω0
     omega = sqrt_of(w_squared)
-    quality = sqrt_of(a * c / b**2)
+    quality = q_w / omega  # Q·ω0 = c/b: the sign of b is the sign of Q
     denominator = s**2 / w**2 + s / (Q * w) + 1
     rational_denominator = s**2 / w_squared + s / q_w + 1
     tail = r"\frac{s^{2}}{\omega_{0}^{2}} + \frac{s}{Q \omega_{0}} + 1"
@@ -275,7 +285,7 @@ def _conventional(
         latex_form,
         params,
         rational,
-        [(omega**2, w_squared), (quality**2 * omega**2, q_w**2)],
+        [(omega**2, w_squared), (quality * omega, q_w)],
     )
 
 
@@ -313,12 +323,13 @@ def _factored(num, den, i: int, unit: str) -> StandardForm | None:
                 if b == 0:
                     return None
                 w_squared, q_w = sympy.cancel(c / a), sympy.cancel(c / b)
-                omega, quality = sqrt_of(w_squared), sqrt_of(a * c / b**2)
+                omega = sqrt_of(w_squared)
+                quality = q_w / omega
                 params += [
                     Parameter(f"omega_0{name}", omega, "rad/s"),
                     Parameter(f"Q_{name}", quality, ""),
                 ]
-                checks += [(omega**2, w_squared), (quality**2 * omega**2, q_w**2)]
+                checks += [(omega**2, w_squared), (quality * omega, q_w)]
                 closed = s**2 / omega**2 + s / (quality * omega) + 1
                 texts.append(f"(s²/ω0{name}² + s/(Q{name}·ω0{name}) + 1)")
                 latexes.append(
