@@ -77,6 +77,8 @@ class Result:
         self.cautions: list[str] = []
         """Safety cautions shown with the result (set by `Circuit.derive`; see
         symcirc.analysis.cautions)."""
+        self.name_latex: str | None = None
+        """How the quantity is set in LaTeX when it has a symbol of the trade (`\\omega_{0}`)."""
 
     # -- the value
     @property
@@ -113,8 +115,8 @@ class Result:
             value = self._value
             if value.free_symbols:
                 value = value.xreplace(subs)
-            if not value.is_number:
-                return None
+            if not value.is_number or value.is_real is False:
+                return None  # complex (a pole pair) has no single real value
             if value.is_Rational:
                 return Fraction(int(value.p), int(value.q))
             return Fraction(float(value)).limit_denominator(10**15)
@@ -151,7 +153,10 @@ class Result:
         return "\n".join(lines)
 
     def quantity_latex(self) -> str:
-        return r"\mathrm{" + self.quantity.replace("_", r"\_") + "}"
+        written = r"\mathrm{" + self.quantity.replace("_", r"\_") + "}"
+        if self.name_latex is None:
+            return written
+        return self.name_latex + r"\big[" + written + r"\big]"
 
     def __repr__(self) -> str:
         return f"<Result {self.quantity} = {self.text()}>"

@@ -1,7 +1,9 @@
 """Component values: solve Q(x) = target for x, then the IEC 60063 values around the solution.
 
 Q is a rational function of x, so Q = target is the polynomial equation
-numerator(Q − target) = 0 in x: closed forms up to degree 2, numbers beyond.
+numerator(Q − target) = 0 in x: closed forms up to degree 2, numbers beyond. A square root
+of one (ω0, f0, Q, |H| at a frequency) is squared first, Q² = target², and only roots where
+Q has the target's sign are kept.
 """
 
 from __future__ import annotations
@@ -77,9 +79,7 @@ def solve_for(
     if x not in expression.free_symbols:
         raise SolveError(f"the quantity does not depend on {x}")
     others = {k: v for k, v in nominals.items() if k != x}
-    # cancel() removes common factors, so no root of the numerator is a pole of Q.
-    numerator, _ = sympy.fraction(sympy.cancel(sympy.together(expression - target)))
-    polynomial = sympy.Poly(sympy.expand(numerator), x)
+    polynomial, squared = _cleared(expression, target, x)
     if polynomial.degree() < 1:
         raise SolveError(f"no value of {x} gives that target")
     if polynomial.degree() <= 2:
@@ -93,11 +93,35 @@ def solve_for(
     solutions = []
     for root, number in zip(roots, numbers, strict=True):
         value = _positive_real(number)
+        if value is not None and squared and not _same_sign(expression, target, x, value,
+                                                            others):
+            continue  # a root of Q² = target² where Q = −target
         choices = () if value is None else _choices(expression, target, x, value, others, series)
         if root is not None or value is not None:
             solutions.append(Solution(root, value, choices))
     solutions.sort(key=lambda s: (s.value is None, s.value or 0))
     return ComponentSolution(x, target, polynomial, tuple(solutions))
+
+
+def _cleared(expression: sympy.Expr, target: sympy.Expr, x: sympy.Symbol
+             ) -> tuple[sympy.Poly, bool]:
+    """numerator(Q − target) as a polynomial in x; (of Q² − target², True) when Q is the
+    square root of a rational function of x."""
+    for squared in (False, True):
+        left, right = (expression**2, target**2) if squared else (expression, target)
+        # cancel() removes common factors, so no root of the numerator is a pole of Q.
+        numerator, _ = sympy.fraction(sympy.cancel(sympy.together(left - right)))
+        try:
+            return sympy.Poly(sympy.expand(numerator), x), squared
+        except sympy.PolynomialError:
+            continue
+    raise SolveError(f"the quantity is no rational function of {x}, nor the square root of one")
+
+
+def _same_sign(expression, target, x, value, others) -> bool:
+    q = exact_value(expression, {**others, x: value})
+    goal = exact_value(target, others)
+    return q is None or goal is None or (q >= 0) == (goal >= 0)
 
 
 def _numeric_poly(polynomial: sympy.Poly, nominals) -> sympy.Poly | None:

@@ -810,7 +810,8 @@ class _Elaborator:
         return tuple(derives), tuple(claims)
 
     def assumption(self, written: syntax.Assumption, circuit: Circuit) -> Assumption:
-        self.expect(written.symbol, "symbol", circuit)
+        if not (written.kind == "limit" and written.symbol.name == LAPLACE.name):
+            self.expect(written.symbol, "symbol", circuit)  # `s -> 0`: DC, `s -> oo`: HF
         target: str | None
         if written.kind == "limit":
             if isinstance(written.target, syntax.Name) and written.target.name == "oo":

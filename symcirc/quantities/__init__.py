@@ -17,7 +17,7 @@ from ..errors import SymcircError
 from ..language import syntax
 from ..model.circuit import Assumption, Circuit
 from ..results import Result
-from .registry import HANDLERS, DeriveOptions
+from .registry import HANDLERS, DeriveOptions, handler_for
 
 QUANTITY_ORIGIN = "<quantity>"
 """File name shown in errors about a quantity given as text (not from a file)."""
@@ -64,7 +64,8 @@ def derive(circuit: Circuit, quantity: str | syntax.Quantity,
         kw.setdefault("origin", (QUANTITY_ORIGIN, text))
     options = options_from(options, **kw)
     for assumption in options.assumptions:
-        known = assumption.symbol in circuit.parameters or assumption.symbol in circuit.elements
+        known = assumption.symbol in circuit.parameters or assumption.symbol in circuit.elements \
+            or (assumption.symbol == "s" and assumption.kind == "limit")
         if not known:
             raise SymcircError(f"`{assumption.symbol}` in a limit is not a parameter or element "
                                "of this circuit", circuit.file)
@@ -74,7 +75,7 @@ def derive(circuit: Circuit, quantity: str | syntax.Quantity,
 def derive_quantity(circuit: Circuit, quantity: syntax.Quantity,
                     options: DeriveOptions) -> list[Result]:
     """Dispatch a parsed quantity to its handler (registry.HANDLERS)."""
-    target = HANDLERS.get(quantity.name)
+    target = handler_for(quantity)
     if target is None:
         close = get_close_matches(quantity.name, list(HANDLERS), n=1)
         hint = f"; did you mean `{close[0]}`?" if close else ""

@@ -33,7 +33,34 @@ HANDLERS: dict[str, str] = {
     "loading": "symcirc.analysis.quantities:loading_quantity",
     "minimum_load": "symcirc.analysis.quantities:minimum_load_quantity",
     "solve": "symcirc.analysis.quantities:solve_quantity",
+    # frequency-domain analyses
+    "at": "symcirc.analysis.frequency:at_quantity",
+    "response": "symcirc.analysis.frequency:response_quantity",
 }
+
+RESPONSE_QUANTITIES = ("V", "I", "gain", "Z", "Y")
+"""Quantities in s whose parts may name a design parameter (`gain(Uin, out).w0`)."""
+RESPONSE_PARTS = ("dc", "hf", "K", "w0", "f0", "Q", "zeta", "wp", "fp", "tau", "wz", "fz",
+                  "centre", "bandwidth", "poles", "zeros", "f3db")
+"""The design parameters a response in s has as parts (symcirc.analysis.frequency.PARTS)."""
+PART_HANDLER = "symcirc.analysis.frequency:part_quantity"
+"""Derives `Q.part` for a part in RESPONSE_PARTS of a quantity in RESPONSE_QUANTITIES."""
+PART_SENSITIVITY_HANDLER = "symcirc.analysis.frequency:sensitivity_quantity"
+"""`sensitivity(P, x)` and `relative_sensitivity(P, x)` of a design parameter or of an
+at-frequency value P (closed forms with roots and angles, not rational functions)."""
+
+
+def handler_for(quantity) -> str | None:
+    """The "module:function" deriving a parsed quantity, or None for an unknown name."""
+    if quantity.name in RESPONSE_QUANTITIES and quantity.attribute in RESPONSE_PARTS:
+        return PART_HANDLER
+    if quantity.name in ("sensitivity", "relative_sensitivity") and quantity.args:
+        inner = quantity.args[0]
+        inner_name, part = getattr(inner, "name", None), getattr(inner, "attribute", None)
+        if inner_name == "at" or (inner_name in RESPONSE_QUANTITIES
+                                                and part in RESPONSE_PARTS):
+            return PART_SENSITIVITY_HANDLER
+    return HANDLERS.get(quantity.name)
 
 
 @dataclass(frozen=True)
