@@ -66,7 +66,8 @@ def _allow_options_between_quantities(parser: argparse.ArgumentParser) -> None:
 
 def run(args: argparse.Namespace) -> int:
     from .. import load
-    from ..quantities import derive_quantity, parse
+    from ..language.parser import parse_quantity_where
+    from ..quantities import assumptions_of, check_assumptions, derive_quantity
     from ..quantities.registry import DeriveOptions
 
     circuit = load(args.file)
@@ -77,10 +78,14 @@ def run(args: argparse.Namespace) -> int:
         print(_notice(notice, circuit), file=sys.stderr)
     jobs = []  # (quantity, options)
     if args.quantities:
-        for text in args.quantities:
+        for text in args.quantities:  # `V(out) where Rid -> oo` as in a file's derive
+            quantity, written = parse_quantity_where(text, COMMAND_LINE)
             options = DeriveOptions(substitute=args.substitute, steps=args.steps,
-                                    seed=args.seed, origin=(COMMAND_LINE, text))
-            jobs.append((parse(text, COMMAND_LINE), options))
+                                    seed=args.seed, origin=(COMMAND_LINE, text),
+                                    assumptions=tuple(assumptions_of(written,
+                                                                     (COMMAND_LINE, text))))
+            check_assumptions(circuit, options)
+            jobs.append((quantity, options))
     else:
         if not circuit.derives:
             raise SymcircError(f"{args.file} has no derive statements; name the quantities on "

@@ -19,7 +19,8 @@ from pathlib import Path
 from ..errors import SymcircError
 from . import syntax as st
 
-_STARTS = ["start", "quantity_line", "expression_line", "claim_line"]
+_STARTS = ["start", "quantity_line", "quantity_where_line", "where_line", "expression_line",
+           "claim_line"]
 _LOCK = threading.Lock()  # the inline transformer holds the text being parsed
 _BOM = "\ufeff"
 
@@ -102,6 +103,17 @@ def parse_document(text: str, filename: str = "<input>") -> st.Document:
 def parse_quantity(text: str, filename: str = "<command line>") -> st.Quantity:
     """Parse one quantity: `thevenin(out)`, `gain(Ub, out)`, `twoport(p1, p2).z21`."""
     return _parse(text, filename, "quantity_line")
+
+
+def parse_quantity_where(text: str, filename: str = "<command line>"
+                         ) -> tuple[st.Quantity, tuple[st.Assumption, ...]]:
+    """Parse a quantity with optional `where` clauses: `V(out) where Rid -> oo, s -> 0`."""
+    return _parse(text, filename, "quantity_where_line")
+
+
+def parse_where(text: str, filename: str = "<where>") -> tuple[st.Assumption, ...]:
+    """Parse `where` clauses alone, with or without the keyword: `Rid -> oo and A >> B`."""
+    return _parse(text, filename, "where_line")
 
 
 def parse_expression(text: str, filename: str = "<command line>") -> st.Expr:

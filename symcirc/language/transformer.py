@@ -422,6 +422,13 @@ class TreeBuilder(Transformer):
     def quantity_line(self, call) -> st.Quantity:
         return self._as_quantity(call, "")
 
+    def quantity_where_line(self, call, assumptions) -> tuple[st.Quantity,
+                                                             tuple[st.Assumption, ...]]:
+        return self._as_quantity(call, ""), tuple(assumptions or ())
+
+    def where_line(self, _keyword, *assumptions: st.Assumption) -> tuple[st.Assumption, ...]:
+        return assumptions
+
     def expression_line(self, expression: st.Expr) -> st.Expr:
         self._check_expression(expression)
         return expression

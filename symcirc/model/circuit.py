@@ -261,13 +261,19 @@ class Circuit:
         derive` shows it: `where big >> small` approximations applied, and with `steps=True`
         the design form and derivation steps attached (off by default, as on the command
         line: they cost more than the derivation on large results)."""
+        from dataclasses import replace
+
         from ..analysis.cautions import attach
         from ..forms import finish
-        from ..quantities import derive, options_from
+        from ..quantities import QUANTITY_ORIGIN, derive, options_from, read_quantity
 
         options.setdefault("steps", False)
-        results = derive(self, quantity, **options)
-        return attach(self, finish(self, quantity, results, options_from(None, **options)))
+        options.setdefault("origin", (QUANTITY_ORIGIN, quantity))
+        parsed, clauses = read_quantity(quantity)
+        settings = options_from(None, **options)
+        settings = replace(settings, assumptions=(*settings.assumptions, *clauses))
+        results = derive(self, parsed, settings)
+        return attach(self, finish(self, parsed, results, settings))
 
     def _repr_markdown_(self) -> str:
         """In Jupyter: the title, the parts and nodes, and the safety cautions."""

@@ -9,7 +9,7 @@ Every quantity name is dispatched through `registry.HANDLERS`.
 from __future__ import annotations
 
 import importlib
-from dataclasses import dataclass, fields
+from dataclasses import dataclass, fields, replace
 from difflib import get_close_matches
 from typing import Any
 
@@ -29,8 +29,10 @@ __all__ = [
 
 
 def options_from(options: DeriveOptions | None = None, **kw: Any) -> DeriveOptions:
-    """DeriveOptions from keywords: its fields, and `limits={"A": "oo", "Rs": "0"}`."""
+    """DeriveOptions from keywords: its fields, `limits={"A": "oo", "Rs": "0"}`, and
+    `where="Rid -> oo, s -> 0"` (clauses as a file's `where` writes them)."""
     limits = kw.pop("limits", None) or {}
+    where = kw.pop("where", None)
     known = {f.name for f in fields(DeriveOptions)}
     unknown = set(kw) - known
     if unknown:
@@ -44,8 +46,41 @@ def options_from(options: DeriveOptions | None = None, **kw: Any) -> DeriveOptio
         if target not in ("oo", "0"):
             raise SymcircError(f"a limit goes to oo or 0, not {target} ({symbol} -> {target})")
         extra.append(Assumption("limit", symbol, target))
+    if where:
+        from ..language.parser import parse_where
+
+        extra += assumptions_of(parse_where(where, WHERE_ORIGIN), (WHERE_ORIGIN, where))
     values["assumptions"] = (*values.get("assumptions", ()), *extra)
     return DeriveOptions(**values)
+
+
+WHERE_ORIGIN = "<where>"
+"""File name shown in errors about `where` clauses given as a Python argument."""
+
+
+def assumptions_of(written: tuple[syntax.Assumption, ...], origin: tuple[str, str]
+                   ) -> list[Assumption]:
+    """`where` clauses read from text, as the model keeps them (`s -> 0` is DC)."""
+    from ..errors import Location
+
+    out = []
+    for a in written:
+        where = Location(origin[0], a.line, a.column)
+        if a.kind == "limit":
+            target = "oo" if isinstance(a.target, syntax.Name) else "0"
+            out.append(Assumption("limit", a.symbol.name, target, where))
+        else:
+            out.append(Assumption("much_greater", a.symbol.name, a.target.name, where))
+    return out
+
+
+def read_quantity(text: str, origin: str = QUANTITY_ORIGIN
+                  ) -> tuple[syntax.Quantity, list[Assumption]]:
+    """A quantity written as text with optional `where` clauses (`V(out) where A -> oo`)."""
+    from ..language.parser import parse_quantity_where
+
+    quantity, written = parse_quantity_where(text, origin)
+    return quantity, assumptions_of(written, (origin, text))
 
 
 def parse(text: str, origin: str = QUANTITY_ORIGIN) -> syntax.Quantity:
@@ -58,18 +93,35 @@ def parse(text: str, origin: str = QUANTITY_ORIGIN) -> syntax.Quantity:
 def derive(circuit: Circuit, quantity: str | syntax.Quantity,
            options: DeriveOptions | None = None, **kw: Any) -> list[Result]:
     """Derive a quantity (`"thevenin(out)"`, or a parsed one) as a list of Results."""
+    clauses: list[Assumption] = []
     if isinstance(quantity, str):
         text = quantity
-        quantity = parse(text)
+        quantity, clauses = read_quantity(text)
         kw.setdefault("origin", (QUANTITY_ORIGIN, text))
     options = options_from(options, **kw)
+    if clauses:
+        options = replace(options, assumptions=(*options.assumptions, *clauses))
+    check_assumptions(circuit, options, kw.get("where"))
+    return derive_quantity(circuit, quantity, options)
+
+
+def check_assumptions(circuit: Circuit, options: DeriveOptions, where: str | None = None
+                      ) -> None:
+    """Every `where` clause names a parameter or element of the circuit (or `s -> ...`)."""
     for assumption in options.assumptions:
         known = assumption.symbol in circuit.parameters or assumption.symbol in circuit.elements \
             or (assumption.symbol == "s" and assumption.kind == "limit")
+        if assumption.kind == "much_greater":
+            known = known and (assumption.target in circuit.parameters
+                               or assumption.target in circuit.elements)
         if not known:
-            raise SymcircError(f"`{assumption.symbol}` in a limit is not a parameter or element "
-                               "of this circuit", circuit.file)
-    return derive_quantity(circuit, quantity, options)
+            message = (f"`{assumption.symbol}` in a `where` clause is not a parameter or "
+                       "element of this circuit")
+            if assumption.location is not None and assumption.location.file != circuit.file:
+                source = where if assumption.location.file == WHERE_ORIGIN else \
+                    options.origin[1] if options.origin else None
+                raise SymcircError.at(assumption.location, message, source)
+            raise SymcircError(message, circuit.file)
 
 
 def derive_quantity(circuit: Circuit, quantity: syntax.Quantity,
