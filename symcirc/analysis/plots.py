@@ -99,23 +99,50 @@ def _styled(build):
 
 @_styled
 def frequency_response_figure(
-    frequencies: Sequence[float], response: Sequence[complex], label: str, unit: str = ""
+    frequencies: Sequence[float], response: Sequence[complex], label: str, unit: str = "",
+    band: Any = None, unstable: bool = False,
 ):
-    """Magnitude (dB) and phase (°) against frequency on a log axis."""
+    """Magnitude (dB) and phase (°) against frequency on a log axis; with `band` (a
+    response.Band over the same frequencies) the Monte Carlo spread shaded around them."""
     import numpy as np
 
     f = np.asarray(frequencies, dtype=float)
     h = np.asarray(response, dtype=complex)
     figure, (top, bottom) = _figure(rows=2)
     with np.errstate(divide="ignore"):
-        top.semilogx(f, 20 * np.log10(np.abs(h)), color="C0")
-    bottom.semilogx(f, np.degrees(np.unwrap(np.angle(h))), color="C1")
+        top.semilogx(f, 20 * np.log10(np.abs(h)), color="C0", label="nominal")
+    phase = np.degrees(np.unwrap(np.angle(h)))
+    bottom.semilogx(f, phase, color="C1")
+    if band is not None:
+        low, high = band.quantiles
+        shown = f"Monte Carlo {100 * low:g} % … {100 * high:g} % ({band.samples:,} samples)"
+        top.fill_between(f, band.low_db, band.high_db, color="C0", alpha=0.25, linewidth=0,
+                         label=shown)
+        # the band follows the nominal phase's branch; shift it onto the curve as drawn
+        shift = phase - band.nominal_phase
+        bottom.fill_between(f, band.low_phase + shift, band.high_phase + shift, color="C1",
+                            alpha=0.25, linewidth=0)
+        top.legend(loc="lower left", fontsize=7)
     top.set_ylabel("Magnitude (dB" + (f" re 1 {unit})" if unit else ")"))
     bottom.set_ylabel("Phase (°)")
     bottom.set_xlabel("Frequency (Hz)")
     _eng_axis(bottom.xaxis, "Hz")
-    top.set_title(label)
+    if unstable:
+        top.set_title(label + "  (unstable: a pole in the right half-plane)", color="C3")
+    else:
+        top.set_title(label)
     return figure
+
+
+def is_unstable(expression, nominals) -> bool:
+    """Whether the response has a pole in the right half-plane at the nominal values."""
+    from .response import Response, ResponseError
+
+    try:
+        words = Response.of(expression).stability(nominals)
+    except ResponseError:
+        return False
+    return bool(words and words.startswith("Unstable"))
 
 
 @_styled
@@ -216,7 +243,8 @@ def figure_of(circuit: Circuit, quantity_text: str, seed: int | None = None):
 
     `tolerance(Q)`: Monte Carlo histogram with the worst-case bounds; `sensitivities(Q)`:
     bars; `loading(port, Z)` and `minimum_load(port, error)`: loading error against load;
-    a transfer function (a quantity in s): magnitude and phase against frequency.
+    a transfer function (a quantity in s): magnitude and phase against frequency, and for
+    `response(Q)` their Monte Carlo band shaded.
     """
     from ..quantities import QUANTITY_ORIGIN, parse
     from ..quantities.registry import DeriveOptions
@@ -256,7 +284,14 @@ def figure_of(circuit: Circuit, quantity_text: str, seed: int | None = None):
             frequencies, response = frequency_response(result.expression, circuit.symbol_nominals())
         except ValueError as problem:
             raise read.error(quantity, str(problem)) from None
-        figure = frequency_response_figure(frequencies, response, result.quantity, result.unit)
+        band = None
+        if quantity.name == "response":  # with the Monte Carlo band of magnitude and phase
+            from .frequency import response_band
+
+            band = response_band(circuit, result, frequencies, seed=seed)
+        figure = frequency_response_figure(
+            frequencies, response, result.quantity, result.unit, band,
+            is_unstable(result.expression, circuit.symbol_nominals()))
     return figure
 
 

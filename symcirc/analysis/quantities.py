@@ -507,7 +507,10 @@ def loading_quantity(circuit: Circuit, quantity: syntax.Quantity,
                            + ("low." if e < 0 else "high." if e > 0 else "true."))
     results = [voltage, error]
     if case.frequency is not None:
-        results += _at_frequency(analysis.at_frequency, case, error)
+        extra = _at_frequency(analysis.at_frequency, case, error)
+        for r in (voltage, error):  # the numbers their notes show, for the JSON too
+            r.details["loading"] = {"at_frequency": extra[0].details["loading"]["at_frequency"]}
+        results += extra
     else:
         if analysis.power is not None:
             power = Result(f"{label}.power", analysis.power, "W", nominals,

@@ -158,6 +158,8 @@ def value_text(result: Result) -> str:
     exact = result.nominal_exact
     if exact is not None:
         return "≈ " + engineering(exact, result.unit)
+    if not result.missing:
+        return "no single real value at the nominal values (complex: see the notes)"
     missing = [n for n in result.missing if n != "s"]
     if "s" in result.missing and not missing:
         return "no nominal value: it depends on s (a function of frequency)"
@@ -201,8 +203,34 @@ def as_latex(circuit, results: list[Result], values: bool) -> str:
         if values:
             body += r" \quad \text{(" + _latex_text(value_text(result)) + ")}"
         blocks.append("\\begin{equation*}\n" + body + "\n\\end{equation*}")
+        definitions = _definitions(result)
+        if definitions:
+            rows = " \\\\\n".join(f"{name} &= {latex}" for name, latex, _ in definitions)
+            blocks.append("\\begin{align*}\n" + rows + "\n\\end{align*}")
+        for k, step in enumerate(result.steps, 1):
+            blocks.append(f"% step {k}: {step.sentence}")
+            if step.latex:
+                blocks.append("\\begin{equation*}\n" + step.latex + "\n\\end{equation*}")
         blocks.extend(f"% note: {n}" for n in result.notes)
     return "\n".join(blocks)
+
+
+_PARAMETER_LATEX = {"ω": r"\omega", "ζ": r"\zeta"}
+
+
+def _definitions(result: Result) -> list[tuple[str, str, str]]:
+    """(LaTeX name, LaTeX closed form, nominal text) of each design-form parameter."""
+    from ..model.units import eng
+
+    parameters = getattr(result.form, "parameters", None) or {}
+    out = []
+    for name, described in parameters.items():
+        head, tail = name[:1], name[1:]
+        symbol = _PARAMETER_LATEX.get(head, head) + (f"_{{{tail}}}" if tail else "")
+        nominal = described.get("nominal")
+        value = "" if nominal is None else eng(nominal, described.get("unit", ""))
+        out.append((symbol, described["latex"], value))
+    return out
 
 
 def _latex_text(text: str) -> str:
@@ -222,8 +250,17 @@ def as_markdown(circuit, results: list[Result], values: bool) -> str:
         parts.append(f"$$\n{result.latex()}\n$$")
         if result.form is not None:
             parts.append(f"Design form: ${result.form.latex}$")
+            definitions = _definitions(result)
+            if definitions:
+                parts.append("where\n\n" + "\n".join(
+                    f"- ${name} = {latex}$" + (f" ≈ {value}" if value else "")
+                    for name, latex, value in definitions))
         if values:
             parts.append(value_text(result))
+        if result.steps:
+            parts.append("\n".join(
+                f"{k}. {escape_md(step.sentence)}" + (f" ${step.latex}$" if step.latex else "")
+                for k, step in enumerate(result.steps, 1)))
         parts.extend(f"> {escape_md(n)}" for n in result.notes)
     return "\n\n".join(parts)
 

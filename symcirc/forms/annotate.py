@@ -213,6 +213,9 @@ def _form(
     parameters = _parameters(standard, nominals) if standard else {}
     if standard is not None:
         _standard_step(rec, symbol, standard, parameters)
+        warning = _instability(parameters)
+        if warning and warning not in result.notes:
+            result.notes.append(warning)
     if standard is not None and (target.kind in TRANSFER_KINDS or not structural):
         return Form(standard.expression, standard.text, standard.latex, parameters, standard.kind)
     if structural:
@@ -222,6 +225,22 @@ def _form(
     if not equal(shown, _canonical(result)):
         shown = canonical
     return Form(shown, text(shown), latex(shown), parameters, "grouped")
+
+
+def _instability(parameters: dict[str, dict]) -> str | None:
+    """The words for a design form whose Q (or real pole) puts a pole in the right half-plane
+    at the nominal values, else None."""
+    for name, described in parameters.items():
+        value = described.get("nominal")
+        if value is None:
+            continue
+        if name.startswith("Q") and value < 0:
+            return (f"Unstable: {name} = {value:.4g} < 0 at the nominal values, so the pole "
+                    "pair lies in the right half-plane and the response grows without bound.")
+        if name.startswith("p") and value > 0:
+            return (f"Unstable: the pole {name} = {value:.4g} rad/s lies in the right "
+                    "half-plane at the nominal values.")
+    return None
 
 
 def _parameters(standard: StandardForm, nominals: dict[str, Fraction]) -> dict[str, dict]:
