@@ -19,7 +19,7 @@ from fractions import Fraction
 
 import sympy
 
-from ..forms.standard import sqrt_of
+from ..forms.standard import quality, sqrt_of
 from ..model.circuit import LAPLACE
 from .values import exact_value, rational
 
@@ -120,12 +120,11 @@ class Response:
             return out
         c, b, a = d
         w0 = sqrt_of(sympy.cancel(c / a))
-        q = sympy.cancel(c / b) / w0
+        q, _ = quality(a, b, c, w0)
         gain = {"high-pass": n[2] / a, "band-pass": n[1] / b}.get(kind, n[0] / c)
         if n[0] == 0 and kind == "general":
             gain = n[2] / a if n[2] != 0 else n[1] / b
-        out.update(K=sympy.cancel(gain), w0=w0, f0=w0 / TWO_PI, Q=q,
-                   zeta=sympy.cancel(b / c) * w0 / 2)
+        out.update(K=sympy.cancel(gain), w0=w0, f0=w0 / TWO_PI, Q=q, zeta=1 / (2 * q))
         if kind in ("band-pass", "notch"):
             out.update(centre=w0 / TWO_PI, bandwidth=sympy.cancel(b / a) / TWO_PI)
         return out

@@ -8,9 +8,12 @@ given in closed form (ω0 and Q with square factors taken out of the root), with
 ζ = 1/(2Q), and the real zeros and poles.
 
 Signs are exact: ω0 = √(c/a) is the positive root (only factors that are positive for
-positive symbols leave the root), and Q = (c/b)/ω0 keeps the sign of the s coefficient, so a
-section with a right-half-plane pair has Q < 0. The proof checks ω0² = c/a and Q·ω0 = c/b
-as identities, not squares.
+positive symbols leave the root), and Q has the sign of c/b, so a section with a
+right-half-plane pair has Q < 0. When b and c each have terms of one sign (a passive
+section, an integrator loop), that sign is known and Q = ±√(a·c/b²) reads as written by
+hand; the proof then checks Q² = (c/b)²/ω0². Otherwise (a gain that can cancel damping,
+K·R1·C1 in a Sallen-Key section) Q = (c/b)/ω0 and the proof checks Q·ω0 = c/b. Both are
+identities with the sign settled, not comparisons of squares alone.
 """
 
 from __future__ import annotations
@@ -95,6 +98,33 @@ def sqrt_of(expr: sympy.Expr) -> sympy.Expr:
     else:
         root = sympy.sqrt(in_num / in_den)
     return out_num / out_den * root
+
+
+def definite_sign(expr: sympy.Expr) -> int | None:
+    """+1 or −1 when every term of the polynomial `expr` has that sign (so, for positive
+    symbols, the value has it too), else None."""
+    num, den = sympy.fraction(sympy.together(expr))
+    signs = set()
+    for part in (num, den):
+        part = sympy.expand(part)
+        coefficients = sympy.Poly(part, *sorted(part.free_symbols, key=str)).coeffs() \
+            if part.free_symbols else [part]
+        found = {c > 0 for c in coefficients}
+        if len(found) != 1:
+            return None
+        signs.add(found.pop())
+    return 1 if len(signs) == 1 else -1
+
+
+def quality(a: sympy.Expr, b: sympy.Expr, c: sympy.Expr, omega: sympy.Expr
+            ) -> tuple[sympy.Expr, tuple[sympy.Expr, sympy.Expr]]:
+    """Q of a·s² + b·s + c with ω0 = `omega` (> 0), and the identity that proves it."""
+    q_w = sympy.cancel(c / b)  # Q·ω0
+    sign_b, sign_c = definite_sign(b), definite_sign(c)
+    if sign_b is not None and sign_c is not None:
+        q = sign_b * sign_c * sqrt_of(a * c / b**2)
+        return q, (q**2 * omega**2, q_w**2)
+    return q_w / omega, (q_w / omega * omega, q_w)
 
 
 def _split_square(poly) -> tuple[sympy.Expr, sympy.Expr]:
@@ -242,7 +272,7 @@ def _conventional(
     w_squared = sympy.cancel(c / a)
     q_w = sympy.cancel(c / b)  # Q·ω0
     omega = sqrt_of(w_squared)
-    quality = q_w / omega  # Q·ω0 = c/b: the sign of b is the sign of Q
+    quality_, proof = quality(a, b, c, omega)
     denominator = s**2 / w**2 + s / (Q * w) + 1
     rational_denominator = s**2 / w_squared + s / q_w + 1
     tail = r"\frac{s^{2}}{\omega_{0}^{2}} + \frac{s}{Q \omega_{0}} + 1"
@@ -274,10 +304,10 @@ def _conventional(
         Parameter("K", gain, unit),
         Parameter("omega_0", omega, "rad/s"),
         Parameter("f_0", omega / (2 * sympy.pi), "Hz"),
-        Parameter("Q", quality, ""),
-        Parameter("zeta", 1 / (2 * quality), ""),
+        Parameter("Q", quality_, ""),
+        Parameter("zeta", 1 / (2 * quality_), ""),
     ]
-    expression = shape.xreplace({K: gain, w: omega, Q: quality})
+    expression = shape.xreplace({K: gain, w: omega, Q: quality_})
     return StandardForm(
         kind,
         expression,
@@ -285,7 +315,7 @@ def _conventional(
         latex_form,
         params,
         rational,
-        [(omega**2, w_squared), (quality * omega, q_w)],
+        [(omega**2, w_squared), proof],
     )
 
 
@@ -322,15 +352,15 @@ def _factored(num, den, i: int, unit: str) -> StandardForm | None:
                 c, b, a = f.coefficients
                 if b == 0:
                     return None
-                w_squared, q_w = sympy.cancel(c / a), sympy.cancel(c / b)
+                w_squared = sympy.cancel(c / a)
                 omega = sqrt_of(w_squared)
-                quality = q_w / omega
+                q, proof = quality(a, b, c, omega)
                 params += [
                     Parameter(f"omega_0{name}", omega, "rad/s"),
-                    Parameter(f"Q_{name}", quality, ""),
+                    Parameter(f"Q_{name}", q, ""),
                 ]
-                checks += [(omega**2, w_squared), (quality * omega, q_w)]
-                closed = s**2 / omega**2 + s / (quality * omega) + 1
+                checks += [(omega**2, w_squared), proof]
+                closed = s**2 / omega**2 + s / (q * omega) + 1
                 texts.append(f"(s²/ω0{name}² + s/(Q{name}·ω0{name}) + 1)")
                 latexes.append(
                     rf"\left(\frac{{s^{{2}}}}{{\omega_{{0{name}}}^{{2}}}} + "
