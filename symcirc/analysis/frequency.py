@@ -61,13 +61,21 @@ def _label(inner: Result, base: str, part: str) -> str:
 
 
 def _response(read: Reader, inner: Result, node: syntax.Node) -> Response:
+    """The response of `inner` (kept in the circuit's cache: every part and sensitivity of
+    one response shares its coefficients, parameters and stability)."""
+    key = ("response", inner.quantity, inner.text())
+    cached = read.circuit.cache.get(key)
+    if cached is not None:
+        return cached
     if "s" not in inner.symbols:
         raise read.error(node, f"{inner.quantity} does not depend on s: it has no frequency "
                                "response to take parts of")
     try:
-        return Response.of(inner.expression)
+        response = Response.of(inner.expression)
     except ResponseError as problem:
         raise read.error(node, f"{inner.quantity}: {problem}") from None
+    read.circuit.cache[key] = response
+    return response
 
 
 def _nominals(circuit: Circuit) -> dict[sympy.Symbol, Fraction]:
@@ -328,9 +336,11 @@ def _relative(expression: sympy.Expr, x: sympy.Symbol) -> sympy.Expr:
     """(x/P)·∂P/∂x; for P = √R (ω0, Q, |H|) it is ½·(x/R)·∂R/∂x, a rational function."""
     if expression == 0:
         raise ResponseError("the relative sensitivity of 0 is undefined")
-    squared = sympy.cancel(expression**2)
+    squared = expression**2  # ±√R squares to R without cancelling
     if _rational(squared):
-        return sympy.factor(sympy.cancel(x * sympy.diff(squared, x) / (2 * squared)))
+        from .tidy import tidy
+
+        return tidy(x * sympy.diff(squared, x) / (2 * squared))
     return sympy.simplify(x * sympy.diff(expression, x) / expression)
 
 

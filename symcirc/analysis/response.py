@@ -16,6 +16,7 @@ import math
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from fractions import Fraction
+from functools import cached_property
 
 import sympy
 
@@ -31,7 +32,7 @@ class ResponseError(ValueError):
     """A part that this response does not have (message written for the user)."""
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Response:
     """H(s) as coefficient lists of the powers of s, lowest first (sympy expressions)."""
 
@@ -101,8 +102,21 @@ class Response:
         return sympy.cancel(self.numerator[-1] / self.denominator[-1])
 
     # -- first and second order
+    @cached_property
+    def _parameters(self) -> dict[str, sympy.Expr] | ResponseError:
+        try:
+            return self._closed_parameters()
+        except ResponseError as problem:
+            return problem
+
     def parameters(self) -> dict[str, sympy.Expr]:
         """The closed-form design parameters of a first- or second-order denominator."""
+        found = self._parameters
+        if isinstance(found, ResponseError):
+            raise found
+        return found
+
+    def _closed_parameters(self) -> dict[str, sympy.Expr]:
         d = self.denominator
         if self.order not in (1, 2) or d[0] == 0:
             raise ResponseError(_order_message(self))
@@ -148,6 +162,16 @@ class Response:
 
     def stability(self, nominals: Mapping[sympy.Symbol, Fraction]) -> str | None:
         """A sentence on stability at the nominal values (None when no value is known)."""
+        key = tuple(sorted((str(k), v) for k, v in nominals.items()))
+        if key not in self._stability:
+            self._stability[key] = self._stable(nominals)
+        return self._stability[key]
+
+    @cached_property
+    def _stability(self) -> dict:
+        return {}
+
+    def _stable(self, nominals: Mapping[sympy.Symbol, Fraction]) -> str | None:
         poles = numeric_roots(self.denominator, nominals)
         if poles is None:
             return None
