@@ -511,3 +511,33 @@ def test_json_carries_the_numbers_at_a_frequency(tmp_path, capsys):
     h = 1 / (1 + 2j * math.pi * 1000 * 10e3 * 10e-9)
     assert at["magnitude"] == pytest.approx(abs(h), rel=1e-12)
     assert at["phase"] == pytest.approx(math.degrees(numpy.angle(h)), rel=1e-12)
+
+
+# ---------------------------------------------------------------- notes
+
+
+def test_note_shows_the_response_table_band_figure_and_symbols(tmp_path):
+    from markdown_it import MarkdownIt
+
+    path = tmp_path / "soil.circuit"
+    path.write_text(UNITY_GAIN + "derive response(gain(Uin, out)), gain(Uin, out).Q\n"
+                    "derive at(gain(Uin, out), 1 kHz).dB\n", encoding="utf-8")
+    out = tmp_path / "soil.md"
+    assert main(["note", str(path), "-o", str(out)]) == 0
+    text = out.read_text(encoding="utf-8")
+    assert "At 1 kHz:" in text and "(−3 dB)" in text and "Monte Carlo samples" in text
+    assert "with the Monte Carlo band" in text
+    assert (tmp_path / "soil_figures" / "response-gain-uin-out-response.svg").exists()
+    assert r"Q\left(\frac{V_{\mathrm{out}}}{U_{\mathrm{in}}}\right)" in text
+    assert r"20 \log_{10} \left\lvert" in text
+    # every inline formula survives a CommonMark renderer (no `|` splitting a table cell)
+    rendered = MarkdownIt("commonmark").enable("table").render(text)
+    import html
+    import re
+
+    shown = html.unescape(re.sub(r"<[^>]+>", "", rendered))
+    assert all(f in shown for f in re.findall(r"(?<![$\\])\$([^$\n]+)\$", text))
+    first = out.read_bytes()
+    assert main(["note", str(path), "-o", str(out)]) == 0
+    assert out.read_bytes() == first  # the Monte Carlo band is seeded: the note repeats
+    assert main(["note", str(path), "-o", str(tmp_path / "soil.html")]) == 0

@@ -41,17 +41,17 @@ PARTS: dict[str, tuple[str | None, str, str]] = {
     "wz": ("rad/s", r"\omega_{z}", "Zero frequency ωz = n0/n1 of a first-order response."),
     "fz": ("Hz", r"f_{z}", "fz = ωz/(2π)."),
     "centre": ("Hz", r"f_{c}", "Centre frequency of a band-pass or notch, f0."),
-    "bandwidth": ("Hz", r"B_{-3\,\mathrm{dB}}",
+    "bandwidth": ("Hz", r"B_{-3\ \mathrm{dB}}",
                   "−3 dB bandwidth of a band-pass or notch, f0/Q = d1/(2π·d2)."),
     "poles": ("rad/s", "p", "Poles: the roots of the denominator D(s)."),
     "zeros": ("rad/s", "z", "Zeros: the roots of the numerator N(s)."),
-    "f3db": ("Hz", r"f_{-3\,\mathrm{dB}}",
+    "f3db": ("Hz", r"f_{-3\ \mathrm{dB}}",
              "−3 dB frequency at the nominal values: where |H| is 1/√2 of its pass-band "
              "value (DC, else high-frequency, else peak gain)."),
 }
 
-AT_PARTS = {"magnitude": r"\left|H\right|", "dB": r"\left|H\right|_{\mathrm{dB}}",
-            "phase": r"\angle H"}
+AT_PARTS = {"magnitude": r"\left\lvert H\right\rvert",
+            "dB": r"\left\lvert H\right\rvert_{\mathrm{dB}}", "phase": r"\angle H"}
 
 
 def _label(inner: Result, base: str, part: str) -> str:
@@ -476,10 +476,12 @@ def response_table(response: Response, values, frequencies) -> list[tuple[float,
     """(f, |H|, dB, phase °) at each frequency, from the exact coefficients."""
     import numpy as np
 
+    from .response import continuous_phase
+
     n, d = values
     jw = 2j * np.pi * np.asarray(frequencies, dtype=float)
     h = np.polyval([float(c) for c in reversed(n)], jw) / np.polyval(
         [float(c) for c in reversed(d)], jw)
-    phase = np.degrees(np.unwrap(np.angle(h)))
+    phase = continuous_phase([float(c) for c in n], [float(c) for c in d], frequencies)
     return [(float(f), float(abs(x)), float(20 * np.log10(abs(x))), float(p))
             for f, x, p in zip(frequencies, h, phase, strict=True)]

@@ -686,6 +686,10 @@ def _solve_heading(solved: components.ComponentSolution, q: str, unit: str,
                    missing: list[str]) -> str:
     head = f"{solved.symbol} from {q} = {_text(solved.target)}"
     positive = solved.positive
+    if missing == ["s"]:
+        return head + (": no value, as s has none; solve at a frequency, e.g. "
+                       f"solve(at({q}, 1 kHz).magnitude = ..., {solved.symbol}), or for a "
+                       f"design parameter, e.g. solve({q}.f0 = 1 kHz, {solved.symbol}).")
     if missing:
         return head + f": no value, as {', '.join(missing)} has none."
     if not positive:

@@ -327,6 +327,22 @@ def _order_message(response: Response) -> str:
             "or .f3db")
 
 
+def continuous_phase(numerator: Sequence[float], denominator: Sequence[float],
+                     frequencies: object) -> object:
+    """∠H in degrees at `frequencies` (Hz), unwrapped along a dense logarithmic sweep from
+    well below the lowest one, so that sparse table points keep the branch a continuous
+    curve takes (a high-Q section turns by nearly 180° between two table rows)."""
+    import numpy as np
+
+    f = np.asarray(frequencies, dtype=float)
+    low, high = math.log10(f.min()) - 3, math.log10(f.max())
+    grid = np.union1d(np.logspace(low, high, 4000), f)
+    jw = 2j * np.pi * grid
+    h = np.polyval(list(reversed(numerator)), jw) / np.polyval(list(reversed(denominator)), jw)
+    phase = np.degrees(np.unwrap(np.angle(h)))
+    return phase[np.searchsorted(grid, f)]
+
+
 # ---------------------------------------------------------------- Monte Carlo band
 
 
@@ -378,7 +394,12 @@ def band(response: Response, symbols: Sequence[sympy.Symbol], columns: Sequence[
           / evaluate(response.denominator, nominal_columns))[0]
     db = 20 * np.log10(np.abs(h))
     phase = np.degrees(np.angle(h))
-    nominal_phase = np.degrees(np.unwrap(np.angle(h0)))
+    point = {**values, **{x: float(v) for x, v in nominal_point.items()}}
+    nominal_phase = continuous_phase(
+        [float(c.xreplace({x: sympy.Float(v, 17) for x, v in point.items()}))
+         for c in response.numerator],
+        [float(c.xreplace({x: sympy.Float(v, 17) for x, v in point.items()}))
+         for c in response.denominator], frequencies)
     # sampled phases follow the nominal curve's branch, so a band never splits at ±180°
     phase = phase + 360 * np.round((nominal_phase[None, :] - phase) / 360)
     low_db, high_db = np.quantile(db, quantiles, axis=0)

@@ -136,7 +136,10 @@ def independent(
     expanded = expand_definitions(expression, _reaching(definitions, own, nominals, tolerances))
     used = expanded.free_symbols
     if LAPLACE in used:
-        raise ToleranceInputError("the quantity depends on s (a transfer function)")
+        raise ToleranceInputError(
+            "the quantity depends on s (a transfer function); ask at a frequency, e.g. "
+            "at(Q, 1 kHz).magnitude or .dB, for a design parameter such as Q.f0 or Q.Q, or "
+            "for response(Q) with its Monte Carlo band")
     for x, tol in tolerances.items():
         if x in definitions or x not in used or not (tol.plus or tol.minus):
             continue

@@ -437,6 +437,9 @@ def _arg_name(arg: Any) -> str | None:
 
 def _symbol(q: Any) -> str | None:
     names = [_arg_name(a) for a in q.args]
+    part = _response_part(q)
+    if part is not None:
+        return part
     if q.name in ("thevenin", "norton") and q.attribute and names and names[0]:
         letter = _ATTRIBUTE_SYMBOL.get((q.name, q.attribute))
         tag = r"\mathrm{Th}" if q.name == "thevenin" else r"\mathrm{N}"
@@ -465,6 +468,37 @@ def _symbol(q: Any) -> str | None:
         if q.name == "sensitivity":
             return rf"\frac{{\partial {of}}}{{\partial {x}}}"
         return f"S^{{{of}}}_{{{x}}}"
+    return None
+
+
+def _response_part(q: Any) -> str | None:
+    """ω0, Q, ζ … of a response (`gain(Uin, out).w0` → ω0 of V_out/U_in) and the response
+    at a frequency (`at(gain(Uin, out), 1 kHz).dB`), as an engineer writes them."""
+    from ..analysis.frequency import AT_PARTS, PARTS
+    from ..quantities.registry import RESPONSE_QUANTITIES
+
+    if q.name == "response" and q.args and type(q.args[0]).__name__ == "Quantity":
+        return _symbol(q.args[0])  # the response itself, tabulated
+    if q.name == "solve" and len(q.args) == 2 and _arg_name(q.args[1]):
+        return name_latex(_arg_name(q.args[1]))  # the part value that meets the target
+    if q.name in RESPONSE_QUANTITIES and q.attribute in PARTS:
+        base = _symbol(type(q)(q.line, q.column, q.name, q.args, None, q.text))
+        symbol = PARTS[q.attribute][1]
+        return symbol + (rf"\left({base}\right)" if base else "")
+    if q.name == "at" and len(q.args) == 2 and q.attribute in AT_PARTS \
+            and type(q.args[0]).__name__ == "Quantity":
+        base = _symbol(q.args[0])
+        if base is None:
+            return None
+        where = q.args[1]
+        text = getattr(where, "text", None) or getattr(where, "name", "")
+        at = {"0": r"\mathrm{DC}", "oo": r"f \to \infty"}.get(text) or \
+            "f = " + latex_text(text)
+        if q.attribute == "magnitude":
+            return rf"\left\lvert {base}\right\rvert_{{{at}}}"
+        if q.attribute == "dB":
+            return rf"20 \log_{{10}} \left\lvert {base}\right\rvert_{{{at}}}"
+        return rf"\angle {base}\big\vert_{{{at}}}"
     return None
 
 
