@@ -541,3 +541,68 @@ def test_note_shows_the_response_table_band_figure_and_symbols(tmp_path):
     assert main(["note", str(path), "-o", str(out)]) == 0
     assert out.read_bytes() == first  # the Monte Carlo band is seeded: the note repeats
     assert main(["note", str(path), "-o", str(tmp_path / "soil.html")]) == 0
+
+
+def test_parts_of_an_approximated_response_are_those_of_the_approximation():
+    circuit = load(UNITY_GAIN)
+    approximated = one(circuit, "gain(Uin, out) where R2 >> R1")
+    poles = circuit.derive("gain(Uin, out).poles where R2 >> R1")
+    s = sympy.Symbol("s")
+    denominator = sympy.Poly(sympy.fraction(sympy.together(approximated.expression))[1], s)
+    expected = sympy.roots(denominator, multiple=True)
+    assert sorted(map(str, (p.expression for p in poles))) == \
+        sorted(map(str, (sympy.together(r) for r in expected)))
+    assert all("neglected" in p.details for p in poles)
+
+
+# Hum filter on a power-line monitor input: series LC to ground behind a resistor (notch)
+NOTCH = """
+title "Mains-hum notch of a line monitor (signal side only)"
+voltage source Uin (in, gnd) = 1 V
+resistor R (in, o) = 1k
+inductor L (o, m) = 100m
+capacitor C (m, gnd) = 10u
+port out (o, gnd)
+"""
+
+
+def test_notch_centre_and_bandwidth_match_its_minus_3_db_edges():
+    circuit = load(NOTCH)
+    # H = (1 + s²LC)/(1 + sRC + s²LC): centre 1/(2π√(LC)), bandwidth R/(2πL) (common practice)
+    assert one(circuit, "gain(Uin, out).centre").nominal == \
+        pytest.approx(1 / (2 * math.pi * math.sqrt(0.1 * 10e-6)))
+    bandwidth = one(circuit, "gain(Uin, out).bandwidth")
+    assert same(bandwidth.expression, sympy.Symbol("R") / (2 * sympy.pi * sympy.Symbol("L")))
+    low, high = (r.nominal for r in circuit.derive("gain(Uin, out).f3db"))
+    assert high - low == pytest.approx(bandwidth.nominal, rel=1e-9)
+    b, a = nominal_coefficients(circuit, "gain(Uin, out)")
+    _, h = scipy.signal.freqs(b, a, worN=[2 * math.pi * low, 2 * math.pi * high])
+    assert abs(h) == pytest.approx([1 / math.sqrt(2)] * 2, rel=1e-9)
+
+
+def test_claims_on_q_are_decided_with_their_sign(tmp_path, capsys):
+    path = tmp_path / "sk.circuit"
+    path.write_text(UNITY_GAIN, encoding="utf-8")
+    right = "gain(Uin, out).Q = sqrt(R1*R2*C1*C2)/(C2*(R1 + R2))"
+    assert main(["check", str(path), right]) == 0
+    assert main(["check", str(path), "gain(Uin, out).Q = -sqrt(R1*R2*C1*C2)/(C2*(R1 + R2))"]) \
+        == 1
+    assert "sign" in capsys.readouterr().out
+
+
+def test_exported_design_parameter_computes_the_closed_form(tmp_path):
+    import importlib.util
+
+    path = tmp_path / "sk.circuit"
+    path.write_text(UNITY_GAIN, encoding="utf-8")
+    code = tmp_path / "formulas.py"
+    assert main(["export", str(path), "gain(Uin, out).f0", "gain(Uin, out).Q", "--lang",
+                 "python", "-o", str(code)]) == 0
+    spec = importlib.util.spec_from_file_location("formulas", code)
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    values = {"R1": 12e3, "R2": 33e3, "C1": 22e-9, "C2": 4.7e-9}
+    f0 = module.gain_Uin_out_f0(**values)
+    assert f0 == pytest.approx(1 / (2 * math.pi * math.sqrt(12e3 * 33e3 * 22e-9 * 4.7e-9)))
+    b, a = nominal_coefficients(load(UNITY_GAIN), "gain(Uin, out)")
+    assert module.gain_Uin_out_Q(**values) == pytest.approx(q_from_poles(b, a))

@@ -93,10 +93,26 @@ def part_quantity(circuit: Circuit, quantity: syntax.Quantity,
     part = quantity.attribute or ""
     base = dataclasses.replace(quantity, attribute=None, text=base_text(quantity))
     out = []
-    for inner in read.derive(base):
+    for inner in _approximated(read, base):
         response = _response(read, inner, quantity)
-        out += _parts(read, inner, response, base.text, part, quantity)
+        for result in _parts(read, inner, response, base.text, part, quantity):
+            if "neglected" in inner.details:  # parts of the approximated response
+                result.details["neglected"] = inner.details["neglected"]
+                result.notes.extend(n for n in inner.notes if n not in result.notes)
+            out.append(result)
     return out
+
+
+def _approximated(read: Reader, quantity: syntax.Quantity) -> list[Result]:
+    """The response with the `big >> small` clauses applied first, so that ω0, Q and the
+    rest are those of the approximated response (not expansions of their roots)."""
+    results = read.derive(quantity)
+    if not any(a.kind == "much_greater" for a in read.options.assumptions):
+        return results
+    from ..forms import finish
+
+    return finish(read.circuit, quantity, results, dataclasses.replace(read.options,
+                                                                       steps=False))
 
 
 def _parts(read: Reader, inner: Result, response: Response, base: str, part: str,
