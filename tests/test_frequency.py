@@ -540,7 +540,6 @@ def test_note_shows_the_response_table_band_figure_and_symbols(tmp_path):
     first = out.read_bytes()
     assert main(["note", str(path), "-o", str(out)]) == 0
     assert out.read_bytes() == first  # the Monte Carlo band is seeded: the note repeats
-    assert main(["note", str(path), "-o", str(tmp_path / "soil.html")]) == 0
 
 
 def test_parts_of_an_approximated_response_are_those_of_the_approximation():

@@ -20,7 +20,7 @@ from ..model.circuit import Circuit
 from ..model.units import eng
 from ..quantities.registry import DeriveOptions
 from ..results import Result
-from .quantities import Reader, base_text, definitions, tolerances
+from .quantities import Reader, _per, _unit_of, base_text, definitions, tolerances
 from .response import Response, ResponseError, band, complex_text
 
 # part: (unit, LaTeX symbol, sentence defining it); unit None: the unit of the response
@@ -289,16 +289,6 @@ def _tidy(expression: sympy.Expr) -> sympy.Expr:
 # ---------------------------------------------------------------- sensitivities of parts
 
 
-def is_frequency_quantity(arg) -> bool:
-    """Whether `arg` is a response part or an at-frequency quantity (derived here)."""
-    return isinstance(arg, syntax.Quantity) and (
-        arg.name == "at" or (arg.attribute in PARTS and arg.name in RESPONSE_NAMES))
-
-
-RESPONSE_NAMES = ("V", "I", "gain", "Z", "Y")
-"""Quantities whose parts may be design parameters (`gain(Uin, out).w0`)."""
-
-
 def sensitivity_quantity(circuit: Circuit, quantity: syntax.Quantity,
                          options: DeriveOptions) -> list[Result]:
     """`sensitivity(P, x)` and `relative_sensitivity(P, x)` of a design parameter or an
@@ -325,8 +315,6 @@ def sensitivity_quantity(circuit: Circuit, quantity: syntax.Quantity,
         value = _relative(expression, x) if relative else _derivative(expression, x)
         if value == 0:
             notes.append(f"{inner.quantity} does not depend on {x}: the sensitivity is 0.")
-        from .quantities import _per, _unit_of
-
         unit = "" if relative else _per(inner.unit, _unit_of(circuit, x))
         result = Result(f"{quantity.name}({inner.quantity}, {x})", value, unit,
                         _names(nominals), tuple(notes))
@@ -430,10 +418,8 @@ def response_quantity(circuit: Circuit, quantity: syntax.Quantity,
     the decade points and the −3 dB point (or the frequencies given), and their Monte Carlo
     spread (0.1 % … 99.9 % of 10,000 samples) when parts have tolerances."""
     read = Reader(circuit, options)
-    if len(quantity.args) < 1:
-        raise read.error(quantity, "response(..) takes a quantity and optionally frequencies: "
-                                   "response(gain(Uin, out)), response(gain(Uin, out), 1 kHz)")
-    read.arguments(quantity, 1, len(quantity.args), "", parts=False)
+    read.arguments(quantity, 1, max(len(quantity.args), 1), "a quantity and optionally "
+                   "frequencies: response(gain(Uin, out)), response(gain(Uin, out), 1 kHz)")
     given = [float(_frequency(read, a) or 0) for a in quantity.args[1:]]
     if any(f <= 0 for f in given):
         raise read.error(quantity.args[1], "response frequencies are positive numbers in Hz")

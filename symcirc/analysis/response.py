@@ -361,48 +361,63 @@ class Band:
     quantiles: tuple[float, float]
 
 
+BAND_CHUNK = 32
+"""Frequencies evaluated at once: samples × chunk complex arrays stay a few MB."""
+
+
 def band(response: Response, symbols: Sequence[sympy.Symbol], columns: Sequence[object],
          fixed: Mapping[sympy.Symbol, Fraction], nominal_point: Mapping[sympy.Symbol, Fraction],
          frequencies: object, quantiles: tuple[float, float] = (0.001, 0.999)) -> Band:
     """The band of |H| and ∠H over `frequencies` (Hz) from sampled `columns` of `symbols`:
-    every coefficient evaluated once per sample, then N(jω)/D(jω) for all samples and
-    frequencies at once (samples × frequencies complex arrays)."""
+    every coefficient of N and D evaluated once per sample (numpy), then N(jω)/D(jω) by
+    Horner's rule for all samples and a chunk of frequencies at a time."""
     import numpy as np
 
-    values = {x: float(v) for x, v in fixed.items()}
+    values = {x: sympy.Float(float(v), 17) for x, v in fixed.items()}
     size = len(columns[0]) if columns else 1
-    jw = 2j * np.pi * np.asarray(frequencies, dtype=float)
+    f = np.asarray(frequencies, dtype=float)
 
-    def evaluate(coefficients, point_columns):
-        total = np.zeros((size if point_columns else 1, len(jw)), dtype=complex)
-        power = np.ones_like(jw)
+    def sampled(coefficients):
+        out = []
         for c in coefficients:
-            c = c.xreplace({x: sympy.Float(v, 17) for x, v in values.items()})
+            c = c.xreplace(values)
             if c.free_symbols:
-                f = sympy.lambdify(symbols, c, modules="numpy")
-                column = np.broadcast_to(np.asarray(f(*point_columns), dtype=float),
-                                         (total.shape[0],))
+                evaluate = sympy.lambdify(symbols, c, modules="numpy")
+                out.append(np.broadcast_to(np.asarray(evaluate(*columns), dtype=float),
+                                           (size,)))
             else:
-                column = np.full(total.shape[0], float(c))
-            total += column[:, None] * power[None, :]
-            power = power * jw
-        return total
+                out.append(np.full(size, float(c)))
+        return out
 
-    h = evaluate(response.numerator, columns) / evaluate(response.denominator, columns)
-    nominal_columns = [np.array([float(nominal_point[x])]) for x in symbols]
-    h0 = (evaluate(response.numerator, nominal_columns)
-          / evaluate(response.denominator, nominal_columns))[0]
-    db = 20 * np.log10(np.abs(h))
-    phase = np.degrees(np.angle(h))
-    point = {**values, **{x: float(v) for x, v in nominal_point.items()}}
-    nominal_phase = continuous_phase(
-        [float(c.xreplace({x: sympy.Float(v, 17) for x, v in point.items()}))
-         for c in response.numerator],
-        [float(c.xreplace({x: sympy.Float(v, 17) for x, v in point.items()}))
-         for c in response.denominator], frequencies)
-    # sampled phases follow the nominal curve's branch, so a band never splits at ±180°
-    phase = phase + 360 * np.round((nominal_phase[None, :] - phase) / 360)
-    low_db, high_db = np.quantile(db, quantiles, axis=0)
-    low_phase, high_phase = np.quantile(phase, quantiles, axis=0)
-    return Band(np.asarray(frequencies, dtype=float), 20 * np.log10(np.abs(h0)), nominal_phase,
-                low_db, high_db, low_phase, high_phase, size, quantiles)
+    top, bottom = sampled(response.numerator), sampled(response.denominator)
+    point = {**values, **{x: sympy.Float(float(v), 17) for x, v in nominal_point.items()}}
+    n0 = [float(c.xreplace(point)) for c in response.numerator]
+    d0 = [float(c.xreplace(point)) for c in response.denominator]
+    h0 = np.polyval(n0[::-1], 2j * np.pi * f) / np.polyval(d0[::-1], 2j * np.pi * f)
+    nominal_phase = continuous_phase(n0, d0, f)
+    low_db, high_db = np.empty(len(f)), np.empty(len(f))
+    low_phase, high_phase = np.empty(len(f)), np.empty(len(f))
+    for start in range(0, len(f), BAND_CHUNK):
+        part = slice(start, start + BAND_CHUNK)
+        jw = 2j * np.pi * f[part]
+        h = _horner(top, jw, size)
+        h /= _horner(bottom, jw, size)
+        db = 20 * np.log10(np.abs(h))
+        phase = np.degrees(np.angle(h))
+        # sampled phases follow the nominal curve's branch, so a band never splits at ±180°
+        phase += 360 * np.round((nominal_phase[None, part] - phase) / 360)
+        (low_db[part], high_db[part]) = np.quantile(db, quantiles, axis=0)
+        (low_phase[part], high_phase[part]) = np.quantile(phase, quantiles, axis=0)
+    return Band(f, 20 * np.log10(np.abs(h0)), nominal_phase, low_db, high_db, low_phase,
+                high_phase, size, quantiles)
+
+
+def _horner(coefficients: Sequence[object], jw: object, size: int) -> object:
+    """Σ c_k·(jω)^k for sampled coefficients (arrays over samples), samples × frequencies."""
+    import numpy as np
+
+    total = np.zeros((size, len(jw)), dtype=complex)
+    for c in reversed(coefficients):
+        total *= jw[None, :]
+        total += c[:, None]
+    return total

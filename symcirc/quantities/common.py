@@ -35,7 +35,7 @@ from ..errors import Location, SymcircError
 from ..language import syntax
 from ..model.circuit import REFERENCE, UNIT_OF_KIND, Circuit, Element
 from ..results import Result
-from .registry import DeriveOptions
+from .registry import RESPONSE_PARTS, RESPONSE_QUANTITIES, DeriveOptions
 
 
 @dataclass(frozen=True)
@@ -96,9 +96,15 @@ class Context:
         return quantity.args
 
     def no_attribute(self, quantity: syntax.Quantity) -> None:
-        if quantity.attribute is not None:
-            raise self.error(quantity, f"{quantity.name}(..) has no part "
-                                       f"`.{quantity.attribute}`")
+        if quantity.attribute is None:
+            return
+        hint = ""
+        if quantity.name in RESPONSE_QUANTITIES:  # the design parameters of a response in s
+            close = get_close_matches(quantity.attribute, RESPONSE_PARTS, n=1)
+            hint = (f"; as a response in s it has {', '.join('.' + p for p in RESPONSE_PARTS)}"
+                    + (f"; did you mean `.{close[0]}`?" if close else ""))
+        raise self.error(quantity, f"{quantity.name}(..) has no part "
+                                   f"`.{quantity.attribute}`{hint}")
 
     def name(self, arg, what: str) -> str:
         if isinstance(arg, syntax.Name):
