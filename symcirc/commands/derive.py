@@ -186,6 +186,9 @@ def as_text(circuit, results: list[Result], values: bool) -> str:
         lines.append(line)
         if result.form is not None:
             lines.append(f"  design form: {result.form.text}")
+            for name, described in (getattr(result.form, "parameters", None) or {}).items():
+                value = _parameter_value(described)
+                lines.append(f"    {name} = {described.get('text', '')}{value}")
         if result.steps:
             from ..forms import steps_text
 
@@ -216,6 +219,14 @@ def as_latex(circuit, results: list[Result], values: bool) -> str:
 
 
 _PARAMETER_LATEX = {"ω": r"\omega", "ζ": r"\zeta"}
+
+
+def _parameter_value(described: dict) -> str:
+    """`    ≈ 1.592 kHz` for a design-form parameter with a nominal value, else ''."""
+    from ..model.units import eng
+
+    nominal = described.get("nominal")
+    return "" if nominal is None else f"    ≈ {eng(nominal, described.get('unit', ''))}"
 
 
 def _definitions(result: Result) -> list[tuple[str, str, str]]:
