@@ -605,3 +605,13 @@ def test_exported_design_parameter_computes_the_closed_form(tmp_path):
     assert f0 == pytest.approx(1 / (2 * math.pi * math.sqrt(12e3 * 33e3 * 22e-9 * 4.7e-9)))
     b, a = nominal_coefficients(load(UNITY_GAIN), "gain(Uin, out)")
     assert module.gain_Uin_out_Q(**values) == pytest.approx(q_from_poles(b, a))
+
+
+def test_derive_with_values_says_an_unstable_response_is_unstable(tmp_path, capsys):
+    path = tmp_path / "oscillating.circuit"
+    path.write_text(SALLEN_KEY_LOW_PASS.format(r="10k", c="10n", rb="22k"), encoding="utf-8")
+    assert main(["derive", str(path), "gain(Uin, out)", "--values"]) == 0
+    assert "note: Unstable: 2 poles in the right half-plane" in capsys.readouterr().out
+    path.write_text(SALLEN_KEY_LOW_PASS.format(r="10k", c="10n", rb="5.86k"), encoding="utf-8")
+    assert main(["derive", str(path), "gain(Uin, out)", "--values"]) == 0
+    assert "Unstable" not in capsys.readouterr().out

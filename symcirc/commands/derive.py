@@ -99,6 +99,9 @@ def run(args: argparse.Namespace) -> int:
     for quantity, options in jobs:
         results += _with_forms(circuit, quantity, derive_quantity(circuit, quantity, options),
                                options)
+    if args.values:
+        for result in results:
+            _say_if_unstable(circuit, result)
     write = {"text": as_text, "latex": as_latex, "markdown": as_markdown, "json": as_json}
     if args.values:
         _print_cautions(circuit, results)
@@ -139,6 +142,28 @@ def _with_forms(circuit, quantity, results: list[Result], options) -> list[Resul
         where = first.location or Location(circuit.file, 0, 0)
         raise SymcircError.at(where, f"where {first.symbol} >> {first.target}: {problem}",
                               circuit.source) from None
+
+
+STABILITY_TERMS = 2000
+"""Largest response (numerator plus denominator terms) whose poles `--values` checks."""
+
+
+def _say_if_unstable(circuit, result: Result) -> None:
+    """With --values, a response in s whose other symbols all have values says so when a pole
+    lies in the right half-plane (the design forms say it too, with --steps)."""
+    if result.missing != ("s",) or any(n.startswith("Unstable") for n in result.notes):
+        return
+    size = getattr(result.exact, "size", None)
+    if size is not None and sum(size()) > STABILITY_TERMS:
+        return
+    from ..analysis.response import Response, ResponseError
+
+    try:
+        words = Response.of(result.expression).stability(circuit.symbol_nominals())
+    except ResponseError:
+        return
+    if words:
+        result.notes.append(words)
 
 
 def _notice(notice, circuit) -> str:
