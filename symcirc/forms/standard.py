@@ -11,9 +11,10 @@ Signs are exact: ω0 = √(c/a) is the positive root (only factors that are posi
 positive symbols leave the root), and Q has the sign of c/b, so a section with a
 right-half-plane pair has Q < 0. When b and c each have terms of one sign (a passive
 section, an integrator loop), that sign is known and Q = ±√(a·c/b²) reads as written by
-hand; the proof then checks Q² = (c/b)²/ω0². Otherwise (a gain that can cancel damping,
-K·R1·C1 in a Sallen-Key section) Q = (c/b)/ω0 and the proof checks Q·ω0 = c/b. Both are
-identities with the sign settled, not comparisons of squares alone.
+hand. When only a and c have one sign (a gain that can cancel damping, K·R1·C1 in a
+Sallen-Key section), Q = ±√(a·c)/b with b kept as it is, so Q and c/b share the sign of b
+by construction. In both cases the proof checks Q²·ω0² = (c/b)², an identity, and the sign
+is settled by the construction, not guessed from a square. Otherwise Q = (c/b)/ω0.
 """
 
 from __future__ import annotations
@@ -120,9 +121,13 @@ def quality(a: sympy.Expr, b: sympy.Expr, c: sympy.Expr, omega: sympy.Expr
             ) -> tuple[sympy.Expr, tuple[sympy.Expr, sympy.Expr]]:
     """Q of a·s² + b·s + c with ω0 = `omega` (> 0), and the identity that proves it."""
     q_w = sympy.cancel(c / b)  # Q·ω0
-    sign_b, sign_c = definite_sign(b), definite_sign(c)
+    sign_a, sign_b, sign_c = definite_sign(a), definite_sign(b), definite_sign(c)
     if sign_b is not None and sign_c is not None:
         q = sign_b * sign_c * sqrt_of(a * c / b**2)
+        return q, (q**2 * omega**2, q_w**2)
+    if sign_a is not None and sign_a == sign_c:
+        # Q = sign(c)·√(a·c)/b: b stays as it is, so Q and c/b share the sign of b·c
+        q = sign_c * sqrt_of(a * c) / b
         return q, (q**2 * omega**2, q_w**2)
     return q_w / omega, (q_w / omega * omega, q_w)
 
