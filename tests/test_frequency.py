@@ -615,3 +615,15 @@ def test_derive_with_values_says_an_unstable_response_is_unstable(tmp_path, caps
     path.write_text(SALLEN_KEY_LOW_PASS.format(r="10k", c="10n", rb="5.86k"), encoding="utf-8")
     assert main(["derive", str(path), "gain(Uin, out)", "--values"]) == 0
     assert "Unstable" not in capsys.readouterr().out
+
+
+def test_parts_keep_the_where_clause_of_their_response():
+    circuit = load(SALLEN_KEY_LOW_PASS.format(r="10k", c="10n", rb="10k"))
+    (db,) = circuit.derive("at(gain(Uin, out), 1 kHz).dB where Rb -> 0")
+    assert db.quantity == "at(gain(Uin, out), 1kHz).dB where Rb -> 0"
+    # Rb -> 0 leaves the unity-gain section: |H(j2π·1 kHz)| with K = 1, independently
+    w = 2 * math.pi * 1000
+    h = 1 / (1 + 1j * w * 10e-9 * 20e3 - w**2 * (10e3 * 10e-9) ** 2)
+    assert db.nominal == pytest.approx(20 * math.log10(abs(h)), rel=1e-12)
+    (q,) = circuit.derive("gain(Uin, out).Q where Rb -> 0")
+    assert q.quantity == "gain(Uin, out).Q where Rb -> 0" and q.nominal == pytest.approx(0.5)

@@ -257,11 +257,17 @@ def at_quantity(circuit: Circuit, quantity: syntax.Quantity,
                             (sentence,) + ((stability,) if stability else ()))
             result.name_latex = AT_PARTS[part]
             values[part] = result.nominal
+            result.details["at_frequency"] = {"part": part}
             out.append(result)
         for result in out[-3:]:
-            result.details["at_frequency"] = {"frequency": None if frequency is None
-                                              else float(frequency), **values}
-    return read.select(quantity, out)
+            result.details["at_frequency"].update(
+                frequency=None if frequency is None else float(frequency), **values)
+    if quantity.attribute is None:
+        return out
+    if quantity.attribute not in AT_PARTS:
+        raise read.error(quantity, f"at(..) has no part `.{quantity.attribute}`; it has "
+                                   f"{', '.join('.' + p for p in AT_PARTS)}")
+    return [r for r in out if r.details["at_frequency"]["part"] == quantity.attribute]
 
 
 def _frequency(read: Reader, arg) -> Fraction | None:
