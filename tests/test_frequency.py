@@ -525,7 +525,8 @@ def test_note_shows_the_response_table_band_figure_and_symbols(tmp_path):
     out = tmp_path / "soil.md"
     assert main(["note", str(path), "-o", str(out)]) == 0
     text = out.read_text(encoding="utf-8")
-    assert "At 1 kHz:" in text and "(−3 dB)" in text and "Monte Carlo samples" in text
+    assert "Response at chosen frequencies" in text and "| 1 kHz |" in text
+    assert "(−3 dB) |" in text and "Monte Carlo samples" in text
     assert "with the Monte Carlo band" in text
     assert list((tmp_path / "soil_figures").glob("response-gain-uin-out-response*.svg"))
     assert r"Q\left(\frac{V_{\mathrm{out}}}{U_{\mathrm{in}}}\right)" in text

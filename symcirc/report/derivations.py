@@ -21,7 +21,14 @@ from .content import (
     result_view,
 )
 from .progress import Progress
-from .tables import detail_tables, sensitivity_table, spread, tolerance_notes, tolerance_tables
+from .tables import (
+    detail_tables,
+    response_table,
+    sensitivity_table,
+    spread,
+    tolerance_notes,
+    tolerance_tables,
+)
 
 ANALYSIS_QUANTITIES = ("sensitivities", "tolerance")
 AUTOMATIC = ("tolerance",)
@@ -105,6 +112,11 @@ def _attach_details(circuit: Circuit, view: ResultView, result: Any) -> None:
         view.notes = tolerance_notes(view.notes)
         view.spread = spread(result.details)
     details.pop("sensitivity", None)
+    if "response" in details:  # response(Q): its table replaces the sentences giving it
+        table = response_table(details.pop("response"), result.unit)
+        if table is not None:
+            view.tables.append(table)
+            view.notes = [n for n in view.notes if not n.startswith(("At ", "Spreads "))]
     view.tables.extend(detail_tables(details))
 
 

@@ -95,6 +95,32 @@ def tolerance_tables(details: dict[str, Any], unit: str,
     return tables
 
 
+def response_table(details: dict[str, Any], unit: str) -> Table | None:
+    """Magnitude and phase at chosen frequencies, with their Monte Carlo band, from
+    `details['response']` of `response(Q)` (None for the parts of a response: their
+    kind and stability are in the notes)."""
+    rows = details.get("rows")
+    if not rows:
+        return None
+    spread = "dB_low" in rows[0]
+    out = []
+    for row in rows:
+        cells = [Cell(eng(row["frequency"], "Hz") + (" (−3 dB)" if row["corner"] else "")),
+                 Cell(f"{eng(row['magnitude'], unit)} ({row['dB']:.2f} dB)"),
+                 Cell(f"{row['phase']:.1f}°")]
+        if spread:
+            cells += [Cell(f"{row['dB_low']:.2f} … {row['dB_high']:.2f} dB"),
+                      Cell(f"{row['phase_low']:.1f}° … {row['phase_high']:.1f}°")]
+        out.append(tuple(cells))
+    columns = ["Frequency", "Magnitude", "Phase"]
+    caption = "At the nominal values."
+    if spread:
+        columns += ["Spread", "Phase spread"]
+        caption += (f" Spreads: 0.1 % … 99.9 % of {details['samples']:,} Monte Carlo samples, "
+                    "each toleranced part uniform over its band.")
+    return Table("Response at chosen frequencies", tuple(columns), tuple(out), caption)
+
+
 def tolerance_notes(notes: list[str]) -> list[str]:
     """The notes of a tolerance result that its tables do not already show (warnings)."""
     return [n for n in notes if not n.startswith(_STANDARD_TOLERANCE_NOTES)]
