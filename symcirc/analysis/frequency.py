@@ -22,6 +22,7 @@ from ..quantities.registry import DeriveOptions
 from ..results import Result
 from .quantities import Reader, _per, _unit_of, base_text, definitions, tolerances
 from .response import Response, ResponseError, band, complex_text
+from .tidy import tidy
 
 # part: (unit, LaTeX symbol, sentence defining it); unit None: the unit of the response
 PARTS: dict[str, tuple[str | None, str, str]] = {
@@ -339,7 +340,7 @@ def _derivative(expression: sympy.Expr, x: sympy.Symbol) -> sympy.Expr:
     derivative = sympy.diff(expression, x)
     if _rational(squared) and _rational(derivative / expression):
         return sympy.factor(sympy.cancel(derivative / expression)) * expression
-    return sympy.simplify(derivative)
+    return tidy(derivative)
 
 
 def _relative(expression: sympy.Expr, x: sympy.Symbol) -> sympy.Expr:
@@ -348,10 +349,8 @@ def _relative(expression: sympy.Expr, x: sympy.Symbol) -> sympy.Expr:
         raise ResponseError("the relative sensitivity of 0 is undefined")
     squared = expression**2  # ±√R squares to R without cancelling
     if _rational(squared):
-        from .tidy import tidy
-
         return tidy(x * sympy.diff(squared, x) / (2 * squared))
-    return sympy.simplify(x * sympy.diff(expression, x) / expression)
+    return tidy(x * sympy.diff(expression, x) / expression)
 
 
 def _rational(expression: sympy.Expr) -> bool:
