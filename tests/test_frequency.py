@@ -628,3 +628,23 @@ def test_parts_keep_the_where_clause_of_their_response():
     assert db.nominal == pytest.approx(20 * math.log10(abs(h)), rel=1e-12)
     (q,) = circuit.derive("gain(Uin, out).Q where Rb -> 0")
     assert q.quantity == "gain(Uin, out).Q where Rb -> 0" and q.nominal == pytest.approx(0.5)
+
+
+def test_sensitivity_of_phase_and_db_at_a_frequency_match_finite_differences():
+    circuit = load(UNITY_GAIN)
+    w = 2 * math.pi * 1000
+
+    def h(c1: float):  # the unity-gain section, independently (numpy)
+        return 1 / (1 + 1j * w * 4.7e-9 * 45e3 - w**2 * 12e3 * 33e3 * c1 * 4.7e-9)
+
+    step = 22e-9 * 1e-6
+    phase = (numpy.degrees(numpy.angle(h(22e-9 + step)))
+             - numpy.degrees(numpy.angle(h(22e-9 - step)))) / (2 * step)
+    db = (20 * math.log10(abs(h(22e-9 + step))) - 20 * math.log10(abs(h(22e-9 - step)))) \
+        / (2 * step)
+    assert one(circuit, "sensitivity(at(gain(Uin, out), 1 kHz).phase, C1)").nominal == \
+        pytest.approx(phase, rel=1e-6)
+    assert one(circuit, "sensitivity(at(gain(Uin, out), 1 kHz).dB, C1)").nominal == \
+        pytest.approx(db, rel=1e-6)
+    relative = one(circuit, "relative_sensitivity(at(gain(Uin, out), 1 kHz).magnitude, C1)")
+    assert relative.nominal == pytest.approx(db * 22e-9 * math.log(10) / 20, rel=1e-6)
