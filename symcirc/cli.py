@@ -10,6 +10,7 @@ from __future__ import annotations
 import argparse
 import importlib
 import sys
+import textwrap
 
 from .errors import SymcircError
 
@@ -41,31 +42,39 @@ EPILOG = ("The circuit language is specified in docs/language.md of the project 
           "errors); `symcirc COMMAND --help` describes each command.")
 
 
-def build_parser(argv: list[str]) -> argparse.ArgumentParser:
-    parser = _Parser(prog="symcirc", description="Closed-form design equations of linear circuits.",
-                     epilog=EPILOG)
+def build_parser() -> argparse.ArgumentParser:
+    """The top level: `symcirc [--version] COMMAND ...`; the command reads the rest."""
     from . import __version__
 
+    listing = "\n".join(f"  {name:<9} {text}" for name, text in COMMANDS.items())
+    parser = _Parser(prog="symcirc", description="Closed-form design equations of linear "
+                     "circuits.", epilog=f"commands:\n{listing}\n\n{textwrap.fill(EPILOG, 79)}",
+                     formatter_class=argparse.RawDescriptionHelpFormatter)
     parser.add_argument("--version", action="version", version=f"symcirc {__version__}")
-    sub = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
-    # Only the chosen command's module is imported; the others are listed by name.
-    chosen = next((a for a in argv if a in COMMANDS), None)
-    for name, help_text in COMMANDS.items():
-        p = sub.add_parser(name, help=help_text, description=help_text)
-        if name == chosen:
-            _module(name).add_arguments(p)
+    parser.add_argument("command", metavar="COMMAND", choices=list(COMMANDS),
+                        help="one of the commands below")
+    parser.add_argument("arguments", nargs=argparse.REMAINDER, help=argparse.SUPPRESS)
+    return parser
+
+
+def command_parser(name: str) -> argparse.ArgumentParser:
+    """The parser of one command (only its module is imported)."""
+    parser = _Parser(prog=f"symcirc {name}", description=COMMANDS[name])
+    _module(name).add_arguments(parser)
     return parser
 
 
 def main(argv: list[str] | None = None) -> int:
     argv = list(sys.argv[1:] if argv is None else argv)
     try:
-        parser = build_parser(argv)
-        args = parser.parse_args(argv)
-        if not args.command:
-            parser.print_help(sys.stderr)
+        top = build_parser()
+        if not argv:
+            top.print_help(sys.stderr)
             return 2
-        return int(_module(args.command).run(args) or 0)
+        chosen = top.parse_args(argv)
+        # options may stand between positional arguments (`derive FILE --values Q1 Q2`)
+        args = command_parser(chosen.command).parse_intermixed_args(chosen.arguments)
+        return int(_module(chosen.command).run(args) or 0)
     except SymcircError as err:
         print(err.format(), file=sys.stderr)
         return 2

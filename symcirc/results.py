@@ -62,8 +62,19 @@ class Result:
         unit: str = "",
         nominals: dict[str, Fraction] | None = None,
         notes: tuple[str, ...] = (),
+        *,
+        part: str | None = None,
+        base: str | None = None,
+        condition: str = "",
     ) -> None:
         self.quantity = quantity
+        """The quantity as shown: `thevenin(out).impedance where A -> oo`."""
+        self.part = part
+        """The part of a quantity with several (`impedance`, `z21`, `error`), or None."""
+        self.base = base if base is not None else quantity
+        """The quantity without its `where` clause: `thevenin(out).impedance`."""
+        self.condition = condition
+        """The `where` clause of its limits as written (`A -> oo`), or ''."""
         self.unit = unit
         self._value = value
         self._nominals = dict(nominals or {})

@@ -190,20 +190,16 @@ def test_plot_command_writes_figures(tmp_path):
     assert main(["plot", str(filt), "gain(Uin, out)", "-o", str(bode)]) == 0
     assert bode.stat().st_size > 1000
     api = tmp_path / "api.svg"
-    from symcirc.analysis.plots import plot
-
-    plot(symcirc.load(str(filt)), "gain(Uin, out)", api)
+    symcirc.load(str(filt)).plot("gain(Uin, out)", api)
     assert {"Frequency (Hz)", "Phase (°)"} <= set(svg_texts(api))
 
 
 def test_plots_of_sensitivities_and_minimum_load(tmp_path, bridge):
-    from symcirc.analysis.plots import plot
-
     bars = tmp_path / "bars.svg"
-    plot(bridge, "sensitivities(V(out))", bars)
+    bridge.plot("sensitivities(V(out))", bars)
     assert "Relative sensitivity (x/Uexc)·∂Q/∂x" in svg_texts(bars)
     curve = tmp_path / "curve.svg"
-    plot(bridge, "minimum_load(out, 0.1 %)", curve)
+    bridge.plot("minimum_load(out, 0.1 %)", curve)
     texts = svg_texts(curve)
     # R_th = 350 Ω: the smallest load for 0.1 % is 999·350 Ω = 349.65 kΩ
     assert "smallest load 349.6 kΩ" in texts and "bound 0.1 %" in texts
@@ -290,10 +286,8 @@ def test_zero_output_with_two_sources_is_shown_in_its_own_unit(tmp_path):
     assert results["R1"].nominal_exact == Fraction(-5, 8) and results["R1"].unit == "V"
     assert abs(results["U1"].nominal_exact) == Fraction(5, 4)
     assert "no single excitation" in " ".join(n for r in results.values() for n in r.notes)
-    from symcirc.analysis.plots import plot
-
     bars = tmp_path / "bars.svg"
-    plot(circuit, "sensitivities(V(out))", bars)
+    circuit.plot("sensitivities(V(out))", bars)
     texts = svg_texts(bars)
     assert "Sensitivity x·∂Q/∂x (V)" in texts
     assert any(t.endswith(" V") and t.lstrip("−-")[0].isdigit() for t in texts)

@@ -14,7 +14,9 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
 if TYPE_CHECKING:  # pragma: no cover
+    from ..language import syntax
     from ..model.circuit import Circuit
+    from ..quantities.registry import DeriveOptions
     from .sensitivity import SensitivityTable
     from .tolerance import ToleranceAnalysis
 
@@ -231,27 +233,24 @@ def loading_figure(
 
 
 def plot(
-    circuit: Circuit, quantity_text: str, path: str | os.PathLike, seed: int | None = None
+    circuit: Circuit, quantity: syntax.Quantity, options: DeriveOptions,
+    path: str | os.PathLike,
 ) -> None:
     """Plot a quantity of `circuit` to `path` (.png or .svg), never over the circuit's file."""
     image_format(path)
-    save(figure_of(circuit, quantity_text, seed), path, inputs=(circuit.file,))
+    save(figure_of(circuit, quantity, options), path, inputs=(circuit.file,))
 
 
-def figure_of(circuit: Circuit, quantity_text: str, seed: int | None = None):
-    """The figure of a quantity of `circuit`.
+def figure_of(circuit: Circuit, quantity: syntax.Quantity, options: DeriveOptions):
+    """The figure of a quantity of `circuit`, derived with `options` (the pipeline's).
 
     `tolerance(Q)`: Monte Carlo histogram with the worst-case bounds; `sensitivities(Q)`:
     bars; `loading(port, Z)` and `minimum_load(port, error)`: loading error against load;
     a transfer function (a quantity in s): magnitude and phase against frequency, and for
     `response(Q)` their Monte Carlo band shaded.
     """
-    from ..quantities import QUANTITY_ORIGIN, parse
-    from ..quantities.registry import DeriveOptions
     from . import quantities as q
 
-    quantity = parse(quantity_text)
-    options = DeriveOptions(seed=seed, origin=(QUANTITY_ORIGIN, quantity_text))
     if quantity.name == "tolerance":
         result, analysis = q.tolerance_analyses(circuit, quantity, options)[0]
         figure = histogram_figure(analysis, result.quantity, result.unit)
@@ -288,7 +287,7 @@ def figure_of(circuit: Circuit, quantity_text: str, seed: int | None = None):
         if quantity.name == "response":  # with the Monte Carlo band of magnitude and phase
             from .frequency import response_band
 
-            band = response_band(circuit, result, frequencies, seed=seed)
+            band = response_band(circuit, result, frequencies, seed=options.seed)
         figure = frequency_response_figure(
             frequencies, response, result.quantity, result.unit, band,
             is_unstable(result.expression, circuit.symbol_nominals()))

@@ -53,9 +53,9 @@ class Reader:
         """The results a part names (`loading(out, Rm).error`), or all of them."""
         if quantity.attribute is None:
             return results
-        chosen = [r for r in results if r.quantity.endswith("." + quantity.attribute)]
+        chosen = [r for r in results if r.part == quantity.attribute]
         if not chosen:
-            known = sorted({r.quantity.rsplit(".", 1)[-1] for r in results})
+            known = sorted({r.part for r in results if r.part})
             raise self.error(quantity, f"{quantity.name}(..) has no part `.{quantity.attribute}`"
                                        f"; it has {', '.join('.' + k for k in known)}")
         return chosen
@@ -256,7 +256,8 @@ def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
             continue
         for rank, row in enumerate(table.rows, start=1):
             derivative_unit = _per(inner.unit, _unit_of(circuit, row.symbol))
-            result = Result(f"{quantity.name}({q}).{row.symbol}", row.relative, unit, nominals)
+            result = Result(f"{quantity.name}({q}).{row.symbol}", row.relative, unit, nominals,
+                            part=str(row.symbol))
             if rank == 1 or quantity.attribute == str(row.symbol):  # a row named alone
                 result.notes.append(heading[0].upper() + heading[1:])
             at = "" if row.derivative_value is None else \
@@ -436,7 +437,7 @@ def _without(read: Reader, element_name: str, port: str, node: syntax.Node) -> C
             raise read.error(node, f"{element_name} is used by {other.name}, so it cannot be "
                                    "taken out as the load")
     elements = {k: v for k, v in circuit.elements.items() if k != element_name}
-    return dataclasses.replace(circuit, elements=elements, derives=(), claims=(), cache={})
+    return dataclasses.replace(circuit, elements=elements, derives=(), claims=())
 
 
 def _thevenin(circuit: Circuit, port: str, node: syntax.Node, options: DeriveOptions):
@@ -497,10 +498,11 @@ def loading_quantity(circuit: Circuit, quantity: syntax.Quantity,
     voltage = Result(f"{label}.voltage", analysis.voltage, "V", nominals, (
         f"Thevenin equivalent at {port}: U_th = {_text(u)}, Z_th = {_text(z)}; "
         f"load Z_L = {_text(case.load)}.",
-        "Loaded port voltage U_th·Z_L/(Z_th + Z_L)."))
+        "Loaded port voltage U_th·Z_L/(Z_th + Z_L)."), part="voltage")
     voltage.notes += loading.cautions(_float(value(u)), None, f"port {port} (open circuit)")
     error = Result(f"{label}.error", analysis.error, "", nominals,
-                   ("Relative loading error (U_loaded − U_open)/U_open = −Z_th/(Z_th + Z_L).",))
+                   ("Relative loading error (U_loaded − U_open)/U_open = −Z_th/(Z_th + Z_L).",),
+                   part="error")
     e = value(analysis.error)
     if e is not None:
         error.notes.append(f"At the nominal values the loaded port reads {percent(abs(e))} "
@@ -514,7 +516,7 @@ def loading_quantity(circuit: Circuit, quantity: syntax.Quantity,
     else:
         if analysis.power is not None:
             power = Result(f"{label}.power", analysis.power, "W", nominals,
-                           ("Power delivered to the load, U_loaded²/R_L.",))
+                           ("Power delivered to the load, U_loaded²/R_L.",), part="power")
             power.notes += loading.cautions(None, _float(value(analysis.power)), "the load")
             results.append(power)
         if analysis.maximum_power is not None:
@@ -535,7 +537,7 @@ def _maximum_power(maximum: sympy.Expr, z: sympy.Expr, case: LoadingCase, value)
     result = Result(f"{case.label}.maximum_power", maximum, "W", _names(case.nominals), (
         "Maximum power transfer: a resistive load equal to the source resistance, "
         f"R_L = R_th = {_text(z)}" + (f" = {eng(matched, 'Ω')}" if matched is not None else "")
-        + ", takes U_th²/(4·R_th).",))
+        + ", takes U_th²/(4·R_th).",), part="maximum_power")
     result.notes += loading.cautions(None, _float(value(maximum)), "a matched load")
     result.details["loading"] = {"matched_load": _text(z),
                                  "matched_load_nominal": _float(matched)}
@@ -557,7 +559,7 @@ def _at_frequency(at: loading.AtFrequency, case: LoadingCase, error: Result) -> 
                        f"{eng(abs(at.voltage), 'V')}.")
     power = Result(f"{case.label}.power", sympy.Float(at.power, 15), "W", {}, (
         f"Average power in the load at {f}, the source value taken as RMS: "
-        "|U_loaded|²·Re(1/Z_L).",))
+        "|U_loaded|²·Re(1/Z_L).",), part="power")
     power.notes += loading.cautions(None, at.power, "the load")
     match = at.matched_load
     sign = "+" if match.imag >= 0 else "−"
@@ -568,7 +570,8 @@ def _at_frequency(at: loading.AtFrequency, case: LoadingCase, error: Result) -> 
     else:
         maximum = Result(f"{case.label}.maximum_power", sympy.Float(at.maximum_power, 15), "W",
                          {}, (f"Maximum power transfer at {f}: the conjugate-matched load "
-                              f"Z_L = Z_th* = {match_text} takes |U_th|²/(4·Re Z_th).",))
+                              f"Z_L = Z_th* = {match_text} takes |U_th|²/(4·Re Z_th).",),
+                         part="maximum_power")
         maximum.notes += loading.cautions(None, at.maximum_power, "a matched load")
         out.append(maximum)
     for r in out:
@@ -606,14 +609,15 @@ def minimum_load_quantity(circuit: Circuit, quantity: syntax.Quantity,
         nominals, (f"The smallest resistive load that {within}{at_f}{numbers_only}"
                    + ("" if numbers_only else ": R_L ≥ R_th·(1 − e)/e") + "."
                    + (f" At the nominal values: {eng(bound.resistance_value, 'Ω')}."
-                      if bound.resistance_value is not None else ""),))
+                      if bound.resistance_value is not None else ""),), part="resistance")
     results = [resistance]
     if bound.capacitance_value is not None:
         results.append(Result(
             f"{case.label}.capacitance", closed(bound.capacitance, bound.capacitance_value), "F",
             nominals, (f"The largest load capacitance that {within}{at_f}{numbers_only}"
                        + ("" if numbers_only else ": C_L ≤ e/(2π·f·R_th·√(1 − e²))") + ". "
-                       f"At the nominal values: {eng(bound.capacitance_value, 'F')}.",)))
+                       f"At the nominal values: {eng(bound.capacitance_value, 'F')}.",),
+            part="capacitance"))
     for r in results:
         r.details["minimum_load"] = {
             "port": case.port, "bound": float(case.bound), "frequency": case.frequency,

@@ -27,7 +27,7 @@ import sympy
 
 from ..errors import Location, SymcircError
 from ..language import syntax
-from ..model.circuit import UNIT_OF_KIND, Assumption, Circuit
+from ..model.circuit import UNIT_OF_KIND, Assumption, Circuit, Claim
 from ..model.units import UNIT_DIMENSIONS
 
 BASE_UNITS = ("kg", "m", "s", "A")
@@ -505,3 +505,30 @@ def _value_location(circuit: Circuit, element) -> Location | None:
             where = statement.value.expression
             return Location(element.location.file, where.line, where.column)
     return None
+
+
+def claim_problem(claim: Claim, derived: sympy.Expr, unit: str,
+                  dims: Dimensions) -> str | None:
+    """A dimension mismatch inside a claim or against its quantity (`derived`, in `unit`),
+    as a sentence; None when the dimensions agree or cannot be told."""
+    try:
+        if claim.written is not None:
+            found = syntax_dimension(claim.written, dims)
+        else:
+            found = sympy_dimension(claim.expression, dims)
+    except DimensionMismatch as mismatch:
+        where = ""
+        if mismatch.node is not None:
+            where = f" (at {claim.location.file}:{mismatch.node.line}:{mismatch.node.column})"
+        return mismatch.message + where
+    try:
+        expected = sympy_dimension(derived, dims)
+    except DimensionMismatch:
+        expected = None
+    if expected is None:
+        expected = parse_unit(unit) if unit else None
+    if found is None or expected is None or found == expected:
+        return None
+    claimed = "dimensionless" if found.dimensionless else f"in {describe(found)}"
+    wanted = "dimensionless" if expected.dimensionless else f"in {describe(expected)}"
+    return f"wrong dimension: the claim is {claimed}, but {claim.quantity_text} is {wanted}"

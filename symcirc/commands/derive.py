@@ -23,7 +23,6 @@ COMMAND_LINE = "<command line>"
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
-    _allow_options_between_quantities(parser)
     parser.add_argument("file", metavar="FILE", help="the .circuit file to read")
     parser.add_argument("quantities", metavar="QUANTITY", nargs="*",
                         help="quantities such as 'thevenin(out)' or 'gain(Uin, out)' (default: "
@@ -43,65 +42,24 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
                              "seed, so that runs repeat)")
 
 
-def _allow_options_between_quantities(parser: argparse.ArgumentParser) -> None:
-    """`derive FILE --values Q1 Q2`: read options and quantities in any order.
-
-    The dispatcher parses the command's arguments with `parse_known_args`; this parser does
-    it the intermixed way, which calls `parse_known_args` itself (hence the guard).
-    """
-    inside = False
-
-    def parse_known_args(args=None, namespace=None):
-        nonlocal inside
-        if inside:
-            return argparse.ArgumentParser.parse_known_args(parser, args, namespace)
-        inside = True
-        try:
-            return argparse.ArgumentParser.parse_known_intermixed_args(parser, args, namespace)
-        finally:
-            inside = False
-
-    parser.parse_known_args = parse_known_args  # type: ignore[method-assign]
-
-
 def run(args: argparse.Namespace) -> int:
-    from .. import load
-    from ..language.parser import parse_quantity_where
-    from ..quantities import assumptions_of, check_assumptions, derive_quantity
-    from ..quantities.registry import DeriveOptions
+    from ..pipeline import Pipeline
 
-    circuit = load(args.file)
-    from ..check.dimensions import check_circuit
-
-    check_circuit(circuit)  # `where` clauses and controlled-source coefficients
+    pipeline = Pipeline.load(args.file)
+    circuit = pipeline.circuit
     for notice in circuit.notices:
         print(_notice(notice, circuit), file=sys.stderr)
-    jobs = []  # (quantity, options)
-    if args.quantities:
-        for text in args.quantities:  # `V(out) where Rid -> oo` as in a file's derive
-            quantity, written = parse_quantity_where(text, COMMAND_LINE)
-            options = DeriveOptions(substitute=args.substitute, steps=args.steps,
-                                    seed=args.seed, origin=(COMMAND_LINE, text),
-                                    assumptions=tuple(assumptions_of(written,
-                                                                     (COMMAND_LINE, text))))
-            check_assumptions(circuit, options)
-            jobs.append((quantity, options))
-    else:
-        if not circuit.derives:
-            raise SymcircError(f"{args.file} has no derive statements; name the quantities on "
-                               f"the command line, e.g. symcirc derive {args.file} "
-                               "'thevenin(out)'", args.file)
-        for statement in circuit.derives:
-            options = DeriveOptions(substitute=args.substitute, steps=args.steps,
-                                    seed=args.seed, assumptions=statement.assumptions)
-            jobs.extend((quantity, options) for quantity in statement.quantities)
+    if not args.quantities and not circuit.derives:
+        raise SymcircError(f"{args.file} has no derive statements; name the quantities on "
+                           f"the command line, e.g. symcirc derive {args.file} "
+                           "'thevenin(out)'", args.file)
+    requests = pipeline.requests(args.quantities, origin=COMMAND_LINE,
+                                 substitute=args.substitute, steps=args.steps, seed=args.seed)
     results: list[Result] = []
-    for quantity, options in jobs:
-        results += _with_forms(circuit, quantity, derive_quantity(circuit, quantity, options),
-                               options)
+    for request in requests:
+        results += pipeline.derive(request)
     if args.values:
-        for result in results:
-            _say_if_unstable(circuit, result)
+        results = [_with_stability(circuit, result) for result in results]
     write = {"text": as_text, "latex": as_latex, "markdown": as_markdown, "json": as_json}
     if args.values:
         _print_cautions(circuit, results)
@@ -123,47 +81,29 @@ def _print_cautions(circuit, results: list[Result]) -> None:
                   file=sys.stderr)
 
 
-def _with_forms(circuit, quantity, results: list[Result], options) -> list[Result]:
-    """`where big >> small` approximations, then design forms and derivation steps
-    (symcirc.forms.finish, as the notes show them), each proved equal first."""
-    approximations = [a for a in options.assumptions if a.kind == "much_greater"]
-    if not approximations and not options.steps:
-        return results
-    from .. import forms
-    from ..errors import Location
-    from ..forms.dividers import Unsupported
-
-    try:
-        return forms.finish(circuit, quantity, results, options)
-    except Unsupported as problem:
-        if not approximations:
-            raise
-        first = approximations[0]
-        where = first.location or Location(circuit.file, 0, 0)
-        raise SymcircError.at(where, f"where {first.symbol} >> {first.target}: {problem}",
-                              circuit.source) from None
-
-
 STABILITY_TERMS = 2000
 """Largest response (numerator plus denominator terms) whose poles `--values` checks."""
 
 
-def _say_if_unstable(circuit, result: Result) -> None:
+def _with_stability(circuit, result: Result) -> Result:
     """With --values, a response in s whose other symbols all have values says so when a pole
     lies in the right half-plane (the design forms say it too, with --steps)."""
     if result.missing != ("s",) or any(n.startswith("Unstable") for n in result.notes):
-        return
+        return result
     size = getattr(result.exact, "size", None)
     if size is not None and sum(size()) > STABILITY_TERMS:
-        return
+        return result
     from ..analysis.response import Response, ResponseError
 
     try:
         words = Response.of(result.expression).stability(circuit.symbol_nominals())
     except ResponseError:
-        return
-    if words:
-        result.notes.append(words)
+        return result
+    if not words:
+        return result
+    said = result.copy()
+    said.notes.append(words)
+    return said.seal()
 
 
 def _notice(notice, circuit) -> str:

@@ -31,14 +31,16 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from .. import __version__, load
+    from .. import __version__
     from ..analysis.cautions import assess
     from ..export.functions import functions
+    from ..pipeline import Pipeline
     from ..report.files import output_for, write_document
 
     output = output_for(args.output, [args.file])
-    circuit = load(args.file)
-    results = _results(circuit, args)
+    pipeline = Pipeline.load(args.file)
+    circuit = pipeline.circuit
+    results = _results(pipeline, args)
     units = {e.name: e.unit for e in circuit.elements.values()}
     units.update({p.name: p.unit for p in circuit.parameters.values()})
     units["s"] = "1/s"
@@ -65,24 +67,14 @@ def _nominals(circuit) -> dict:
     return {str(symbol): value for symbol, value in circuit.symbol_nominals().items()}
 
 
-def _results(circuit, args) -> list:
-    from ..quantities import QUANTITY_ORIGIN, derive_quantity, parse
-    from ..quantities.registry import DeriveOptions
-
+def _results(pipeline, args) -> list:
+    """The results to export, derived as every command derives them (limits and `>>`
+    approximations applied; no forms: the code needs the value only)."""
+    if not args.quantities and not pipeline.circuit.derives:
+        raise SymcircError(f"{args.file} has no derive statements; name the quantities to "
+                           f"export, e.g. symcirc export {args.file} 'thevenin(out)' "
+                           "--lang c", args.file)
     results = []
-    if args.quantities:
-        for text in args.quantities:
-            options = DeriveOptions(substitute=args.substitute, steps=False,
-                                    origin=(QUANTITY_ORIGIN, text))
-            results += derive_quantity(circuit, parse(text), options)
-    else:
-        if not circuit.derives:
-            raise SymcircError(f"{args.file} has no derive statements; name the quantities to "
-                               f"export, e.g. symcirc export {args.file} 'thevenin(out)' "
-                               "--lang c", args.file)
-        for statement in circuit.derives:
-            options = DeriveOptions(substitute=args.substitute, steps=False,
-                                    assumptions=statement.assumptions)
-            for quantity in statement.quantities:
-                results += derive_quantity(circuit, quantity, options)
+    for request in pipeline.requests(args.quantities, substitute=args.substitute, steps=False):
+        results += pipeline.derive(request)
     return results

@@ -24,14 +24,16 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from .. import load
     from ..analysis.plots import FORMATS, plot
     from ..output import check_target
+    from ..pipeline import COMMAND_LINE, Pipeline
 
     output = Path(args.output)
     if output.suffix.lower() not in FORMATS:
         raise SymcircError(f"the figure is written as .png or .svg, not "
                            f"`{output.suffix or output.name}`", str(output))
     check_target(output, [args.file])  # before the work: a link, device or the input itself
-    plot(load(args.file), args.quantity, output, seed=args.seed)
+    pipeline = Pipeline.load(args.file)
+    request = pipeline.request(args.quantity, COMMAND_LINE, seed=args.seed, steps=False)
+    plot(pipeline.circuit, request.quantity, request.options, output)
     return 0

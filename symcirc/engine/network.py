@@ -28,6 +28,7 @@ from ..algebra.convert import atoms_of, names_of, to_function
 from ..algebra.polynomials import LAPLACE_NAME, Poly, PolynomialRing
 from ..algebra.rational import RationalFunction
 from ..model.circuit import REFERENCE, Circuit, Element
+from .memo import Memo
 
 PASSIVE = ("resistor", "capacitor", "inductor", "conductance", "impedance", "admittance")
 
@@ -146,11 +147,14 @@ def mutual_name(coupling: str, taken: set[str]) -> str:
     return name
 
 
-def build_network(circuit: Circuit) -> Network:
-    """The engine's view of `circuit` (cached in `circuit.cache`)."""
-    cached = circuit.cache.get("network")
+def build_network(circuit: Circuit, memo: Memo | None = None) -> Network:
+    """The engine's view of `circuit` (kept in `memo` when one is given)."""
+    if memo is None:
+        return _build(circuit)
+    store = memo.of(circuit)
+    cached = store.get("network")
     if cached is None:
-        cached = circuit.cache["network"] = _build(circuit)
+        cached = store["network"] = _build(circuit)
     return cached
 
 

@@ -18,6 +18,7 @@ from typing import Literal, Protocol
 
 from ..algebra.rational import RationalFunction
 from ..model.circuit import Circuit
+from .memo import Memo
 from .mna import Equations, Measure, MnaSolution
 from .network import Network, build_network
 
@@ -33,16 +34,19 @@ class Solution(Protocol):
     def transfer(self, measure: Measure, excitation: str) -> RationalFunction: ...
 
 
-def solution(circuit: Circuit, shorted: Iterable[str] = (), path: Path | None = None
-             ) -> Solution:
-    """The solved system of `circuit` with the ports in `shorted` short-circuited."""
+def solution(circuit: Circuit, shorted: Iterable[str] = (), path: Path | None = None,
+             memo: Memo | None = None) -> Solution:
+    """The solved system of `circuit` with the ports in `shorted` short-circuited (kept in
+    `memo` when one is given)."""
     shorted = frozenset(shorted)
-    network = build_network(circuit)
+    memo = memo if memo is not None else Memo()
+    network = build_network(circuit, memo)
     chosen = path or ("forest" if network.is_passive else "elimination")
     key = ("solution", shorted, chosen)
-    cached = circuit.cache.get(key)
+    store = memo.of(circuit)
+    cached = store.get(key)
     if cached is None:
-        cached = circuit.cache[key] = _solve(circuit, network, shorted, chosen)
+        cached = store[key] = _solve(circuit, network, shorted, chosen)
     return cached
 
 

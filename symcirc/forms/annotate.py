@@ -49,7 +49,7 @@ def annotate(
     if not options.steps:
         return
     for result in results:
-        attribute = quantity.attribute or _attribute(result.quantity)
+        attribute = quantity.attribute or result.part
         target = target_of(circuit, quantity, attribute)
         if target is None:
             continue
@@ -68,9 +68,10 @@ def annotate(
             options.substitute,
             tuple(a for a in options.assumptions if a.kind == "limit"),
         )
-        if key not in circuit.cache:
-            circuit.cache[key] = _annotation(circuit, target, result, options)
-        found = circuit.cache[key]
+        store = options.memo.of(circuit)
+        if key not in store:
+            store[key] = _annotation(circuit, target, result, options)
+        found = store[key]
         if found is not None:
             steps, form, details = found
             result.steps = list(steps)
@@ -85,11 +86,6 @@ def size(result: Result) -> int:
         return sum(result.exact.size())
     num, den = sympy.fraction(result.expression)
     return len(sympy.Add.make_args(num)) + len(sympy.Add.make_args(den))
-
-
-def _attribute(quantity_text: str) -> str | None:
-    head, dot, tail = quantity_text.rpartition(").")
-    return tail if dot and tail.isidentifier() else None
 
 
 def _annotation(circuit: Circuit, target: Target, result: Result, options: DeriveOptions):
@@ -160,7 +156,7 @@ def _opened(
             return None
         names.append(element.name)
     reduced = dataclasses.replace(
-        circuit, elements={k: e for k, e in circuit.elements.items() if k not in names}, cache={}
+        circuit, elements={k: e for k, e in circuit.elements.items() if k not in names}
     )
     rec = Recorder(_taken(circuit))
     parts = ", ".join(names)
@@ -421,7 +417,8 @@ def approximate(circuit: Circuit, result: Result, assumption: Assumption) -> Res
         _annotate_alone(circuit, result)
     nominals = _nominals(circuit)
     new = Result(
-        result.quantity, _Value(expansion.leading), result.unit, nominals, tuple(result.notes)
+        result.quantity, _Value(expansion.leading), result.unit, nominals, tuple(result.notes),
+        part=result.part, base=result.base, condition=result.condition,
     )
     rec = Recorder(_taken(circuit) | {step.defines for step in result.steps if step.defines})
     symbol = rec.fresh([f"{_result_name(result)}_approx"], "X")
@@ -497,7 +494,7 @@ def _annotate_alone(circuit: Circuit, result: Result) -> None:
     from ..language.parser import parse_quantity
 
     try:
-        quantity = parse_quantity(result.quantity.split(" where ")[0])
+        quantity = parse_quantity(result.base)
     except SymcircError:
         return
     annotate(circuit, quantity, [result], DeriveOptions())

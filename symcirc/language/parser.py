@@ -7,7 +7,6 @@ Every function here raises only SymcircError for bad input.
 
 from __future__ import annotations
 
-import gc
 import hashlib
 import os
 import stat
@@ -73,10 +72,8 @@ def _parse(text: str, filename: str, start: str):
     from lark.exceptions import LarkError, UnexpectedInput
 
     parser, builder = _parser()
-    collecting = gc.isenabled()
     with _LOCK:
         builder.begin(text, filename)
-        gc.disable()  # the tree has no cycles; collecting while it grows only costs time
         try:
             return parser.parse(text, start=start)
         except UnexpectedInput as problem:
@@ -89,8 +86,6 @@ def _parse(text: str, filename: str, start: str):
             raise SymcircError(f"cannot read the input: {problem}", filename) from None
         finally:
             builder.begin("", "<input>")
-            if collecting:
-                gc.enable()
 
 
 def parse_document(text: str, filename: str = "<input>") -> st.Document:

@@ -9,14 +9,14 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 from fractions import Fraction
-from typing import TYPE_CHECKING, Any, Literal
+from typing import TYPE_CHECKING, Literal
 
 import sympy
 
 from ..errors import Location
 
 if TYPE_CHECKING:  # pragma: no cover
-    from ..language.syntax import Quantity
+    from ..language.syntax import Expr, Quantity
 
 REFERENCE = "gnd"
 """Name of the reference node in the model (`gnd` and `0` in a file both mean it)."""
@@ -182,13 +182,19 @@ class Derive:
 
 @dataclass(frozen=True)
 class Claim:
-    """`claim QUANTITY = EXPRESSION`: a hand-derived result to check."""
+    """`claim QUANTITY = EXPRESSION`: a hand-derived result to check (from the file, or
+    given on the command line)."""
 
     quantity: Quantity
     quantity_text: str
     expression: sympy.Expr
     expression_text: str
     location: Location
+    written: Expr | None = None
+    """The claimed expression as parsed (numbers keep their units, for dimension checks)."""
+    origin: tuple[str, str] | None = None
+    """(name, text) of a claim given outside the file, for error positions; None: the
+    circuit's own file."""
 
 
 @dataclass(frozen=True)
@@ -219,8 +225,6 @@ class Circuit:
     """True when the file never named the reference node and one was chosen."""
     aliases: dict[str, str] = field(default_factory=dict)
     """Other names of nodes: the user's name of a chosen reference node → `gnd`."""
-    cache: dict[Any, Any] = field(default_factory=dict, repr=False, compare=False)
-    """Per-circuit memo for later stages (solved systems); not part of the model."""
 
     def symbol_nominals(self) -> dict[sympy.Symbol, Fraction]:
         """Nominal value of every element and parameter symbol that has one."""
@@ -254,66 +258,3 @@ class Circuit:
             if node in e.nodes:
                 return e.location
         return None
-
-    # Convenience API; the work is done by later stages (imported on use).
-    def derive(self, quantity: str, **options: Any) -> list:
-        """Derive a quantity written as in the language (`"thevenin(out)"`), as `symcirc
-        derive` shows it: `where big >> small` approximations applied, and with `steps=True`
-        the design form and derivation steps attached (off by default, as on the command
-        line: they cost more than the derivation on large results)."""
-        from dataclasses import replace
-
-        from ..analysis.cautions import attach
-        from ..forms import finish
-        from ..quantities import QUANTITY_ORIGIN, derive, options_from, read_quantity
-
-        options.setdefault("steps", False)
-        options.setdefault("origin", (QUANTITY_ORIGIN, quantity))
-        parsed, clauses = read_quantity(quantity)
-        settings = options_from(None, **options)
-        settings = replace(settings, assumptions=(*settings.assumptions, *clauses))
-        results = derive(self, parsed, settings)
-        return attach(self, finish(self, parsed, results, settings))
-
-    def _repr_markdown_(self) -> str:
-        """In Jupyter: the title, the parts and nodes, and the safety cautions."""
-        from ..analysis.cautions import assess
-        from ..results import markdown_text as _markdown_text
-
-        title = (self.title or self.file).replace("\n", " ")
-        lines = [f"**{_markdown_text(title)}**: {len(self.elements)} parts, "
-                 f"{len(self.nodes)} nodes ({_markdown_text(', '.join(self.nodes))})."]
-        assessment = assess(self)
-        if assessment.shown:
-            lines.append("")
-            lines += [f"> **Caution.** {_markdown_text(c)}\n>" for c in assessment.cautions]
-            lines += [f"> **Not assessed.** {_markdown_text(n)}\n>"
-                      for n in assessment.not_assessed]
-            lines += [f"> {_markdown_text(x)}\n>" for x in assessment.thresholds]
-            lines.append(f"> {_markdown_text(assessment.advice)}")
-        return "\n".join(lines)
-
-    def thevenin(self, port: str, **options: Any):
-        from ..quantities import thevenin
-
-        return thevenin(self, port, **options)
-
-    def norton(self, port: str, **options: Any):
-        from ..quantities import norton
-
-        return norton(self, port, **options)
-
-    def gain(self, source: str, quantity: str, **options: Any):
-        from ..quantities import gain
-
-        return gain(self, source, quantity, **options)
-
-    def impedance(self, port: str, **options: Any):
-        from ..quantities import impedance
-
-        return impedance(self, port, **options)
-
-    def twoport(self, port1: str, port2: str, **options: Any):
-        from ..quantities import twoport
-
-        return twoport(self, port1, port2, **options)

@@ -176,8 +176,16 @@ class TwoPort:
     not exist raises SymcircError saying why."""
 
     def __init__(self, results: list[Result], missing: str | None) -> None:
-        self._results = {r.quantity.split(" where ")[0].rsplit(".", 1)[1]: r for r in results}
+        self._results = {r.part: r for r in results}
         self._missing = missing
+
+    @classmethod
+    def of(cls, results: list[Result]) -> TwoPort:
+        """The parameters of `twoport(p1, p2)`'s results (a set that does not exist says
+        why in the first result's notes)."""
+        missing = next((n for n in results[0].notes if n.startswith("twoport(")), None) \
+            if results else None
+        return cls(results, missing)
 
     @property
     def results(self) -> list[Result]:
@@ -227,7 +235,4 @@ def gain(circuit: Circuit, source: str, quantity: str, **options: Any) -> Result
 
 
 def twoport(circuit: Circuit, port1: str, port2: str, **options: Any) -> TwoPort:
-    results = derive(circuit, f"twoport({port1}, {port2})", **options)
-    missing = next((n for n in results[0].notes if n.startswith("twoport(")), None) \
-        if results else None
-    return TwoPort(results, missing)
+    return TwoPort.of(derive(circuit, f"twoport({port1}, {port2})", **options))

@@ -46,6 +46,8 @@ class Raw:
     function: RationalFunction
     unit: str
     notes: tuple[str, ...] = ()
+    part: str | None = None
+    """The part of a quantity with several (`voltage`, `z21`)."""
 
 
 def per(numerator: str, denominator: str) -> str:
@@ -69,7 +71,8 @@ class Context:
         self.options = options
         origin = getattr(options, "origin", None)
         self.file, self.source = origin if origin else (circuit.file, circuit.source)
-        self.network: Network = build_network(circuit)
+        self.memo = options.memo.of(circuit)
+        self.network: Network = build_network(circuit, options.memo)
         self.atoms: dict[str, sympy.Expr] = dict(self.network.atoms)
 
     # -- errors
@@ -200,13 +203,13 @@ class Context:
     # -- solving
     def transfer(self, measure: Measure, excitation: str, shorted: Iterable[str] = ()
                  ) -> RationalFunction:
-        return solution(self.circuit, shorted).transfer(measure, excitation)
+        return solution(self.circuit, shorted, memo=self.options.memo).transfer(measure, excitation)
 
     def response(self, measure: Measure, shorted: Iterable[str] = ()) -> RationalFunction:
         """The measure with every independent source at its value."""
         shorted = tuple(shorted)
         if not self.network.excitations():  # nothing to solve for, but it must be solvable
-            solution(self.circuit, shorted).check()
+            solution(self.circuit, shorted, memo=self.options.memo).check()
         total = RationalFunction(0, 1, self.network.ring, canonical=True)
         for name, value in self.network.excitations().items():
             part = self.transfer(measure, name, shorted)
@@ -221,9 +224,9 @@ class Context:
     @property
     def definitions(self) -> dict[str, sympy.Expr]:
         """Every defined symbol, expanded down to symbols that have no definition."""
-        cached = self.circuit.cache.get("definitions")
+        cached = self.memo.get("definitions")
         if cached is None:
-            cached = self.circuit.cache["definitions"] = _expanded_definitions(self.circuit)
+            cached = self.memo["definitions"] = expanded_definitions(self.circuit)
         return cached
 
     def through_definitions(self, function: RationalFunction, name: str
@@ -244,7 +247,16 @@ class Context:
         return function.substitute(name, to_function(expr, function.ring))
 
     def substitute_all(self, function: RationalFunction) -> RationalFunction:
-        """Mutual inductances and every definition replaced (`--substitute`)."""
+        """Every definition replaced (`--substitute`)."""
+        for name in function.symbol_names():
+            if name in self.definitions:
+                function = self.substitute(function, name, self.definitions[name])
+        return function
+
+    def resolved(self, function: RationalFunction) -> RationalFunction:
+        """In the language's terms: each mutual inductance as k·√(L1·L2) (the engine holds
+        it as a symbol of its own), and a transformer's or coupling's name replaced by the
+        ratio or factor it is defined by (`transformer T1 (..) = N` gives results in N)."""
         for coupling in self.network.couplings.values():
             if coupling.mutual not in function.symbol_names():
                 continue
@@ -257,15 +269,32 @@ class Context:
                                         1, ring)
             function = substitute_root(function.in_ring(ring), coupling.mutual, factor,
                                        radicand, name)
-        for name in function.symbol_names():
-            if name in self.definitions:
-                function = self.substitute(function, name, self.definitions[name])
+        for element in self.circuit.elements.values():
+            if element.kind in ("transformer", "coupling") and element.definition is not None \
+                    and element.name in function.symbol_names():
+                function = self.substitute(function, element.name,
+                                           self.definitions[element.name])
         return function
+
+    def mutual_chain(self, function: RationalFunction, derivative: RationalFunction,
+                     name: str) -> RationalFunction:
+        """`derivative` (∂/∂name with the mutual inductances held fixed) plus the part
+        through each M = k·√(L1·L2): ∂M/∂L1 = M/(2·L1), ∂M/∂k = M/k."""
+        for c in self.network.couplings.values():
+            if c.mutual not in function.symbol_names() or name not in (c.name, c.first,
+                                                                        c.second):
+                continue
+            ring = derivative.ring
+            m = RationalFunction.symbol(c.mutual, ring)
+            x = RationalFunction.symbol(name, ring)
+            two = RationalFunction(2, 1, ring) if name != c.name else RationalFunction(1, 1, ring)
+            derivative = derivative + function.derivative(c.mutual) * m / (two * x)
+        return derivative
 
     @property
     def nominals(self) -> dict[str, Fraction]:
         """Nominal value of every symbol that has one (mutual inductances to 40 digits)."""
-        cached = self.circuit.cache.get("nominals")
+        cached = self.memo.get("nominals")
         if cached is None:
             cached = {str(k): v for k, v in self.circuit.symbol_nominals().items()}
             for c in self.network.couplings.values():
@@ -273,7 +302,7 @@ class Context:
                     m = sympy.Symbol(c.name) * sympy.sqrt(sympy.Symbol(c.first)
                                                           * sympy.Symbol(c.second))
                     cached[c.mutual] = atom_value(m, cached)
-            self.circuit.cache["nominals"] = cached
+            self.memo["nominals"] = cached
         return cached
 
     def finish(self, raws: Iterable[Raw]) -> list[Result]:
@@ -287,16 +316,12 @@ class Context:
                 function, note = self.limit(function, assumption, raw.quantity)
                 if note:
                     notes.append(note)
+            function = self.resolved(function)
             if self.options.substitute:
                 function = self.substitute_all(function)
-            for coupling in self.network.couplings.values():
-                if coupling.mutual in function.symbol_names():
-                    notes.append(f"{coupling.mutual} = {coupling.name}*sqrt({coupling.first}*"
-                                 f"{coupling.second}) is the mutual inductance of coupling "
-                                 f"{coupling.name} (dots at the first terminals).")
             text = f"{raw.quantity} where {clause}" if clause else raw.quantity
             out.append(Result(text, exact_value(function, self.atoms), raw.unit, self.nominals,
-                              tuple(notes)))
+                              tuple(notes), part=raw.part, base=raw.quantity, condition=clause))
         return out
 
     def limit(self, function: RationalFunction, assumption, quantity: str
@@ -317,7 +342,9 @@ class Context:
             raise SymcircError.at(location, message, self.circuit.source) from None
 
 
-def _expanded_definitions(circuit: Circuit) -> dict[str, sympy.Expr]:
+def expanded_definitions(circuit: Circuit) -> dict[str, sympy.Expr]:
+    """Every element and parameter defined by an expression, expanded down to symbols
+    without a definition (`Rt` → `R0*(T*alpha + 1)`)."""
     raw: dict[str, sympy.Expr] = {str(k): v for k, v in circuit.definitions().items()}
     for p in circuit.parameters.values():
         if p.value is not None and p.value.free_symbols:

@@ -83,12 +83,12 @@ def raw_thevenin(context: Context, quantity: syntax.Quantity) -> list[Raw]:
     voltage, impedance = found
     raws = []
     if "voltage" in parts:
-        raws.append(Raw(f"thevenin({port}).voltage", voltage, "V"))
+        raws.append(Raw(f"thevenin({port}).voltage", voltage, "V", part="voltage"))
     if "impedance" in parts:
         notes = ()
         if impedance.is_zero():
             notes = (f"The Thevenin impedance is 0: {_short_cause(context, port, a, b)}.",)
-        raws.append(Raw(f"thevenin({port}).impedance", impedance, "Ω", notes))
+        raws.append(Raw(f"thevenin({port}).impedance", impedance, "Ω", notes, "impedance"))
     return raws
 
 
@@ -109,9 +109,9 @@ def raw_norton(context: Context, quantity: syntax.Quantity) -> list[Raw]:
             current, admittance = voltage / impedance, impedance.inverse()
     raws = []
     if "current" in parts:
-        raws.append(Raw(f"norton({port}).current", current, "A"))
+        raws.append(Raw(f"norton({port}).current", current, "A", part="current"))
     if "admittance" in parts:
-        raws.append(Raw(f"norton({port}).admittance", admittance, "S"))
+        raws.append(Raw(f"norton({port}).admittance", admittance, "S", part="admittance"))
     return raws
 
 

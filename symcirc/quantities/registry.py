@@ -11,8 +11,9 @@ and returns one Result per scalar quantity (`thevenin(out)` gives `.voltage` and
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
+from ..engine.memo import Memo
 from ..model.circuit import Assumption
 
 HANDLERS: dict[str, str] = {
@@ -78,3 +79,6 @@ class DeriveOptions:
     origin: tuple[str, str] | None = None
     """(file name, text) the quantity was read from, for error positions; None: the
     circuit's own file (quantities of its `derive` statements)."""
+    memo: Memo = field(default_factory=Memo, compare=False, repr=False)
+    """Work done once per circuit; the pipeline passes its own so that every quantity it
+    derives shares the solved systems."""

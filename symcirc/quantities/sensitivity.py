@@ -58,7 +58,7 @@ def raw_sensitivity(context: Context, quantity: syntax.Quantity, relative: bool)
             listed = ", ".join(via)
             notes.append(f"{raw.quantity} depends on {name} through the definition of {listed} "
                          "(substituted for the derivative).")
-        derivative = function.derivative(name)
+        derivative = context.mutual_chain(function, function.derivative(name), name)
         text = f"{quantity.name}({raw.quantity}, {name})"
         if derivative.is_zero():
             notes.append(f"{raw.quantity} does not depend on {name}: the sensitivity is 0.")

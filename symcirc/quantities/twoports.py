@@ -84,10 +84,11 @@ def raw_twoport(context: Context, quantity: syntax.Quantity) -> list[Raw]:
             continue
         for name, value in zip(NAMES[family], params, strict=True):
             if quantity.attribute in (None, name):
-                raws.append(Raw(f"{label}.{name}", value, UNITS[name]))
+                raws.append(Raw(f"{label}.{name}", value, UNITS[name], part=name))
     if missing and raws:
         note = "; ".join(f"no {_set_name(f)} ({WHY_MISSING[f]})" for f in missing)
-        raws[0] = Raw(raws[0].quantity, raws[0].function, raws[0].unit, (f"{label}: {note}.",))
+        raws[0] = Raw(raws[0].quantity, raws[0].function, raws[0].unit, (f"{label}: {note}.",),
+                      raws[0].part)
     return raws
 
 

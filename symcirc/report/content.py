@@ -289,7 +289,7 @@ class Section:
 
 def result_view(result: Any, symbol: str | None = None) -> ResultView:
     """The view of one `symcirc.results.Result` (form, steps and details where present)."""
-    symbol = symbol or quantity_symbol(result.quantity)
+    symbol = symbol or quantity_symbol(result.base, result.condition)
     expression = result.expression
     canonical_latex = result.latex()
     canonical = equations(symbol, canonical_latex, expression)
@@ -399,14 +399,14 @@ _ATTRIBUTE_SYMBOL = {
 }
 
 
-def quantity_symbol(text: str) -> str:
+def quantity_symbol(written: str, condition: str = "") -> str:
     """The symbol an engineer writes for a quantity: `thevenin(out).voltage` →
-    `V_{\\mathrm{Th},\\mathrm{out}}`, `gain(Uref, out)` → `V_{out}/U_{ref}`; others upright."""
-    written, _, condition = text.partition(" where ")
+    `V_{\\mathrm{Th},\\mathrm{out}}`, `gain(Uref, out)` → `V_{out}/U_{ref}`; others upright.
+    `condition` is its `where` clause (`Rin -> oo`), shown as a subscript bar."""
     quantity = _parse(written)
     symbol = _symbol(quantity) if quantity is not None else None
     if symbol is None:
-        return latex_text(text)
+        return latex_text(f"{written} where {condition}" if condition else written)
     return symbol + (r"\big|_{" + _condition_latex(condition) + "}" if condition else "")
 
 

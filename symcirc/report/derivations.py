@@ -6,12 +6,13 @@ and, where a result has a nominal value, its sensitivities and tolerance spread.
 from __future__ import annotations
 
 from collections.abc import Sequence
-from dataclasses import dataclass, replace
-from typing import Any
+from dataclasses import replace
 
 from ..errors import SymcircError
 from ..model.circuit import Circuit
+from ..pipeline import Pipeline, Request
 from ..quantities.registry import DeriveOptions
+from ..results import Result
 from .content import (
     ResultView,
     Section,
@@ -37,37 +38,26 @@ sensitivity of each toleranced part at the nominal point; closed-form sensitivit
 for large results) appear where a `derive sensitivities(Q)` statement asks for them."""
 
 
-@dataclass(frozen=True)
-class Request:
-    """One quantity to show: its text, the syntax quantity (or text) and how to derive it."""
-
-    text: str
-    quantity: Any
-    options: DeriveOptions
+__all__ = ["Request", "requests", "sections"]
 
 
-def requests(circuit: Circuit, quantities: Sequence[str] | None) -> list[Request]:
-    """The quantities a document shows: the command line's, else the derive statements'."""
-    if quantities:
-        return [Request(text, text, DeriveOptions()) for text in quantities]
-    out = []
-    for statement in circuit.derives:
-        options = DeriveOptions(assumptions=tuple(statement.assumptions))
-        for quantity, text in zip(statement.quantities, statement.texts, strict=True):
-            out.append(Request(text, quantity, options))
-    return out
+def requests(pipeline: Pipeline, quantities: Sequence[str] | None) -> list[Request]:
+    """The quantities a document shows: the command line's, else the derive statements',
+    with design forms and steps."""
+    return pipeline.requests(quantities, steps=True)
 
 
-def sections(circuit: Circuit, wanted: list[Request],
+def sections(pipeline: Pipeline, wanted: list[Request],
              analyses: tuple[str, ...] = AUTOMATIC,
              progress: Progress | None = None) -> list[Section]:
     """Derive every request, adding the named analyses (`sensitivities`, `tolerance`) to each
     result that has a nominal value."""
+    circuit = pipeline.circuit
     out = []
     for request in wanted:
         if progress is not None:
             progress.step(request.text)
-        results = derive_for_document(circuit, request.quantity, request.options)
+        results = pipeline.derive(request)
         assumptions = request.options.assumptions
         section = Section(
             heading=request.text, anchor=anchor(request.text),
@@ -75,7 +65,7 @@ def sections(circuit: Circuit, wanted: list[Request],
             assumptions_text=tuple(assumption_text(a) for a in assumptions),
             results=[],
         )
-        name = _quantity_name(request.quantity)
+        name = request.quantity.name
         table = sensitivity_table(results, request.text) if name == "sensitivities" else None
         if table is not None:
             section.tables.append(table)
@@ -84,27 +74,13 @@ def sections(circuit: Circuit, wanted: list[Request],
                 view = result_view(result)
                 _attach_details(circuit, view, result)
                 if name not in ANALYSIS_QUANTITIES:
-                    _attach_analyses(circuit, view, request.options, analyses)
+                    _attach_analyses(pipeline, view, request.options, analyses)
                 section.results.append(view)
         out.append(section)
     return out
 
 
-def derive_for_document(circuit: Circuit, quantity: Any, options: DeriveOptions) -> list[Any]:
-    """Results as a document shows them: `where X >> Y` approximations applied, design forms
-    and derivation steps attached (symcirc.forms.derive_shown, as `symcirc derive` does)."""
-    from ..forms import derive_shown
-
-    return derive_shown(circuit, quantity, options)
-
-
-def _quantity_name(quantity: Any) -> str:
-    if isinstance(quantity, str):
-        return quantity.split("(", 1)[0].strip()
-    return quantity.name
-
-
-def _attach_details(circuit: Circuit, view: ResultView, result: Any) -> None:
+def _attach_details(circuit: Circuit, view: ResultView, result: Result) -> None:
     details = dict(result.details)
     if "tolerance" in details:
         view.tables.extend(tolerance_tables(details.pop("tolerance"), result.unit,
@@ -120,20 +96,24 @@ def _attach_details(circuit: Circuit, view: ResultView, result: Any) -> None:
     view.tables.extend(detail_tables(details))
 
 
-def _attach_analyses(circuit: Circuit, view: ResultView, options: DeriveOptions,
+def _attach_analyses(pipeline: Pipeline, view: ResultView, options: DeriveOptions,
                      analyses: tuple[str, ...]) -> None:
     """Sensitivities and tolerance of a result with a nominal value, from the analyses stage."""
     if view.nominal is None or not view.result.symbols:
         return
-    quiet = replace(options, steps=False)
+    circuit = pipeline.circuit
+    def derive(text: str) -> list[Result]:
+        return pipeline.derive(pipeline.request(
+            text, steps=False, assumptions=options.assumptions, seed=options.seed,
+            substitute=options.substitute))
+
     try:
         if "sensitivities" in analyses:
-            table = sensitivity_table(
-                derive_for_document(circuit, f"sensitivities({view.quantity})", quiet), "Q")
+            table = sensitivity_table(derive(f"sensitivities({view.quantity})"), "Q")
             if table is not None:
                 view.tables.append(replace(table, title="Sensitivities"))
         if "tolerance" in analyses and _toleranced(circuit, view):
-            tolerance = derive_for_document(circuit, f"tolerance({view.quantity})", quiet)
+            tolerance = derive(f"tolerance({view.quantity})")
             if tolerance and "tolerance" in tolerance[0].details:
                 details = tolerance[0].details["tolerance"]
                 view.tables.extend(tolerance_tables(details, view.unit, _units(circuit)))

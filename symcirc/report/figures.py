@@ -19,8 +19,8 @@ from collections.abc import Callable
 from dataclasses import dataclass, replace
 
 from ..model.circuit import Circuit
+from ..pipeline import Request
 from .content import Figure, ResultView, Section
-from .derivations import Request
 
 IMAGE_EXTENSION = {"latex": ".png", "markdown": ".svg", "html": ".svg"}
 """pdflatex takes PNG (not SVG); Markdown and HTML get scalable SVG."""
@@ -73,10 +73,10 @@ def plan(circuit: Circuit, sections: list[Section], wanted: list[Request], stem:
         drawings.append(Drawing(figure, draw))
 
     for section, request in zip(sections, wanted, strict=True):
-        name = request.text.split("(", 1)[0].strip()
+        name = request.quantity.name
         if name in ("loading", "minimum_load") and not request.options.assumptions:
             add(None, section, "loading", f"Loading error of {request.text} against the load.",
-                _loading(circuit, request.text, extension), f"{section.anchor}-loading")
+                _loading(circuit, request, extension), f"{section.anchor}-loading")
         for view in section.results:
             if view.is_transfer_function and _has_values(view) and name not in _NOT_RESPONSES:
                 spread = name == "response"  # asked for with its Monte Carlo band
@@ -128,11 +128,9 @@ def _histogram(circuit: Circuit, view: ResultView, request: Request,
     def draw() -> bytes:
         from ..analysis import plots
         from ..analysis.quantities import tolerance_analyses
-        from ..language.parser import parse_quantity
 
-        text = request.text
         options = replace(request.options, steps=False)
-        pairs = tolerance_analyses(circuit, parse_quantity(text), options)
+        pairs = tolerance_analyses(circuit, request.quantity, options)
         analysis = next((a for inner, a in pairs
                          if f"tolerance({inner.quantity})" == view.quantity), pairs[0][1])
         return plots.image(plots.histogram_figure(analysis, view.quantity, view.unit),
@@ -140,9 +138,10 @@ def _histogram(circuit: Circuit, view: ResultView, request: Request,
     return draw
 
 
-def _loading(circuit: Circuit, text: str, extension: str) -> Callable[[], bytes]:
+def _loading(circuit: Circuit, request: Request, extension: str) -> Callable[[], bytes]:
     def draw() -> bytes:
         from ..analysis import plots
 
-        return plots.image(plots.figure_of(circuit, text), extension[1:])
+        options = replace(request.options, steps=False)
+        return plots.image(plots.figure_of(circuit, request.quantity, options), extension[1:])
     return draw

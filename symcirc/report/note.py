@@ -19,6 +19,7 @@ from typing import Any
 from ..analysis.cautions import Assessment, assess, value_caution
 from ..model.circuit import Circuit
 from ..model.typeset import latex_of
+from ..pipeline import Pipeline
 from .content import (
     Parameter,
     Part,
@@ -173,13 +174,14 @@ def build_note(
 
     source = Path(path)
     data = _read(source)
-    circuit = symcirc.load(str(source))
+    pipeline = Pipeline.load(source)
+    circuit = pipeline.circuit
     folder = Path(output_path).parent if output_path is not None else Path.cwd()
-    wanted = requests(circuit, quantities)
+    wanted = requests(pipeline, quantities)
     with Progress(len(wanted) + 1, enabled=progress) as bar:
-        derived = sections(circuit, wanted, progress=bar)
+        derived = sections(pipeline, wanted, progress=bar)
         bar.step("checking claims and cautions")
-        claim_views = claims(circuit)
+        claim_views = claims(pipeline)
         assessment = assess(circuit)
     from .figures import folder_name, plan
 
@@ -277,37 +279,20 @@ def mark_cautions(derived: list[Section], assessment: Assessment) -> None:
             view.caution = value_caution(view.nominal, view.unit, assessment.ac)
 
 
-def claims(circuit: Circuit) -> list[ClaimView]:
-    """The status of every `claim` of the file, decided exactly by the check stage."""
-    if not circuit.claims:
-        return []
-
-    from ..check.claims import decide
-    from ..check.dimensions import symbol_dimensions
-    from ..quantities import derive
-
-    dimensions = symbol_dimensions(circuit)
-    out = []
-    for claim in circuit.claims:
-        results = derive(circuit, claim.quantity)
-        if len(results) != 1:
-            status, details = "undecided", (
-                f"{claim.quantity_text} has {len(results)} parts: name one "
-                f"({', '.join(r.quantity for r in results)})",)
-        else:
-            verdict = decide(claim.quantity_text, results[0].expression, claim.expression,
-                             dimensions)
-            status = "holds" if verdict.holds else (
-                "does not hold" if verdict.decided else "undecided")
-            details = tuple(_verdict_details(verdict))
-        out.append(ClaimView(claim.quantity_text, claim.expression_text,
-                             latex_of(claim.expression), status, details,
-                             claim.location.line))
-    return out
+def claims(pipeline: Pipeline) -> list[ClaimView]:
+    """The status of every `claim` of the file, as the pipeline decided it (the verdict
+    `symcirc check` prints)."""
+    return [
+        ClaimView(o.claim.quantity_text, o.claim.expression_text, latex_of(o.claim.expression),
+                  o.status, tuple(_verdict_details(o.verdict, o.problem if o.holds else None)),
+                  o.claim.location.line)
+        for o in pipeline.claims()
+    ]
 
 
-def _verdict_details(verdict: Any) -> list[str]:
-    details = list(verdict.diagnosis)
+def _verdict_details(verdict: Any, note: str | None = None) -> list[str]:
+    details = [note] if note else []
+    details += list(verdict.diagnosis)
     if verdict.reason:
         details.append(verdict.reason)
     if verdict.counterexample is not None:

@@ -43,23 +43,32 @@ def render_sheet_for(paths: Sequence[str | Path], format: str,
                      template: str | Path | None = None, progress: bool = False) -> str:
     """The formula sheet of the circuit files `paths` ('markdown' or 'latex'); the design form
     of each result where one exists, the spread from the tolerance analysis where toleranced."""
+    from .environment import environment, render
+
+    sheet = build_sheet(paths, format, progress)
+    return render(environment(template), TEMPLATES[format], sheet=sheet)
+
+
+def build_sheet(paths: Sequence[str | Path], format: str, progress: bool = False) -> Sheet:
+    """What the sheet of `paths` shows (the work behind `render_sheet_for`)."""
     import symcirc
 
     from ..analysis.cautions import DEFER, THRESHOLDS, assess
+    from ..pipeline import Pipeline
     from .derivations import requests, sections
-    from .environment import environment, render
     from .note import _read, mark_cautions
 
     loaded = []
     for path in paths:
         data = _read(Path(path))
-        loaded.append((Path(path), data, symcirc.load(str(path))))
-    total = sum(len(requests(c, None)) for _, _, c in loaded)
+        pipeline = Pipeline.load(path)
+        loaded.append((Path(path), data, pipeline, requests(pipeline, None)))
+    total = sum(len(wanted) for *_, wanted in loaded)
     circuits = []
     with Progress(total, enabled=progress) as bar:
-        for path, data, circuit in loaded:
-            derived = sections(circuit, requests(circuit, None), analyses=("tolerance",),
-                               progress=bar)
+        for path, data, pipeline, wanted in loaded:
+            circuit = pipeline.circuit
+            derived = sections(pipeline, wanted, analyses=("tolerance",), progress=bar)
             assessment = assess(circuit)
             mark_cautions(derived, assessment)
             results = [view for section in derived for view in section.results]
@@ -67,5 +76,4 @@ def render_sheet_for(paths: Sequence[str | Path], format: str,
                 circuit.title or path.stem, path.as_posix(), hashlib.sha256(data).hexdigest(),
                 results, list(assessment.cautions),
                 list(assessment.not_assessed) if assessment.shown else []))
-    sheet = Sheet(circuits, symcirc.__version__, format, list(THRESHOLDS), DEFER)
-    return render(environment(template), TEMPLATES[format], sheet=sheet)
+    return Sheet(circuits, symcirc.__version__, format, list(THRESHOLDS), DEFER)
