@@ -39,7 +39,8 @@ class Circuit(model.Circuit):
         from .analysis.cautions import attach
 
         options.setdefault("steps", False)
-        return attach(self, self.pipeline.derive_text(quantity, **options))
+        return attach(self, self.pipeline.derive_text(quantity, origin=QUANTITY_ORIGIN,
+                                                     **options))
 
     def _repr_markdown_(self) -> str:
         """In Jupyter: the title, the parts and nodes, and the safety cautions."""

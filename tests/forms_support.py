@@ -74,6 +74,7 @@ def annotated(
                 sympy.cancel(expression),
                 (units or {}).get(attribute, ""),
                 {s.name: v for s, v in circuit.symbol_nominals().items()},
+                part=attribute or None,
             )
         )
     annotate(circuit, q, results, DeriveOptions(assumptions=assumptions))

@@ -88,22 +88,20 @@ def test_equality_against_the_engines_own_result():
     assert not equal(Parallel(R1, R2) + Parallel(R3, s), impedance.exact)
 
 
-def test_derive_shown_is_what_the_command_and_the_notes_show():
+def test_the_pipeline_shows_what_the_command_and_the_notes_show():
     import symcirc
-    from symcirc.forms import derive_shown
     from symcirc.model.circuit import Assumption
-    from symcirc.quantities.registry import DeriveOptions
 
     circuit = symcirc.parse(BRIDGE)
-    voltage, impedance = derive_shown(circuit, "thevenin(out)")
+    pipeline = circuit.pipeline
+    voltage, impedance = circuit.derive("thevenin(out)", steps=True)
     assert impedance.form.expression == Parallel(R1, R2) + Parallel(R3, R4)
     assert [step.kind for step in voltage.steps] == ["divider", "divider", "loop"]
-    (quiet,) = derive_shown(circuit, "Z(out)", DeriveOptions(steps=False))
+    (quiet,) = circuit.derive("Z(out)")
     assert quiet.form is None and quiet.steps == []
     # `where R3 >> R1`: the approximation first, its derivation before it
-    (approximated,) = derive_shown(
-        circuit, "V(out)", DeriveOptions(assumptions=(Assumption("much_greater", "R3", "R1"),))
-    )
+    options = pipeline.options(assumptions=(Assumption("much_greater", "R3", "R1"),))
+    (approximated,) = pipeline.derive(pipeline.request("V(out)", options))
     assert approximated.details["assumption"] == "R3 >> R1"
     assert [step.kind for step in approximated.steps][-2:] == ["approximate", "error"]
     # leading term in 1/R3: the b side of the bridge sits at U·R4/R3 → 0, so U·R2/(R1 + R2)
@@ -115,18 +113,17 @@ def test_results_above_the_size_bound_say_why_they_have_no_form(monkeypatch):
     import importlib
 
     import symcirc
-    from symcirc.forms import derive_shown
 
     annotate_module = importlib.import_module("symcirc.forms.annotate")
     monkeypatch.setattr(annotate_module, "MAX_TERMS", 8)
     circuit = symcirc.parse(BRIDGE)
-    voltage, impedance = derive_shown(circuit, "thevenin(out)")
+    voltage, impedance = circuit.derive("thevenin(out)", steps=True)
     # the voltage has 2 + 4 terms, the impedance 4 + 4 (counted from the engine's result)
     assert sum(voltage.exact.size()) == 6 and sum(impedance.exact.size()) == 8
     assert voltage.form is not None
     monkeypatch.setattr(annotate_module, "MAX_TERMS", 7)
     circuit = symcirc.parse(BRIDGE)
-    _, impedance = derive_shown(circuit, "thevenin(out)")
+    _, impedance = circuit.derive("thevenin(out)", steps=True)
     assert impedance.form is None and impedance.steps == []
     assert any("8 terms, more than the 7" in note for note in impedance.notes)
 

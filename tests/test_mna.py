@@ -13,6 +13,7 @@ import pytest
 import sympy
 
 import symcirc
+from symcirc.engine.memo import Memo
 from symcirc.engine.mna import Current, Equations, Voltage, port_excitation
 from symcirc.engine.network import build_network
 from symcirc.engine.system import solution
@@ -127,11 +128,15 @@ def test_opamp_current_is_what_its_output_delivers():
 def test_solutions_are_cached_per_circuit():
     circuit = symcirc.parse("voltage source U (a, gnd)\nresistor R1 (a, b)\n"
                             "resistor R2 (b, gnd)\nport out (b, gnd)\n")
-    assert solution(circuit) is solution(circuit)
+    memo = Memo()
+    assert solution(circuit, memo=memo) is solution(circuit, memo=memo)
+    assert solution(circuit) is not solution(circuit)  # no memo: nothing kept
+    # the pipeline owns the circuit's memo: the gain reuses the Thevenin derivation's work
     circuit.thevenin("out")
-    before = dict(circuit.cache)
+    store = circuit.pipeline.memo.of(circuit)
+    before = dict(store)
     circuit.gain("U", "out")
-    assert {k for k in circuit.cache if k not in before} <= {"definitions"}
+    assert {k for k in store if k not in before} <= {"definitions", "nominals"}
 
 
 def test_both_polynomial_backends_print_the_same_result(monkeypatch):

@@ -1,6 +1,6 @@
-"""Results as symcirc shows them, in one place for `symcirc derive`, the design notes and
-the Python API: the canonical results, then the `where big >> small` approximations, then
-the design forms and derivation steps (when `options.steps`), each proved equal first."""
+"""Results as symcirc shows them (the pipeline's last derivation stage, for every command
+and the Python API): the canonical results, then the `where big >> small` approximations,
+then the design forms and derivation steps (when `options.steps`), each proved equal first."""
 
 from __future__ import annotations
 
@@ -12,19 +12,9 @@ from ..quantities.registry import DeriveOptions
 from ..results import Result
 
 
-def derive_shown(
-    circuit: Circuit, quantity: str | syntax.Quantity, options: DeriveOptions | None = None
-) -> list[Result]:
-    """Derive `quantity` (text or parsed) and finish its results as they are shown."""
-    from ..quantities import derive
-
-    options = options if options is not None else DeriveOptions()
-    return finish(circuit, quantity, derive(circuit, quantity, options), options)
-
-
 def finish(
     circuit: Circuit,
-    quantity: str | syntax.Quantity,
+    quantity: syntax.Quantity,
     results: list[Result],
     options: DeriveOptions,
 ) -> list[Result]:
@@ -36,7 +26,7 @@ def finish(
     if approximations:
         results = [_approximated(circuit, r, approximations) for r in results]
     if options.steps and not any(r.form is not None or r.steps for r in results):
-        annotate(circuit, _parsed(quantity), results, options)
+        annotate(circuit, quantity, results, options)
     return results
 
 
@@ -50,11 +40,3 @@ def _approximated(circuit: Circuit, result: Result, assumptions: list[Any]) -> R
     for assumption in assumptions:
         result = approximate(circuit, result, assumption)
     return result
-
-
-def _parsed(quantity: str | syntax.Quantity) -> syntax.Quantity:
-    if not isinstance(quantity, str):
-        return quantity
-    from ..language.parser import parse_quantity
-
-    return parse_quantity(quantity)

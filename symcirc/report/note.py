@@ -166,15 +166,17 @@ def build_note(
     template: str | Path | None,
     output_path: str | Path | None,
     progress: bool,
+    pipeline: Pipeline | None = None,
 ) -> tuple[Note, list]:
-    """(note content, figure drawings): the work behind `render_note_for` and `write_note`."""
+    """(note content, figure drawings): the work behind `render_note_for` and `write_note`.
+    `pipeline`: the circuit of `path` already read (its solved work is reused)."""
     import symcirc
 
     from .derivations import requests, sections
 
     source = Path(path)
     data = _read(source)
-    pipeline = Pipeline.load(source)
+    pipeline = pipeline if pipeline is not None else Pipeline.load(source)
     circuit = pipeline.circuit
     folder = Path(output_path).parent if output_path is not None else Path.cwd()
     wanted = requests(pipeline, quantities)
