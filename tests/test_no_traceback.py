@@ -38,7 +38,7 @@ def _quantity(path) -> str:
         return "V(out)"
     if circuit.derives:
         return circuit.derives[0].texts[0]
-    return f"V({circuit.nodes[-1]})"
+    return f"V({circuit.nodes[1]})"
 
 
 @pytest.mark.parametrize("name", FILES)

@@ -10,6 +10,7 @@ import sympy
 from symcirc.analysis import plots
 from symcirc.analysis.sensitivity import sensitivities
 from symcirc.analysis.tolerance import analyse
+from symcirc.errors import SymcircError
 from symcirc.model.circuit import Tolerance
 
 R1, R2, U, C, s = sympy.symbols("R1 R2 U C s")
@@ -54,9 +55,9 @@ def test_frequency_response_axes(tmp_path):
 
 
 def test_frequency_response_needs_s_and_values():
-    with pytest.raises(ValueError, match="does not depend on s"):
+    with pytest.raises(SymcircError, match="does not depend on s"):
         plots.frequency_response(DIVIDER, NOMINALS)
-    with pytest.raises(ValueError, match="no value for L1"):
+    with pytest.raises(SymcircError, match="no value for L1"):
         plots.frequency_response(1 / (1 + s * sympy.Symbol("L1")), NOMINALS)
 
 
@@ -82,5 +83,5 @@ def test_loading_curve_png_and_svg(tmp_path):
 
 
 def test_other_extensions_are_refused(tmp_path):
-    with pytest.raises(ValueError, match=r"\.png or \.svg"):
+    with pytest.raises(SymcircError, match=r"\.png or \.svg"):
         plots.save(_histogram(), tmp_path / "figure.pdf")

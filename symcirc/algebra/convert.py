@@ -120,11 +120,6 @@ class AtomicValue:
         used = set(function.symbol_names())
         self.atoms = {name: expr for name, expr in atoms.items() if name in used}
 
-    @property
-    def ring(self):
-        """The polynomial ring of the function (atoms are variables of it)."""
-        return self.function.ring
-
     def to_sympy(self) -> sympy.Expr:
         return self._sympy
 

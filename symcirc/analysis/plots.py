@@ -13,6 +13,8 @@ from collections.abc import Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from ..errors import SymcircError
+
 if TYPE_CHECKING:  # pragma: no cover
     from ..language import syntax
     from ..model.circuit import Circuit
@@ -69,10 +71,11 @@ def image(figure, fmt: str) -> bytes:
 
 
 def image_format(path: str | os.PathLike) -> str:
-    """'png' or 'svg' from the file's extension; ValueError for any other."""
+    """'png' or 'svg' from the file's extension; SymcircError for any other."""
     suffix = Path(path).suffix.lower()
     if suffix not in FORMATS:
-        raise ValueError(f"plots are written as .png or .svg, not {suffix or 'no extension'}")
+        raise SymcircError(f"plots are written as .png or .svg, not "
+                           f"{suffix or 'no extension'}", str(path))
     return suffix[1:]
 
 
@@ -281,8 +284,8 @@ def figure_of(circuit: Circuit, quantity: syntax.Quantity, options: DeriveOption
         result = read.single(quantity)
         try:
             frequencies, response = frequency_response(result.expression, circuit.symbol_nominals())
-        except ValueError as problem:
-            raise read.error(quantity, str(problem)) from None
+        except SymcircError as problem:
+            raise read.error(quantity, problem.message) from None
         band = None
         if quantity.name == "response":  # with the Monte Carlo band of magnitude and phase
             from .frequency import response_band
@@ -303,11 +306,12 @@ def frequency_response(expression, nominals):
     from .values import rational
 
     if LAPLACE not in expression.free_symbols:
-        raise ValueError("nothing to plot against frequency: the quantity does not depend on s; "
+        raise SymcircError("nothing to plot against frequency: the quantity does not depend on s; "
                     "plot a transfer function, tolerance(..), sensitivities(..) or loading(..)")
     missing = sorted(str(x) for x in expression.free_symbols - set(nominals) - {LAPLACE})
     if missing:
-        raise ValueError(f"no value for {', '.join(missing)}: a frequency response needs numbers")
+        raise SymcircError(f"no value for {', '.join(missing)}: a frequency response needs "
+                           "numbers")
     h = sympy.cancel(expression.xreplace({x: rational(v) for x, v in nominals.items()}))
     numerator, denominator = (sympy.Poly(p, LAPLACE) for p in sympy.fraction(h))
     corners = [abs(complex(r)) / (2 * math.pi)
