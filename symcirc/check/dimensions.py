@@ -27,6 +27,7 @@ import sympy
 
 from ..errors import Location, SymcircError
 from ..language import syntax
+from ..language.syntax import expression_text
 from ..model.circuit import UNIT_OF_KIND, Assumption, Circuit, Claim
 from ..model.units import UNIT_DIMENSIONS
 
@@ -373,38 +374,6 @@ def _has_names_or_units(expr: syntax.Expr) -> bool:
     if isinstance(expr, syntax.Binary):
         return _has_names_or_units(expr.left) or _has_names_or_units(expr.right)
     return False
-
-
-_PRECEDENCE = {"+": 1, "-": 1, "*": 2, "/": 2, "^": 4}
-
-
-def expression_text(expr: syntax.Expr, parent: int = 0) -> str:
-    """An expression of the syntax tree written back as text (for messages)."""
-    if isinstance(expr, syntax.Number):
-        return expr.text
-    if isinstance(expr, syntax.Name):
-        return expr.name
-    if isinstance(expr, syntax.Voltage):
-        return "V(" + ", ".join(n.name for n in expr.nodes) + ")"
-    if isinstance(expr, syntax.Current):
-        return f"I({expr.element.name})"
-    if isinstance(expr, syntax.Function):
-        return f"{expr.name}({expression_text(expr.argument)})"
-    if isinstance(expr, syntax.Unary):
-        text = expr.op + expression_text(expr.operand, 3)
-        return f"({text})" if parent >= 2 else text
-    if isinstance(expr, syntax.Binary):
-        own = _PRECEDENCE[expr.op]
-        right_level = own + 1 if expr.op in "-/" else own
-        if expr.op == "^":
-            left, right = expression_text(expr.left, own + 1), expression_text(expr.right, own)
-        else:
-            left, right = expression_text(expr.left, own), expression_text(expr.right, right_level)
-        joint = f"{left}^{right}" if expr.op == "^" else f"{left} {expr.op} {right}"
-        if expr.op in "*/":
-            joint = f"{left}{expr.op}{right}"
-        return f"({joint})" if own < parent else joint
-    return str(expr)
 
 
 # ---------------------------------------------------------------- checks for callers

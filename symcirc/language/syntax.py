@@ -235,3 +235,35 @@ class Document:
     file: str
     source: str
     statements: tuple[Statement, ...]
+
+
+_PRECEDENCE = {"+": 1, "-": 1, "*": 2, "/": 2, "^": 4}
+
+
+def expression_text(expr: Expr, parent: int = 0) -> str:
+    """An expression of the syntax tree written back as text (for messages)."""
+    if isinstance(expr, Number):
+        return expr.text
+    if isinstance(expr, Name):
+        return expr.name
+    if isinstance(expr, Voltage):
+        return "V(" + ", ".join(n.name for n in expr.nodes) + ")"
+    if isinstance(expr, Current):
+        return f"I({expr.element.name})"
+    if isinstance(expr, Function):
+        return f"{expr.name}({expression_text(expr.argument)})"
+    if isinstance(expr, Unary):
+        text = expr.op + expression_text(expr.operand, 3)
+        return f"({text})" if parent >= 2 else text
+    if isinstance(expr, Binary):
+        own = _PRECEDENCE[expr.op]
+        right_level = own + 1 if expr.op in "-/" else own
+        if expr.op == "^":
+            left, right = expression_text(expr.left, own + 1), expression_text(expr.right, own)
+        else:
+            left, right = expression_text(expr.left, own), expression_text(expr.right, right_level)
+        joint = f"{left}^{right}" if expr.op == "^" else f"{left} {expr.op} {right}"
+        if expr.op in "*/":
+            joint = f"{left}{expr.op}{right}"
+        return f"({joint})" if own < parent else joint
+    return str(expr)

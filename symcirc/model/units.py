@@ -135,12 +135,10 @@ def _pure_factor(expr: syntax.Expr) -> bool:
 def _sum(node: syntax.Binary, left: Inferred, right: Inferred) -> Inferred:
     if isinstance(left, tuple) and isinstance(right, tuple):
         if left != right:
-            from ..check.dimensions import expression_text  # only on error: no cycle
-
             raise UnitMismatch(
                 node, f"adds {describe(left)} and {describe(right)}: the terms' units differ "
-                f"(`{expression_text(node.left)}` is in {describe(left)}, "
-                f"`{expression_text(node.right)}` in {describe(right)})"
+                f"(`{syntax.expression_text(node.left)}` is in {describe(left)}, "
+                f"`{syntax.expression_text(node.right)}` in {describe(right)})"
             )
         return left
     if isinstance(left, tuple):
