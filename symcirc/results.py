@@ -66,6 +66,7 @@ class Result:
         part: str | None = None,
         base: str | None = None,
         condition: str = "",
+        parsed: Any = None,
     ) -> None:
         self.quantity = quantity
         """The quantity as shown: `thevenin(out).impedance where A -> oo`."""
@@ -75,6 +76,9 @@ class Result:
         """The quantity without its `where` clause: `thevenin(out).impedance`."""
         self.condition = condition
         """The `where` clause of its limits as written (`A -> oo`), or ''."""
+        self.parsed = parsed
+        """The quantity as the grammar read it, its part included (`syntax.Quantity`), for
+        results the quantity handlers derive; None for an analysis' own results."""
         self.unit = unit
         self._value = value
         self._nominals = dict(nominals or {})

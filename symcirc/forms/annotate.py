@@ -418,7 +418,7 @@ def approximate(circuit: Circuit, result: Result, assumption: Assumption) -> Res
     nominals = _nominals(circuit)
     new = Result(
         result.quantity, _Value(expansion.leading), result.unit, nominals, tuple(result.notes),
-        part=result.part, base=result.base, condition=result.condition,
+        part=result.part, base=result.base, condition=result.condition, parsed=result.parsed,
     )
     rec = Recorder(_taken(circuit) | {step.defines for step in result.steps if step.defines})
     symbol = rec.fresh([f"{_result_name(result)}_approx"], "X")

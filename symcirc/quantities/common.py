@@ -8,6 +8,7 @@ Handlers first produce `Raw` results (exact functions in the circuit's own symbo
 
 from __future__ import annotations
 
+import dataclasses
 from collections.abc import Callable, Iterable, Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass
@@ -305,8 +306,10 @@ class Context:
             self.memo["nominals"] = cached
         return cached
 
-    def finish(self, raws: Iterable[Raw]) -> list[Result]:
-        """Apply the `where` limits and `--substitute`; attach unit and nominal values."""
+    def finish(self, raws: Iterable[Raw], asked: syntax.Quantity | None = None
+               ) -> list[Result]:
+        """Apply the `where` limits and `--substitute`; attach unit and nominal values, and
+        the quantity `asked` for (each result of a part carries it with that part)."""
         limits = [a for a in self.options.assumptions if a.kind == "limit"]
         clause = ", ".join(f"{a.symbol} -> {a.target}" for a in limits)
         out = []
@@ -321,7 +324,8 @@ class Context:
                 function = self.substitute_all(function)
             text = f"{raw.quantity} where {clause}" if clause else raw.quantity
             out.append(Result(text, exact_value(function, self.atoms), raw.unit, self.nominals,
-                              tuple(notes), part=raw.part, base=raw.quantity, condition=clause))
+                              tuple(notes), part=raw.part, base=raw.quantity, condition=clause,
+                              parsed=_with_part(asked, raw.part)))
         return out
 
     def limit(self, function: RationalFunction, assumption, quantity: str
@@ -361,6 +365,13 @@ def expanded_definitions(circuit: Circuit) -> dict[str, sympy.Expr]:
     return expanded
 
 
+def _with_part(quantity: syntax.Quantity | None, part: str | None) -> syntax.Quantity | None:
+    """`thevenin(out)` asked for, `.voltage` derived: the quantity `thevenin(out).voltage`."""
+    if quantity is None or part is None or quantity.attribute is not None:
+        return quantity
+    return dataclasses.replace(quantity, attribute=part, text=f"{quantity.text}.{part}")
+
+
 def _as_quantity(node: syntax.Voltage | syntax.Current) -> syntax.Quantity:
     if isinstance(node, syntax.Voltage):
         text = "V(" + ", ".join(n.name for n in node.nodes) + ")"
@@ -388,7 +399,7 @@ def handler(raw: Callable[..., Iterable[Raw]], **fixed: Any
     def derive(circuit: Circuit, quantity: syntax.Quantity,
                options: DeriveOptions) -> list[Result]:
         context = Context(circuit, options)
-        return context.finish(raw(context, quantity, **fixed))
+        return context.finish(raw(context, quantity, **fixed), quantity)
 
     derive.__doc__ = raw.__doc__
     return derive

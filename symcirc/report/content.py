@@ -289,7 +289,7 @@ class Section:
 
 def result_view(result: Any, symbol: str | None = None) -> ResultView:
     """The view of one `symcirc.results.Result` (form, steps and details where present)."""
-    symbol = symbol or quantity_symbol(result.base, result.condition)
+    symbol = symbol or quantity_symbol(result)
     expression = result.expression
     canonical_latex = result.latex()
     canonical = equations(symbol, canonical_latex, expression)
@@ -399,14 +399,14 @@ _ATTRIBUTE_SYMBOL = {
 }
 
 
-def quantity_symbol(written: str, condition: str = "") -> str:
-    """The symbol an engineer writes for a quantity: `thevenin(out).voltage` →
-    `V_{\\mathrm{Th},\\mathrm{out}}`, `gain(Uref, out)` → `V_{out}/U_{ref}`; others upright.
-    `condition` is its `where` clause (`Rin -> oo`), shown as a subscript bar."""
-    quantity = _parse(written)
+def quantity_symbol(result: Any) -> str:
+    """The symbol an engineer writes for a result's quantity: `thevenin(out).voltage` →
+    `V_{\\mathrm{Th},\\mathrm{out}}`, `gain(Uref, out)` → `V_{out}/U_{ref}`; others upright;
+    its `where` limits (`Rin -> oo`) as a subscript bar."""
+    quantity, condition = result.parsed, result.condition
     symbol = _symbol(quantity) if quantity is not None else None
     if symbol is None:
-        return latex_text(f"{written} where {condition}" if condition else written)
+        return latex_text(result.quantity)
     return symbol + (r"\big|_{" + _condition_latex(condition) + "}" if condition else "")
 
 
@@ -418,17 +418,6 @@ def _condition_latex(condition: str) -> str:
     tokens = re.findall(r"->|>>|<<|,|[A-Za-z_]\w*|\S+", condition)
     return " ".join(_RELATIONS.get(t) or (name_latex(t) if t.isidentifier() else latex_text(t))
                     for t in tokens)
-
-
-def _parse(text: str) -> Any:
-    try:
-        from ..language.parser import parse_quantity
-    except ImportError:  # the parser is another stage; before it exists, names stay upright
-        return None
-    try:
-        return parse_quantity(text)
-    except Exception:  # noqa: BLE001 - a quantity we cannot read just keeps its text
-        return None
 
 
 def _arg_name(arg: Any) -> str | None:
