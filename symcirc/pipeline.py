@@ -142,15 +142,16 @@ class Pipeline:
         results = derive_quantity(self.circuit, request.quantity, request.options)
         approximations = [a for a in request.options.assumptions if a.kind == "much_greater"]
         if not approximations and not request.options.steps:
-            return results
+            return [result.seal() for result in results]
         try:
-            return finish(self.circuit, request.quantity, results, request.options)
+            results = finish(self.circuit, request.quantity, results, request.options)
         except Unsupported as problem:
             first = approximations[0] if approximations else None
             where = (first.location if first is not None else None) \
                 or Location(self.circuit.file, 0, 0)
             what = f"where {first.symbol} >> {first.target}: " if first is not None else ""
             raise SymcircError.at(where, f"{what}{problem}", self.circuit.source) from None
+        return [result.seal() for result in results]
 
     def derive_text(self, text: str, **fields: Any) -> list[Result]:
         """Derive one quantity written as text (the Python API and the documents'

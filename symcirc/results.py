@@ -10,6 +10,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from fractions import Fraction
 from functools import cached_property
+from types import MappingProxyType
 from typing import Any, Protocol
 
 import sympy
@@ -53,7 +54,13 @@ class Step:
 
 
 class Result:
-    """One derived scalar quantity: `.quantity`, `.expression`, `.unit`, `.nominal`."""
+    """One derived scalar quantity: `.quantity`, `.expression`, `.unit`, `.nominal`.
+
+    The stages that derive a result complete it (forms, steps, notes); the pipeline then
+    seals it, and from there on it cannot change (`copy()` gives one that can).
+    """
+
+    _sealed = False
 
     def __init__(
         self,
@@ -94,6 +101,29 @@ class Result:
         symcirc.analysis.cautions)."""
         self.name_latex: str | None = None
         """How the quantity is set in LaTeX when it has a symbol of the trade (`\\omega_{0}`)."""
+
+    def __setattr__(self, name: str, value: Any) -> None:
+        if self._sealed:
+            raise AttributeError(f"a derived result cannot change (`{name}`); copy() it first")
+        object.__setattr__(self, name, value)
+
+    def seal(self) -> Result:
+        """Make the result immutable (notes, steps and details included); returns it."""
+        self.notes = tuple(self.notes)  # type: ignore[assignment]
+        self.steps = tuple(self.steps)  # type: ignore[assignment]
+        self.details = MappingProxyType(dict(self.details))  # type: ignore[assignment]
+        object.__setattr__(self, "_sealed", True)
+        return self
+
+    def copy(self) -> Result:
+        """An unsealed copy to complete further (an approximation of this result)."""
+        made = Result(self.quantity, self._value, self.unit, self._nominals, tuple(self.notes),
+                      part=self.part, base=self.base, condition=self.condition,
+                      parsed=self.parsed)
+        made.form = self.form
+        made.steps = list(self.steps)
+        made.details = dict(self.details)
+        return made
 
     # -- the value
     @property

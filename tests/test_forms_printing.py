@@ -98,7 +98,7 @@ def test_the_pipeline_shows_what_the_command_and_the_notes_show():
     assert impedance.form.expression == Parallel(R1, R2) + Parallel(R3, R4)
     assert [step.kind for step in voltage.steps] == ["divider", "divider", "loop"]
     (quiet,) = circuit.derive("Z(out)")
-    assert quiet.form is None and quiet.steps == []
+    assert quiet.form is None and quiet.steps == ()
     # `where R3 >> R1`: the approximation first, its derivation before it
     options = pipeline.options(assumptions=(Assumption("much_greater", "R3", "R1"),))
     (approximated,) = pipeline.derive(pipeline.request("V(out)", options))
@@ -124,7 +124,7 @@ def test_results_above_the_size_bound_say_why_they_have_no_form(monkeypatch):
     monkeypatch.setattr(annotate_module, "MAX_TERMS", 7)
     circuit = symcirc.parse(BRIDGE)
     _, impedance = circuit.derive("thevenin(out)", steps=True)
-    assert impedance.form is None and impedance.steps == []
+    assert impedance.form is None and impedance.steps == ()
     assert any("8 terms, more than the 7" in note for note in impedance.notes)
 
 

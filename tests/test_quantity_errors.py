@@ -86,7 +86,7 @@ def test_transfer_from_a_source_the_quantity_does_not_depend_on_is_zero_and_says
             "port out (b, gnd)\n")
     (gain,) = symcirc.parse(text).derive("gain(U2, out)")
     assert gain.expression == 0
-    assert gain.notes == ["V(out) does not depend on source U2: the gain is 0."]
+    assert gain.notes == ("V(out) does not depend on source U2: the gain is 0.",)
 
 
 def test_gain_from_a_controlled_source_or_an_element_is_refused():

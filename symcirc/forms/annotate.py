@@ -399,6 +399,7 @@ def approximate(circuit: Circuit, result: Result, assumption: Assumption) -> Res
     """The result under `big >> small`: its leading term in small/big, with the neglected
     first-order term and the exact relative error in `details`, and the steps."""
     big, small = _symbol(circuit, assumption.symbol), _symbol(circuit, assumption.target)
+    result = result.copy()  # the exact result stays as it was derived
     terms = size(result)
     if terms > MAX_APPROXIMATED_TERMS:
         result.notes.append(
