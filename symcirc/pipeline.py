@@ -15,7 +15,6 @@ shared by every quantity it derives; the model holds none.
 
 from __future__ import annotations
 
-import dataclasses
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from pathlib import Path
@@ -216,9 +215,3 @@ class Pipeline:
         if not definitions:
             return derived, claimed
         return derived.xreplace(definitions), claimed.xreplace(definitions)
-
-
-
-def with_options(request: Request, **fields: Any) -> Request:
-    """The same request derived another way (`steps=False` for an analysis of it)."""
-    return dataclasses.replace(request, options=dataclasses.replace(request.options, **fields))
