@@ -39,8 +39,10 @@ class Circuit(model.Circuit):
         from .analysis.cautions import attach
 
         options.setdefault("steps", False)
-        return attach(self, self.pipeline.derive_text(quantity, origin=QUANTITY_ORIGIN,
-                                                     **options))
+        derived = self.pipeline.derive_text(quantity, origin=QUANTITY_ORIGIN, **options)
+        # the cautions a reader must see beside each value (Python's display only)
+        return [result.seal() for result in attach(self, [r.copy() for r in derived],
+                                                         self.pipeline.memo)]
 
     def _repr_markdown_(self) -> str:
         """In Jupyter: the title, the parts and nodes, and the safety cautions."""
@@ -50,7 +52,7 @@ class Circuit(model.Circuit):
         title = (self.title or self.file).replace("\n", " ")
         lines = [f"**{markdown_text(title)}**: {len(self.elements)} parts, "
                  f"{len(self.nodes)} nodes ({markdown_text(', '.join(self.nodes))})."]
-        assessment = assess(self)
+        assessment = assess(self, self.pipeline.memo)
         if assessment.shown:
             lines.append("")
             lines += [f"> **Caution.** {markdown_text(c)}\n>" for c in assessment.cautions]
@@ -112,9 +114,14 @@ def _api(circuit: model.Circuit) -> Circuit:
 
 def parse(text: str, filename: str = "<input>") -> Circuit:
     """Read circuit text into a validated `Circuit`; raises `SymcircError` on any problem."""
-    return _api(Pipeline.parse(text, filename).circuit)
+    from .language.parser import parse_document
+    from .model.elaborate import elaborate
+
+    return _api(elaborate(parse_document(text, filename)))
 
 
 def load(path: str | Path) -> Circuit:
     """Read a `.circuit` file into a validated `Circuit`; raises `SymcircError` on any problem."""
-    return _api(Pipeline.load(path).circuit)
+    from .language.parser import read_source
+
+    return parse(read_source(path), str(path))

@@ -111,6 +111,7 @@ class Result:
         """Make the result immutable (notes, steps and details included); returns it."""
         self.notes = tuple(self.notes)  # type: ignore[assignment]
         self.steps = tuple(self.steps)  # type: ignore[assignment]
+        self.cautions = tuple(self.cautions)  # type: ignore[assignment]
         self.details = MappingProxyType(dict(self.details))  # type: ignore[assignment]
         object.__setattr__(self, "_sealed", True)
         return self
@@ -123,6 +124,7 @@ class Result:
         made.form = self.form
         made.steps = list(self.steps)
         made.details = dict(self.details)
+        made.cautions = list(self.cautions)
         return made
 
     # -- the value

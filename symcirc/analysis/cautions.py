@@ -21,6 +21,7 @@ import numpy
 import sympy
 
 from ..algebra.convert import atom_value
+from ..engine.memo import Memo
 from ..engine.mna import Equations
 from ..errors import SymcircError
 from ..model.circuit import LAPLACE, REFERENCE, SOURCES, Circuit
@@ -117,18 +118,22 @@ class Assessment:
                 "advice": DEFER if self.shown else None}
 
 
-def assess(circuit: Circuit) -> Assessment:
-    """The cautions of `circuit` (computed once per circuit)."""
-    cached = circuit.cache.get("cautions")
+def assess(circuit: Circuit, memo: Memo | None = None) -> Assessment:
+    """The cautions of `circuit` (computed once per circuit when the pipeline's `memo` is
+    given)."""
+    if memo is None:
+        return _Assessor(circuit, Memo()).run()
+    store = memo.of(circuit)
+    cached = store.get("cautions")
     if cached is None:
-        cached = circuit.cache["cautions"] = _Assessor(circuit).run()
+        cached = store["cautions"] = _Assessor(circuit, memo).run()
     return cached
 
 
-def attach(circuit: Circuit, results: list) -> list:
+def attach(circuit: Circuit, results: list, memo: Memo | None = None) -> list:
     """Give each result the cautions a reader must see beside it (the Python API's display):
     its own value's, then the circuit's."""
-    assessment = assess(circuit)
+    assessment = assess(circuit, memo)
     shared = list(assessment.cautions)
     if assessment.shown:
         shared += list(assessment.not_assessed) + list(THRESHOLDS) + [DEFER]
@@ -165,9 +170,9 @@ class _Assessor:
     """One assessment: which sources drive the circuit, the solved node voltages, the
     cautions they call for."""
 
-    def __init__(self, circuit: Circuit) -> None:
+    def __init__(self, circuit: Circuit, memo: Memo) -> None:
         self.circuit = circuit
-        self.context = Context(circuit, DeriveOptions(steps=False))
+        self.context = Context(circuit, DeriveOptions(steps=False, memo=memo))
         self.not_assessed: list[str] = []
 
     def run(self) -> Assessment:

@@ -62,16 +62,16 @@ def run(args: argparse.Namespace) -> int:
         results = [_with_stability(circuit, result) for result in results]
     write = {"text": as_text, "latex": as_latex, "markdown": as_markdown, "json": as_json}
     if args.values:
-        _print_cautions(circuit, results)
+        _print_cautions(circuit, results, pipeline.memo)
     print(write[args.format](circuit, results, args.values))
     return 0
 
 
-def _print_cautions(circuit, results: list[Result]) -> None:
+def _print_cautions(circuit, results: list[Result], memo) -> None:
     """The circuit's safety cautions and those beside hazardous values, on standard error."""
     from ..analysis.cautions import assess, value_caution
 
-    assessment = assess(circuit)
+    assessment = assess(circuit, memo)
     for line in assessment.lines():
         print(f"{circuit.file}: {line}", file=sys.stderr)
     for result in results:

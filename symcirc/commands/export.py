@@ -45,7 +45,7 @@ def run(args: argparse.Namespace) -> int:
     units.update({p.name: p.unit for p in circuit.parameters.values()})
     units["s"] = "1/s"
     title = circuit.title or Path(args.file).stem
-    cautions = assess(circuit).lines()
+    cautions = assess(circuit, pipeline.memo).lines()
     if args.lang == "c":
         from ..export.c import RESERVED, c_source
 

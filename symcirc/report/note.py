@@ -184,7 +184,7 @@ def build_note(
         derived = sections(pipeline, wanted, progress=bar)
         bar.step("checking claims and cautions")
         claim_views = claims(pipeline)
-        assessment = assess(circuit)
+        assessment = assess(circuit, pipeline.memo)
     from .figures import folder_name, plan
 
     drawings: list = []

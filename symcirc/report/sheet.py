@@ -69,7 +69,7 @@ def build_sheet(paths: Sequence[str | Path], format: str, progress: bool = False
         for path, data, pipeline, wanted in loaded:
             circuit = pipeline.circuit
             derived = sections(pipeline, wanted, analyses=("tolerance",), progress=bar)
-            assessment = assess(circuit)
+            assessment = assess(circuit, pipeline.memo)
             mark_cautions(derived, assessment)
             results = [view for section in derived for view in section.results]
             circuits.append(SheetCircuit(
