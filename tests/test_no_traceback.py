@@ -24,7 +24,9 @@ def _path(name, folder):
     if name == "bad_where":
         return write(folder, name, BAD_WHERE)
     pool = VALID if name.startswith("valid/") else EXAMPLES
-    return next(p for p in pool if p.stem == name.removeprefix("valid/"))
+    original = next(p for p in pool if p.stem == name.removeprefix("valid/"))
+    # beside the notes written from it: verify reads sources inside a note's folder only
+    return write(folder, original.stem, original.read_text(encoding="utf-8"))
 
 
 def _quantity(path) -> str:

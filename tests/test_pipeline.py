@@ -80,7 +80,8 @@ def test_verify_refuses_a_note_whose_source_gained_a_bad_where_clause(tmp_path, 
     assert main(["note", str(path), "-o", str(note)]) == 0
     path.write_text(BAD_WHERE, encoding="utf-8")
     assert main(["verify", str(note)]) == 2
-    assert "dimension mismatch" in capsys.readouterr().err
+    # verify names the place in the source (the `where` clause) without quoting it
+    assert "cannot be read as a circuit (line 5, column 21)" in capsys.readouterr().err
 
 
 def test_python_refuses_the_bad_where_clause_on_reading():
