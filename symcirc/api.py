@@ -79,7 +79,8 @@ class Circuit(model.Circuit):
         """Draw a quantity to `path` (.png or .svg), as `symcirc plot` does."""
         from .analysis.plots import plot
 
-        request = self.pipeline.request(quantity, QUANTITY_ORIGIN, seed=seed, steps=False)
+        request = self.pipeline.request(quantity, origin=QUANTITY_ORIGIN, seed=seed,
+                                        steps=False)
         plot(self, request.quantity, request.options, path)
 
     def thevenin(self, port: str, **options: Any) -> Thevenin:

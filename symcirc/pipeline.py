@@ -111,7 +111,7 @@ class Pipeline:
         read by the grammar (errors name `origin`)."""
         return read_quantity(text, origin)
 
-    def request(self, text: str, origin: str = COMMAND_LINE, **fields: Any) -> Request:
+    def request(self, text: str, *, origin: str = COMMAND_LINE, **fields: Any) -> Request:
         """One quantity written as text (its `where` clauses included); `fields` as for
         `options`."""
         quantity, clauses = self.quantity(text, origin)
@@ -123,7 +123,7 @@ class Pipeline:
         clauses), else the file's derive statements with theirs; `fields` as for
         `options` (steps, seed, limits, where ...)."""
         if texts:
-            return [self.request(text, origin, **fields) for text in texts]
+            return [self.request(text, origin=origin, **fields) for text in texts]
         out = []
         for statement in self.circuit.derives:
             options = self.options(**fields, assumptions=statement.assumptions)

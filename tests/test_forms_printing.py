@@ -100,8 +100,8 @@ def test_the_pipeline_shows_what_the_command_and_the_notes_show():
     (quiet,) = circuit.derive("Z(out)")
     assert quiet.form is None and quiet.steps == ()
     # `where R3 >> R1`: the approximation first, its derivation before it
-    options = pipeline.options(assumptions=(Assumption("much_greater", "R3", "R1"),))
-    (approximated,) = pipeline.derive(pipeline.request("V(out)", options))
+    (approximated,) = pipeline.derive(pipeline.request(
+        "V(out)", assumptions=(Assumption("much_greater", "R3", "R1"),)))
     assert approximated.details["assumption"] == "R3 >> R1"
     assert [step.kind for step in approximated.steps][-2:] == ["approximate", "error"]
     # leading term in 1/R3: the b side of the bridge sits at U·R4/R3 → 0, so U·R2/(R1 + R2)

@@ -62,10 +62,11 @@ def _label(inner: Result, base: str, part: str) -> str:
 
 
 def _response(read: Reader, inner: Result, node: syntax.Node) -> Response:
-    """The response of `inner` (kept in the circuit's cache: every part and sensitivity of
+    """The response of `inner` (kept in the pipeline's memo: every part and sensitivity of
     one response shares its coefficients, parameters and stability)."""
     key = ("response", inner.quantity, inner.text())
-    cached = read.circuit.cache.get(key)
+    store = read.options.memo.of(read.circuit)
+    cached = store.get(key)
     if cached is not None:
         return cached
     if "s" not in inner.symbols:
@@ -75,7 +76,7 @@ def _response(read: Reader, inner: Result, node: syntax.Node) -> Response:
         response = Response.of(inner.expression)
     except ResponseError as problem:
         raise read.error(node, f"{inner.quantity}: {problem}") from None
-    read.circuit.cache[key] = response
+    store[key] = response
     return response
 
 

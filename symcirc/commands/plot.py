@@ -34,6 +34,7 @@ def run(args: argparse.Namespace) -> int:
                            f"`{output.suffix or output.name}`", str(output))
     check_target(output, [args.file])  # before the work: a link, device or the input itself
     pipeline = Pipeline.load(args.file)
-    request = pipeline.request(args.quantity, COMMAND_LINE, seed=args.seed, steps=False)
+    request = pipeline.request(args.quantity, origin=COMMAND_LINE, seed=args.seed,
+                               steps=False)
     plot(pipeline.circuit, request.quantity, request.options, output)
     return 0
