@@ -171,3 +171,17 @@ def test_options_may_stand_between_positional_arguments(tmp_path, capsys):
     assert main(["derive", "--values", str(path), "V(out)", "--format", "json", "Z(out)"]) == 0
     assert len(json.loads(capsys.readouterr().out)["results"]) == 2
     assert main(["check", str(path), "Z(out) = R1"]) == 1
+
+
+def test_a_where_clause_given_with_a_quantity_is_checked_by_every_command(tmp_path, capsys):
+    path = write(tmp_path, "stage", BAD_WHERE.replace(" where R1 >> C1", ""))
+    asked = "V(out) where R1 >> C1"
+    for argv in (["derive", str(path), asked], ["export", str(path), asked, "--lang", "c"],
+                 ["note", str(path), asked, "-o", str(tmp_path / "n.md")],
+                 ["plot", str(path), asked, "-o", str(tmp_path / "p.svg")]):
+        assert main(argv) == 2, argv
+        assert "compares Ω with F" in capsys.readouterr().err, argv
+    circuit = symcirc.load(path)
+    for kind in ({"where": "R1 >> C1"}, {}):
+        with pytest.raises(SymcircError, match="compares Ω with F"):
+            circuit.derive("V(out)" if kind else asked, **kind)
