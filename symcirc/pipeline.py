@@ -9,8 +9,9 @@ the same answer wherever it is asked::
         pipeline.derive(request)                  # limits, `>>` approximations, forms
     pipeline.claims()                             # the file's claims, each decided once
 
-The pipeline owns the work done per circuit (`Memo`: its network, solved systems, forms),
-shared by every quantity it derives; the model holds none.
+The pipeline owns the work done per circuit (`Memo`: its network, solved systems, forms,
+responses, cautions), shared by every quantity it derives; the model holds none. Results
+leave it sealed: what one command shows, no later stage can change.
 """
 
 from __future__ import annotations
@@ -34,7 +35,8 @@ from .quantities.registry import DeriveOptions
 from .results import Result
 
 COMMAND_LINE = "<command line>"
-"""File name shown in errors about a quantity given on the command line or in Python."""
+"""File name shown in errors about a quantity given on the command line (Python's are
+`<quantity>`)."""
 
 Status = Literal["holds", "does not hold", "undecided"]
 
