@@ -65,8 +65,15 @@ def command_parser(name: str) -> argparse.ArgumentParser:
 
 
 def main(argv: list[str] | None = None) -> int:
+    """Run one command; with `argv` None (the command line itself) the process is guarded
+    too: a memory ceiling, and Ctrl-C honoured within a second (`symcirc.limits`)."""
+    guarded = argv is None
     argv = list(sys.argv[1:] if argv is None else argv)
     try:
+        if guarded:
+            from .limits import guard_process
+
+            guard_process()
         top = build_parser()
         if not argv:
             top.print_help(sys.stderr)
@@ -83,6 +90,10 @@ def main(argv: list[str] | None = None) -> int:
         return 130
     except BrokenPipeError:
         return 0
+    except MemoryError:
+        print("symcirc: error: out of memory: the job needs more memory than this process "
+              "may use (its ceiling is set by SYMCIRC_MEMORY_LIMIT, e.g. 8G)", file=sys.stderr)
+        return 2
     except SystemExit as exit_:
         return int(exit_.code or 0) if isinstance(exit_.code, int) else 2
 

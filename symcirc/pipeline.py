@@ -194,7 +194,9 @@ class Pipeline:
         derived, claimed = self._common_terms(result.expression, claim.expression)
         dims = symbol_dimensions(self.circuit)
         problem = claim_problem(claim, result.expression, result.unit, dims)
-        verdict = decide(claim.quantity_text, derived, claimed, dims, problem)
+        verdict = decide(claim.quantity_text, derived, claimed, dims, problem,
+                         where=(claim.location,
+                                claim.origin[1] if claim.origin else self.circuit.source))
         status: Status = "holds" if verdict.holds else (
             "does not hold" if verdict.decided else "undecided")
         outcome = ClaimOutcome(claim, status, verdict, derived, claimed, problem)

@@ -17,6 +17,9 @@ from fractions import Fraction
 import flint
 import sympy
 
+from ..errors import SymcircError
+from ..limits import MAX_EXPANSION_TERMS, MAX_PRODUCT_TERMS, power_terms
+
 LAPLACE_NAME = "s"
 SHOWN_TERMS = 120
 """Results with more terms than this (numerator and denominator) are described, not shown."""
@@ -24,6 +27,41 @@ SHOWN_TERMS = 120
 
 class Undecidable(Exception):
     """The expression lies outside what can be decided exactly (e.g. `R1^x`)."""
+
+
+class TooLarge(SymcircError):
+    """Deciding would expand a polynomial past MAX_EXPANSION_TERMS terms (refused before it is
+    formed: GMP aborts the process when memory runs out)."""
+
+
+def _refuse(terms: int) -> TooLarge:
+    return TooLarge(
+        f"the claim is too large to decide exactly: expanding it gives up to {terms:,} terms "
+        f"(the limit is {MAX_EXPANSION_TERMS:,}); stopped before memory runs out",
+        notes=("write the claim in a factored or shorter form, or check it in parts",))
+
+
+def _product(x: flint.fmpz_mpoly, y: flint.fmpz_mpoly) -> flint.fmpz_mpoly:
+    """x*y, refused beforehand when its term bound is past MAX_PRODUCT_TERMS and afterwards
+    when it is past MAX_EXPANSION_TERMS."""
+    bound = len(x) * len(y)
+    if bound > MAX_PRODUCT_TERMS:
+        raise _refuse(bound)
+    return _sized(x * y)
+
+
+def _power(x: flint.fmpz_mpoly, exponent: int) -> flint.fmpz_mpoly:
+    """x**exponent, refused beforehand when the binomial count of its terms is too large."""
+    bound = power_terms(len(x), exponent)
+    if bound > MAX_EXPANSION_TERMS:
+        raise _refuse(bound)
+    return x**exponent
+
+
+def _sized(p: flint.fmpz_mpoly) -> flint.fmpz_mpoly:
+    if len(p) > MAX_EXPANSION_TERMS:
+        raise _refuse(len(p))
+    return p
 
 
 def natural_key(name: str) -> tuple:
@@ -49,14 +87,15 @@ class RatFunc:
 
     def __add__(self, other: RatFunc) -> RatFunc:
         if self.den == other.den:
-            return RatFunc(self.num + other.num, self.den)
+            return RatFunc(_sized(self.num + other.num), self.den)
         if other.den.is_one():
-            return RatFunc(self.num + other.num * self.den, self.den)
+            return RatFunc(_sized(self.num + _product(other.num, self.den)), self.den)
         if self.den.is_one():
-            return RatFunc(self.num * other.den + other.num, other.den)
+            return RatFunc(_sized(_product(self.num, other.den) + other.num), other.den)
         g = self.den.gcd(other.den)
         a, b = self.den / g, other.den / g
-        return RatFunc(self.num * b + other.num * a, self.den * b)
+        return RatFunc(_sized(_product(self.num, b) + _product(other.num, a)),
+                       _product(self.den, b))
 
     def __neg__(self) -> RatFunc:
         return RatFunc(-self.num, self.den)
@@ -65,25 +104,25 @@ class RatFunc:
         return self + (-other)
 
     def __mul__(self, other: RatFunc) -> RatFunc:
-        return RatFunc(self.num * other.num, self.den * other.den)
+        return RatFunc(_product(self.num, other.num), _product(self.den, other.den))
 
     def __truediv__(self, other: RatFunc) -> RatFunc:
         if other.num.is_zero():
             raise ZeroDivisionError("division by zero")
-        return RatFunc(self.num * other.den, self.den * other.num)
+        return RatFunc(_product(self.num, other.den), _product(self.den, other.num))
 
     def ratio(self, other: RatFunc) -> RatFunc:
         """self / other in lowest terms, for operands in lowest terms (cheaper than
         dividing, then cancelling)."""
         g1, g2 = self.num.gcd(other.num), self.den.gcd(other.den)
-        num = (self.num / g1) * (other.den / g2)
-        den = (self.den / g2) * (other.num / g1)
+        num = _product(self.num / g1, other.den / g2)
+        den = _product(self.den / g2, other.num / g1)
         return RatFunc(num, den).cancelled() if den.leading_coefficient() < 0 else RatFunc(num, den)
 
     def __pow__(self, exponent: int) -> RatFunc:
         if exponent >= 0:
-            return RatFunc(self.num**exponent, self.den**exponent)
-        return RatFunc(self.den ** (-exponent), self.num ** (-exponent))
+            return RatFunc(_power(self.num, exponent), _power(self.den, exponent))
+        return RatFunc(_power(self.den, -exponent), _power(self.num, -exponent))
 
     def cancelled(self) -> RatFunc:
         """Lowest terms, denominator with a positive leading coefficient."""
@@ -221,7 +260,8 @@ class Space:
         return self.reduce(value.num).is_zero()
 
     def equal(self, a: RatFunc, b: RatFunc) -> bool:
-        return self.is_zero(RatFunc(a.num * b.den - b.num * a.den, a.den * b.den))
+        return self.is_zero(RatFunc(_sized(_product(a.num, b.den) - _product(b.num, a.den)),
+                                    self.one))  # only the numerator decides
 
     @property
     def rational(self) -> bool:

@@ -17,6 +17,7 @@ import sympy
 
 from ..errors import Location, SymcircError
 from ..language import syntax
+from ..limits import MAX_TABLE_TERMS
 from ..model.circuit import LAPLACE, SOURCES, UNIT_OF_KIND, Circuit
 from ..model.typeset import latex_of
 from ..model.units import eng
@@ -203,12 +204,31 @@ def sensitivity_tables(circuit: Circuit, quantity: syntax.Quantity, options: Der
     out = []
     for result in read.derive(args[0]):
         expression = result.expression
+        rows = len(expression.free_symbols & (set(nominals) | set(definitions(circuit))))
+        size = rows * _terms(result)
+        if size > MAX_TABLE_TERMS:
+            one = f"sensitivity({result.quantity}, x) for one symbol x"
+            raise read.error(quantity, f"the sensitivity table of {result.quantity} is too "
+                             f"large: {rows} rows, each a derivative of a result of "
+                             f"{_terms(result):,} terms ({size:,} terms in all; the limit is "
+                             f"{MAX_TABLE_TERMS:,}); ask for " + (
+                                 f"it without --substitute, or {one}" if options.substitute
+                                 else one))
         reference = named
         if reference is None and exact_value(expression, nominals) == 0:
             reference = _excitation(circuit, expression) or sympy.Integer(1)
         table = sensitivity.sensitivities(expression, nominals, definitions(circuit), reference)
         out.append((result, table))
     return out
+
+
+def _terms(result: Result) -> int:
+    """Terms of a result's numerator and denominator (as written, when it is no ratio of
+    polynomials)."""
+    if result.exact is not None:
+        return sum(result.exact.size())
+    numerator, denominator = sympy.fraction(result.expression)
+    return len(sympy.Add.make_args(numerator)) + len(sympy.Add.make_args(denominator))
 
 
 def _sensitivity_heading(circuit: Circuit, inner: Result, table) -> tuple[str, str, str]:

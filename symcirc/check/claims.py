@@ -14,7 +14,8 @@ from fractions import Fraction
 
 import sympy
 
-from ..algebra.identity import LAPLACE_NAME, RatFunc, Space, Undecidable
+from ..algebra.identity import LAPLACE_NAME, RatFunc, Space, TooLarge, Undecidable
+from ..errors import Location, SymcircError
 from .diagnose import diagnose
 from .dimensions import Dimensions
 
@@ -57,13 +58,26 @@ def decide(
     claimed: sympy.Expr,
     dims: Dimensions | None = None,
     dimension_problem: str | None = None,
+    where: tuple[Location, str] | None = None,
 ) -> Verdict:
     """Decide exactly whether `claimed` equals `derived` (element symbols positive, `s`
     complex); when it does not, find a counterexample and explain the difference.
 
     `dims` gives each symbol's dimension (for swaps and limits between like parts);
-    `dimension_problem` is a dimension mismatch found beforehand, reported first.
+    `dimension_problem` is a dimension mismatch found beforehand, reported first;
+    `where` (the claim's location and the text it refers to) places the error raised when
+    the claim is too large to decide.
     """
+    try:
+        return _decide(quantity, derived, claimed, dims, dimension_problem)
+    except TooLarge as large:
+        if where is None:
+            raise
+        raise SymcircError.at(where[0], large.message, where[1], large.notes) from None
+
+
+def _decide(quantity: str, derived: sympy.Expr, claimed: sympy.Expr, dims: Dimensions | None,
+            dimension_problem: str | None) -> Verdict:
     verdict = Verdict(quantity, holds=False)
     if dimension_problem:
         verdict.diagnosis.append(dimension_problem)

@@ -18,6 +18,7 @@ from math import gcd
 from ..algebra import polynomials as polys
 from ..algebra.polynomials import AlgebraError, Poly, PolynomialRing
 from ..algebra.rational import RationalFunction
+from ..limits import MAX_ELIMINATION_TERMS, MAX_PRODUCT_TERMS
 
 Row = dict[int, Poly]
 
@@ -275,19 +276,43 @@ def _combine(row: Row, pivot_row: Row, p: Poly, a: Poly, ring: PolynomialRing) -
     for j, v in row.items():
         if j in pivot_row:
             continue
-        new[j] = p * v
+        new[j] = _product(p, v)
     for j, v in pivot_row.items():
         if j in row:
-            value = p * row[j] - a * v
+            value = _product(p, row[j]) - _product(a, v)
         else:
-            value = -(a * v)
+            value = -_product(a, v)
         if not ring.is_zero(value):
-            new[j] = value
-    limit = polys.MAX_TERMS
-    for value in new.values():
-        if len(value) > limit:
-            polys.check_size(value, "an entry of the eliminated equations")
+            new[j] = _checked(value)
     return new
+
+
+def _product(x: Poly, y: Poly) -> Poly:
+    """x*y, refused before it is formed when it could pass MAX_PRODUCT_TERMS terms (the
+    bound len(x)*len(y) also bounds the work), and after when it passes
+    MAX_ELIMINATION_TERMS: intermediate entries grow step by step, so the first one past
+    the limit stops the derivation seconds in, long before memory runs out."""
+    bound = len(x) * len(y)
+    if bound > MAX_PRODUCT_TERMS:
+        raise polys.TooLarge(
+            f"the exact derivation is too large: eliminating the circuit's equations would "
+            f"multiply polynomials of {len(x):,} and {len(y):,} terms (up to {bound:,} terms; "
+            f"the limit is {MAX_PRODUCT_TERMS:,}); stopped before memory runs out",
+            notes=_TOO_LARGE_NOTES)
+    return _checked(x * y)
+
+
+def _checked(value: Poly) -> Poly:
+    if len(value) > MAX_ELIMINATION_TERMS:
+        raise polys.TooLarge(
+            f"the exact derivation is too large: eliminating the circuit's equations forms "
+            f"an entry of {len(value):,} terms (the limit is {MAX_ELIMINATION_TERMS:,}); "
+            "stopped before memory runs out", notes=_TOO_LARGE_NOTES)
+    return value
+
+
+_TOO_LARGE_NOTES = ("derive the circuit in parts: a section at a time, each joined to the "
+                    "next through its Thevenin equivalent",)
 
 
 def _common_factor(p: Poly, a: Poly, ring: PolynomialRing) -> Poly | int | None:

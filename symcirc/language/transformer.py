@@ -13,6 +13,7 @@ from fractions import Fraction
 from lark import Token, Transformer, v_args
 
 from ..errors import SymcircError
+from ..limits import MAX_STATEMENTS
 from . import syntax as st
 from .numbers import PERCENT, NumberError, decode_number
 
@@ -81,6 +82,7 @@ class TreeBuilder(Transformer):
         # parentheses included; cleared after each statement.
         self._spans: dict[int, tuple[int, int, int, int, int]] = {}
         self._block_depth: dict[int, int] = {}  # id(Block) -> levels of blocks inside it
+        self._statements = 0  # parameters, elements, ports and instances read so far
 
     # ------------------------------------------------------------ reporting
 
@@ -286,9 +288,18 @@ class TreeBuilder(Transformer):
     def title(self, keyword: Token, text: Token) -> st.Title:
         return st.Title(keyword.line, keyword.column, _unquote(text))
 
+    def _count(self, keyword: Token) -> None:
+        """Stop reading at the statement past MAX_STATEMENTS (before memory grows)."""
+        self._statements += 1
+        if self._statements > MAX_STATEMENTS:
+            raise self._error_at(keyword, f"the file holds more than {MAX_STATEMENTS:,} "
+                                          "parameters, elements, ports and instances: the most "
+                                          "a circuit may hold; split it into parts")
+
     def param(self, keyword: Token, name: Token, value: st.Value | None,
               description: Token | None) -> st.Param:
         self._spans.clear()
+        self._count(keyword)
         return st.Param(keyword.line, keyword.column, _name(name), value, _description(description))
 
     def kind(self, *words: Token) -> tuple[str, Token]:
@@ -317,6 +328,7 @@ class TreeBuilder(Transformer):
                 value: st.Value | None, description: Token | None) -> st.ElementStatement:
         self._spans.clear()
         what, keyword = kind
+        self._count(keyword)
         if what == "transformer":
             self._check_windings(name, terminals)
         else:
@@ -331,6 +343,7 @@ class TreeBuilder(Transformer):
 
     def port(self, keyword: Token, name: Token, terminals: _Terminals,
              description: Token | None) -> st.PortStatement:
+        self._count(keyword)
         self._check_terminals(f"port {name.value}", TERMINAL_SHAPES["port"], terminals)
         return st.PortStatement(keyword.line, keyword.column, _name(name), terminals.names,
                                 _description(description))
@@ -371,6 +384,7 @@ class TreeBuilder(Transformer):
 
     def instance(self, block: Token, name: Token, terminals: _Terminals,
                  renames: tuple[st.Rename, ...] | None) -> st.Instance:
+        self._count(block)
         return st.Instance(block.line, block.column, _name(block), _name(name),
                            self._node_list(f"{block.value} {name.value}", terminals),
                            renames or ())

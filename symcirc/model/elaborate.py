@@ -16,6 +16,7 @@ import sympy
 
 from ..errors import Location, SymcircError
 from ..language import syntax
+from ..limits import MAX_INSTANCE_DEPTH, MAX_STATEMENTS
 from . import topology, units
 from .circuit import (
     LAPLACE,
@@ -190,6 +191,7 @@ class _Elaborator:
     # -------------------------------------------------------------- pass 1: names and nodes
 
     def run(self) -> Circuit:
+        self.check_expansion()
         self.walk(self.document.statements, self.top)
         self.draft_of = {d.name: d for d in (*self.params, *self.elements)}
         node_set = set(self.node_order)
@@ -328,6 +330,35 @@ class _Elaborator:
         self.elements.append(_Draft(statement, name, nodes, scope))
 
     # -------------------------------------------------------------- blocks
+
+    def check_expansion(self) -> None:
+        """Refuse, before expanding anything, a circuit whose instances nest deeper than
+        MAX_INSTANCE_DEPTH or would expand to more than MAX_STATEMENTS statements."""
+        statements = self.document.statements
+        sizes = _expansion_sizes(statements)
+        instances = [(s, *sizes.get(id(s), (0, 0))) for s in statements
+                     if isinstance(s, syntax.Instance)]
+        for instance, _, depth in instances:
+            if depth > MAX_INSTANCE_DEPTH:
+                raise self.error(instance, f"instance `{instance.name.name}` of block "
+                                 f"{instance.block.name} nests block instances {depth:,} levels "
+                                 f"deep; the limit is {MAX_INSTANCE_DEPTH} levels")
+        total = 0
+        for statement in statements:
+            if isinstance(statement, syntax.Instance):
+                count = sizes.get(id(statement), (0, 0))[0]
+                if count > MAX_STATEMENTS:
+                    raise self.error(statement, f"instance `{statement.name.name}` of block "
+                                     f"{statement.block.name} expands to {count:,} elements, "
+                                     f"parameters and ports; a circuit may hold at most "
+                                     f"{MAX_STATEMENTS:,}")
+                total += count
+            elif isinstance(statement, _DECLARATIONS):
+                total += 1
+            if total > MAX_STATEMENTS:
+                raise self.error(statement, f"with its blocks expanded the circuit holds more "
+                                 f"than {MAX_STATEMENTS:,} elements, parameters and ports "
+                                 f"(the most it may hold) by this statement")
 
     def define_block(self, block: syntax.Block, scope: _Scope) -> None:
         name = block.name.name
@@ -916,6 +947,67 @@ def _renamable(block: syntax.Block, visible, seen: frozenset[int] = frozenset()
             if rename.inner.name in inner_names:
                 names.setdefault(rename.outer.name, inner_names[rename.inner.name])
     return names
+
+
+_DECLARATIONS = (syntax.Param, syntax.ElementStatement, syntax.PortStatement)
+
+
+def _expansion_sizes(statements: tuple[syntax.Statement, ...]) -> dict[int, tuple[int, int]]:
+    """id(instance) → (elements, parameters and ports it expands to, levels of instances
+    it nests), for every instance reachable from `statements`, counted on the syntax tree
+    (each block once, whatever its number of instances). Unknown and recursive blocks count
+    as empty: they are reported when expanded."""
+    # A block's body sees its own blocks, then those around its definition (lexical scope):
+    # scopes are (blocks defined here, enclosing scope), looked up along the chain.
+    Scope = tuple[dict[str, syntax.Block], object]
+    top: Scope = ({s.name.name: s for s in statements if isinstance(s, syntax.Block)}, None)
+    scope_of: dict[int, Scope] = {}
+    defining = [(statements, top)]
+    while defining:  # nesting of definitions is bounded by the parser
+        body, outer = defining.pop()
+        for s in body:
+            if isinstance(s, syntax.Block):
+                inner = ({t.name.name: t for t in s.body if isinstance(t, syntax.Block)}, outer)
+                scope_of[id(s)] = inner
+                defining.append((s.body, inner))
+
+    def resolve(name: str, scope) -> syntax.Block | None:
+        while scope is not None:
+            blocks, scope = scope
+            if name in blocks:
+                return blocks[name]
+        return None
+
+    def instances(body, scope) -> list:
+        return [(s, resolve(s.block.name, scope)) for s in body
+                if isinstance(s, syntax.Instance)]
+
+    sizes: dict[int, tuple[int, int]] = {}
+    done: dict[int, tuple[int, int]] = {}  # id(block) -> (count, depth) of one instance
+    started: set[int] = set()
+    # depth first without recursion: (block, its pending instances and their blocks)
+    stack: list[tuple[syntax.Block | None, list]] = [(None, instances(statements, top))]
+    while stack:
+        block, pending = stack[-1]
+        while pending and (pending[-1][1] is None or id(pending[-1][1]) in started):
+            instance, target = pending.pop()
+            sizes[id(instance)] = done.get(id(target), (0, 0))  # (0, 0): unknown or recursive
+        if pending:
+            target = pending[-1][1]
+            started.add(id(target))
+            stack.append((target, instances(target.body, scope_of[id(target)])))
+            continue
+        stack.pop()
+        if block is not None:
+            count = sum(1 for s in block.body if isinstance(s, _DECLARATIONS))
+            depth = 0
+            for s in block.body:
+                if isinstance(s, syntax.Instance):
+                    inner_count, inner_depth = sizes[id(s)]
+                    count += inner_count
+                    depth = max(depth, inner_depth)
+            done[id(block)] = (count, depth + 1)
+    return sizes
 
 
 def _evaluate_all(definitions: dict[str, sympy.Expr], known: dict[str, Fraction | None],

@@ -34,6 +34,7 @@ from ..engine.network import Network, build_network
 from ..engine.system import solution
 from ..errors import Location, SymcircError
 from ..language import syntax
+from ..limits import MAX_EXPANSION_TERMS, power_terms
 from ..model.circuit import REFERENCE, UNIT_OF_KIND, Circuit, Element
 from ..results import Result
 from .registry import RESPONSE_PARTS, RESPONSE_QUANTITIES, DeriveOptions
@@ -245,7 +246,15 @@ class Context:
     def substitute(self, function: RationalFunction, name: str, expr: sympy.Expr
                    ) -> RationalFunction:
         self.atoms.update(atoms_of(expr))
-        return function.substitute(name, to_function(expr, function.ring))
+        value = to_function(expr, function.ring)
+        bound = _substituted_terms(function, name, value)
+        if bound > MAX_EXPANSION_TERMS:
+            raise self.error(None, f"substituting the definition of {name} would expand the "
+                             f"result to up to {bound:,} terms (the limit is "
+                             f"{MAX_EXPANSION_TERMS:,}); stopped before memory runs out",
+                             ("derive it without --substitute: the definitions are listed "
+                              "beside the result",))
+        return function.substitute(name, value)
 
     def substitute_all(self, function: RationalFunction) -> RationalFunction:
         """Every definition replaced (`--substitute`)."""
@@ -403,3 +412,16 @@ def handler(raw: Callable[..., Iterable[Raw]], **fixed: Any
 
     derive.__doc__ = raw.__doc__
     return derive
+
+
+def _substituted_terms(function: RationalFunction, name: str, value: RationalFunction) -> int:
+    """A bound on the terms of `function` with `name` = p/q, known before substituting:
+    each term c*name^k of a polynomial of degree n becomes c*p^k*q^(n-k), which has at most
+    the binomial count of n factors drawn from the terms of p and q."""
+    ring = value.ring
+    drawn = ring.nterms(value.numerator) + ring.nterms(value.denominator)
+    total = 0
+    for poly in (function.numerator, function.denominator):
+        degree = function.ring.degree(poly, name) if name in function.ring.names else 0
+        total += function.ring.nterms(poly) * power_terms(drawn, max(degree, 0))
+    return total
