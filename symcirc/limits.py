@@ -10,6 +10,7 @@ turns what they miss into an error message rather than an abort of the machine.
 
 from __future__ import annotations
 
+import atexit
 import os
 import select
 import signal
@@ -44,6 +45,10 @@ row prints a closed-form derivative of the whole result)."""
 MEMORY_FRACTION = 0.75
 """Share of physical memory the command line allows itself (SYMCIRC_MEMORY_LIMIT overrides)."""
 
+MEMORY_FLOOR = 4 * 2**30
+"""Least ceiling set by default: address space is not memory, and the libraries reserve
+more of it than they use."""
+
 MEMORY_VARIABLE = "SYMCIRC_MEMORY_LIMIT"
 """Environment variable: the address-space ceiling in bytes, with an optional k/M/G suffix
 (`8G`), or `none` to set no ceiling."""
@@ -76,7 +81,9 @@ def memory_ceiling(environ: dict[str, str] | None = None) -> int | None:
         physical = os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES")
     except (ValueError, OSError, AttributeError):
         return None
-    return int(physical * MEMORY_FRACTION) if physical > 0 else None
+    if physical <= 0:
+        return None
+    return max(int(physical * MEMORY_FRACTION), MEMORY_FLOOR)
 
 
 def parse_bytes(text: str) -> int:
@@ -151,6 +158,14 @@ def _watch_interrupts() -> None:
     os.close(read)
     os.set_blocking(write, False)
     signal.set_wakeup_fd(write, warn_on_full_buffer=False)
+    atexit.register(_release_watchdog, write)
+
+
+def _release_watchdog(write: int) -> None:
+    """Closing the pipe tells the watchdog the command has ended (before the interpreter's
+    own shutdown, which may take longer than the grace after an interrupt)."""
+    signal.set_wakeup_fd(-1)
+    os.close(write)
 
 
 def _watchdog(read: int, parent: int) -> None:

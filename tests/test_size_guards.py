@@ -162,7 +162,8 @@ def test_memory_ceiling_follows_the_environment() -> None:
     assert limits.memory_ceiling({limits.MEMORY_VARIABLE: "512M"}) == 512 * 2**20
     assert limits.memory_ceiling({limits.MEMORY_VARIABLE: "none"}) is None
     physical = os.sysconf("SC_PAGE_SIZE") * os.sysconf("SC_PHYS_PAGES")
-    assert limits.memory_ceiling({}) == int(physical * limits.MEMORY_FRACTION)
+    assert limits.memory_ceiling({}) == max(int(physical * limits.MEMORY_FRACTION),
+                                            limits.MEMORY_FLOOR)
     for wrong in ("lots", "-1G", "inf", "nan"):
         with pytest.raises(ValueError):
             limits.memory_ceiling({limits.MEMORY_VARIABLE: wrong})
