@@ -24,6 +24,9 @@ MAX_STATEMENTS = 20_000
 """Most parameters, elements and ports a circuit may hold, counted as the file is read and
 again with every block instance expanded (the expanded count is known before expanding)."""
 
+MAX_SOURCE_BYTES = 16 * 2**20
+"""Largest circuit file read (read in one bounded piece: the path may be a device or pipe)."""
+
 MAX_INSTANCE_DEPTH = 50
 """Deepest chain of block instances (an instance of a block holding an instance of ...)."""
 

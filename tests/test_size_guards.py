@@ -100,6 +100,11 @@ def test_long_flat_file_stops_being_read_at_the_limit() -> None:
     assert (raised.value.file, raised.value.line) == ("flat.circuit", limits.MAX_STATEMENTS + 1)
 
 
+def test_endless_input_is_read_only_to_the_size_limit(tmp_path: Path) -> None:
+    done = symcirc("inspect", "/dev/zero", cwd=tmp_path)
+    refused(done, "/dev/zero: error: the file is larger than 16 MiB")
+
+
 def test_many_small_instances_count_together() -> None:
     lines = ["block pair (a, b)", "    resistor Ra (a, m) = 1k", "    resistor Rb (m, b) = 1k",
              "end"]

@@ -16,6 +16,7 @@ from functools import lru_cache
 from pathlib import Path
 
 from ..errors import SymcircError
+from ..limits import MAX_SOURCE_BYTES
 from . import syntax as st
 
 _STARTS = ["start", "quantity_line", "quantity_where_line", "where_line", "expression_line",
@@ -126,7 +127,8 @@ def read_source(path: str | Path) -> str:
     """The text of a circuit file (UTF-8, a byte-order mark accepted)."""
     name = str(path)
     try:
-        data = Path(path).read_bytes()
+        with Path(path).open("rb") as stream:  # bounded: the path may be a device or a pipe
+            data = stream.read(MAX_SOURCE_BYTES + 1)
     except FileNotFoundError:
         raise SymcircError("cannot read the file: no such file", name) from None
     except IsADirectoryError:
@@ -136,6 +138,9 @@ def read_source(path: str | Path) -> str:
     except (OSError, ValueError) as problem:
         reason = getattr(problem, "strerror", None) or str(problem)
         raise SymcircError(f"cannot read the file: {reason}", name) from None
+    if len(data) > MAX_SOURCE_BYTES:
+        raise SymcircError(f"the file is larger than {MAX_SOURCE_BYTES // 2**20} MiB, far more "
+                           "than a circuit of the largest size symcirc reads", name)
     if b"\0" in data:
         line, column, text = _position(data, data.index(b"\0"))
         raise SymcircError("this is a binary file, not circuit text (it contains a NUL byte)",
