@@ -12,11 +12,11 @@ from __future__ import annotations
 
 import atexit
 import os
-import select
 import signal
+import sys
 import threading
-import time
 from math import comb
+from pathlib import Path
 
 from .errors import SymcircError
 
@@ -136,32 +136,38 @@ def _set_memory_ceiling() -> None:
 
 
 def _watch_interrupts() -> None:
-    """Fork a small watchdog that ends this process INTERRUPT_GRACE seconds after a SIGINT
-    it has not answered. The interpreter raises KeyboardInterrupt only between bytecodes, and
-    flint holds the interpreter lock through a long multiplication, so no thread of this
-    process could act in time; the interpreter's own C-level handler does write the signal
-    number to the wakeup pipe at once, and the watchdog reads it there."""
-    if not hasattr(os, "fork") or threading.current_thread() is not threading.main_thread():
+    """Start the watchdog (`symcirc/watchdog.py`, a process of its own) that ends this one
+    INTERRUPT_GRACE seconds after a SIGINT it has not answered. The interpreter raises
+    KeyboardInterrupt only between bytecodes, and flint holds the interpreter lock through a
+    long multiplication, so no thread of this process could act in time; the interpreter's
+    C-level handler does write the signal number to the wakeup pipe at once, and the
+    watchdog reads it there. (A fork would be simpler, but copying a process that has
+    imported sympy costs the command more than starting a small interpreter.)"""
+    script = Path(__file__).with_name("watchdog.py")
+    if threading.current_thread() is not threading.main_thread() or not script.is_file():
         return
-    if threading.active_count() > 1:
-        return  # forking a threaded process is unsafe; this never happens at start-up
+    import subprocess
+
     read, write = os.pipe()
+    interrupt = signal.signal(signal.SIGINT, signal.SIG_IGN)  # the watchdog starts ignoring it
     try:
-        pid = os.fork()
+        _WATCHDOG.append(subprocess.Popen(
+            [sys.executable, "-I", "-S", str(script), str(read), str(os.getpid()),
+             str(INTERRUPT_GRACE)],
+            pass_fds=(read,), stdin=subprocess.DEVNULL, stdout=subprocess.DEVNULL))
     except OSError:
-        os.close(read)
         os.close(write)
         return
-    if pid == 0:
-        try:
-            os.close(write)
-            _watchdog(read, os.getppid())
-        finally:
-            os._exit(0)
-    os.close(read)
+    finally:
+        signal.signal(signal.SIGINT, signal.SIG_DFL if interrupt is None else interrupt)
+        os.close(read)
     os.set_blocking(write, False)
     signal.set_wakeup_fd(write, warn_on_full_buffer=False)
     atexit.register(_release_watchdog, write)
+
+
+_WATCHDOG: list = []
+"""The watchdog process (held so that it is not reaped while the command runs)."""
 
 
 def _release_watchdog(write: int) -> None:
@@ -169,25 +175,3 @@ def _release_watchdog(write: int) -> None:
     own shutdown, which may take longer than the grace after an interrupt)."""
     signal.set_wakeup_fd(-1)
     os.close(write)
-
-
-def _watchdog(read: int, parent: int) -> None:
-    """The watchdog's whole life: wait for a SIGINT byte or for the command to end (the pipe
-    closes when it exits), then give it INTERRUPT_GRACE seconds."""
-    signal.signal(signal.SIGINT, signal.SIG_IGN)  # Ctrl-C reaches the whole process group
-    null = os.open(os.devnull, os.O_RDWR)
-    os.dup2(null, 0)  # hold no one's input or output open; stderr stays for the message
-    os.dup2(null, 1)
-    while True:
-        data = os.read(read, 64)
-        if not data:
-            return
-        if signal.SIGINT in data:
-            break
-    deadline = time.monotonic() + INTERRUPT_GRACE
-    while (left := deadline - time.monotonic()) > 0:
-        ready, _, _ = select.select([read], [], [], left)
-        if ready and not os.read(read, 64):
-            return  # the command ended by itself
-    os.write(2, b"symcirc: interrupted\n")
-    os.kill(parent, signal.SIGKILL)
