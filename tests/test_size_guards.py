@@ -230,3 +230,16 @@ def test_ctrl_c_ends_a_flint_call_that_ignores_signals(tmp_path: Path) -> None:
     done = _interrupt([sys.executable, "-c", script], tmp_path)
     assert done.returncode in (130, -signal.SIGKILL), done.stderr
     assert "symcirc: interrupted" in done.stderr
+
+
+def test_running_out_of_memory_is_an_error_message(monkeypatch, capsys, tmp_path) -> None:
+    from symcirc import cli
+    from symcirc.commands import inspect
+
+    def exhausted(args):
+        raise MemoryError
+
+    monkeypatch.setattr(inspect, "run", exhausted)
+    (tmp_path / "one.circuit").write_text("resistor R (a, gnd) = 1k\n", encoding="utf-8")
+    assert cli.main(["inspect", str(tmp_path / "one.circuit")]) == 2
+    assert capsys.readouterr().err.startswith("symcirc: error: out of memory")
