@@ -153,6 +153,20 @@ def test_substituted_sensitivity_table_is_refused_by_size(tmp_path: Path) -> Non
             "without --substitute")
 
 
+def test_substituting_a_huge_definition_is_refused_before_expanding(tmp_path: Path) -> None:
+    names = [f"a{i}" for i in range(1, 12)]
+    lines = [f"param {name} = 1" for name in names]
+    lines += ["voltage source U (in, gnd) = 1 V",
+              f"resistor R1 (in, mid) = ({' + '.join(names)})^14",
+              "resistor R2 (mid, gnd) = 1k", "port out (mid, gnd)"]
+    (tmp_path / "power.circuit").write_text("\n".join(lines) + "\n", encoding="utf-8")
+    # (11 terms)^14 has C(24, 10) = 1,961,256 terms over the denominator 1: refused before
+    # the definition itself is multiplied out
+    refused(symcirc("derive", "power.circuit", "--substitute", "V(out)", cwd=tmp_path),
+            "error: substituting the definition of R1 would expand the result",
+            "1,961,257 terms", "without --substitute")
+
+
 def test_power_terms_is_the_binomial_count() -> None:
     # (x + y)^n has n + 1 terms; (a + b + c)^2 has 6 (common practice: multisets)
     assert limits.power_terms(2, 7) == 8

@@ -356,9 +356,9 @@ class _Elaborator:
             elif isinstance(statement, _DECLARATIONS):
                 total += 1
             if total > MAX_STATEMENTS:
-                raise self.error(statement, f"with its blocks expanded the circuit holds more "
-                                 f"than {MAX_STATEMENTS:,} elements, parameters and ports "
-                                 f"(the most it may hold) by this statement")
+                raise self.error(statement, f"with its blocks expanded the circuit passes "
+                                 f"{MAX_STATEMENTS:,} elements, parameters and ports here, the "
+                                 "most it may hold")
 
     def define_block(self, block: syntax.Block, scope: _Scope) -> None:
         name = block.name.name

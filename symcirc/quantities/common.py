@@ -246,8 +246,10 @@ class Context:
     def substitute(self, function: RationalFunction, name: str, expr: sympy.Expr
                    ) -> RationalFunction:
         self.atoms.update(atoms_of(expr))
-        value = to_function(expr, function.ring)
-        bound = _substituted_terms(function, name, value)
+        bound = _expanded_terms(expr)
+        if bound <= MAX_EXPANSION_TERMS:
+            value = to_function(expr, function.ring)
+            bound = _substituted_terms(function, name, value)
         if bound > MAX_EXPANSION_TERMS:
             raise self.error(None, f"substituting the definition of {name} would expand the "
                              f"result to up to {bound:,} terms (the limit is "
@@ -425,3 +427,31 @@ def _substituted_terms(function: RationalFunction, name: str, value: RationalFun
         degree = function.ring.degree(poly, name) if name in function.ring.names else 0
         total += function.ring.nterms(poly) * power_terms(drawn, max(degree, 0))
     return total
+
+
+def _expanded_terms(expr: sympy.Expr) -> int:
+    """A bound on the terms of numerator plus denominator of `expr` once multiplied out,
+    from its tree alone (a sum over a common denominator, products of the parts, powers by
+    the binomial count); radicals and `pi` count as single variables."""
+
+    def bound(e: sympy.Expr) -> tuple[int, int]:
+        if e.is_Add:
+            parts = [bound(a) for a in e.args]
+            denominator = 1
+            for _, d in parts:
+                denominator *= d
+            return sum(n * denominator // d for n, d in parts), denominator
+        if e.is_Mul:
+            numerator = denominator = 1
+            for n, d in map(bound, e.args):
+                numerator, denominator = numerator * n, denominator * d
+            return numerator, denominator
+        if e.is_Pow and e.exp.is_Integer:
+            n, d = bound(e.base)
+            k = int(e.exp)
+            if k < 0:
+                n, d, k = d, n, -k
+            return power_terms(n, k), power_terms(d, k)
+        return 1, 1
+
+    return sum(bound(expr))
