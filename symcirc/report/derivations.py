@@ -107,11 +107,16 @@ def _attach_analyses(pipeline: Pipeline, view: ResultView, options: DeriveOption
             text, steps=False, assumptions=options.assumptions, seed=options.seed,
             substitute=options.substitute))
 
-    try:
-        if "sensitivities" in analyses:
+    # A quantity the analyses cannot take (e.g. a result from a limit), or a sensitivity
+    # table too large to print, goes without that analysis; each is tried on its own.
+    if "sensitivities" in analyses:
+        try:
             table = sensitivity_table(derive(f"sensitivities({view.quantity})"), "Q")
-            if table is not None:
-                view.tables.append(replace(table, title="Sensitivities"))
+        except SymcircError:
+            table = None
+        if table is not None:
+            view.tables.append(replace(table, title="Sensitivities"))
+    try:
         if "tolerance" in analyses and _toleranced(circuit, view):
             tolerance = derive(f"tolerance({view.quantity})")
             if tolerance and "tolerance" in tolerance[0].details:
@@ -119,7 +124,7 @@ def _attach_analyses(pipeline: Pipeline, view: ResultView, options: DeriveOption
                 view.tables.extend(tolerance_tables(details, view.unit, _units(circuit)))
                 view.notes.extend(tolerance_notes(tolerance[0].notes))
                 view.spread = spread(tolerance[0].details)
-    except SymcircError:  # a quantity the analyses cannot take (e.g. a result from a limit)
+    except SymcircError:
         return
 
 
