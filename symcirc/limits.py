@@ -144,8 +144,9 @@ def _watch_interrupts() -> None:
     watchdog reads it there. (A fork would be simpler, but copying a process that has
     imported sympy costs the command more than starting a small interpreter.)"""
     script = Path(__file__).with_name("watchdog.py")
-    if threading.current_thread() is not threading.main_thread() or not script.is_file():
-        return
+    if (os.name != "posix" or not sys.executable or not script.is_file()
+            or threading.current_thread() is not threading.main_thread()):
+        return  # a POSIX pipe and a script on disk are needed
     import subprocess
 
     read, write = os.pipe()
