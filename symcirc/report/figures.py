@@ -24,6 +24,8 @@ from .content import Figure, ResultView, Section
 
 IMAGE_EXTENSION = {"latex": ".png", "markdown": ".svg", "html": ".svg"}
 """pdflatex takes PNG (not SVG); Markdown and HTML get scalable SVG."""
+SCHEMATIC_EXTENSION = {"latex": ".pdf", "markdown": ".svg", "html": ".svg"}
+"""A schematic is line art: PDF (vector) for pdflatex."""
 
 
 @dataclass(frozen=True)
@@ -46,8 +48,40 @@ def folder_name(stem: str) -> str:
 def figure_names(text: str, stem: str) -> set[str]:
     """File names of the figures a note's text shows in its figures folder."""
     pattern = re.escape(folder_name(stem)) + \
-        rf"/([a-z0-9-]+-[0-9a-f]{{{DIGEST_LENGTH}}}\.(?:svg|png))"
+        rf"/([a-z0-9-]+-[0-9a-f]{{{DIGEST_LENGTH}}}\.(?:svg|png|pdf))"
     return set(re.findall(pattern, text))
+
+
+def schematic(circuit: Circuit, stem: str | None, fmt: str,
+              origin: str) -> tuple[Drawing | None, str | None]:
+    """(the drawing of the circuit's schematic, None) when it is drawn beside the note (a
+    note written to a file, `stem` its name); (None, a sentence saying why not) when the
+    circuit has too many parts to draw readably; (None, None) for a note on standard
+    output."""
+    from .schematic import MAXIMUM_PARTS, drawn_parts
+
+    count = drawn_parts(circuit)
+    if count > MAXIMUM_PARTS:
+        return None, (f"The schematic is not drawn: the circuit has {count} parts, more than "
+                      f"the {MAXIMUM_PARTS} a drawing keeps readable; the parts table "
+                      "gives every part's nodes.")
+    if stem is None or count == 0:
+        return None, None
+    extension = SCHEMATIC_EXTENSION[fmt]
+    recipe = "\0".join((origin, fmt, "schematic"))
+    digest = hashlib.sha256(recipe.encode("utf-8")).hexdigest()[:DIGEST_LENGTH]
+    couplings = [e for e in circuit.elements.values() if e.kind == "coupling"]
+    caption = "Schematic of the circuit" + "".join(
+        f"; {e.name} couples {' and '.join(e.coupled or ())}" for e in couplings) + "."
+    figure = Figure(f"{folder_name(stem)}/schematic-{digest}{extension}", caption,
+                    "schematic", "")
+
+    def draw() -> bytes:
+        from .schematic import layout
+        from .schematic_drawing import image
+
+        return image(layout(circuit), extension[1:])
+    return Drawing(figure, draw), None
 
 
 def plan(circuit: Circuit, sections: list[Section], wanted: list[Request], stem: str,

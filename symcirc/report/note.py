@@ -21,6 +21,7 @@ from ..model.circuit import Circuit
 from ..model.typeset import latex_of
 from ..pipeline import Pipeline
 from .content import (
+    Figure,
     Parameter,
     Part,
     PortRow,
@@ -81,6 +82,10 @@ class Note:
     """Sources and parts the cautions could not judge (shown when some were judged)."""
     caution_thresholds: list[str] = field(default_factory=list)
     """The limits used and where they come from (shown with the cautions)."""
+    schematic: Figure | None = None
+    """The circuit's schematic beside the note (None on standard output or when too big)."""
+    schematic_statement: str | None = None
+    """Why there is no schematic, when the circuit is too big to draw readably."""
 
     @property
     def results(self) -> list:
@@ -185,15 +190,20 @@ def build_note(
         bar.step("checking claims and cautions")
         claim_views = claims(pipeline)
         assessment = assess(circuit, pipeline.memo)
-    from .figures import folder_name, plan
+    from .figures import folder_name, plan, schematic
 
     drawings: list = []
-    if output_path is not None:  # figures only beside a note written to a file
-        origin = f"{hashlib.sha256(data).hexdigest()}\0{symcirc.__version__}"
-        drawings = plan(circuit, derived, wanted, Path(output_path).stem, format, origin)
+    origin = f"{hashlib.sha256(data).hexdigest()}\0{symcirc.__version__}"
+    stem = Path(output_path).stem if output_path is not None else None
+    drawing, statement = schematic(circuit, stem, format, origin)
+    if drawing is not None:
+        drawings.append(drawing)
+    if stem is not None:  # figures only beside a note written to a file
+        drawings += plan(circuit, derived, wanted, stem, format, origin)
     note = _note(circuit, source, data, format, quantities, template, folder, derived,
-                 claim_views, assessment,
-                 folder_name(Path(output_path).stem) if drawings else None)
+                 claim_views, assessment, folder_name(stem) if drawings and stem else None)
+    note.schematic = drawing.figure if drawing is not None else None
+    note.schematic_statement = statement
     return note, drawings
 
 
