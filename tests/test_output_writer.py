@@ -253,12 +253,13 @@ def test_figures_and_note_are_committed_together(rc, tmp_path):
     note, folder = tmp_path / "rc.md", tmp_path / "rc_figures"
     assert main(["note", str(rc), "-o", str(note)]) == 0
     first, old_figures = note.read_text(encoding="utf-8"), _figures(folder)
-    assert len(old_figures) == 1 and all(name in first for name in old_figures)
+    # the schematic and the frequency response
+    assert len(old_figures) == 2 and all(name in first for name in old_figures)
     rc.write_text(RC.replace("1 kΩ", "2 kΩ"), encoding="utf-8")
     assert main(["note", str(rc), "-o", str(note)]) == 0
     second, new_figures = note.read_text(encoding="utf-8"), _figures(folder)
     # A new picture gets a new name; the old note's figures go once the new note is in place.
-    assert new_figures.isdisjoint(old_figures) and len(new_figures) == 1
+    assert new_figures.isdisjoint(old_figures) and len(new_figures) == 2
     assert all(name in second for name in new_figures)
     assert _hidden(tmp_path) == []
 

@@ -4,7 +4,8 @@ Every node is a horizontal rail (the reference node at the bottom, the others ab
 the order a breadth-first walk from the excitation source meets them); every part stands
 vertically in a column between its nodes' rails, its wires straight and orthogonal. A part
 sits in the gap just above its lower rail, with its name and value to its right, so symbols
-and labels never meet a rail or each other; columns are as wide as their labels. Opamps and
+and labels never meet a rail or each other; a part takes the first column whose rails it
+spans are free, and columns are as wide as their labels. Opamps and
 transformers take columns of their own, one wire column per terminal, ordered so that their
 leads never cross their own wires. Ports are open circles at the right, the reference node
 carries the ground symbol.
@@ -201,27 +202,30 @@ class _Builder:
             self.out.wires.append(Wire(node, start, end))
 
     def build(self) -> Layout:
-        elements = _ordered(self.circuit, self.rows)
-        column: list[tuple[float, float]] = []  # vertical spans used in the current column
-        column_x = column_right = 0.0
-        for element in elements:
+        columns: list[tuple[Element | None, list[Element], list[tuple[int, int]]]] = []
+        for element in _ordered(self.circuit, self.rows):
             if element.kind == "coupling":
                 self.out.not_drawn.append(element.name)
-                continue
-            if element.kind in ("opamp", "transformer"):
-                column = []
+            elif element.kind in ("opamp", "transformer"):
+                columns.append((element, [], []))
+            else:  # the first column where its span between rails is free
+                low, high = sorted(self.rows[n] for n in element.nodes)
+                span = (low, max(high, low + 1))
+                free = next((c for c in columns if c[0] is None and all(
+                    span[0] >= b or span[1] <= a for a, b in c[2])), None)
+                if free is None:
+                    free = (None, [], [])
+                    columns.append(free)
+                free[1].append(element)
+                free[2].append(span)
+        column_right = 0.0
+        for group, parts, _ in columns:
+            if group is not None:
                 self.x = column_right
-                column_right = self._group(element)
-                continue
-            low, high = sorted(self.rows[n] for n in element.nodes)
-            span = (low * GAP, max(high, low + 1) * GAP)
-            if column and all(span[0] >= b or span[1] <= a for a, b in column):
-                x = column_x
+                column_right = self._group(group)
             else:
-                column, x = [], column_right + 0.55
-                column_x = x
-            column.append(span)
-            column_right = max(column_right, self._part(element, x))
+                x = column_right + 0.55
+                column_right = max(self._part(element, x) for element in parts)
         right = column_right
         for port in self.circuit.ports.values():
             right = self._port(port.name, port.positive, port.negative, right + 0.3)

@@ -13,7 +13,7 @@ from .schematic import FONT_POINTS, UNIT_INCHES, Layout, Symbol
 _STYLE = {
     "svg.hashsalt": "symcirc-schematic",
     "svg.fonttype": "path",
-    "pdf.fonttype": 42,
+    "pdf.fonttype": 3,
     "font.size": FONT_POINTS,
     "font.family": "DejaVu Sans",
 }
