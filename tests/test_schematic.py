@@ -6,6 +6,7 @@ on a second run), and the plain statement for a circuit too big to draw."""
 from __future__ import annotations
 
 import random
+import subprocess
 import xml.etree.ElementTree as ElementTree
 from pathlib import Path
 
@@ -16,6 +17,7 @@ from symcirc.report.figures import folder_name
 from symcirc.report.note import render_note_for, write_note
 from symcirc.report.schematic import MAXIMUM_PARTS, Layout, layout
 from symcirc.report.schematic_drawing import image
+from tests.notes_support import pdf_text, pdflatex
 
 EXAMPLES = sorted((Path(__file__).parent.parent / "examples").glob("*.circuit"))
 
@@ -65,10 +67,16 @@ def _check(drawn: Layout) -> None:
                for b in everything)
 
 
-def _parses(svg: bytes) -> None:
+SVG = "{http://www.w3.org/2000/svg}"
+
+
+def _parses(svg: bytes, drawn: Layout | None = None) -> None:
     root = ElementTree.fromstring(svg)
-    assert root.tag == "{http://www.w3.org/2000/svg}svg"
-    assert len(root.findall(".//{http://www.w3.org/2000/svg}path")) > 10
+    assert root.tag == f"{SVG}svg"
+    assert len(root.findall(f".//{SVG}polyline")) > 3
+    if drawn is not None:  # every label, as text
+        assert sorted(t.text for t in root.iter(f"{SVG}text") if t.text not in "+−") == \
+            sorted(label.text for label in drawn.labels)
 
 
 @pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.stem)
@@ -79,7 +87,7 @@ def test_every_example_is_laid_out_without_overlaps_and_draws(path):
     parts = {s.name for s in drawn.symbols if s.kind not in ("port", "ground")}
     assert parts == {e.name for e in circuit.elements.values() if e.kind != "coupling"}
     assert {label.text for label in drawn.labels} >= parts
-    _parses(image(drawn, "svg"))
+    _parses(image(drawn, "svg"), drawn)
 
 
 @pytest.mark.parametrize("seed", range(20))
@@ -90,8 +98,7 @@ def test_generated_circuits_are_laid_out_without_overlaps(seed):
     wired = {t.node for s in drawn.symbols for t in s.terminals}
     assert wired == set(circuit.nodes)
     assert sum(s.kind == "ground" for s in drawn.symbols) == 1
-    if seed % 5 == 0:  # drawing costs a tenth of a second: a few suffice besides geometry
-        _parses(image(drawn, "svg"))
+    _parses(image(drawn, "svg"), drawn)
 
 
 def test_the_generator_covers_every_kind_the_schematic_draws():
@@ -129,6 +136,12 @@ def test_a_note_shows_its_schematic_and_writes_it_the_same_twice(tmp_path):
         assert (tmp_path / figure.path).read_bytes() == first
         names[fmt] = figure.path
     assert names["latex"].endswith(".pdf") and names["markdown"].endswith(".svg")
+    pdf = pdflatex(tmp_path / "divider.tex")
+    assert "Schematic of the circuit." in pdf_text(pdf)
+    figure = subprocess.run(["pdftotext", str(tmp_path / names["latex"]), "-"],
+                            capture_output=True, text=True, check=True).stdout
+    figure = figure.replace("\u2126", "\u03a9")  # the Symbol font's Ω reads as the ohm sign
+    assert all(text in figure for text in ("R1", "10 kΩ", "R2", "4.7 kΩ", "Uin", "po +"))
     assert all(name.startswith(folder_name("divider") + "/schematic-") for name in names.values())
     _parses((tmp_path / names["html"]).read_bytes())
 
