@@ -155,3 +155,36 @@ def _output(path: Path, source: Path):
     from symcirc.report.files import output_for
 
     return output_for(str(path), [str(source)])
+
+
+EDGE_CASES = {
+    "a part with both ends on one node":
+        "voltage source Uin (in, gnd) = 1 V\nresistor R1 (in, in) = 1k\n"
+        "resistor R2 (in, gnd) = 1k\n",
+    "a controlled source":
+        "param gm = 10 mS\nvoltage source Uin (in, gnd) = 1 V\nresistor R1 (in, b) = 1k\n"
+        "resistor R2 (b, gnd) = 1k\ncurrent source Igm (c, gnd) = gm*V(b, gnd)\n"
+        "resistor Rc (c, gnd) = 10k\nport o (c, gnd)\n",
+    "a coupling":
+        "voltage source Uin (in, gnd) = 1 V\ninductor L1 (in, gnd) = 1m\n"
+        "inductor L2 (o, gnd) = 1m\ncoupling k12 (L1, L2) = 0.9\nresistor RL (o, gnd) = 50\n",
+    "no reference node named":
+        "voltage source Uin (a, b) = 1 V\nresistor R1 (a, b) = 1k\n",
+}
+
+
+@pytest.mark.parametrize("text", EDGE_CASES.values(), ids=EDGE_CASES.keys())
+def test_edge_cases_are_laid_out_without_overlaps(text):
+    drawn = layout(symcirc.parse(text))
+    _check(drawn)
+    _parses(image(drawn, "svg"), drawn)
+
+
+def test_a_coupling_is_named_in_the_caption_and_a_controlled_source_shows_its_value():
+    from symcirc.report.figures import schematic
+
+    circuit = symcirc.parse(EDGE_CASES["a coupling"])
+    drawing, statement = schematic(circuit, "coupled", "html", "origin")
+    assert statement is None and "k12 couples L1 and L2" in drawing.figure.caption
+    drawn = layout(symcirc.parse(EDGE_CASES["a controlled source"]))
+    assert "gm*V(b, gnd)" in {label.text for label in drawn.labels}

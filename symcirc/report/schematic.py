@@ -10,7 +10,7 @@ transformers take columns of their own, one wire column per terminal, ordered so
 leads never cross their own wires. Ports are open circles at the right, the reference node
 carries the ground symbol.
 
-Drawing is `schematic_drawing.draw`; this module imports no plotting library, so tests check
+Drawing is `schematic_drawing.image`; this module imports no plotting library, so tests check
 the geometry on the coordinates (`Layout.overlaps`, `Layout.loose_ends`).
 """
 
