@@ -188,3 +188,24 @@ def test_a_coupling_is_named_in_the_caption_and_a_controlled_source_shows_its_va
     assert statement is None and "k12 couples L1 and L2" in drawing.figure.caption
     drawn = layout(symcirc.parse(EDGE_CASES["a controlled source"]))
     assert "gm*V(b, gnd)" in {label.text for label in drawn.labels}
+
+
+def test_reserved_label_widths_hold_the_text_as_dejavu_sans_sets_it():
+    """The layout estimates text widths; matplotlib measures them with the font's own
+    metrics (DejaVu Sans, the widest of the SVG's font list), independently."""
+    from matplotlib.font_manager import FontProperties
+    from matplotlib.textpath import TextPath
+
+    from symcirc.report.schematic import FONT_POINTS, TEXT_HEIGHT, UNIT_INCHES, text_width
+
+    font = FontProperties(family="DejaVu Sans", size=FONT_POINTS)
+    texts = {label.text for text in GENERATED + list(EDGE_CASES.values())
+             for label in layout(symcirc.parse(text)).labels}
+    texts |= {label.text for path in EXAMPLES for label in layout(symcirc.load(str(path))).labels}
+    for text in sorted(texts):
+        extent = TextPath((0, 0), text, prop=font).get_extents()
+        width = extent.x1 / 72 / UNIT_INCHES  # points → drawing units
+        reserved = text_width(text)
+        assert width <= reserved, (text, width, reserved)
+        assert extent.height / 72 / UNIT_INCHES <= TEXT_HEIGHT
+

@@ -84,7 +84,6 @@ class Symbol:
     terminals: tuple[Terminal, ...]
     flipped: bool = False
     windings_flipped: tuple[bool, bool] = (False, False)
-    controlled: bool = False
 
 
 @dataclass(frozen=True)
@@ -117,8 +116,6 @@ class Layout:
     """Junctions: where three or more wire ends of one node meet."""
     width: float = 0.0
     height: float = 0.0
-    not_drawn: list[str] = field(default_factory=list)
-    """Elements without a symbol of their own (couplings), for the caption."""
 
     def overlaps(self) -> list[str]:
         """Pairs of symbols or labels that overlap, and labels or symbols a wire passes
@@ -205,8 +202,8 @@ class _Builder:
         columns: list[tuple[Element | None, list[Element], list[tuple[int, int]]]] = []
         for element in _ordered(self.circuit, self.rows):
             if element.kind == "coupling":
-                self.out.not_drawn.append(element.name)
-            elif element.kind in ("opamp", "transformer"):
+                continue  # no symbol of its own: the caption names it
+            if element.kind in ("opamp", "transformer"):
                 columns.append((element, [], []))
             else:  # the first column where its span between rails is free
                 low, high = sorted(self.rows[n] for n in element.nodes)
@@ -247,7 +244,7 @@ class _Builder:
         terminals = (Terminal(first, bottom if flipped else top),
                      Terminal(second, top if flipped else bottom))
         self.out.symbols.append(Symbol(element.name, element.kind, centre, box, terminals,
-                                       flipped, controlled=element.is_controlled))
+                                       flipped))
         self.wire(lower, (x, y0), bottom)
         self.connect(lower, x)
         if lower == upper:  # both ends on one node: back down beside the part
@@ -405,12 +402,12 @@ class _Builder:
         return Layout(
             symbols=[Symbol(s.name, s.kind, p(s.centre), b(s.box),
                             tuple(Terminal(t.node, p(t.point)) for t in s.terminals),
-                            s.flipped, s.windings_flipped, s.controlled)
+                            s.flipped, s.windings_flipped)
                      for s in out.symbols],
             labels=[_label(lab.text, b(lab.box).x0, b(lab.box).y0) for lab in out.labels],
             wires=[Wire(w.node, p(w.start), p(w.end)) for w in out.wires],
             dots=[p(d) for d in out.dots],
-            width=right + dx + MARGIN, height=top + dy + MARGIN, not_drawn=out.not_drawn)
+            width=right + dx + MARGIN, height=top + dy + MARGIN)
 
 
 def _rows(circuit: Circuit) -> dict[str, int]:
