@@ -137,7 +137,7 @@ def test_a_note_shows_its_schematic_and_writes_it_the_same_twice(tmp_path):
         names[fmt] = figure.path
     assert names["latex"].endswith(".pdf") and names["markdown"].endswith(".svg")
     pdf = pdflatex(tmp_path / "divider.tex")
-    assert "Schematic of the circuit." in pdf_text(pdf)
+    assert "Schematic of the circuit: ports as open circles" in pdf_text(pdf)
     figure = subprocess.run(["pdftotext", str(tmp_path / names["latex"]), "-"],
                             capture_output=True, text=True, check=True).stdout
     figure = figure.replace("\u2126", "\u03a9")  # the Symbol font's Ω reads as the ohm sign

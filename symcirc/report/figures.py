@@ -71,8 +71,10 @@ def schematic(circuit: Circuit, stem: str | None, fmt: str,
     recipe = "\0".join((origin, fmt, "schematic"))
     digest = hashlib.sha256(recipe.encode("utf-8")).hexdigest()[:DIGEST_LENGTH]
     couplings = [e for e in circuit.elements.values() if e.kind == "coupling"]
-    caption = "Schematic of the circuit" + "".join(
-        f"; {e.name} couples {' and '.join(e.coupled or ())}" for e in couplings) + "."
+    caption = ("Schematic of the circuit: ports as open circles, + at a voltage source's "
+               "first terminal, a current source's arrow in the direction of its current"
+               + "".join(f"; {e.name} couples {' and '.join(e.coupled or ())}"
+                         for e in couplings) + ".")
     figure = Figure(f"{folder_name(stem)}/schematic-{digest}{extension}", caption,
                     "schematic", "")
 
