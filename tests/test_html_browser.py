@@ -119,3 +119,28 @@ def test_html_notes_render_in_chromium(browser, tmp_path):
         assert all(name.startswith("file:") for name in resources), resources
         shot = base64.b64decode(browser.call("Page.captureScreenshot", format="png")["data"])
         assert 0.005 < _not_blank(shot) < 0.9, example
+
+
+def test_schematic_labels_fit_the_boxes_the_layout_reserved(browser, tmp_path):
+    """Chromium sets each label of every example's schematic with the fonts it has; the
+    text must stay inside the box the layout reserved for it (so no label overlaps another,
+    a symbol or a wire, as the layout's own checks prove for the boxes)."""
+    import symcirc
+    from symcirc.report.schematic import layout
+    from symcirc.report.schematic_drawing import image
+
+    for example in EXAMPLES:
+        drawn = layout(symcirc.load(str(example)))
+        svg = tmp_path / f"{example.stem}.svg"
+        svg.write_bytes(image(drawn, "svg"))
+        _open(browser, svg)
+        boxes = browser.evaluate(
+            "Array.from(document.querySelectorAll('text')).map(t => { const b = t.getBBox();"
+            " return [t.textContent, b.x, b.y, b.width, b.height]; })")
+        set_labels = boxes[len(boxes) - len(drawn.labels):]
+        for label, (text, x, y, width, height) in zip(drawn.labels, set_labels, strict=True):
+            assert text == label.text
+            top, bottom = drawn.height - y, drawn.height - y - height
+            box, slack = label.box, 0.02
+            assert box.x0 - slack <= x and x + width <= box.x1 + slack, (example, text)
+            assert box.y0 - 0.1 <= bottom and top <= box.y1 + slack, (example, text)
