@@ -155,3 +155,9 @@ def test_derive_command_json_text_and_switch(tmp_path, capsys):
     assert main(["derive", str(path), "thevenin(out)", "--no-steps", "--format", "json"]) == 0
     plain = json.loads(capsys.readouterr().out)["results"]
     assert all("form" not in r and "steps" not in r for r in plain)
+
+
+def test_a_power_of_a_parallel_form_is_set_in_parentheses():
+    """sympy's LaTeX printer hands a power of a function its exponent (`exp=`)."""
+    r1, r2 = sympy.symbols("R1 R2", positive=True)
+    assert latex(Parallel(r1, r2) ** 2) == r"\left(R_{1} \parallel R_{2}\right)^{2}"

@@ -31,8 +31,11 @@ class Parallel(sympy.Function):
         operands = [a.doit(**hints) if hints.get("deep", True) else a for a in self.args]
         return combine(operands)
 
-    def _latex(self, printer) -> str:
-        return r" \parallel ".join(_operand_latex(printer, a) for a in self.args)
+    def _latex(self, printer, exp: str | None = None) -> str:
+        text = r" \parallel ".join(_operand_latex(printer, a) for a in self.args)
+        if exp is not None:  # sympy's printer hands a power of a function its exponent
+            return r"\left(" + text + r"\right)^{" + exp + "}"
+        return text
 
     def _sympystr(self, printer) -> str:
         return "∥".join(printer.parenthesize(a, PRECEDENCE["Mul"] + 1) for a in self.args)
