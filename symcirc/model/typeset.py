@@ -138,15 +138,15 @@ def check_form(form: str) -> str | None:
         return "the typeset form is empty"
     if len(form) > MAX_FORM_LENGTH:
         return f"the typeset form is longer than {MAX_FORM_LENGTH} characters"
+    for command in re.findall(r"\\([A-Za-z]*)", form):
+        if command not in SAFE_COMMANDS:
+            return (f"`\\{command}` is not allowed in a typeset form (allowed: Greek letters, "
+                    "\\mathrm, \\mathit, \\mathbf, \\text, accents such as \\hat and \\bar)")
     bad = _FORM_CHARACTERS.fullmatch(form)
     if bad is None:
         char = next(c for c in form if not _FORM_CHARACTERS.fullmatch(c))
         return (f"`{char}` is not allowed in a typeset form (letters, digits, _ ^ {{ }} and "
                 "a few commands such as \\alpha or \\mathrm are)")
-    for command in re.findall(r"\\([A-Za-z]*)", form):
-        if command not in SAFE_COMMANDS:
-            return (f"`\\{command}` is not allowed in a typeset form (allowed: Greek letters, "
-                    "\\mathrm, \\mathit, \\mathbf, \\text, accents such as \\hat and \\bar)")
     depth = 0
     for char in form:
         depth += {"{": 1, "}": -1}.get(char, 0)
