@@ -125,7 +125,7 @@ def test_unsafe_forms_are_refused_where_they_are_written(form, why):
     with pytest.raises(SymcircError) as caught:
         symcirc.parse(text)
     assert why in caught.value.message
-    assert (caught.value.location.line, caught.value.location.column) == (2, 12)
+    assert (caught.value.line, caught.value.column) == (2, 12)
 
 
 def test_a_form_for_an_unknown_name_or_twice_is_an_error():
