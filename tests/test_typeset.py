@@ -136,3 +136,19 @@ def test_a_form_for_an_unknown_name_or_twice_is_an_error():
         symcirc.parse('resistor R1 (a, gnd) = 1k\ntypeset Rx "R_{x}"\n')
     with pytest.raises(SymcircError, match="given twice"):
         symcirc.parse('resistor R1 (a, gnd) = 1k\ntypeset R1 "R"\ntypeset R1 "r"\n')
+
+
+def test_the_form_is_set_by_derive_and_the_python_api(tmp_path, capsys):
+    import symcirc
+    from symcirc.cli import main
+
+    path = tmp_path / "sensor.circuit"
+    path.write_text('typeset Rt "R_{\\vartheta}"\nvoltage source Uin (a, gnd) = 1 V\n'
+                    "resistor R1 (a, b) = 1k\nresistor Rt (b, gnd) = 1k\nport out (b, gnd)\n"
+                    "derive V(out)\n", encoding="utf-8")
+    assert main(["derive", str(path), "--format", "latex"]) == 0
+    assert r"R_{\vartheta}" in capsys.readouterr().out
+    (voltage,) = symcirc.load(str(path)).derive("V(out)")
+    assert r"R_{\vartheta}" in voltage.latex()
+    # the command's forms end with it: the same result elsewhere is set by the rule
+    assert symbol_latex("Rt") == r"R_{\mathrm{t}}"

@@ -18,7 +18,7 @@ subscript upright):
 from __future__ import annotations
 
 import re
-from collections.abc import Iterator, Mapping
+from collections.abc import Iterable, Iterator, Mapping
 from contextlib import contextmanager
 from contextvars import ContextVar
 from functools import lru_cache
@@ -59,6 +59,18 @@ def names(forms: Mapping[str, str]) -> Iterator[None]:
         yield
     finally:
         _FORMS.reset(token)
+
+
+def use_forms(forms: Mapping[str, str]) -> None:
+    """From now on in this context, the names in `forms` are set as given (a command runs
+    in a context of its own, so they end with it)."""
+    _FORMS.set({**_FORMS.get(), **forms})
+
+
+def given_forms(names_: Iterable[str]) -> tuple[tuple[str, str], ...]:
+    """The forms given (by `names` or `use_forms`) for any of `names_` now: a cache key."""
+    forms = _FORMS.get()
+    return tuple((n, forms[n]) for n in names_ if n in forms) if forms else ()
 
 
 def symbol_latex(name: str) -> str:
