@@ -17,8 +17,8 @@ from symcirc.model.units import (
     degrees,
     eng,
     engineering,
-    percent_text,
     per,
+    percent_text,
     tolerance_text,
 )
 from symcirc.report.filters import eng_latex, qty

@@ -52,6 +52,9 @@ _TEX_TEXT.update({"≠": r"\ensuremath{\neq}", "⋅": r"\ensuremath{\cdot}", "�
                   "∝": r"\ensuremath{\propto}", "∑": r"\ensuremath{\sum}",
                   "⇒": r"\ensuremath{\Rightarrow}", "←": r"\ensuremath{\leftarrow}",
                   "“": "``", "”": "''", "‘": "`", "’": "'"})
+_TEX_TEXT.update({c: r"\textsuperscript{" + d + "}"  # powers of ten in the number style
+                  for c, d in zip("⁰¹⁴⁵⁶⁷⁸⁹", "01456789", strict=True)})
+_TEX_TEXT["⁻"] = r"\textsuperscript{\ensuremath{-}}"
 _MD_SPECIAL = set("\\`*_{}[]<>#|$&~!")
 
 
