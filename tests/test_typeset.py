@@ -68,8 +68,11 @@ def test_results_and_forms_agree_on_names():
     ("RL", r"R_{\mathrm{L}}"),
     ("R_in", r"R_{\mathrm{in}}"),
     # further parts after `_` are further subscripts
-    ("Ra_ref", r"R_{\mathrm{a},\mathrm{ref}}"),
+    ("Ra_ref", r"R_{\mathrm{a,ref}}"),
     ("x_1_2", "x_{1,2}"),
+    ("R_in_a", r"R_{\mathrm{in,a}}"),
+    ("Rs1_max", r"R_{\mathrm{s}1,\mathrm{max}}"),
+    ("omega_c", r"\omega_{c}"),
     ("R_theta", r"R_{\theta}"),
     # abbreviations and constants are left alone
     ("CMRR", "CMRR"),
@@ -90,7 +93,7 @@ def test_a_file_gives_a_names_form_and_it_is_used_in_results(tmp_path):
     (voltage,) = circuit.derive("V(out)")
     with names(circuit.typeset):
         shown = voltage.latex()
-    assert r"R_{\vartheta}" in shown and r"R_{\mathrm{a},\mathrm{ref}}" in shown
+    assert r"R_{\vartheta}" in shown and r"R_{\mathrm{a,ref}}" in shown
     assert symbol_latex("Rt") == r"R_{\mathrm{t}}"  # outside the circuit, the rule again
 
 

@@ -7,7 +7,7 @@ subscript upright):
 - one letter followed by a word is the letter with that word as an upright subscript:
   `Rin` and `R_in` → `R_{\\mathrm{in}}`, `RLa` → `R_{\\mathrm{La}}`, `R4t` → `R_{4\\mathrm{t}}`;
 - further parts after `_` are further subscripts, separated by a comma:
-  `Ra_ref` → `R_{\\mathrm{a},\\mathrm{ref}}`;
+  `Ra_ref` → `R_{\\mathrm{a,ref}}`;
 - digits are subscripts (`R1` → `R_{1}`), and a single letter after `_` stays italic, as a
   node's name does (`V_a` → `V_{a}`);
 - a file may give a name's form itself (`typeset Rt "R_{\\vartheta}"`); `names(...)`
@@ -75,7 +75,7 @@ def given_forms(names_: Iterable[str]) -> tuple[tuple[str, str], ...]:
 
 def symbol_latex(name: str) -> str:
     """LaTeX of a symbol name: `Rin` → `R_{\\mathrm{in}}`, `eps` → `\\varepsilon`,
-    `Ra_ref` → `R_{\\mathrm{a},\\mathrm{ref}}`, `R1` → `R_{1}` (the rules above)."""
+    `Ra_ref` → `R_{\\mathrm{a,ref}}`, `R1` → `R_{1}` (the rules above)."""
     given = _FORMS.get().get(name)
     return given if given is not None else _rule_latex(name)
 
@@ -88,9 +88,14 @@ def _rule_latex(name: str) -> str:
     base, subscripts = _split_head(head)
     if base is None:
         return sympy.latex(sympy.Symbol(name))
+    node_like = not subscripts and len(rest) == 1  # `V_a`: set like the node `a`
     for part in rest:
-        subscripts.append(part if len(part) == 1 and part.isalpha() else _subscript(part))
-    return base + (f"_{{{','.join(subscripts)}}}" if subscripts else "")
+        subscripts.append(part if node_like and len(part) == 1 and part.isalpha()
+                          else _subscript(part))
+    if not subscripts:
+        return base
+    # adjacent upright words read as one: `\mathrm{a,ref}`
+    return base + "_{" + ",".join(subscripts).replace(r"},\mathrm{", ",") + "}"
 
 
 def _split_head(head: str) -> tuple[str | None, list[str]]:
