@@ -155,3 +155,17 @@ def test_the_form_is_set_by_derive_and_the_python_api(tmp_path, capsys):
     assert r"R_{\vartheta}" in voltage.latex()
     # the command's forms end with it: the same result elsewhere is set by the rule
     assert symbol_latex("Rt") == r"R_{\mathrm{t}}"
+
+
+def test_inspect_shows_the_given_forms(tmp_path, capsys):
+    import json
+
+    from symcirc.cli import main
+
+    path = tmp_path / "sensor.circuit"
+    path.write_text('typeset Rt "R_{\\vartheta}"\nvoltage source Uin (a, gnd) = 1 V\n'
+                    "resistor Rt (a, gnd) = 1k\n", encoding="utf-8")
+    assert main(["inspect", str(path)]) == 0
+    assert "Typeset\n  Rt  R_{\\vartheta}" in capsys.readouterr().out
+    assert main(["inspect", str(path), "--format", "json"]) == 0
+    assert json.loads(capsys.readouterr().out)["typeset"] == {"Rt": r"R_{\vartheta}"}
