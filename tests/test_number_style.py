@@ -56,6 +56,11 @@ ROOT = Path(__file__).resolve().parents[1]
     (2100, "1/F", "2.1×10³ 1/F"),
     # derived units of derivatives take the prefix too
     (-6.247e-4, "V/Ω", "−624.7 µV/Ω"),
+    # levels, angles and percentages never take a prefix; the degree sign follows the number
+    (-0.0512, "dB", "−0.0512 dB"),
+    (-118.83, "dB", "−118.8 dB"),
+    (-179.93, "°", "−179.9°"),
+    (0.25, "%", "0.25 %"),
 ])
 def test_display_numbers(value, unit, shown):
     assert eng(value, unit) == shown
@@ -118,17 +123,41 @@ def _display_text(note: str) -> str:
     return re.sub(r"`[^`\n]*`", "", text)
 
 
-def test_example_notes_hold_no_exponents_and_no_hyphen_minus(tmp_path):
+def _assert_one_style(text: str, where: str) -> None:
+    exponents = re.findall(r".{0,30}\d[eE][+\-−]?\d", text)
+    assert not exponents, (where, exponents)
+    hyphens = re.findall(r".{0,30}(?<![\w.\-/|*(])-\d", text)
+    assert not hyphens, (where, hyphens)
+
+
+EXAMPLES = ("bridge_adc", "diff_amp", "leak_tone_filter", "antialias_filter")
+
+
+@pytest.mark.parametrize("example", EXAMPLES)
+def test_example_notes_hold_no_exponents_and_no_hyphen_minus(example):
     from symcirc.report.note import render_note_for
 
-    for example in ("bridge_adc", "leak_tone_filter"):
-        text = _display_text(render_note_for(ROOT / "examples" / f"{example}.circuit",
-                                             "markdown"))
-        assert MINUS in text, example
-        exponents = re.findall(r".{30}\d[eE][+\-−]?\d", text)
-        assert not exponents, (example, exponents)
-        hyphens = re.findall(r".{30}(?<![\w.\-/|])-\d", text)
-        assert not hyphens, (example, hyphens)
+    text = _display_text(render_note_for(ROOT / "examples" / f"{example}.circuit",
+                                         "markdown"))
+    assert MINUS in text, example
+    _assert_one_style(text, example)
+
+
+@pytest.mark.parametrize(("example", "quantities"), [
+    *((example, []) for example in EXAMPLES[:3]),
+    ("antialias_filter", ["gain(Uin, out).f0", "gain(Uin, out).Q",
+                          "at(gain(Uin, out), 100 kHz).dB", "at(gain(Uin, out), 100 kHz).phase",
+                          "sensitivity(gain(Uin, out).f0, C1)"]),
+])
+def test_derive_values_in_the_same_style(example, quantities, capsys):
+    from symcirc.cli import main
+
+    path = str(ROOT / "examples" / f"{example}.circuit")
+    assert main(["derive", path, *quantities, "--values"]) == 0
+    shown = [line.rsplit("    ≈ ", 1)[1] for line in capsys.readouterr().out.splitlines()
+             if "    ≈ " in line]  # the values, not the formulas (which are code)
+    assert shown, example
+    _assert_one_style("\n".join(shown), example)
 
 
 def test_tolerance_contributions_carry_units(tmp_path):

@@ -196,6 +196,9 @@ MINUS = "\u2212"
 DIGITS = 4
 """Significant digits of every displayed value."""
 
+UNPREFIXED = frozenset({"dB", "°", "%"})
+"""Units written without an SI prefix: levels, angles, percentages."""
+
 _SUPERSCRIPT = str.maketrans("0123456789-", "⁰¹²³⁴⁵⁶⁷⁸⁹⁻")
 
 
@@ -227,6 +230,8 @@ def eng(value: float | Fraction, unit: str = "", digits: int = DIGITS) -> str:
         number = {math.inf: "∞", -math.inf: "−∞"}.get(x, "not a number")
         return f"{number} {unit}".rstrip()
     number, prefix = eng_parts(x, unit, digits)
+    if unit == "°":  # an angle's sign follows the number (SI Brochure)
+        return f"{display_number(number)}°"
     return f"{display_number(number)} {prefix}{unit}".rstrip()
 
 
@@ -235,11 +240,14 @@ def eng_parts(value: float | Fraction, unit: str = "", digits: int = DIGITS) -> 
     typesetters (LaTeX's siunitx): (-4.762e-6, '') → ('-4.762', 'µ'), 1.2e-18 → ('1.2e-18', '').
 
     Pure numbers between 0.1 and 1000 are plain (a gain of `0.5`, not `500 m`); reciprocal
-    units (`1/F`) take a power of ten instead of a prefix.
+    units (`1/F`) take a power of ten instead of a prefix; levels and angles (`dB`, `°`,
+    `%`) never take a prefix.
     """
     x = float(value)
     if x == 0:
         return "0", ""
+    if unit in UNPREFIXED:
+        return (f"{x:.{digits}g}", "") if 1e-3 <= abs(x) < 1e6 else (_scientific(x, digits), "")
     if (not unit or unit.startswith("1/")) and 0.1 <= abs(x) < 1000:
         return f"{x:.{digits}g}", ""
     if unit.startswith("1/"):
