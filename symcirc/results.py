@@ -191,6 +191,10 @@ class Result:
             # big results
             if not isinstance(self._value, sympy.Basic) and hasattr(self._value, "to_latex"):
                 return self._value.to_latex()
+            if isinstance(self._value, sympy.Float):  # a value found numerically
+                from .model.units import number_latex
+
+                return number_latex(float(self._value), self.unit)
             return latex_of(self.expression)
 
     def _repr_latex_(self) -> str:

@@ -167,3 +167,12 @@ def test_tolerance_contributions_carry_units(tmp_path):
     rows = [line for line in text.splitlines() if line.startswith("| $R_{1}$ | 999 Ω")]
     assert rows and all("V/Ω" in row or "µS" in row or "Ω" in row for row in rows)
     assert any("µV/Ω" in row for row in rows)
+
+
+def test_values_found_numerically_are_shown_in_the_style_with_their_unit():
+    import symcirc
+
+    circuit = symcirc.load(str(ROOT / "examples" / "antialias_filter.circuit"))
+    (corner,) = circuit.derive("gain(Uin, out).f3db")
+    assert corner.latex().endswith(r"\,\mathrm{Hz}")
+    assert "." in corner.latex() and len(corner.latex().split(r"\,")[0]) <= 5  # 4 digits

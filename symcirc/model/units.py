@@ -256,6 +256,27 @@ def eng_parts(value: float | Fraction, unit: str = "", digits: int = DIGITS) -> 
     return (_scientific(x, digits), "") if "e" in mantissa else (mantissa, prefix)
 
 
+def number_latex(value: float | Fraction, unit: str = "", digits: int = DIGITS) -> str:
+    """A value as `eng` shows it, as LaTeX maths: `4.7\\,\\mathrm{k\\Omega}`,
+    `1.2 \\times 10^{-18}\\,\\mathrm{V}`, `-45^{\\circ}`."""
+    x = float(value)
+    if not math.isfinite(x):
+        return {math.inf: r"\infty", -math.inf: r"-\infty"}.get(x, r"\text{not a number}")
+    number, prefix = eng_parts(x, unit, digits)
+    if "e" in number:
+        mantissa, exponent = number.split("e")
+        number = mantissa + r" \times 10^{" + str(int(exponent)) + "}"
+    if unit == "°":
+        return number + r"^{\circ}"
+    return number + (r"\," + unit_latex(prefix + unit) if prefix or unit else "")
+
+
+def unit_latex(unit: str) -> str:
+    """A unit inside maths (`\\mathrm{k\\Omega}`), '' for a pure number."""
+    mapped = unit.replace("Ω", r"\Omega ").replace("µ", r"\mu ").replace("%", r"\%")
+    return r"\mathrm{" + mapped.strip() + "}" if unit else ""
+
+
 def display_number(number: str) -> str:
     """An ASCII number as display text: U+2212 for minus, `1.2×10⁻¹⁸` for `1.2e-18`."""
     if "e" in number:

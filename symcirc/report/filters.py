@@ -12,7 +12,8 @@ from typing import Any
 from markupsafe import Markup
 
 from ..model.units import eng as units_eng
-from ..model.units import eng_parts, engineering_parts, percent_text
+from ..model.units import eng_parts, engineering_parts, number_latex, percent_text
+from ..model.units import unit_latex as units_latex
 
 _SIUNITX_PREFIX = {
     "f": r"\femto", "p": r"\pico", "n": r"\nano", "µ": r"\micro", "m": r"\milli", "": "",
@@ -155,23 +156,12 @@ def qty_percent(value: Any, digits: int = 3) -> str:
 
 def unit_latex(unit: str) -> str:
     """A unit inside maths (`\\mathrm{k\\Omega}`-style), for MathML and Markdown maths."""
-    mapped = unit.replace("Ω", r"\Omega ").replace("µ", r"\mu ").replace("%", r"\%")
-    return r"\mathrm{" + mapped.strip() + "}" if unit else ""
+    return units_latex(unit)
 
 
 def eng_latex(value: Any, unit: str = "", digits: int = 4) -> str:
     """A number with its unit as maths: eng_latex(4700, 'Ω') == r'4.7\\,\\mathrm{k\\Omega}'."""
-    if value is None:
-        return r"\text{---}"
-    number, prefix = eng_parts(value, unit, digits)
-    return _exponent_latex(number) + (r"\," + unit_latex(prefix + unit) if prefix or unit else "")
-
-
-def _exponent_latex(number: str) -> str:
-    if "e" not in number:
-        return number
-    base, exponent = number.split("e")
-    return base + r" \times 10^{" + str(int(exponent)) + "}"
+    return r"\text{---}" if value is None else number_latex(value, unit, digits)
 
 
 def mathml(latex: Any, display: bool = False) -> Markup:
