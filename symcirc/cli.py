@@ -8,7 +8,6 @@ Exit status: 0 success, 1 a claim or check that does not hold, 2 bad input or us
 from __future__ import annotations
 
 import argparse
-import contextvars
 import importlib
 import sys
 import textwrap
@@ -82,9 +81,7 @@ def main(argv: list[str] | None = None) -> int:
         chosen = top.parse_args(argv)
         # options may stand between positional arguments (`derive FILE --values Q1 Q2`)
         args = command_parser(chosen.command).parse_intermixed_args(chosen.arguments)
-        # in a context of its own: what a command sets for its circuit (a file's typeset
-        # forms) ends with it
-        return int(contextvars.copy_context().run(_module(chosen.command).run, args) or 0)
+        return int(_module(chosen.command).run(args) or 0)
     except SymcircError as err:
         print(err.format(), file=sys.stderr)
         return 2

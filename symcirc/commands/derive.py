@@ -43,12 +43,10 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from ..model.typeset import use_forms
     from ..pipeline import Pipeline
 
     pipeline = Pipeline.load(args.file)
     circuit = pipeline.circuit
-    use_forms(circuit.typeset)
     for notice in circuit.notices:
         print(_notice(notice, circuit), file=sys.stderr)
     if not args.quantities and not circuit.derives:

@@ -61,14 +61,8 @@ def names(forms: Mapping[str, str]) -> Iterator[None]:
         _FORMS.reset(token)
 
 
-def use_forms(forms: Mapping[str, str]) -> None:
-    """From now on in this context, the names in `forms` are set as given (a command runs
-    in a context of its own, so they end with it)."""
-    _FORMS.set({**_FORMS.get(), **forms})
-
-
 def given_forms(names_: Iterable[str]) -> tuple[tuple[str, str], ...]:
-    """The forms given (by `names` or `use_forms`) for any of `names_` now: a cache key."""
+    """The forms given (by `names`) for any of `names_` now: a cache key."""
     forms = _FORMS.get()
     return tuple((n, forms[n]) for n in names_ if n in forms) if forms else ()
 
