@@ -28,6 +28,7 @@ from .check.dimensions import check_assumption, check_circuit, claim_problem, sy
 from .engine.memo import Memo
 from .errors import Location, SymcircError
 from .language import syntax
+from .model import typeset
 from .model.circuit import Assumption, Circuit, Claim
 from .quantities import check_assumptions, derive_quantity, options_from, read_quantity
 from .quantities.common import expanded_definitions
@@ -136,14 +137,22 @@ class Pipeline:
     def derive(self, request: Request) -> list[Result]:
         """The results of one request as every command shows them: canonical (with the
         limits), then the `>>` approximations, then design forms and steps when
-        `options.steps`; each proved equal to the canonical result first."""
+        `options.steps`; each proved equal to the canonical result first. Names are set
+        with the file's `typeset` forms, in the forms and steps and in `Result.latex()`."""
+        with typeset.names(self.circuit.typeset):
+            results = self._derive(request)
+        for result in results:
+            result.typeset = self.circuit.typeset
+        return [result.seal() for result in results]
+
+    def _derive(self, request: Request) -> list[Result]:
         from .forms import finish
         from .forms.dividers import Unsupported
 
         results = derive_quantity(self.circuit, request.quantity, request.options)
         approximations = [a for a in request.options.assumptions if a.kind == "much_greater"]
         if not approximations and not request.options.steps:
-            return [result.seal() for result in results]
+            return results
         try:
             results = finish(self.circuit, request.quantity, results, request.options)
         except Unsupported as problem:
@@ -152,7 +161,7 @@ class Pipeline:
                 or Location(self.circuit.file, 0, 0)
             what = f"where {first.symbol} >> {first.target}: " if first is not None else ""
             raise SymcircError.at(where, f"{what}{problem}", self.circuit.source) from None
-        return [result.seal() for result in results]
+        return results
 
     def derive_text(self, text: str, **fields: Any) -> list[Result]:
         """Derive one quantity written as text (the Python API and the documents'

@@ -99,6 +99,8 @@ class Result:
         self.cautions: list[str] = []
         """Safety cautions shown with the result (set by `Circuit.derive`; see
         symcirc.analysis.cautions)."""
+        self.typeset: dict[str, str] = {}
+        """Names' forms given by the circuit's file (`typeset`), used by `latex()`."""
         self.name_latex: str | None = None
         """How the quantity is set in LaTeX when it has a symbol of the trade (`\\omega_{0}`)."""
 
@@ -122,6 +124,7 @@ class Result:
                       part=self.part, base=self.base, condition=self.condition,
                       parsed=self.parsed)
         made.form = self.form
+        made.typeset = self.typeset
         made.steps = list(self.steps)
         made.details = dict(self.details)
         made.cautions = list(self.cautions)
@@ -181,12 +184,18 @@ class Result:
         return self._value.to_text()
 
     def latex(self) -> str:
-        # the engine writes LaTeX straight from its terms: far faster than sympy for big results
-        if not isinstance(self._value, sympy.Basic) and hasattr(self._value, "to_latex"):
-            return self._value.to_latex()
-        from .model.typeset import latex_of
+        from .model.typeset import latex_of, names
 
-        return latex_of(self.expression)
+        with names(self.typeset):
+            # the engine writes LaTeX straight from its terms: far faster than sympy for
+            # big results
+            if not isinstance(self._value, sympy.Basic) and hasattr(self._value, "to_latex"):
+                return self._value.to_latex()
+            if isinstance(self._value, sympy.Float):  # a value found numerically
+                from .model.units import number_latex
+
+                return number_latex(float(self._value), self.unit)
+            return latex_of(self.expression)
 
     def _repr_latex_(self) -> str:
         return f"$\\displaystyle {self.quantity_latex()} = {self.latex()}$"

@@ -56,7 +56,7 @@ def pdflatex(tex: Path) -> Path:
     """Compile once (as the tests allow) and return the PDF; fails with the log's errors."""
     run = subprocess.run(
         ["pdflatex", "-interaction=nonstopmode", "-halt-on-error", tex.name],
-        cwd=tex.parent, capture_output=True, text=True, timeout=180)
+        cwd=tex.parent, capture_output=True, text=True, errors="replace", timeout=180)
     log = tex.with_suffix(".log").read_text(errors="replace") if tex.with_suffix(
         ".log").exists() else run.stdout
     assert run.returncode == 0, "\n".join(line for line in log.splitlines()

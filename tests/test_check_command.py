@@ -316,4 +316,4 @@ def test_an_equality_of_parts_never_holds(tmp_path, capsys):
     status, out, _ = run(tmp_path, text, "V(out) = R2/R1*(V2 - V1)", capsys=capsys)
     assert status == 1 and "holds" not in out.replace("holds only", "")
     assert ("counterexample: at R1 = 2, R2 = 3, R3 = 4, R4 = 5, V1 = 6, V2 = 7: "
-            "claimed 3/2 (≈ 1.5), derived 13/18 (≈ 0.722222)") in out
+            "claimed 3/2 (≈ 1.5), derived 13/18 (≈ 0.7222)") in out

@@ -32,9 +32,12 @@ def test_eng_uses_si_prefixes(value, unit, text):
     assert filters.eng(value, unit) == text
 
 
-def test_eng_of_pure_numbers_has_no_prefix():
-    # common practice: gains and ratios are written plainly, not as "12.3 m"
-    assert filters.eng(0.0123) == "0.0123"
+def test_eng_of_pure_numbers_is_plain_only_from_0_1_to_1000():
+    # a gain of 0.5 reads plainly; smaller and larger pure numbers take a prefix like any
+    # other value, so one value reads the same everywhere (500 µ, never 0.0005)
+    assert filters.eng(0.5) == "0.5"
+    assert filters.eng(0.0123) == "12.3 m"
+    assert filters.eng(-4.762e-6) == "−4.762 µ"
     assert filters.eng(None, "V") == "—"
 
 
@@ -42,6 +45,7 @@ def test_qty_writes_siunitx_units():
     assert filters.qty(4700, "Ω") == r"\qty{4.7}{\kilo\ohm}"
     assert filters.qty(1e-8, "F") == r"\qty{10}{\nano\farad}"
     assert filters.qty(0.5) == r"\num{0.5}"
+    assert filters.qty(0.0005) == r"\num{500}\,\ensuremath{\mu}"  # siunitx takes no bare prefix
 
 
 def test_escape_tex_keeps_every_special_character_literal():

@@ -215,7 +215,7 @@ def test_a_changed_formula_is_named_by_its_section(notes_folder, capsys):
     assert "the source changed since the note was written" in out
     section = out[out.index('section "gain(Uref, out)" changed:'):]
     assert "- " in section and "\\frac{R_{2}}{R_{1} + R_{2}}" in section  # as written
-    assert "+ " in section and "R_{2} \\parallel RL" in section  # as it is now
+    assert "+ " in section and "R_{2} \\parallel R_{\\mathrm{L}}" in section  # as it is now
 
 
 def test_one_stale_note_fails_the_folder_and_every_note_is_reported(notes_folder, capsys):

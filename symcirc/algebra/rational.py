@@ -17,7 +17,7 @@ from typing import Any
 
 import sympy
 
-from ..model.typeset import symbol_latex
+from ..model.typeset import given_forms, symbol_latex
 from . import polynomials as polys
 from .polynomials import LAPLACE_NAME, AlgebraError, Poly, PolynomialRing
 
@@ -271,12 +271,12 @@ class RationalFunction:
         return _Printer(self.ring, _TEXT).fraction(self.numerator, self.denominator)
 
     def to_latex(self) -> str:
-        """LaTeX of the same layout as `to_text`."""
-        return self._latex
-
-    @cached_property
-    def _latex(self) -> str:
-        return _Printer(self.ring, _LATEX).fraction(self.numerator, self.denominator)
+        """LaTeX of the same layout as `to_text` (remembered per set of the names' forms)."""
+        forms = given_forms(self.ring.names)
+        memo = self.__dict__.setdefault("_latex_by_forms", {})
+        if forms not in memo:
+            memo[forms] = _Printer(self.ring, _LATEX).fraction(self.numerator, self.denominator)
+        return memo[forms]
 
     def to_sympy(self) -> sympy.Expr:
         """The function as a sympy expression, laid out as `to_text` writes it."""

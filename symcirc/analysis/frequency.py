@@ -17,7 +17,7 @@ import sympy
 
 from ..language import syntax
 from ..model.circuit import Circuit
-from ..model.units import eng
+from ..model.units import decibels, degrees, eng
 from ..quantities.registry import DeriveOptions
 from ..results import Result
 from .quantities import Reader, _per, _unit_of, base_text, definitions, tolerances
@@ -466,10 +466,10 @@ def response_quantity(circuit: Circuit, quantity: syntax.Quantity,
             rows.append(row)
             mark = " (−3 dB)" if f in corners else ""
             band_text = "" if spread is None else (
-                f" [{row['dB_low']:.3f} … {row['dB_high']:.3f} dB, "
-                f"{row['phase_low']:.2f}° … {row['phase_high']:.2f}°]")
+                f" [{decibels(row['dB_low']).removesuffix(' dB')} … {decibels(row['dB_high'])}, "
+                f"{degrees(row['phase_low'])} … {degrees(row['phase_high'])}]")
             result.notes.append(f"At {eng(f, 'Hz')}{mark}: |H| = {eng(magnitude, inner.unit)}, "
-                                f"{db:.3f} dB, phase {phase:.2f}°{band_text}.")
+                                f"{decibels(db)}, phase {degrees(phase)}{band_text}.")
         if spread is not None:
             result.notes.append(f"Spreads in brackets: 0.1 % … 99.9 % of {spread.samples:,} "
                                 "Monte Carlo samples, each toleranced part uniform over its "

@@ -43,16 +43,21 @@ def _figure(rows: int = 1):
 
 
 def _eng_axis(axis, unit: str) -> None:
-    from matplotlib.ticker import EngFormatter
+    """Tick labels in the notes' number style (`10 kHz`, `−4.7 µ`)."""
+    from matplotlib.ticker import FuncFormatter
 
-    axis.set_major_formatter(EngFormatter(unit=unit, sep=" "))
+    from ..model.units import eng
+
+    axis.set_major_formatter(FuncFormatter(lambda value, _: eng(value, unit)))
 
 
 def _percent_axis(axis) -> None:
     """Plain decimal percentages on a log axis (`0.01 %`, not a power of ten)."""
     from matplotlib.ticker import FuncFormatter
 
-    axis.set_major_formatter(FuncFormatter(lambda value, _: f"{value:g} %"))
+    from ..model.units import percent_text
+
+    axis.set_major_formatter(FuncFormatter(lambda value, _: percent_text(value / 100)))
 
 
 def _axis_label(name: str, unit: str) -> str:
@@ -212,11 +217,13 @@ def loading_figure(
     error = np.abs(source_impedance / (source_impedance + loads))
     figure, axes = _figure()
     axes.loglog(loads, 100 * error, color="C0")
+    from ..model.units import percent_text
+
     if load is not None:
         at = abs(source_impedance / (source_impedance + load))
-        axes.plot([load], [100 * at], "o", color="C3", label=f"load: {100 * at:.3g} %")
+        axes.plot([load], [100 * at], "o", color="C3", label=f"load: {percent_text(at)}")
     if bound is not None:
-        axes.axhline(100 * bound, color="C2", linestyle="--", label=f"bound {100 * bound:.3g} %")
+        axes.axhline(100 * bound, color="C2", linestyle="--", label=f"bound {percent_text(bound)}")
     if smallest is not None:
         from ..model.units import eng
 

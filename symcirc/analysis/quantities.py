@@ -20,7 +20,8 @@ from ..language import syntax
 from ..limits import MAX_TABLE_TERMS
 from ..model.circuit import LAPLACE, SOURCES, UNIT_OF_KIND, Circuit
 from ..model.typeset import latex_of
-from ..model.units import eng
+from ..model.units import degrees, eng
+from ..model.units import per as _per
 from ..model.units import percent_text as percent
 from ..quantities.registry import DeriveOptions
 from ..results import Result
@@ -135,18 +136,6 @@ def _unit_of(circuit: Circuit, symbol: sympy.Symbol) -> str:
         return UNIT_OF_KIND.get(circuit.elements[name].kind, "")
     parameter = circuit.parameters.get(name)
     return parameter.unit if parameter is not None else ""
-
-
-def _per(numerator: str, denominator: str) -> str:
-    """The unit of a ratio: `V/Ω`, '' for V/V, `S` for a pure number over ohms, `1/F`."""
-    if numerator == denominator:
-        return ""
-    if not numerator and denominator in _RECIPROCAL:
-        return _RECIPROCAL[denominator]
-    return f"{numerator or '1'}/{denominator}" if denominator else numerator
-
-
-_RECIPROCAL = {"Ω": "S", "S": "Ω", "s": "Hz", "Hz": "s"}
 
 
 def _names(nominals: dict[sympy.Symbol, Fraction]) -> dict[str, Fraction]:
@@ -268,7 +257,7 @@ def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
                        if r.relative_value is not None), default=0)
         source = _excitation(circuit, inner.expression)
         if table.reference is None and largest > 10 and source is not None:
-            heading += (f" Relative sensitivities up to {float(largest):.3g} mean {q} is near "
+            heading += (f" Relative sensitivities up to {eng(largest)} mean {q} is near "
                         f"balance: sensitivities({q}, {source}) refers them to the excitation.")
         if not table.rows:
             results.append(Result(f"{quantity.name}({q})", sympy.Integer(0), "", nominals,
@@ -575,7 +564,7 @@ def _at_frequency(at: loading.AtFrequency, case: LoadingCase, error: Result) -> 
 
     f = eng(at.frequency, "Hz")
     error.notes.append(f"At {f}: |error| = {percent(abs(at.error))}, phase "
-                       f"{math.degrees(cmath.phase(at.error)):.4g}°; |U_loaded| = "
+                       f"{degrees(math.degrees(cmath.phase(at.error)))}; |U_loaded| = "
                        f"{eng(abs(at.voltage), 'V')}.")
     power = Result(f"{case.label}.power", sympy.Float(at.power, 15), "W", {}, (
         f"Average power in the load at {f}, the source value taken as RMS: "

@@ -89,14 +89,17 @@ def _failure_report(claim: Claim, derived: sympy.Expr, verdict) -> str:
 
 
 def _number(value) -> str:
+    from ..model.units import eng
+
     if isinstance(value, sympy.Rational):
         value = Fraction(int(value.p), int(value.q))
     if isinstance(value, Fraction):
         if value.denominator == 1:
             return str(value.numerator)
-        return f"{value} (≈ {float(value):.6g})"
+        return f"{value} (≈ {eng(value)})"
     approx = complex(value.evalf(15))
-    shown = f"{approx.real:.6g}" if approx.imag == 0 else f"{approx:.6g}"
+    shown = eng(approx.real) if approx.imag == 0 else \
+        f"{eng(approx.real)} {'−' if approx.imag < 0 else '+'} j·{eng(abs(approx.imag))}"
     return f"{sympy.sstr(value)} (≈ {shown})" if not value.is_Float else shown
 
 

@@ -95,6 +95,9 @@ def as_text(circuit: Circuit) -> str:
         reference += f", was {chosen[0]})" if chosen else ")"
         others = [n for n in circuit.nodes if n != REFERENCE]
         parts.append("Nodes\n  " + ", ".join([reference, *others]))
+    if circuit.typeset:
+        parts.append("Typeset\n" + "\n".join(
+            f"  {name}  {form}" for name, form in circuit.typeset.items()))
     if circuit.derives:
         lines = []
         for derive in circuit.derives:
@@ -183,6 +186,7 @@ def as_json(circuit: Circuit) -> dict[str, Any]:
         "nodes": list(circuit.nodes),
         "reference": REFERENCE,
         "reference_chosen": circuit.reference_chosen,
+        "typeset": dict(circuit.typeset),
         "aliases": dict(circuit.aliases),
         "derives": [
             {"quantities": list(d.texts),

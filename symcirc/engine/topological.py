@@ -76,8 +76,10 @@ def check_size(nodes: list[str], edges: list[tuple[str, str]], terminals: list[s
     joined = [(u, v) for u, v in joined if u != v]
     count = max(spanning_trees(nodes, edges), spanning_trees(joined_nodes, joined))
     if count > MAX_TERMS:
+        from ..model.units import eng
+
         raise AlgebraError(
-            f"the exact result would have about {count:.3g} terms (more than "
+            f"the exact result would have about {eng(count)} terms (more than "
             f"{MAX_TERMS:,}); that is too large to derive exactly. Give some parts "
             "numbers in the quantity (e.g. equal arms) or split the network into blocks")
 

@@ -15,6 +15,7 @@ import sympy
 
 from ..language import syntax
 from ..model.circuit import Assumption, Circuit
+from ..model.units import eng
 from ..quantities.registry import DeriveOptions
 from ..results import Result, Step
 from . import approximate as approx
@@ -231,10 +232,10 @@ def _instability(parameters: dict[str, dict]) -> str | None:
         if value is None:
             continue
         if name.startswith("Q") and value < 0:
-            return (f"Unstable: {name} = {value:.4g} < 0 at the nominal values, so the pole "
+            return (f"Unstable: {name} = {eng(value)} < 0 at the nominal values, so the pole "
                     "pair lies in the right half-plane and the response grows without bound.")
         if name.startswith("p") and value > 0:
-            return (f"Unstable: the pole {name} = {value:.4g} rad/s lies in the right "
+            return (f"Unstable: the pole {name} = {eng(value, 'rad/s')} lies in the right "
                     "half-plane at the nominal values.")
     return None
 

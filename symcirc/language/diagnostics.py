@@ -27,8 +27,8 @@ _TOKEN_NAMES = {
     "ASYMMETRIC": "a tolerance `+A % -B %`", "_NL": "the end of the line",
     "$END": "the end of the file", "AND": "`and`", "AT": "`at`",
 }
-_STARTS = ("a statement starts with a keyword (title, param, resistor, capacitor, ..., port, "
-           "block, derive, claim) or the name of a block")
+_STARTS = ("a statement starts with a keyword (title, typeset, param, resistor, capacitor, "
+           "..., port, block, derive, claim) or the name of a block")
 _OPERAND = {"NAME", "NUMBER", "LPAR"}
 _WORD = re.compile(r"[ \t\f]*([A-Za-z_][A-Za-z0-9_]*)")
 _INSTANCE = re.compile(r"[ \t\f]*[A-Za-z_]\w*[ \t\f]+[A-Za-z_]\w*[ \t\f]*\(")

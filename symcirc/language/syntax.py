@@ -139,6 +139,16 @@ class Title(Node):
 
 
 @dataclass(frozen=True)
+class Typeset(Node):
+    """`typeset NAME "LaTeX"`: the form in which a name is set in formulas."""
+
+    name: Name
+    form: str
+    form_column: int
+    """Column of the quoted form (errors point at it)."""
+
+
+@dataclass(frozen=True)
 class Param(Node):
     name: Name
     value: Value | None
@@ -224,7 +234,7 @@ class ClaimStatement(Node):
 
 Statement = (
     Title | Param | ElementStatement | PortStatement | Instance | Block | DeriveStatement
-    | ClaimStatement
+    | ClaimStatement | Typeset
 )
 
 

@@ -24,7 +24,7 @@ MAX_BLOCK_DEPTH = 50
 """Deepest nesting of block definitions."""
 
 STATEMENT_KEYWORDS = (
-    "title", "param", "resistor", "capacitor", "inductor", "conductance", "impedance",
+    "title", "typeset", "param", "resistor", "capacitor", "inductor", "conductance", "impedance",
     "admittance", "voltage", "current", "opamp", "transformer", "coupling", "port", "block",
     "end", "derive", "claim",
 )
@@ -295,6 +295,10 @@ class TreeBuilder(Transformer):
             raise self._error_at(keyword, f"the file holds more than {MAX_STATEMENTS:,} "
                                           "parameters, elements, ports and instances: the most "
                                           "a circuit may hold; split it into parts")
+
+    def typeset(self, keyword: Token, name: Token, form: Token) -> st.Typeset:
+        return st.Typeset(keyword.line, keyword.column, _name(name), _unquote(form),
+                          form.column)
 
     def param(self, keyword: Token, name: Token, value: st.Value | None,
               description: Token | None) -> st.Param:

@@ -225,6 +225,8 @@ class Circuit:
     """True when the file never named the reference node and one was chosen."""
     aliases: dict[str, str] = field(default_factory=dict)
     """Other names of nodes: the user's name of a chosen reference node → `gnd`."""
+    typeset: dict[str, str] = field(default_factory=dict)
+    """Names' LaTeX forms given by the file's `typeset` statements (checked safe)."""
 
     def symbol_nominals(self) -> dict[sympy.Symbol, Fraction]:
         """Nominal value of every element and parameter symbol that has one."""

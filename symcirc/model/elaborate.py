@@ -17,7 +17,7 @@ import sympy
 from ..errors import Location, SymcircError
 from ..language import syntax
 from ..limits import MAX_INSTANCE_DEPTH, MAX_STATEMENTS
-from . import topology, units
+from . import topology, typeset, units
 from .circuit import (
     LAPLACE,
     REFERENCE,
@@ -46,7 +46,7 @@ from .expressions import (
 )
 
 KEYWORDS = (
-    "title", "param", "resistor", "capacitor", "inductor", "conductance", "impedance",
+    "title", "typeset", "param", "resistor", "capacitor", "inductor", "conductance", "impedance",
     "admittance", "voltage source", "current source", "opamp", "transformer", "coupling",
     "port", "block", "end", "derive", "claim",
 )
@@ -154,6 +154,7 @@ class _Elaborator:
         self.top = _Scope(parent=None, instance=None)
         self.title: str | None = None
         self.title_seen: syntax.Title | None = None
+        self.typeset_statements: list[syntax.Typeset] = []
         self.what: dict[str, str] = {}
         """Final name → what it is: parameter, element, port, instance, block."""
         self.where: dict[str, Location] = {}
@@ -216,6 +217,7 @@ class _Elaborator:
             nodes=tuple(nodes) if node_set else (),
             reference_chosen=bool(self.aliases),
             aliases=dict(self.aliases),
+            typeset=self.typeset_forms(),
         )
         circuit.derives, circuit.claims = self.directives_of(circuit)
         origins = {d.name: d.scope.trail for d in self.elements if d.scope.trail}
@@ -247,12 +249,12 @@ class _Elaborator:
             elif isinstance(statement, syntax.Instance):
                 self.expand(statement, scope)
             elif isinstance(statement, syntax.Title | syntax.DeriveStatement
-                            | syntax.ClaimStatement):
+                            | syntax.ClaimStatement | syntax.Typeset):
                 self.top_level_statement(statement, scope)
 
     def top_level_statement(self, statement, scope: _Scope) -> None:
         keyword = {syntax.Title: "title", syntax.DeriveStatement: "derive",
-                   syntax.ClaimStatement: "claim"}[type(statement)]
+                   syntax.ClaimStatement: "claim", syntax.Typeset: "typeset"}[type(statement)]
         if scope is not self.top:
             raise self.error(statement, f"`{keyword}` belongs at the top level, not inside a block")
         if isinstance(statement, syntax.Title):
@@ -262,8 +264,29 @@ class _Elaborator:
                     (f"the first title is at line {self.title_seen.line}",),
                 )
             self.title, self.title_seen = statement.text, statement
+        elif isinstance(statement, syntax.Typeset):
+            self.typeset_statements.append(statement)
         else:
             self.directives.append(statement)
+
+    def typeset_forms(self) -> dict[str, str]:
+        """The names' typeset forms given by `typeset` statements, checked for safety."""
+        forms: dict[str, str] = {}
+        seen: dict[str, syntax.Typeset] = {}
+        for statement in self.typeset_statements:
+            name = statement.name.name
+            if self.what.get(name) not in ("parameter", "element"):
+                raise self.error(statement.name, f"`typeset` names `{name}`, which is no "
+                                 "parameter or element of the circuit")
+            if name in seen:
+                raise self.error(statement.name, f"the typeset form of `{name}` is given twice",
+                                 (f"the first is at line {seen[name].line}",))
+            problem = typeset.check_form(statement.form)
+            if problem is not None:
+                raise SymcircError.at(Location(self.file, statement.line, statement.form_column),
+                                      problem, self.source)
+            forms[name], seen[name] = statement.form, statement
+        return forms
 
     def declare(self, name: syntax.Name, what: str, scope: _Scope) -> str:
         """Enter a name in its scope and in the flat namespace; returns its final name."""

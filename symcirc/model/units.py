@@ -180,23 +180,41 @@ def constant_value(expr: syntax.Expr) -> Fraction | None:
 
 
 # ---------------------------------------------------------------- showing values
+#
+# One number style for every display (tables, steps, sheets, plots, `derive --values`, the
+# JSON's display strings): engineering notation with an SI prefix and the unit (`4.7 kΩ`,
+# `−4.762 µ`, `349.5 k`), four significant digits, U+2212 for minus; beyond the prefixes
+# a power of ten (`1.2×10⁻¹⁸ V`). Machine-readable fields (JSON numbers, exported code) keep
+# numbers as numbers and never pass through here.
 
 PREFIXES = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G", 12: "T"}
 """SI prefixes by power of ten, as engineering notation shows them."""
 
+MINUS = "\u2212"
+"""The minus sign of display text (never the hyphen-minus)."""
 
-def engineering_parts(value: float, digits: int = 5) -> tuple[str, str]:
+DIGITS = 4
+"""Significant digits of every displayed value."""
+
+UNPREFIXED = frozenset({"dB", "°", "%"})
+"""Units written without an SI prefix: levels, angles, percentages."""
+
+_SUPERSCRIPT = str.maketrans("0123456789-", "⁰¹²³⁴⁵⁶⁷⁸⁹⁻")
+
+
+def engineering_parts(value: float, digits: int = DIGITS) -> tuple[str, str]:
     """(mantissa, prefix) of `value` in engineering notation: 4700 → ('4.7', 'k').
 
     The one engineering-notation algorithm of the package (inspect, analyses, reports).
-    Beyond the prefixes (f … T) the mantissa is plain scientific notation and the prefix ''.
+    Beyond the prefixes (f … T) the mantissa is scientific notation (`1.2e-18`) and the
+    prefix ''; `eng` shows that as a power of ten.
     """
     x = float(value)
     if x == 0 or not math.isfinite(x):
         return f"{x:g}", ""
     exponent = 3 * math.floor(math.log10(abs(x)) / 3)
     if not -15 <= exponent <= 12:
-        return f"{x:.{digits}g}", ""
+        return f"{x:.{digits}e}", ""
     mantissa = float(f"{x / 10.0**exponent:.{digits}g}")
     if abs(mantissa) >= 1000 and exponent < 12:  # rounding carried into the next prefix
         exponent += 3
@@ -204,35 +222,124 @@ def engineering_parts(value: float, digits: int = 5) -> tuple[str, str]:
     return f"{mantissa:.{digits}g}", PREFIXES[exponent]
 
 
-def engineering(value: Fraction, unit: str = "") -> str:
-    """`value` in engineering notation with an SI prefix: `10 kΩ`, `4.7 nF`, `2.5 V`.
+def eng(value: float | Fraction, unit: str = "", digits: int = DIGITS) -> str:
+    """A value as every display shows it: eng(4700, 'Ω') == '4.7 kΩ',
+    eng(-4.762e-6) == '−4.762 µ', eng(0.0005) == '500 µ', eng(0.25) == '0.25'."""
+    x = float(value)
+    if not math.isfinite(x):
+        number = {math.inf: "∞", -math.inf: "−∞"}.get(x, "not a number")
+        return f"{number} {unit}".rstrip()
+    number, prefix = eng_parts(x, unit, digits)
+    if unit == "°":  # an angle's sign follows the number (SI Brochure)
+        return f"{display_number(number)}°"
+    return f"{display_number(number)} {prefix}{unit}".rstrip()
 
-    Pure numbers (unit '') are shown plainly between 0.001 and a million (`100000`,
-    `0.00385`), and beyond that with the prefix attached as the language writes it (`10M`).
+
+def eng_parts(value: float | Fraction, unit: str = "", digits: int = DIGITS) -> tuple[str, str]:
+    """(number, prefix) of a finite value as `eng` shows it, the number in ASCII for other
+    typesetters (LaTeX's siunitx): (-4.762e-6, '') → ('-4.762', 'µ'), 1.2e-18 → ('1.2e-18', '').
+
+    Pure numbers between 0.1 and 1000 are plain (a gain of `0.5`, not `500 m`); reciprocal
+    units (`1/F`) take a power of ten instead of a prefix; levels and angles (`dB`, `°`,
+    `%`) never take a prefix.
     """
+    x = float(value)
+    if x == 0:
+        return "0", ""
+    if unit in UNPREFIXED:
+        return (f"{x:.{digits}g}", "") if 1e-3 <= abs(x) < 1e6 else (_scientific(x, digits), "")
+    if (not unit or unit.startswith("1/")) and 0.1 <= abs(x) < 1000:
+        return f"{x:.{digits}g}", ""
+    if unit.startswith("1/"):
+        return _scientific(x, digits), ""
+    mantissa, prefix = engineering_parts(x, digits)
+    return (_scientific(x, digits), "") if "e" in mantissa else (mantissa, prefix)
+
+
+def number_latex(value: float | Fraction, unit: str = "", digits: int = DIGITS) -> str:
+    """A value as `eng` shows it, as LaTeX maths: `4.7\\,\\mathrm{k\\Omega}`,
+    `1.2 \\times 10^{-18}\\,\\mathrm{V}`, `-45^{\\circ}`."""
+    x = float(value)
+    if not math.isfinite(x):
+        return {math.inf: r"\infty", -math.inf: r"-\infty"}.get(x, r"\text{not a number}")
+    number, prefix = eng_parts(x, unit, digits)
+    if "e" in number:
+        mantissa, exponent = number.split("e")
+        number = mantissa + r" \times 10^{" + str(int(exponent)) + "}"
+    if unit == "°":
+        return number + r"^{\circ}"
+    return number + (r"\," + unit_latex(prefix + unit) if prefix or unit else "")
+
+
+def unit_latex(unit: str) -> str:
+    """A unit inside maths (`\\mathrm{k\\Omega}`), '' for a pure number."""
+    mapped = unit.replace("Ω", r"\Omega ").replace("µ", r"\mu ").replace("%", r"\%")
+    return r"\mathrm{" + mapped.strip() + "}" if unit else ""
+
+
+def display_number(number: str) -> str:
+    """An ASCII number as display text: U+2212 for minus, `1.2×10⁻¹⁸` for `1.2e-18`."""
+    if "e" in number:
+        mantissa, exponent = number.split("e")
+        number = f"{mantissa}×10{str(int(exponent)).translate(_SUPERSCRIPT)}"
+    return number.replace("-", MINUS)
+
+
+def _scientific(x: float, digits: int) -> str:
+    """`1.2e-18`: `digits` significant digits, trailing zeros dropped."""
+    mantissa, exponent = f"{x:.{digits - 1}e}".split("e")
+    if "." in mantissa:
+        mantissa = mantissa.rstrip("0").rstrip(".")
+    return f"{mantissa}e{int(exponent)}"
+
+
+def engineering(value: Fraction, unit: str = "") -> str:
+    """An exact value in the display style of `eng` (`10 kΩ`, `4.7 nF`, `500 µ`); a value
+    beyond the float range is shown from its exact digits."""
     number = as_float(value)
     if number is None or (number == 0 and value != 0):  # beyond floats: exact digits
         scientific = (Decimal(value.numerator) / Decimal(value.denominator)).normalize()
-        return f"{scientific:.5g} {unit}".rstrip()
-    if not unit and (number == 0 or 1e-3 <= abs(number) < 1e6):
-        return f"{number:.6g}"
-    mantissa, prefix = engineering_parts(number, 5)
-    return f"{mantissa}{prefix}" if not unit else f"{mantissa} {prefix}{unit}"
+        return f"{display_number(_scientific_decimal(scientific))} {unit}".rstrip()
+    return eng(number, unit)
 
 
-def eng(value: float | Fraction, unit: str = "", digits: int = 4) -> str:
-    """A value in a sentence or table: eng(4700, 'Ω') == '4.7 kΩ'. Pure numbers and
-    reciprocal units (`1/F`) take no prefix, where one reads badly: eng(0.02295) == '0.02295'."""
-    x = float(value)
-    if not unit or unit.startswith("1/"):
-        return f"{x:.{digits}g} {unit}".rstrip()
-    mantissa, prefix = engineering_parts(x, digits)
-    return f"{mantissa} {prefix}{unit}"
+def _scientific_decimal(value: Decimal) -> str:
+    mantissa, exponent = f"{value:.4e}".split("e")
+    return f"{mantissa.rstrip('0').rstrip('.')}e{int(exponent)}"
 
 
 def percent_text(value: float | Fraction, digits: int = 3, signed: bool = False) -> str:
-    """A ratio as a percentage: percent_text(-0.000999) == '-0.0999 %'; signed: '+4.41 %'."""
-    return f"{float(value) * 100:{'+' if signed else ''}.{digits}g} %"
+    """A ratio as a percentage: percent_text(-0.000999) == '−0.0999 %'; signed: '+4.41 %';
+    beyond 0.001 % … 10,000 % as a power of ten (`8×10⁴ %`)."""
+    x = float(value) * 100
+    if x == 0 or 1e-3 <= abs(x) < 1e4 or not math.isfinite(x):
+        number = f"{x:{'+' if signed else ''}.{digits}g}"
+    else:
+        number = ("+" if signed and x > 0 else "") + display_number(_scientific(x, digits))
+    return f"{number} %".replace("-", MINUS)
+
+
+def per(numerator: str, denominator: str) -> str:
+    """The unit of a ratio such as a derivative ∂Q/∂x: `V/Ω`, '' for V/V, `S` for a pure
+    number over ohms, `1/F`."""
+    if numerator == denominator:
+        return ""
+    if not numerator and denominator in _RECIPROCAL:
+        return _RECIPROCAL[denominator]
+    return f"{numerator or '1'}/{denominator}" if denominator else numerator
+
+
+_RECIPROCAL = {"Ω": "S", "S": "Ω", "s": "Hz", "Hz": "s"}
+
+
+def decibels(value: float) -> str:
+    """A level in dB with two decimals: decibels(-3.0103) == '−3.01 dB'."""
+    return f"{float(value):.2f} dB".replace("-", MINUS)
+
+
+def degrees(value: float) -> str:
+    """An angle in degrees with one decimal: degrees(-45.04) == '−45.0°'."""
+    return f"{float(value):.1f}°".replace("-", MINUS)
 
 
 def as_float(value: Fraction) -> float | None:
@@ -244,8 +351,8 @@ def as_float(value: Fraction) -> float | None:
 
 
 def percent(fraction: Fraction) -> str:
-    """A relative amount as a percentage without trailing zeros (`0.1`)."""
-    return engineering(fraction * 100)
+    """A relative amount as a percentage without trailing zeros or a sign (`0.1`)."""
+    return percent_text(abs(fraction), 5).removesuffix(" %")
 
 
 def tolerance_text(plus: Fraction, minus: Fraction, relative: bool, unit: str = "") -> str:
@@ -255,4 +362,4 @@ def tolerance_text(plus: Fraction, minus: Fraction, relative: bool, unit: str = 
 
     if plus == minus:
         return f"± {amount(plus)}"
-    return f"+{amount(plus)} -{amount(minus)}"
+    return f"+{amount(plus)} {MINUS}{amount(minus)}"

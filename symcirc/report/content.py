@@ -16,6 +16,7 @@ import sympy
 
 from ..model.circuit import LAPLACE, Assumption, Circuit, Tolerance
 from ..model.typeset import symbol_latex
+from ..model.units import engineering, percent
 from .formulas import Equation, equations
 
 # ---------------------------------------------------------------- the circuit
@@ -86,8 +87,8 @@ def tolerance_text(tolerance: Tolerance | None, unit: str) -> str | None:
 
     def amount(x: Fraction) -> str:
         if tolerance.relative:
-            return f"{float(x * 100):.6g} %"
-        return f"{float(x):.6g} {unit}".rstrip()
+            return f"{percent(x)} %"
+        return engineering(x, unit)
 
     if tolerance.symmetric:
         return f"± {amount(tolerance.plus)}"

@@ -12,7 +12,8 @@ from typing import Any
 from markupsafe import Markup
 
 from ..model.units import eng as units_eng
-from ..model.units import engineering_parts, percent_text
+from ..model.units import eng_parts, engineering_parts, number_latex, percent_text
+from ..model.units import unit_latex as units_latex
 
 _SIUNITX_PREFIX = {
     "f": r"\femto", "p": r"\pico", "n": r"\nano", "µ": r"\micro", "m": r"\milli", "": "",
@@ -52,6 +53,9 @@ _TEX_TEXT.update({"≠": r"\ensuremath{\neq}", "⋅": r"\ensuremath{\cdot}", "�
                   "∝": r"\ensuremath{\propto}", "∑": r"\ensuremath{\sum}",
                   "⇒": r"\ensuremath{\Rightarrow}", "←": r"\ensuremath{\leftarrow}",
                   "“": "``", "”": "''", "‘": "`", "’": "'"})
+_TEX_TEXT.update({c: r"\textsuperscript{" + d + "}"  # powers of ten in the number style
+                  for c, d in zip("⁰¹⁴⁵⁶⁷⁸⁹", "01456789", strict=True)})
+_TEX_TEXT["⁻"] = r"\textsuperscript{\ensuremath{-}}"
 _MD_SPECIAL = set("\\`*_{}[]<>#|$&~!")
 
 
@@ -114,25 +118,14 @@ def engineering(value: float, digits: int = 4) -> tuple[str, str]:
 
 
 def eng(value: Any, unit: str = "", digits: int = 4) -> str:
-    """A number with an SI prefix and its unit: eng(4700, 'Ω') == '4.7 kΩ'.
-
-    Pure numbers (no unit) are shown plainly with `digits` significant digits: a prefix
-    on a gain reads badly. None shows as an em dash.
-    """
-    if value is None:
-        return "—"
-    text = units_eng(value, unit, digits)
-    return text.replace("-", "−") if unit else _minus(text)
-
-
-def _minus(text: str) -> str:
-    """Typographic minus signs (an exponent's sign only, in scientific notation)."""
-    return text.replace("-", "−") if "e" not in text else text.replace("e-", "e−")
+    """A number in the one display style (model.units.eng): eng(4700, 'Ω') == '4.7 kΩ',
+    eng(-4.762e-6) == '−4.762 µ'. None shows as an em dash."""
+    return "—" if value is None else units_eng(value, unit, digits)
 
 
 def percent(value: Any, digits: int = 3) -> str:
     """A ratio as a percentage: percent(0.00125) == '0.125 %'."""
-    return "—" if value is None else _minus(percent_text(value, digits))
+    return "—" if value is None else percent_text(value, digits)
 
 
 def unit_tex(unit: str, prefix: str = "") -> str:
@@ -147,10 +140,11 @@ def qty(value: Any, unit: str = "", digits: int = 4) -> str:
     """A number with its unit for LaTeX: qty(4700, 'Ω') == r'\\qty{4.7}{\\kilo\\ohm}'."""
     if value is None:
         return "---"
-    if not unit:
-        return r"\num{" + f"{float(value):.{digits}g}" + "}"
-    mantissa, prefix = engineering(float(value), digits)
-    return r"\qty{" + mantissa + "}{" + unit_tex(unit, prefix) + "}"
+    number, prefix = eng_parts(value, unit, digits)
+    if not unit or unit not in _SIUNITX_UNIT:  # a prefix alone is no siunitx unit
+        rest = prefix + unit
+        return r"\num{" + number + "}" + (r"\," + escape_tex(rest) if rest else "")
+    return r"\qty{" + number + "}{" + unit_tex(unit, prefix) + "}"
 
 
 def qty_percent(value: Any, digits: int = 3) -> str:
@@ -162,25 +156,12 @@ def qty_percent(value: Any, digits: int = 3) -> str:
 
 def unit_latex(unit: str) -> str:
     """A unit inside maths (`\\mathrm{k\\Omega}`-style), for MathML and Markdown maths."""
-    mapped = unit.replace("Ω", r"\Omega ").replace("µ", r"\mu ").replace("%", r"\%")
-    return r"\mathrm{" + mapped.strip() + "}" if unit else ""
+    return units_latex(unit)
 
 
 def eng_latex(value: Any, unit: str = "", digits: int = 4) -> str:
     """A number with its unit as maths: eng_latex(4700, 'Ω') == r'4.7\\,\\mathrm{k\\Omega}'."""
-    if value is None:
-        return r"\text{---}"
-    if not unit:
-        return _exponent_latex(f"{float(value):.{digits}g}")
-    mantissa, prefix = engineering(float(value), digits)
-    return _exponent_latex(mantissa) + r"\," + unit_latex(prefix + unit)
-
-
-def _exponent_latex(number: str) -> str:
-    if "e" not in number:
-        return number
-    base, exponent = number.split("e")
-    return base + r" \times 10^{" + str(int(exponent)) + "}"
+    return r"\text{---}" if value is None else number_latex(value, unit, digits)
 
 
 def mathml(latex: Any, display: bool = False) -> Markup:

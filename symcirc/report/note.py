@@ -17,6 +17,7 @@ from pathlib import Path
 from typing import Any
 
 from ..analysis.cautions import Assessment, assess, value_caution
+from ..model import typeset
 from ..model.circuit import Circuit
 from ..model.typeset import latex_of
 from ..pipeline import Pipeline
@@ -133,7 +134,8 @@ def write_note(
     if output.path is None:
         write_document(output, text)
         return note
-    images = [(drawing.figure.path, drawing.draw()) for drawing in drawings]
+    with typeset.names(note.circuit.typeset):
+        images = [(drawing.figure.path, drawing.draw()) for drawing in drawings]
     folder = output.folder / folder_name(output.stem)
     shown = {Path(name).name for name, _ in images}
     old = figure_names(_previous_text(output.path), output.stem)
@@ -175,13 +177,21 @@ def build_note(
 ) -> tuple[Note, list]:
     """(note content, figure drawings): the work behind `render_note_for` and `write_note`.
     `pipeline`: the circuit of `path` already read (its solved work is reused)."""
+    source = Path(path)
+    data = _read(source)
+    pipeline = pipeline if pipeline is not None else Pipeline.load(source)
+    with typeset.names(pipeline.circuit.typeset):
+        return _build_note(pipeline, source, data, format, quantities, template, output_path,
+                           progress)
+
+
+def _build_note(pipeline: Pipeline, source: Path, data: bytes, format: str,
+                quantities: Sequence[str] | None, template: str | Path | None,
+                output_path: str | Path | None, progress: bool) -> tuple[Note, list]:
     import symcirc
 
     from .derivations import requests, sections
 
-    source = Path(path)
-    data = _read(source)
-    pipeline = pipeline if pipeline is not None else Pipeline.load(source)
     circuit = pipeline.circuit
     folder = Path(output_path).parent if output_path is not None else Path.cwd()
     wanted = requests(pipeline, quantities)
@@ -211,7 +221,8 @@ def render_note(note: Note, template: str | Path | None = None) -> str:
     """The note's text from its content, with the built-in or the user's templates."""
     from .environment import environment, render
 
-    return render(environment(template), TEMPLATES[note.format], note=note)
+    with typeset.names(note.circuit.typeset if note.circuit is not None else {}):
+        return render(environment(template), TEMPLATES[note.format], note=note)
 
 
 def _note(circuit: Circuit, source: Path, data: bytes, fmt: str,

@@ -8,6 +8,7 @@ from collections.abc import Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
+from ..model import typeset
 from .content import ResultView
 from .progress import Progress
 
@@ -37,6 +38,8 @@ class Sheet:
     caution_thresholds: list[str]
     """The limits the cautions use and where they come from."""
     caution_advice: str
+    typeset: dict[str, str]
+    """Names' forms given by the circuits' files (`typeset`), used while it is rendered."""
 
 
 def render_sheet_for(paths: Sequence[str | Path], format: str,
@@ -46,7 +49,8 @@ def render_sheet_for(paths: Sequence[str | Path], format: str,
     from .environment import environment, render
 
     sheet = build_sheet(paths, format, progress)
-    return render(environment(template), TEMPLATES[format], sheet=sheet)
+    with typeset.names(sheet.typeset):
+        return render(environment(template), TEMPLATES[format], sheet=sheet)
 
 
 def build_sheet(paths: Sequence[str | Path], format: str, progress: bool = False) -> Sheet:
@@ -68,7 +72,8 @@ def build_sheet(paths: Sequence[str | Path], format: str, progress: bool = False
     with Progress(total, enabled=progress) as bar:
         for path, data, pipeline, wanted in loaded:
             circuit = pipeline.circuit
-            derived = sections(pipeline, wanted, analyses=("tolerance",), progress=bar)
+            with typeset.names(circuit.typeset):
+                derived = sections(pipeline, wanted, analyses=("tolerance",), progress=bar)
             assessment = assess(circuit, pipeline.memo)
             mark_cautions(derived, assessment)
             results = [view for section in derived for view in section.results]
@@ -76,4 +81,6 @@ def build_sheet(paths: Sequence[str | Path], format: str, progress: bool = False
                 circuit.title or path.stem, path.as_posix(), hashlib.sha256(data).hexdigest(),
                 results, list(assessment.cautions),
                 list(assessment.not_assessed) if assessment.shown else []))
-    return Sheet(circuits, symcirc.__version__, format, list(THRESHOLDS), DEFER)
+    forms = {name: form for _, _, pipeline, _ in loaded
+             for name, form in pipeline.circuit.typeset.items()}
+    return Sheet(circuits, symcirc.__version__, format, list(THRESHOLDS), DEFER, forms)

@@ -13,6 +13,8 @@ from typing import Any
 import sympy
 
 from ..model.typeset import latex_of
+from ..model.units import decibels, degrees
+from ..model.units import per as unit_per
 from .content import Cell, Spread, Table, name_latex
 from .filters import eng, percent
 
@@ -80,7 +82,7 @@ def tolerance_tables(details: dict[str, Any], unit: str,
         (Cell(c["symbol"], _label_latex(c["symbol"])),
          Cell(f"{_number(c['low'], units.get(c['symbol'], ''))} … "
               f"{_number(c['high'], units.get(c['symbol'], ''))}"),
-         Cell(eng(c["derivative"])),
+         Cell(eng(c["derivative"], unit_per(unit, units.get(c["symbol"], "")))),
          Cell(eng(c["nominal"] * c["derivative"] / nominal) if nominal else "—"),
          Cell(eng(c["down"], unit)), Cell("+" + eng(c["up"], unit)))
         for c in t["contributions"]
@@ -106,11 +108,12 @@ def response_table(details: dict[str, Any], unit: str) -> Table | None:
     out = []
     for row in rows:
         cells = [Cell(eng(row["frequency"], "Hz") + (" (−3 dB)" if row["corner"] else "")),
-                 Cell(f"{eng(row['magnitude'], unit)} ({row['dB']:.2f} dB)"),
-                 Cell(f"{row['phase']:.1f}°")]
+                 Cell(f"{eng(row['magnitude'], unit)} ({decibels(row['dB'])})"),
+                 Cell(degrees(row["phase"]))]
         if spread:
-            cells += [Cell(f"{row['dB_low']:.2f} … {row['dB_high']:.2f} dB"),
-                      Cell(f"{row['phase_low']:.1f}° … {row['phase_high']:.1f}°")]
+            cells += [Cell(f"{decibels(row['dB_low']).removesuffix(' dB')} … "
+                           f"{decibels(row['dB_high'])}"),
+                      Cell(f"{degrees(row['phase_low'])} … {degrees(row['phase_high'])}")]
         out.append(tuple(cells))
     columns = ["Frequency", "Magnitude", "Phase"]
     caption = "At the nominal values."
