@@ -12,11 +12,11 @@ import argparse
 from fractions import Fraction
 from typing import TYPE_CHECKING
 
-import sympy
-
 from ..errors import SymcircError
 
-if TYPE_CHECKING:  # pragma: no cover
+if TYPE_CHECKING:  # pragma: no cover  (sympy is imported on use: `check --help` starts fast)
+    import sympy
+
     from ..model.circuit import Claim
     from ..pipeline import ClaimOutcome
 
@@ -63,6 +63,8 @@ def report(outcome: ClaimOutcome) -> str:
 
 
 def _failure_report(claim: Claim, derived: sympy.Expr, verdict) -> str:
+    import sympy
+
     where = claim.location
     head = f"{where.file}:{where.line}:{where.column}: " if where.line else ""
     status = "does not hold" if verdict.decided else "could not be decided"
@@ -89,6 +91,8 @@ def _failure_report(claim: Claim, derived: sympy.Expr, verdict) -> str:
 
 
 def _number(value) -> str:
+    import sympy
+
     from ..model.units import eng
 
     if isinstance(value, sympy.Rational):

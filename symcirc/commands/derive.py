@@ -13,9 +13,12 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+from typing import TYPE_CHECKING
 
 from ..errors import SymcircError
-from ..results import Result
+
+if TYPE_CHECKING:  # results import sympy: `derive --help` starts fast without them
+    from ..results import Result
 
 FORMATS = ("text", "latex", "markdown", "json")
 COMMAND_LINE = "<command line>"

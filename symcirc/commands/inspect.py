@@ -11,14 +11,15 @@ import argparse
 import json
 import sys
 from difflib import get_close_matches
-from typing import Any
-
-import sympy
+from typing import TYPE_CHECKING, Any
 
 from ..errors import Location, SymcircError
 from ..language import syntax
-from ..model.circuit import REFERENCE, Circuit, Element, Notice, Parameter, Tolerance
 from ..model.units import as_float, engineering, tolerance_text
+
+if TYPE_CHECKING:
+    from ..model.circuit import Circuit, Element, Notice, Parameter, Tolerance
+# The model (and sympy with it) is imported only once a file is read: `inspect --help` starts fast.
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -44,6 +45,7 @@ def run(args: argparse.Namespace) -> int:
 def unknown_quantities(circuit: Circuit) -> list[Notice]:
     """Warnings for quantity names no handler derives (`thevnin(out)`): `derive` and
     `check` would stop there, so the first look at the file says so already."""
+    from ..model.circuit import Notice
     from ..quantities.registry import HANDLERS
 
     notices = []
@@ -74,6 +76,8 @@ def notice_text(notice: Notice, circuit: Circuit) -> str:
 
 def as_text(circuit: Circuit) -> str:
     """The circuit as an engineer reads it: one titled table per kind of statement."""
+    from ..model.circuit import REFERENCE
+
     parts = [f"{circuit.file}: {circuit.title}" if circuit.title else circuit.file]
     if circuit.parameters:
         parts.append(_section("Parameters", ["name", "value", "nominal", "tolerance",
@@ -118,7 +122,7 @@ def as_text(circuit: Circuit) -> str:
 
 
 def _parameter_row(p: Parameter) -> list[str]:
-    value = "" if p.value is None or p.value.is_Rational else sympy.sstr(p.value)
+    value = "" if p.value is None or p.value.is_Rational else _sstr(p.value)
     return [p.name, value, _nominal(p.nominal, p.unit), _tolerance(p.tolerance, p.unit),
             p.description or ""]
 
@@ -173,6 +177,8 @@ def _section(title: str, header: list[str], rows: list[list[str]]) -> str:
 
 def as_json(circuit: Circuit) -> dict[str, Any]:
     """The same content as the text, as one JSON-ready object."""
+    from ..model.circuit import REFERENCE
+
     return {
         "file": circuit.file,
         "title": circuit.title,
@@ -196,7 +202,7 @@ def as_json(circuit: Circuit) -> dict[str, Any]:
             for d in circuit.derives
         ],
         "claims": [
-            {"quantity": c.quantity_text, "expression": sympy.sstr(c.expression),
+            {"quantity": c.quantity_text, "expression": _sstr(c.expression),
              "written": c.expression_text, "line": c.location.line}
             for c in circuit.claims
         ],
@@ -212,7 +218,7 @@ def as_json(circuit: Circuit) -> dict[str, Any]:
 def _parameter_json(p: Parameter) -> dict[str, Any]:
     return {
         "name": p.name,
-        "value": None if p.value is None else sympy.sstr(p.value),
+        "value": None if p.value is None else _sstr(p.value),
         "nominal": None if p.nominal is None else as_float(p.nominal),
         "nominal_text": _nominal(p.nominal, p.unit) or None,
         "unit": p.unit,
@@ -228,7 +234,7 @@ def _element_json(e: Element) -> dict[str, Any]:
         "kind": e.kind,
         "nodes": list(e.nodes),
         "value": e.written,
-        "definition": None if e.definition is None else sympy.sstr(e.definition),
+        "definition": None if e.definition is None else _sstr(e.definition),
         "nominal": None if e.nominal is None else as_float(e.nominal),
         "nominal_text": _nominal(e.nominal, e.unit) or None,
         "unit": e.unit,
@@ -238,11 +244,11 @@ def _element_json(e: Element) -> dict[str, Any]:
     }
     if e.controls:
         out["controls"] = [
-            {"kind": c.kind, "coefficient": sympy.sstr(c.coefficient),
+            {"kind": c.kind, "coefficient": _sstr(c.coefficient),
              **({"nodes": list(c.nodes)} if c.kind == "voltage" else {"element": c.element})}
             for c in e.controls
         ]
-        out["independent"] = None if e.independent is None else sympy.sstr(e.independent)
+        out["independent"] = None if e.independent is None else _sstr(e.independent)
     if e.frequency is not None:
         out["frequency"] = as_float(e.frequency) if e.frequency.is_Rational else str(e.frequency)
     if e.coupled:
@@ -257,3 +263,10 @@ def _tolerance_json(tolerance: Tolerance | None, unit: str) -> dict[str, Any] | 
         return None
     return {"plus": as_float(tolerance.plus), "minus": as_float(tolerance.minus),
             "relative": tolerance.relative, "text": _tolerance(tolerance, unit)}
+
+
+def _sstr(expression: Any) -> str:
+    """sympy's plain text of an expression (sympy is imported once a circuit is loaded)."""
+    import sympy
+
+    return sympy.sstr(expression)

@@ -1,0 +1,69 @@
+"""Start-up: commands that only print the version, help or a usage error import none of
+sympy, numpy or jinja2 (the modules whose import dominates a cold start). The test checks
+the set of imported modules in a fresh interpreter, not a time."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+BRIDGE = Path(__file__).resolve().parent.parent / "examples" / "bridge_adc.circuit"
+HEAVY = ("sympy", "numpy", "jinja2", "matplotlib", "flint")
+
+PROBE = """
+import json, sys
+import symcirc.cli
+try:
+    status = symcirc.cli.main(json.loads(sys.argv[1]))
+except SystemExit as exit_:
+    status = exit_.code
+heavy = json.loads(sys.argv[2])
+print(json.dumps({"status": status, "loaded": sorted(m for m in heavy if m in sys.modules)}),
+      file=sys.__stderr__)
+"""
+
+LIGHT_CALLS = [
+    ["--version"],
+    ["--help"],
+    [],
+    ["bogus-command"],
+    *[[command, "--help"] for command in
+      ("inspect", "derive", "note", "sheet", "check", "verify", "export", "plot")],
+    ["derive"],                       # usage error: FILE missing
+    ["inspect", "--format", "yaml", "x.circuit"],  # usage error: bad choice
+]
+
+
+def _probe(argv: list[str]) -> dict:
+    done = subprocess.run([sys.executable, "-c", PROBE, json.dumps(argv), json.dumps(HEAVY)],
+                          capture_output=True, text=True, check=True)
+    return json.loads(done.stderr.strip().splitlines()[-1])
+
+
+def test_version_help_and_usage_errors_import_no_heavy_library():
+    for argv in LIGHT_CALLS:
+        outcome = _probe(argv)
+        assert outcome["loaded"] == [], (argv, outcome)
+        assert outcome["status"] in (0, 2), (argv, outcome)
+
+
+def test_package_attributes_stay_available_lazily():
+    done = subprocess.run(
+        [sys.executable, "-c",
+         "import sys, symcirc\n"
+         "assert 'sympy' not in sys.modules\n"
+         "from symcirc import Circuit\n"
+         "from symcirc.model.circuit import Circuit as Model\n"
+         "assert Circuit is Model and 'sympy' in sys.modules\n"
+         "try:\n    symcirc.no_such_name\nexcept AttributeError:\n    print('ok')\n"],
+        capture_output=True, text=True, check=True)
+    assert done.stdout.strip() == "ok"
+
+
+def test_the_probe_sees_a_heavy_import_when_there_is_one():
+    """A command that reads a circuit loads sympy: the probe would notice a regression."""
+    outcome = _probe(["inspect", str(BRIDGE)])
+    assert "sympy" in outcome["loaded"]
+    assert outcome["status"] == 0
