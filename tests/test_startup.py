@@ -55,8 +55,8 @@ def test_package_attributes_stay_available_lazily():
          "import sys, symcirc\n"
          "assert 'sympy' not in sys.modules\n"
          "from symcirc import Circuit\n"
-         "from symcirc.model.circuit import Circuit as Model\n"
-         "assert Circuit is Model and 'sympy' in sys.modules\n"
+         "from symcirc.api import Circuit as Api\n"
+         "assert Circuit is Api and 'sympy' in sys.modules\n"
          "try:\n    symcirc.no_such_name\nexcept AttributeError:\n    print('ok')\n"],
         capture_output=True, text=True, check=True)
     assert done.stdout.strip() == "ok"
