@@ -100,6 +100,8 @@ class _Elimination:
         self.pivot_values: list[Poly] = [ring.one]
         self.last_step: dict[int, int] = dict.fromkeys(range(n), 0)
         self.zero_determinant = False
+        self.primitive_rows: set[int] = set()
+        """Rows divided by the gcd of their entries since their last update."""
 
     # -- choosing pivots
     def _choose_pivot(self, exclude: set[int]) -> tuple[int, int] | None:
@@ -174,6 +176,8 @@ class _Elimination:
                 if j < self.n:
                     self.columns[j].add(i)
             self.rows[i] = new
+            if self.method == "content":
+                self.primitive_rows.add(i)
             self.origin[i] = self.origin[i] | self.origin[m]
             if self.method == "bareiss":
                 self.last_step[i] = step
@@ -218,7 +222,10 @@ class _Elimination:
             (i,) = left
             (k,) = wanted
             row = self.rows[i]
-            return [{k: RationalFunction(row.get(self.n + r, ring.zero), row[k], ring)}
+            # a row of two entries without common factor: their ratio needs no gcd
+            ratio = (RationalFunction.coprime if i in self.primitive_rows and len(row) == 2
+                     else RationalFunction)
+            return [{k: ratio(row.get(self.n + r, ring.zero), row[k], ring)}
                     for r in range(self.nrhs)]
         # a small dense system left: finish with rational-function Gaussian elimination
         matrix = [[_rf(self.rows[i].get(j), ring) for j in wanted] +
