@@ -1,6 +1,7 @@
 """The polynomial gcd's shortcuts (term content, exact division by the smaller operand,
 trial division by its factors, coprimality checks) give exactly the general gcd of the
-backend's own algorithm, on both backends: the same polynomial, sign included."""
+backend's own algorithm, on both backends: the same polynomial, sign included; and the
+elimination that takes its gcds lazily gives the values of the full solve."""
 
 from __future__ import annotations
 
@@ -103,3 +104,22 @@ def test_both_backends_give_the_same_gcd():
             b = a * ring.from_terms(cofactor) + ring.from_terms(terms[:2])
             results.append(ring.terms(ring.gcd(a * 3, b * 6)))
         assert results[0] == results[1]
+
+
+def test_one_unknown_solved_lazily_equals_the_full_solve(ring):
+    """`eliminate.solve_one` gives each right-hand side's value, in lowest terms, only when
+    called, and the same value as `eliminate.solve`; a singular system still says so."""
+    from symcirc.engine import eliminate
+
+    s, r1, r2, c1, gm, ro = _variables(ring)
+    rows = [{0: r1 + r2, 1: -r2, 2: s * c1}, {0: gm * ro, 1: ro + r1, 2: ring.one},
+            {0: ring.one, 1: s * c1 * r2, 2: r1 * r2 + ro}]
+    rhs = [{0: ring.one}, {1: gm, 2: ring.one}, {}]
+    for unknown in range(3):
+        expected = eliminate.solve(rows, rhs, [unknown], ring)
+        lazy = eliminate.solve_one(rows, rhs, unknown, ring)
+        assert [value() for value in lazy] == [values[0] for values in expected]
+        assert [value() for value in lazy][2].is_zero()
+    singular = [{0: r1, 1: r2}, {0: 2 * r1, 1: 2 * r2}]
+    with pytest.raises(eliminate.SingularSystem):
+        eliminate.solve_one(singular, [{0: ring.one}], 1, ring)

@@ -12,7 +12,8 @@ comparison and for `determinant`.
 
 from __future__ import annotations
 
-from collections.abc import Sequence
+from collections.abc import Callable, Sequence
+from functools import cache
 from math import gcd
 
 from ..algebra import polynomials as polys
@@ -48,6 +49,19 @@ def solve(rows: list[dict[int, Poly]], rhs: list[dict[int, Poly]], unknowns: Seq
     elimination.eliminate(exclude=set(wanted))
     values = elimination.solve_remaining(wanted)
     return [[values[r][k] for k in unknowns] for r in range(len(rhs))]
+
+
+def solve_one(rows: list[dict[int, Poly]], rhs: list[dict[int, Poly]], unknown: int,
+              ring: PolynomialRing) -> list[Callable[[], RationalFunction]]:
+    """As `solve` for one unknown, but each right-hand side's value is brought to lowest
+    terms only when first called: a caller that needs one excitation of several takes one
+    gcd, not one per excitation."""
+    n = len(rows)
+    if not 0 <= unknown < n:
+        raise IndexError(f"unknown {unknown} is not a column of a {n}-by-{n} system")
+    elimination = _Elimination(rows, rhs, ring, "content")
+    elimination.eliminate(exclude={unknown})
+    return elimination.ratios(unknown)
 
 
 def determinant(rows: list[dict[int, Poly]], ring: PolynomialRing) -> Poly:
@@ -211,22 +225,10 @@ class _Elimination:
     def solve_remaining(self, wanted: list[int]) -> list[dict[int, RationalFunction]]:
         """Solve the rows left (in the `wanted` columns) for every right-hand side."""
         ring = self.ring
-        left = sorted(self.rows)
-        empty = [i for i in left if not any(j < self.n for j in self.rows[i])]
-        if empty or len(left) != len(wanted):
-            rows = set().union(*(self.origin[i] for i in empty)) if empty else set(left)
-            missing = [j for j in wanted if not self.columns[j]]
-            raise SingularSystem("the equations are dependent: the system is singular",
-                                 rows, missing or wanted)
+        left = self._rows_left(wanted)
         if len(wanted) == 1:
-            (i,) = left
             (k,) = wanted
-            row = self.rows[i]
-            # a row of two entries without common factor: their ratio needs no gcd
-            ratio = (RationalFunction.coprime if i in self.primitive_rows and len(row) == 2
-                     else RationalFunction)
-            return [{k: ratio(row.get(self.n + r, ring.zero), row[k], ring)}
-                    for r in range(self.nrhs)]
+            return [{k: value()} for value in self.ratios(k)]
         # a small dense system left: finish with rational-function Gaussian elimination
         matrix = [[_rf(self.rows[i].get(j), ring) for j in wanted] +
                   [_rf(self.rows[i].get(self.n + r), ring) for r in range(self.nrhs)]
@@ -259,6 +261,27 @@ class _Elimination:
                 x[wanted[col]] = total / line[col]
             results.append(x)
         return results
+
+    def _rows_left(self, wanted: list[int]) -> list[int]:
+        """The rows left after elimination, one per wanted unknown; SingularSystem if not."""
+        left = sorted(self.rows)
+        empty = [i for i in left if not any(j < self.n for j in self.rows[i])]
+        if empty or len(left) != len(wanted):
+            rows = set().union(*(self.origin[i] for i in empty)) if empty else set(left)
+            missing = [j for j in wanted if not self.columns[j]]
+            raise SingularSystem("the equations are dependent: the system is singular",
+                                 rows, missing or wanted)
+        return left
+
+    def ratios(self, k: int) -> list[Callable[[], RationalFunction]]:
+        """Unknown k for each right-hand side, from the one row left, each made on first call."""
+        (i,) = self._rows_left([k])
+        row = self.rows[i]
+        # a row of two entries without common factor: their ratio needs no gcd
+        ratio = (RationalFunction.coprime if i in self.primitive_rows and len(row) == 2
+                 else RationalFunction)
+        return [cache(lambda r=r: ratio(row.get(self.n + r, self.ring.zero), row[k], self.ring))
+                for r in range(self.nrhs)]
 
     def determinant(self) -> Poly:
         """det of the original matrix (after eliminating every column with Bareiss)."""

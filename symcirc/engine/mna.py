@@ -13,7 +13,7 @@ current its output delivers into its output node.
 
 from __future__ import annotations
 
-from collections.abc import Iterable, Mapping
+from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
 
 from ..algebra.polynomials import LAPLACE_NAME, AlgebraError, Poly
@@ -290,15 +290,16 @@ class Equations:
         """A solution that eliminates the system for each unknown asked about."""
         return MnaSolution(self)
 
-    def solve_for(self, unknown: int) -> dict[str, RationalFunction]:
-        """One unknown per unit of every excitation (elimination keeps it for last)."""
+    def solve_for(self, unknown: int) -> dict[str, Callable[[], RationalFunction]]:
+        """One unknown per unit of every excitation (elimination keeps it for last), each
+        brought to lowest terms when first called."""
         names = list(self.rhs)
         columns = [self.rhs[name] for name in names]
         try:
-            solved = eliminate.solve(self.rows, columns, [unknown], self.ring)
+            solved = eliminate.solve_one(self.rows, columns, unknown, self.ring)
         except eliminate.SingularSystem as singular:
             raise self.diagnose(singular) from None
-        return {name: values[0] for name, values in zip(names, solved, strict=True)}
+        return dict(zip(names, solved, strict=True))
 
     def check(self) -> None:
         """Raise SingularCircuit when the system has no unique solution."""
@@ -388,7 +389,7 @@ class MnaSolution:
     def __init__(self, equations: Equations) -> None:
         self.equations = equations
         self.ring = equations.ring
-        self._solved: dict[int, dict[str, RationalFunction]] = {}
+        self._solved: dict[int, dict[str, Callable[[], RationalFunction]]] = {}
 
     def check(self) -> None:
         self.equations.check()
@@ -397,7 +398,7 @@ class MnaSolution:
         if index not in self._solved:
             self._solved[index] = self.equations.solve_for(index)
         value = self._solved[index].get(excitation)
-        return value if value is not None else RationalFunction(0, 1, self.ring, canonical=True)
+        return value() if value is not None else RationalFunction(0, 1, self.ring, canonical=True)
 
     def transfer(self, measure: Measure, excitation: str) -> RationalFunction:
         """The measure per unit of `excitation`, every other excitation zero."""
