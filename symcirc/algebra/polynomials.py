@@ -310,7 +310,7 @@ class PolynomialRing:
         else:
             content_a, content_b = self.term_content(a), self.term_content(b)
             common = self._monomial_gcd(content_a, content_b)
-            core = self._primitive_gcd(self.exquo(a, content_a), self.exquo(b, content_b))
+            core = self._primitive_gcd(self._without(a, content_a), self._without(b, content_b))
             g = common if core is None else common * core
         if self.leading_coefficient(g) < 0:
             g = -g
@@ -328,6 +328,12 @@ class PolynomialRing:
         for monom, _ in terms[1:]:
             lowest = [min(x, y) for x, y in zip(lowest, monom, strict=True)]
         return self._ring.from_dict({tuple(lowest): self.content(p)})
+
+    def _without(self, p: Poly, term: Poly) -> Poly:
+        """p / term, where term divides p (no copy when term is 1)."""
+        if len(term) == 1 and self.is_constant(term) and self.constant_value(term) == 1:
+            return p
+        return self.exquo(p, term)
 
     def _monomial_gcd(self, a: Poly, b: Poly) -> Poly:
         """gcd of two single terms (positive)."""
