@@ -13,7 +13,7 @@ from dataclasses import dataclass, fields, replace
 from difflib import get_close_matches
 from typing import Any
 
-from ..errors import SymcircError
+from ..errors import Location, SymcircError
 from ..language import syntax
 from ..model.circuit import Assumption, Circuit
 from ..results import Result
@@ -132,13 +132,17 @@ def derive_quantity(circuit: Circuit, quantity: syntax.Quantity,
         close = get_close_matches(quantity.name, list(HANDLERS), n=1)
         hint = f"; did you mean `{close[0]}`?" if close else ""
         origin = options.origin or (circuit.file, circuit.source)
-        from ..errors import Location
-
         raise SymcircError.at(Location(origin[0], quantity.line, quantity.column),
                               f"unknown quantity `{quantity.name}(..)`{hint}", origin[1])
     module, function = target.split(":")
     handler = getattr(importlib.import_module(module), function)
-    return handler(circuit, quantity, options)
+    results = handler(circuit, quantity, options)
+    origin = options.origin or (circuit.file, circuit.source)
+    where = (Location(origin[0], quantity.line, quantity.column), origin[1])
+    for result in results:
+        if result.origin is None:
+            result.origin = where
+    return results
 
 
 # ---------------------------------------------------------------- the named API
