@@ -179,6 +179,8 @@ def _groups(outer, inner, coefficients) -> list[tuple[int, Any, Any]]:
     """Terms grouped by their `outer` monomial: (outer row, inner rows, coefficients)."""
     import numpy as np
 
+    if len(outer) == 0:  # a zero polynomial (a derivative of what does not use x)
+        return []
     order = np.argsort(outer, kind="stable")
     starts = np.flatnonzero(np.diff(outer[order], prepend=-1))
     ends = [*starts[1:], len(order)]
