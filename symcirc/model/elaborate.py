@@ -196,6 +196,8 @@ class _Elaborator:
         self.walk(self.document.statements, self.top)
         self.draft_of = {d.name: d for d in (*self.params, *self.elements)}
         node_set = set(self.node_order)
+        if any(REFERENCE in d.nodes for d in self.ports):
+            node_set.add(REFERENCE)  # the reference node exists whether or not a part touches it
         self.check_ports(node_set)
         self.choose_reference(node_set)
         parameters = {d.name: self.parameter(d) for d in self.params}
