@@ -137,6 +137,9 @@ def derive_quantity(circuit: Circuit, quantity: syntax.Quantity,
     module, function = target.split(":")
     handler = getattr(importlib.import_module(module), function)
     results = handler(circuit, quantity, options)
+    from .stability import add_warnings
+
+    add_warnings(circuit, results)
     origin = options.origin or (circuit.file, circuit.source)
     where = (Location(origin[0], quantity.line, quantity.column), origin[1])
     for result in results:

@@ -1,0 +1,200 @@
+"""Warnings a derived response needs: a right-half-plane pole, an ideal opamp in positive
+feedback. Both are decided at the nominal values, exactly: the denominator's coefficients
+in s are Fractions and the Routh–Hurwitz array counts the roots in the right half plane
+(its sign changes), with no root finding (numpy's roots only where every form of the array
+meets a zero first entry, and the warning then says so).
+
+An ideal opamp hides positive feedback: V+ = V− has a finite solution whichever input the
+feedback reaches. Each ideal opamp is therefore given, one at a time, the finite gain of a
+general-purpose part, A(s) = 10⁵/(1 + s/(100 rad/s)) (common practice: 100 dB, a dominant
+pole near 16 Hz), and the circuit's characteristic polynomial (the determinant of its
+equations, independent sources zero) is checked for right-half-plane roots: with negative
+feedback the loop settles, with positive feedback a real root lies at about ωa·(A0·β − 1).
+"""
+
+from __future__ import annotations
+
+import dataclasses
+from fractions import Fraction
+
+import sympy
+
+from ..engine import eliminate
+from ..engine.mna import Equations
+from ..engine.network import build_network
+from ..engine.polys import LAPLACE_NAME, EngineError
+from ..model.circuit import LAPLACE, Circuit
+from ..results import Result
+
+OPAMP_GAIN = sympy.Integer(100_000) / (1 + LAPLACE / 100)
+"""The finite-gain model of an ideal opamp for the positive-feedback check."""
+MAX_EQUATIONS = 60
+"""Largest system whose determinant the opamp check computes (it is exact and symbolic)."""
+MAX_TERMS = 200_000
+"""Largest denominator (terms) the right-half-plane check evaluates."""
+MAX_OPAMPS = 8
+
+
+def right_half_plane_roots(coefficients: list[Fraction]) -> int:
+    """Roots with positive real part of the polynomial Σ c_k s^k (`coefficients` lowest
+    power first): the Routh–Hurwitz array in exact arithmetic (see `rhp_count`)."""
+    return rhp_count(coefficients)[0]
+
+
+def rhp_count(coefficients: list[Fraction]) -> tuple[int, str]:
+    """(right-half-plane roots, how they were counted). The Routh–Hurwitz array, exact; a
+    row of zeros is replaced by the derivative of its auxiliary polynomial; a zero first
+    entry in a non-zero row is avoided by multiplying by (s + k), which adds a root in the
+    left half plane only. Should every try meet a zero, numpy's roots decide (said so)."""
+    c = list(coefficients)
+    while c and c[-1] == 0:
+        c.pop()
+    while c and c[0] == 0:  # roots at the origin: not in the right half plane
+        c.pop(0)
+    if len(c) <= 1:
+        return 0, ROUTH
+    for k in (0, 1, 2, 3, 5, 7, 11):
+        tried = c if k == 0 else [k * a + b for a, b in
+                                  zip([*c, Fraction(0)], [Fraction(0), *c], strict=True)]
+        count = _routh(list(reversed(tried)))
+        if count is not None:
+            return count, ROUTH
+    import numpy as np
+
+    roots = np.roots([float(x) for x in reversed(c)])
+    scale = max(1.0, float(np.max(np.abs(roots))))
+    return int(np.sum(roots.real > 1e-9 * scale)), "numpy's polynomial roots"
+
+
+ROUTH = "Routh–Hurwitz on its exact coefficients in s"
+
+
+def _routh(highest_first: list[Fraction]) -> int | None:
+    """Sign changes in the first column of the Routh array of the polynomial; a row of
+    zeros is replaced by the derivative of the auxiliary polynomial above it."""
+    degree = len(highest_first) - 1
+    rows = [highest_first[0::2], highest_first[1::2]]
+    width = len(rows[0])
+    rows = [r + [Fraction(0)] * (width - len(r)) for r in rows]
+    for k in range(2, degree + 1):
+        above, top = rows[-1], rows[-2]
+        if all(x == 0 for x in above):
+            order = degree - (k - 2)  # degree of the auxiliary polynomial in row k - 2
+            above = [a * (order - 2 * i) for i, a in enumerate(top)]
+            rows[-1] = above
+        if above[0] == 0:
+            return None
+        new = [(above[0] * top[i + 1] - top[0] * above[i + 1]) / above[0]
+               for i in range(width - 1)] + [Fraction(0)]
+        rows.append(new)
+    first = [r[0] for r in rows[:degree + 1]]
+    if any(x == 0 for x in first):
+        return None
+    return sum(1 for a, b in zip(first, first[1:], strict=False) if (a > 0) != (b > 0))
+
+
+def _coefficients_in_s(ring, poly, nominals: dict[str, Fraction]) -> list[Fraction] | None:
+    """The polynomial's coefficients of s^0, s^1, ... at the nominal values (None when a
+    symbol has no value)."""
+    if ring.nterms(poly) > MAX_TERMS:
+        return None
+    by_power = ring.coefficients(poly, LAPLACE_NAME)
+    names = {n for p in by_power.values() for n in ring.variables(p)}
+    if not names <= set(nominals):
+        return None
+    values = {n: nominals[n] for n in names}
+    top = max(by_power, default=0)
+    return [ring.evaluate(by_power[k], values) if k in by_power else Fraction(0)
+            for k in range(top + 1)]
+
+
+def response_notes(result: Result, nominals: dict[str, Fraction]) -> list[str]:
+    """A warning when the result is a function of s with a right-half-plane pole at the
+    nominal values."""
+    value = result.exact
+    ring = getattr(value, "ring", None)
+    if ring is None or LAPLACE_NAME not in value.symbol_names():
+        return []
+    if ring.degree(value.denominator, LAPLACE_NAME) < 1:
+        return []
+    coefficients = _coefficients_in_s(ring, value.denominator, nominals)
+    if coefficients is None:
+        return []
+    count, method = rhp_count(coefficients)
+    if not count:
+        return []
+    return [f"Warning: unstable. At the nominal values the denominator of {result.quantity} "
+            f"has {_roots(count)} in the right half plane ({method}): the circuit oscillates "
+            "or latches, and this response describes no steady state it reaches."]
+
+
+def _roots(count: int) -> str:
+    return "one root" if count == 1 else f"{count} roots"
+
+
+def opamp_notes(circuit: Circuit) -> tuple[str, ...]:
+    """Warnings for ideal opamps in positive feedback (cached per circuit)."""
+    cached = circuit.cache.get("opamp loop notes")
+    if cached is None:
+        cached = circuit.cache["opamp loop notes"] = _opamp_notes(circuit)
+    return cached
+
+
+def _opamp_notes(circuit: Circuit) -> tuple[str, ...]:
+    ideal = [e for e in circuit.elements.values() if e.is_ideal_opamp][:MAX_OPAMPS]
+    if not ideal:
+        return ()
+    nominals = {str(k): v for k, v in circuit.symbol_nominals().items()}
+    notes = []
+    for opamp in ideal:
+        count, method = _with_finite_gain(circuit, opamp.name, nominals)
+        if count:
+            notes.append(
+                f"Warning: opamp {opamp.name} is in positive feedback. The ideal-opamp result "
+                "assumes its inputs are held equal, but with a finite gain (10⁵, one pole at "
+                f"100 rad/s: a general-purpose part, common practice) the circuit has "
+                f"{_roots(count)} in the right half plane at the nominal values ({method}):"
+                f" the output runs to a supply rail (the circuit latches) instead. Check which "
+                f"input of {opamp.name} the feedback reaches.")
+    return tuple(notes)
+
+
+def _with_finite_gain(circuit: Circuit, name: str, nominals: dict[str, Fraction]
+                      ) -> tuple[int, str]:
+    """Right-half-plane roots of the characteristic polynomial with opamp `name` given
+    OPAMP_GAIN, and how they were counted ((0, '') when undecided: too large, singular,
+    or a symbol without a value)."""
+    elements = dict(circuit.elements)
+    elements[name] = dataclasses.replace(elements[name], definition=OPAMP_GAIN)
+    model = dataclasses.replace(circuit, elements=elements, derives=(), claims=(), cache={})
+    try:
+        network = build_network(model)
+        equations = Equations(network)
+        if len(equations.rows) > MAX_EQUATIONS or not equations.rows:
+            return 0, ""
+        determinant = eliminate.determinant(equations.rows, network.ring)
+    except EngineError:
+        return 0, ""
+    ring = network.ring
+    if ring.is_zero(determinant):
+        return 0, ""
+    coefficients = _coefficients_in_s(ring, determinant, nominals)
+    if coefficients is None:
+        return 0, ""
+    return rhp_count(coefficients)
+
+
+def add_warnings(circuit: Circuit, results: list[Result]) -> None:
+    """Put the stability warnings into each result's notes (derive, notes and JSON show
+    them)."""
+    loop = opamp_notes(circuit)
+    nominals = None
+    for result in results:
+        extra = list(loop)
+        if result.exact is not None:
+            if nominals is None:
+                nominals = {str(k): v for k, v in circuit.symbol_nominals().items()}
+            extra += response_notes(result, nominals)
+        for note in extra:
+            if note not in result.notes:
+                result.notes.append(note)
