@@ -11,14 +11,16 @@ reorder the text shown (bidirectional overrides): shown as escapes, never raw.""
 
 
 def printable(text: str) -> str:
-    """`text` with every control character shown as an escape (`\\x1b`, `\\u202e`): user text
+    """`text` with every control character shown as an escape (`\\x1b`, `\\u009b`): user text
     (titles, descriptions, source lines) reaches a terminal as text, never as commands."""
     return _UNSAFE.sub(_escape, text)
 
 
 def _escape(match: re.Match[str]) -> str:
+    # C0 as \x1b; the rest as \u009b: also a valid escape inside a JSON string, so JSON
+    # printed with ensure_ascii=False (which leaves DEL and C1 raw) stays valid
     code = ord(match.group())
-    return f"\\x{code:02x}" if code < 0x100 else f"\\u{code:04x}"
+    return f"\\x{code:02x}" if code < 0x20 else f"\\u{code:04x}"
 
 
 @dataclass(frozen=True)
