@@ -90,6 +90,20 @@ def test_the_same_stage_wired_right_has_no_warning():
     assert warnings_of(WRONG_WAY.format(first="in", second="n")) == []
 
 
+@pytest.mark.parametrize("gain", [" = 100k", " = A0", " = A0/(1 + s/wa)", ""])
+def test_finite_gain_opamps_in_positive_feedback_warn_too(gain):
+    """A flat gain has no dynamics, so the finite-gain result is finite: the check gives
+    it the same pole. A gain with a pole shows the right-half-plane root itself."""
+    text = WRONG_WAY.format(first="n", second="in").replace("(n, in, out)",
+                                                            "(n, in, out)" + gain)
+    text = text.replace("voltage source", "param A0 = 100k\nparam wa = 100\nvoltage source")
+    assert len(warnings_of(text)) == 1
+    right = WRONG_WAY.format(first="in", second="n").replace("(in, n, out)",
+                                                             "(in, n, out)" + gain)
+    right = right.replace("voltage source", "param A0 = 100k\nparam wa = 100\nvoltage source")
+    assert warnings_of(right) == []
+
+
 def test_comparator_with_hysteresis_latches():
     notes = warnings_of(SCHMITT)
     assert any("opamp U1 is in positive feedback" in n for n in notes)

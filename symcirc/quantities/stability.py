@@ -140,32 +140,53 @@ def opamp_notes(circuit: Circuit) -> tuple[str, ...]:
     return cached
 
 
+def _model_gain(element) -> sympy.Expr | None:
+    """The gain the check gives an opamp: OPAMP_GAIN for an ideal one, a flat gain A given
+    the same pole (A/(1 + s/100 rad/s)); None when the gain already has dynamics (its
+    results carry the right-half-plane check themselves)."""
+    if element.is_ideal_opamp:
+        return OPAMP_GAIN
+    if element.definition is None:
+        value = element.nominal
+        return sympy.Rational(value.numerator, value.denominator) / (1 + LAPLACE / 100)
+    if LAPLACE not in element.definition.free_symbols:
+        return element.definition / (1 + LAPLACE / 100)
+    return None
+
+
 def _opamp_notes(circuit: Circuit) -> tuple[str, ...]:
-    ideal = [e for e in circuit.elements.values() if e.is_ideal_opamp][:MAX_OPAMPS]
-    if not ideal:
+    opamps = [e for e in circuit.elements.values() if e.kind == "opamp"]
+    modelled = [(e, g) for e in opamps if (g := _model_gain(e)) is not None][:MAX_OPAMPS]
+    if not modelled:
         return ()
     nominals = {str(k): v for k, v in circuit.symbol_nominals().items()}
     notes = []
-    for opamp in ideal:
-        count, method = _with_finite_gain(circuit, opamp.name, nominals)
-        if count:
-            notes.append(
-                f"Warning: opamp {opamp.name} is in positive feedback. The ideal-opamp result "
-                "assumes its inputs are held equal, but with a finite gain (10⁵, one pole at "
-                f"100 rad/s: a general-purpose part, common practice) the circuit has "
-                f"{_roots(count)} in the right half plane at the nominal values ({method}):"
-                f" the output runs to a supply rail (the circuit latches) instead. Check which "
-                f"input of {opamp.name} the feedback reaches.")
+    for opamp, gain in modelled:
+        count, method = _with_finite_gain(circuit, opamp.name, gain, nominals)
+        if not count:
+            continue
+        if opamp.is_ideal_opamp:
+            model = ("The ideal-opamp result assumes its inputs are held equal, but with a "
+                     "finite gain (10⁵, one pole at 100 rad/s: a general-purpose part, common "
+                     "practice)")
+        else:
+            model = ("Its flat gain hides the dynamics: with that gain rolling off from one "
+                     "pole at 100 rad/s (common practice for a general-purpose part)")
+        notes.append(
+            f"Warning: opamp {opamp.name} is in positive feedback. {model} the circuit has "
+            f"{_roots(count)} in the right half plane at the nominal values ({method}): the "
+            "output runs to a supply rail (the circuit latches) instead. Check which input "
+            f"of {opamp.name} the feedback reaches.")
     return tuple(notes)
 
 
-def _with_finite_gain(circuit: Circuit, name: str, nominals: dict[str, Fraction]
-                      ) -> tuple[int, str]:
+def _with_finite_gain(circuit: Circuit, name: str, gain: sympy.Expr,
+                      nominals: dict[str, Fraction]) -> tuple[int, str]:
     """Right-half-plane roots of the characteristic polynomial with opamp `name` given
-    OPAMP_GAIN, and how they were counted ((0, '') when undecided: too large, singular,
-    or a symbol without a value)."""
+    `gain`, and how they were counted ((0, '') when undecided: too large, singular, or a
+    symbol without a value)."""
     elements = dict(circuit.elements)
-    elements[name] = dataclasses.replace(elements[name], definition=OPAMP_GAIN)
+    elements[name] = dataclasses.replace(elements[name], definition=gain, nominal=None)
     model = dataclasses.replace(circuit, elements=elements, derives=(), claims=(), cache={})
     try:
         network = build_network(model)
