@@ -270,18 +270,20 @@ def _check_denominator(form, variables: list[Variable]) -> list[str]:
     lows = [float(v.low) for v in variables]
     highs = [float(v.high) for v in variables]
     if n <= MAX_CORNER_SYMBOLS:
-        values = form._numeric.corners(lows, highs)[1]
+        values = form.denominator_corners(lows, highs)
         indices = range(2**n)
     else:
         rng = np.random.default_rng(DEFAULT_SEED)
         corners = _random_corners(variables, rng, INTERIOR_CHECKS)
-        values = form._numeric.values(corners, INTERIOR_CHECKS)[1]
+        values = form.denominator_values(corners, INTERIOR_CHECKS)
         indices = None
     signs = set(np.sign(values).tolist())
     if len(signs) > 1 or 0.0 in signs:
-        if indices is not None:  # decide the doubtful corners exactly
-            exact = [_exact_sign(form, _corner(variables, i)) for i in indices]
-            signs = set(exact)
+        if indices is not None:  # decide the corners near zero exactly, in rational numbers
+            scale = float(np.max(np.abs(values))) or 1.0
+            signs = {form.denominator_sign(_corner(variables, i))
+                     if abs(values[i]) <= 1e-9 * scale else int(np.sign(values[i]))
+                     for i in indices}
         if len(signs) > 1 or 0 in signs:
             blamed = next((v for v in variables if _reaches_zero(v)
                            and v.symbol in denominator.as_expr().free_symbols), None)
@@ -299,11 +301,6 @@ def _check_denominator(form, variables: list[Variable]) -> list[str]:
     return ["A pole inside the tolerance box was not ruled out: the denominator keeps its "
             "sign at the corners checked, but is not of degree one in each toleranced symbol "
             "and interval arithmetic over the box does not keep it away from zero."]
-
-
-def _exact_sign(form, point: dict[sympy.Symbol, Fraction]) -> int:
-    value = form._terms(form.denominator, point)[0]
-    return (value > 0) - (value < 0)
 
 
 def _interval_excludes_zero(poly, lows: list[float], highs: list[float]) -> bool:
