@@ -78,3 +78,11 @@ def test_an_unknown_node_in_a_port_is_still_an_error():
     text = SERIES.replace("port P2 (p2, gnd)", "port P2 (p3, gnd)")
     with pytest.raises(SymcircError, match="unknown node `p3` in a port"):
         symcirc.parse(text, "twoport.circuit")
+
+
+def test_asking_the_api_for_missing_z_parameters_is_a_located_error():
+    circuit = symcirc.parse(SERIES, "twoport.circuit")
+    with pytest.raises(SymcircError) as caught:
+        circuit.twoport("P1", "P2").z11  # noqa: B018 -- the attribute raises
+    assert caught.value.file == "<quantity>" and caught.value.line == 1
+    assert caught.value.message.startswith("twoport(P1, P2): no z parameters")

@@ -44,7 +44,8 @@ def options_from(options: DeriveOptions | None = None, **kw: Any) -> DeriveOptio
     for symbol, target in limits.items():
         target = str(target)
         if target not in ("oo", "0"):
-            raise SymcircError(f"a limit goes to oo or 0, not {target} ({symbol} -> {target})")
+            raise SymcircError(f"a limit goes to oo or 0, not {target} ({symbol} -> {target})",
+                               "<limits>")
         extra.append(Assumption("limit", symbol, target))
     if where:
         from ..language.parser import parse_where
@@ -207,7 +208,12 @@ class TwoPort:
             from .twoports import UNITS
 
             if name in UNITS:
-                raise SymcircError(self._missing or f"no parameter {name}") from None
+                message = self._missing or f"no parameter {name}"
+                first = next(iter(self._results.values()), None)
+                if first is None or first.origin is None:
+                    raise SymcircError(message, QUANTITY_ORIGIN) from None
+                location, source = first.origin
+                raise SymcircError.at(location, message, source) from None
             raise AttributeError(name) from None
 
     def _repr_latex_(self) -> str:
