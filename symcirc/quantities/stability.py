@@ -16,20 +16,21 @@ from __future__ import annotations
 
 import dataclasses
 from fractions import Fraction
+from math import lcm
 
 import sympy
 
 from ..engine import eliminate
 from ..engine.mna import Equations
 from ..engine.network import build_network
-from ..engine.polys import LAPLACE_NAME, EngineError
+from ..engine.polys import LAPLACE_NAME, EngineError, PolynomialRing
 from ..model.circuit import LAPLACE, Circuit
 from ..results import Result
 
 OPAMP_GAIN = sympy.Integer(100_000) / (1 + LAPLACE / 100)
 """The finite-gain model of an ideal opamp for the positive-feedback check."""
-MAX_EQUATIONS = 60
-"""Largest system whose determinant the opamp check computes (it is exact and symbolic)."""
+MAX_EQUATIONS = 400
+"""Largest system the opamp check takes (its determinant is of polynomials in s alone)."""
 MAX_TERMS = 200_000
 """Largest denominator (terms) the right-half-plane check evaluates."""
 MAX_OPAMPS = 8
@@ -184,25 +185,50 @@ def _with_finite_gain(circuit: Circuit, name: str, gain: sympy.Expr,
                       nominals: dict[str, Fraction]) -> tuple[int, str]:
     """Right-half-plane roots of the characteristic polynomial with opamp `name` given
     `gain`, and how they were counted ((0, '') when undecided: too large, singular, or a
-    symbol without a value)."""
+    symbol without a value). The equations are taken at the nominal values first, so the
+    determinant is one of polynomials in s alone (cheap whatever the number of parts)."""
     elements = dict(circuit.elements)
     elements[name] = dataclasses.replace(elements[name], definition=gain, nominal=None)
     model = dataclasses.replace(circuit, elements=elements, derives=(), claims=(), cache={})
     try:
         network = build_network(model)
         equations = Equations(network)
-        if len(equations.rows) > MAX_EQUATIONS or not equations.rows:
+        if not equations.rows or len(equations.rows) > MAX_EQUATIONS:
             return 0, ""
-        determinant = eliminate.determinant(equations.rows, network.ring)
+        in_s = PolynomialRing([LAPLACE_NAME])
+        rows = [_row_at_nominal(network.ring, row, in_s, nominals) for row in equations.rows]
+        if any(row is None for row in rows):
+            return 0, ""
+        determinant = eliminate.determinant(rows, in_s)
     except EngineError:
         return 0, ""
-    ring = network.ring
-    if ring.is_zero(determinant):
+    if in_s.is_zero(determinant):
         return 0, ""
-    coefficients = _coefficients_in_s(ring, determinant, nominals)
-    if coefficients is None:
-        return 0, ""
-    return rhp_count(coefficients)
+    by_power = in_s.coefficients(determinant, LAPLACE_NAME)
+    top = max(by_power, default=0)
+    return rhp_count([Fraction(in_s.constant_value(by_power[k])) if k in by_power
+                      else Fraction(0) for k in range(top + 1)])
+
+
+def _row_at_nominal(ring: PolynomialRing, row: dict, in_s: PolynomialRing,
+                    nominals: dict[str, Fraction]) -> dict | None:
+    """One equation with every symbol but s at its nominal value, scaled by a positive
+    integer to integer coefficients (which leaves the determinant's roots alone); None when
+    a symbol has no value."""
+    entries: dict[int, dict[int, Fraction]] = {}
+    for column, poly in row.items():
+        by_power = ring.coefficients(poly, LAPLACE_NAME)
+        names = {n for p in by_power.values() for n in ring.variables(p)}
+        if not names <= set(nominals):
+            return None
+        entries[column] = {k: ring.evaluate(p, nominals) for k, p in by_power.items()}
+    scale = lcm(*(v.denominator for e in entries.values() for v in e.values()), 1)
+    out = {}
+    for column, powers in entries.items():
+        poly = in_s.from_terms(((k,), int(v * scale)) for k, v in powers.items())
+        if not in_s.is_zero(poly):
+            out[column] = poly
+    return out
 
 
 def add_warnings(circuit: Circuit, results: list[Result]) -> None:
