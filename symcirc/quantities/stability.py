@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import dataclasses
 from fractions import Fraction
-from math import lcm
+from math import gcd, lcm
 
 import sympy
 
@@ -31,9 +31,10 @@ OPAMP_GAIN = sympy.Integer(100_000) / (1 + LAPLACE / 100)
 """The finite-gain model of an ideal opamp for the positive-feedback check."""
 MAX_EQUATIONS = 400
 """Largest system the opamp check takes (its determinant is of polynomials in s alone)."""
+MAX_NAMED = 8
+"""Up to this many opamps, each is checked on its own, so that a warning names it."""
 MAX_TERMS = 200_000
 """Largest denominator (terms) the right-half-plane check evaluates."""
-MAX_OPAMPS = 8
 
 
 def right_half_plane_roots(coefficients: list[Fraction]) -> int:
@@ -72,26 +73,35 @@ ROUTH = "Routh–Hurwitz on its exact coefficients in s"
 
 def _routh(highest_first: list[Fraction]) -> int | None:
     """Sign changes in the first column of the Routh array of the polynomial; a row of
-    zeros is replaced by the derivative of the auxiliary polynomial above it."""
-    degree = len(highest_first) - 1
-    rows = [highest_first[0::2], highest_first[1::2]]
-    width = len(rows[0])
-    rows = [r + [Fraction(0)] * (width - len(r)) for r in rows]
+    zeros is replaced by the derivative of the auxiliary polynomial above it. Kept in
+    integers: each new row is multiplied by |pivot| and divided by its content, positive
+    factors that leave every sign alone (fraction-free, so it stays fast at degree 60)."""
+    scale = lcm(*(c.denominator for c in highest_first))
+    whole = [int(c * scale) for c in highest_first]
+    degree = len(whole) - 1
+    width = (len(whole) + 1) // 2
+    rows = [whole[0::2], whole[1::2]]
+    rows = [r + [0] * (width - len(r)) for r in rows]
     for k in range(2, degree + 1):
         above, top = rows[-1], rows[-2]
-        if all(x == 0 for x in above):
+        if not any(above):
             order = degree - (k - 2)  # degree of the auxiliary polynomial in row k - 2
-            above = [a * (order - 2 * i) for i, a in enumerate(top)]
-            rows[-1] = above
+            above = rows[-1] = _primitive([a * (order - 2 * i) for i, a in enumerate(top)])
         if above[0] == 0:
             return None
-        new = [(above[0] * top[i + 1] - top[0] * above[i + 1]) / above[0]
-               for i in range(width - 1)] + [Fraction(0)]
-        rows.append(new)
+        sign = 1 if above[0] > 0 else -1
+        new = [sign * (above[0] * top[i + 1] - top[0] * above[i + 1]) for i in range(width - 1)]
+        rows.append(_primitive(new + [0]))
     first = [r[0] for r in rows[:degree + 1]]
     if any(x == 0 for x in first):
         return None
     return sum(1 for a, b in zip(first, first[1:], strict=False) if (a > 0) != (b > 0))
+
+
+def _primitive(row: list[int]) -> list[int]:
+    """The row divided by the gcd of its entries (a positive number)."""
+    g = gcd(*row)
+    return [x // g for x in row] if g > 1 else row
 
 
 def _coefficients_in_s(ring, poly, nominals: dict[str, Fraction]) -> list[Fraction] | None:
@@ -157,13 +167,24 @@ def _model_gain(element) -> sympy.Expr | None:
 
 def _opamp_notes(circuit: Circuit) -> tuple[str, ...]:
     opamps = [e for e in circuit.elements.values() if e.kind == "opamp"]
-    modelled = [(e, g) for e in opamps if (g := _model_gain(e)) is not None][:MAX_OPAMPS]
+    modelled = [(e, g) for e in opamps if (g := _model_gain(e)) is not None]
     if not modelled:
         return ()
     nominals = {str(k): v for k, v in circuit.symbol_nominals().items()}
+    if len(modelled) > 1:  # every opamp at once first: the usual answer, in one determinant
+        count, method = _with_finite_gain(circuit, dict(modelled), nominals)
+        if not count:
+            return ()
+        if len(modelled) > MAX_NAMED:
+            names = ", ".join(e.name for e, _ in modelled)
+            return (f"Warning: positive feedback. With each opamp given a finite gain (10⁵, "
+                    "one pole at 100 rad/s: a general-purpose part, common practice) the "
+                    f"circuit has {_roots(count)} in the right half plane at the nominal "
+                    f"values ({method}): an opamp among {names} runs to a supply rail (the "
+                    "circuit latches) instead of settling on this result.",)
     notes = []
     for opamp, gain in modelled:
-        count, method = _with_finite_gain(circuit, opamp.name, gain, nominals)
+        count, method = _with_finite_gain(circuit, {opamp: gain}, nominals)
         if not count:
             continue
         if opamp.is_ideal_opamp:
@@ -181,14 +202,15 @@ def _opamp_notes(circuit: Circuit) -> tuple[str, ...]:
     return tuple(notes)
 
 
-def _with_finite_gain(circuit: Circuit, name: str, gain: sympy.Expr,
-                      nominals: dict[str, Fraction]) -> tuple[int, str]:
-    """Right-half-plane roots of the characteristic polynomial with opamp `name` given
-    `gain`, and how they were counted ((0, '') when undecided: too large, singular, or a
-    symbol without a value). The equations are taken at the nominal values first, so the
-    determinant is one of polynomials in s alone (cheap whatever the number of parts)."""
+def _with_finite_gain(circuit: Circuit, gains: dict, nominals: dict[str, Fraction]
+                      ) -> tuple[int, str]:
+    """Right-half-plane roots of the characteristic polynomial with each opamp of `gains`
+    given its gain, and how they were counted ((0, '') when undecided: too large,
+    singular, or a symbol without a value). The equations are taken at the nominal values
+    first, so the determinant is one of polynomials in s alone."""
     elements = dict(circuit.elements)
-    elements[name] = dataclasses.replace(elements[name], definition=gain, nominal=None)
+    for opamp, gain in gains.items():
+        elements[opamp.name] = dataclasses.replace(opamp, definition=gain, nominal=None)
     model = dataclasses.replace(circuit, elements=elements, derives=(), claims=(), cache={})
     try:
         network = build_network(model)
@@ -215,13 +237,21 @@ def _row_at_nominal(ring: PolynomialRing, row: dict, in_s: PolynomialRing,
     """One equation with every symbol but s at its nominal value, scaled by a positive
     integer to integer coefficients (which leaves the determinant's roots alone); None when
     a symbol has no value."""
+    values = [nominals.get(n) for n in ring.names]
+    power_of_s = ring.names.index(LAPLACE_NAME) if LAPLACE_NAME in ring.names else None
     entries: dict[int, dict[int, Fraction]] = {}
     for column, poly in row.items():
-        by_power = ring.coefficients(poly, LAPLACE_NAME)
-        names = {n for p in by_power.values() for n in ring.variables(p)}
-        if not names <= set(nominals):
-            return None
-        entries[column] = {k: ring.evaluate(p, nominals) for k, p in by_power.items()}
+        powers: dict[int, Fraction] = {}
+        for monomial, coefficient in ring.terms(poly):
+            term = Fraction(int(coefficient))
+            for i, e in enumerate(monomial):
+                if e and i != power_of_s:
+                    if values[i] is None:
+                        return None
+                    term *= values[i] ** int(e)
+            k = int(monomial[power_of_s]) if power_of_s is not None else 0
+            powers[k] = powers.get(k, Fraction(0)) + term
+        entries[column] = powers
     scale = lcm(*(v.denominator for e in entries.values() for v in e.values()), 1)
     out = {}
     for column, powers in entries.items():
