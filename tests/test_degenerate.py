@@ -158,3 +158,20 @@ def test_json_nominal_of_a_division_by_zero_is_a_located_error(tmp_path):
     status, out, err = run(tmp_path, text, "--format", "json")
     assert status == 0, err
     assert json.loads(out)["results"][0]["nominal"] == pytest.approx(Fraction(25, 1000))
+
+
+def test_coupled_inductors_of_opposite_sign_are_refused_at_the_coupling():
+    """M = k·√(L1·L2) has no real value when L1·L2 < 0 (found by the fuzz benchmark: it
+    was a ValueError traceback)."""
+    text = """\
+title "Coupled pair"
+voltage source Ub (a, gnd) = 1 V
+inductor L1 (a, gnd) = -4.7 mH
+inductor L2 (b, gnd) = 10 mH
+resistor R1 (b, gnd) = 1k
+coupling k12 (L1, L2) = 0.9
+"""
+    with pytest.raises(SymcircError) as caught:
+        symcirc.parse(text, "pair.circuit")
+    assert (caught.value.line, caught.value.column) == (6, 1)
+    assert "opposite signs" in caught.value.message

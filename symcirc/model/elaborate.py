@@ -795,6 +795,12 @@ class _Elaborator:
             if element.nominal is not None and abs(element.nominal) > 1:
                 raise self.error(statement, f"coupling coefficient {element.name} = "
                                  f"{units.engineering(element.nominal)} is outside -1 … 1")
+            values = [elements[n].nominal for n in (first, second) if n in elements]
+            if len(values) == 2 and None not in values and values[0] * values[1] <= 0:
+                raise self.error(statement, f"coupling {element.name} joins inductors {first} "
+                                 f"and {second}, whose values have opposite signs (or one is "
+                                 f"zero): the mutual inductance {element.name}·√({first}·"
+                                 f"{second}) has no real value")
 
     # -------------------------------------------------------------- nominal values
 
