@@ -20,10 +20,10 @@ from math import gcd, lcm
 
 import sympy
 
+from ..algebra.polynomials import LAPLACE_NAME, AlgebraError, PolynomialRing
 from ..engine import eliminate
 from ..engine.mna import Equations
 from ..engine.network import build_network
-from ..engine.polys import LAPLACE_NAME, EngineError, PolynomialRing
 from ..model.circuit import LAPLACE, Circuit
 from ..results import Result
 
@@ -222,7 +222,7 @@ def _with_finite_gain(circuit: Circuit, gains: dict, nominals: dict[str, Fractio
         if any(row is None for row in rows):
             return 0, ""
         determinant = eliminate.determinant(rows, in_s)
-    except EngineError:
+    except AlgebraError:
         return 0, ""
     if in_s.is_zero(determinant):
         return 0, ""
