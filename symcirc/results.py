@@ -183,6 +183,8 @@ class Result:
                 return None
         try:
             return self._value.evaluate({n: self._nominals[n] for n in self.symbols})
+        except ValueError:  # an irrational atom (√a) that is not real at the nominal values
+            return None
         except SymcircError as problem:
             raise self.error(f"no value at the nominal values: {problem.message}",
                              problem.notes) from None

@@ -110,3 +110,21 @@ def test_control_characters_in_an_error_line_are_escaped_and_the_caret_follows(t
     shown, caret = lines[1], lines[2]
     assert shown == '    title "x\\x1b[31m" ?'
     assert shown[caret.index("^")] == "?"
+
+
+def test_a_value_complex_at_nominal_has_no_nominal_and_says_why(tmp_path):
+    """√a with a = −4 is not real: no traceback, no value, and the reason (found while
+    checking the value text)."""
+    text = """\
+title "Imaginary supply"
+param a = -4
+param b = sqrt(a)
+voltage source U (n1, gnd) = b
+resistor R1 (n1, gnd) = 1k
+derive V(n1)
+"""
+    status, out, err = run(tmp_path, text, "--values")
+    assert status == 0, err
+    assert "no real nominal value" in out
+    status, out, err = run(tmp_path, text, "--format", "json")
+    assert status == 0 and json.loads(out)["results"][0]["nominal"] is None
