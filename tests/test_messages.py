@@ -123,8 +123,8 @@ voltage source U (n1, gnd) = b
 resistor R1 (n1, gnd) = 1k
 derive V(n1)
 """
-    status, out, err = run(tmp_path, text, "--values")
+    status, out, err = run(tmp_path, text, "--values", "--substitute")
     assert status == 0, err
-    assert "no real nominal value" in out
-    status, out, err = run(tmp_path, text, "--format", "json")
+    assert "V(n1) = sqrt(a)" in out and "no real nominal value" in out
+    status, out, err = run(tmp_path, text, "--format", "json", "--substitute")
     assert status == 0 and json.loads(out)["results"][0]["nominal"] is None
