@@ -1,6 +1,7 @@
 """Fuzz benchmark (a script, not a test): generated and mutated circuit files through parse
-and elaborate, and a cheap derive where the file reads; counts tracebacks, i.e. anything
-raised that is not the project's own SymcircError.
+and elaborate, and a cheap derive where the file reads (its first quantity, as written and
+with definitions substituted, text and JSON with nominal values); counts tracebacks, i.e.
+anything raised that is not the project's own SymcircError.
 
     python tests/perf/fuzz_parser.py [--inputs N] [--seed K] [--save DIR] [--budget SECONDS]
 
@@ -103,9 +104,10 @@ def exercise(text: str) -> str:
             quantities = [f"Z({next(iter(circuit.ports))})"]
         if not quantities:
             return "read"
-        for result in circuit.derive(quantities[0], steps=False):
-            result.text()
-            result.to_json()
+        for substitute in (False, True):
+            for result in circuit.derive(quantities[0], steps=False, substitute=substitute):
+                result.text()
+                result.to_json()
     except SymcircError as error:
         error.format()
         return "read"
