@@ -175,3 +175,14 @@ coupling k12 (L1, L2) = 0.9
         symcirc.parse(text, "pair.circuit")
     assert (caught.value.line, caught.value.column) == (6, 1)
     assert "opposite signs" in caught.value.message
+
+
+def test_plotting_the_loading_of_an_ideal_source_says_there_is_nothing_to_plot(tmp_path):
+    path = tmp_path / "stiff.circuit"
+    path.write_text(STIFF, encoding="utf-8")
+    out, err = io.StringIO(), io.StringIO()
+    with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
+        status = main(["plot", str(path), "loading(P, 1k)", "-o", str(tmp_path / "p.png")])
+    assert status == 2
+    assert "nothing to plot: the source impedance at P is 0" in err.getvalue()
+    assert not (tmp_path / "p.png").exists()
