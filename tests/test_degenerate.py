@@ -186,3 +186,21 @@ def test_plotting_the_loading_of_an_ideal_source_says_there_is_nothing_to_plot(t
     assert status == 2
     assert "nothing to plot: the source impedance at P is 0" in err.getvalue()
     assert not (tmp_path / "p.png").exists()
+
+
+def test_cautions_leave_out_a_source_without_a_value():
+    """A source defined by a parameter without a value (`= A`) is left out of the
+    operating point, and said so (found by the fuzz benchmark: it was a TypeError)."""
+    text = """\
+title "Bias network with an unset drive"
+param A
+voltage source Uin (in, gnd) = 1 V
+resistor Rs (in, b) = 50
+resistor Rb (b, gnd) = 1k
+voltage source Uamp (o1, gnd) = A
+resistor Rl (o1, gnd) = 1k
+port P (b, gnd)
+"""
+    circuit = symcirc.parse(text, "bias.circuit")
+    (result,) = circuit.derive("Z(P)")
+    assert any("Source Uamp has no value" in c for c in result.cautions)
