@@ -98,7 +98,7 @@ def exercise(text: str) -> str:
         return "error"
     if len(circuit.elements) > DERIVE_ELEMENT_LIMIT:
         return "read"
-    quantities = [q for d in circuit.derives for q in d.quantities][:1]
+    quantities = [q for d in circuit.derives for q in d.texts][:1]
     try:
         if not quantities and circuit.ports:
             quantities = [f"Z({next(iter(circuit.ports))})"]
