@@ -131,6 +131,6 @@ derive V(n1)
 """
     status, out, err = run(tmp_path, text, "--values", "--substitute")
     assert status == 0, err
-    assert "V(n1) = sqrt(a)" in out and "no real nominal value" in out
+    assert "V(n1) = sqrt(a)" in out and "no single real value" in out
     status, out, err = run(tmp_path, text, "--format", "json", "--substitute")
     assert status == 0 and json.loads(out)["results"][0]["nominal"] is None

@@ -126,8 +126,6 @@ def value_text(result: Result) -> str:
     if not result.missing:
         return "no single real value at the nominal values (complex: see the notes)"
     missing = [n for n in result.missing if n != "s"]
-    if not result.missing:
-        return "no real nominal value (it is complex at the nominal values)"
     if "s" in result.missing and not missing:
         return "no nominal value: it depends on s (a function of frequency)"
     if "s" in result.missing:
