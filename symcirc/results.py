@@ -132,6 +132,7 @@ class Result:
         made.steps = list(self.steps)
         made.details = dict(self.details)
         made.cautions = list(self.cautions)
+        made.origin = self.origin
         return made
 
     # -- the value

@@ -140,7 +140,7 @@ def derive_quantity(circuit: Circuit, quantity: syntax.Quantity,
     results = handler(circuit, quantity, options)
     from .stability import add_warnings
 
-    add_warnings(circuit, results)
+    add_warnings(circuit, results, options.memo)
     origin = options.origin or (circuit.file, circuit.source)
     where = (Location(origin[0], quantity.line, quantity.column), origin[1])
     for result in results:

@@ -22,6 +22,7 @@ import sympy
 
 from ..algebra.polynomials import LAPLACE_NAME, AlgebraError, PolynomialRing
 from ..engine import eliminate
+from ..engine.memo import Memo
 from ..engine.mna import Equations
 from ..engine.network import build_network
 from ..model.circuit import LAPLACE, Circuit
@@ -143,11 +144,12 @@ def _roots(count: int) -> str:
     return "one root" if count == 1 else f"{count} roots"
 
 
-def opamp_notes(circuit: Circuit) -> tuple[str, ...]:
-    """Warnings for ideal opamps in positive feedback (cached per circuit)."""
-    cached = circuit.cache.get("opamp loop notes")
+def opamp_notes(circuit: Circuit, memo: Memo | None = None) -> tuple[str, ...]:
+    """Warnings for ideal opamps in positive feedback (kept in the pipeline's memo)."""
+    store = (memo or Memo()).of(circuit)
+    cached = store.get("opamp loop notes")
     if cached is None:
-        cached = circuit.cache["opamp loop notes"] = _opamp_notes(circuit)
+        cached = store["opamp loop notes"] = _opamp_notes(circuit)
     return cached
 
 
@@ -211,7 +213,7 @@ def _with_finite_gain(circuit: Circuit, gains: dict, nominals: dict[str, Fractio
     elements = dict(circuit.elements)
     for opamp, gain in gains.items():
         elements[opamp.name] = dataclasses.replace(opamp, definition=gain, nominal=None)
-    model = dataclasses.replace(circuit, elements=elements, derives=(), claims=(), cache={})
+    model = dataclasses.replace(circuit, elements=elements, derives=(), claims=())
     try:
         network = build_network(model)
         equations = Equations(network)
@@ -261,10 +263,10 @@ def _row_at_nominal(ring: PolynomialRing, row: dict, in_s: PolynomialRing,
     return out
 
 
-def add_warnings(circuit: Circuit, results: list[Result]) -> None:
+def add_warnings(circuit: Circuit, results: list[Result], memo: Memo | None = None) -> None:
     """Put the stability warnings into each result's notes (derive, notes and JSON show
     them)."""
-    loop = opamp_notes(circuit)
+    loop = opamp_notes(circuit, memo)
     nominals = None
     for result in results:
         extra = list(loop)
