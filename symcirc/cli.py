@@ -87,12 +87,12 @@ def main(argv: list[str] | None = None) -> int:
     streams = sys.stdout, sys.stderr
     sys.stdout, sys.stderr = _Terminal(sys.stdout), _Terminal(sys.stderr)
     try:
-        return _main(argv)
+        return _main(argv, guarded)
     finally:
         sys.stdout, sys.stderr = streams
 
 
-def _main(argv: list[str]) -> int:
+def _main(argv: list[str], guarded: bool) -> int:
     try:
         if guarded:
             from .limits import guard_process
