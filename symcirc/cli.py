@@ -12,7 +12,7 @@ import importlib
 import sys
 import textwrap
 
-from .errors import SymcircError
+from .errors import SymcircError, printable
 
 COMMANDS: dict[str, str] = {
     "inspect": "show what was read from a circuit file",
@@ -64,11 +64,35 @@ def command_parser(name: str) -> argparse.ArgumentParser:
     return parser
 
 
+class _Terminal:
+    """A text stream that shows control characters as escapes (see errors.printable): what
+    a command prints (titles, descriptions, messages) cannot drive the terminal. Binary
+    output (`.buffer`) passes unchanged."""
+
+    def __init__(self, stream) -> None:
+        self._stream = stream
+
+    def write(self, text: str) -> int:
+        return self._stream.write(printable(text))
+
+    def __getattr__(self, name: str):
+        return getattr(self._stream, name)
+
+
 def main(argv: list[str] | None = None) -> int:
     """Run one command; with `argv` None (the command line itself) the process is guarded
     too: a memory ceiling, and Ctrl-C honoured within a second (`symcirc.limits`)."""
     guarded = argv is None
     argv = list(sys.argv[1:] if argv is None else argv)
+    streams = sys.stdout, sys.stderr
+    sys.stdout, sys.stderr = _Terminal(sys.stdout), _Terminal(sys.stderr)
+    try:
+        return _main(argv, guarded)
+    finally:
+        sys.stdout, sys.stderr = streams
+
+
+def _main(argv: list[str], guarded: bool) -> int:
     try:
         if guarded:
             from .limits import guard_process

@@ -2,7 +2,25 @@
 
 from __future__ import annotations
 
+import re
 from dataclasses import dataclass
+
+_UNSAFE = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\u200e\u200f\u202a-\u202e\u2066-\u2069]")
+"""Characters a terminal would act on (C0 and C1 controls but tab and newline, DEL) or that
+reorder the text shown (bidirectional overrides): shown as escapes, never raw."""
+
+
+def printable(text: str) -> str:
+    """`text` with every control character shown as an escape (`\\x1b`, `\\u009b`): user text
+    (titles, descriptions, source lines) reaches a terminal as text, never as commands."""
+    return _UNSAFE.sub(_escape, text)
+
+
+def _escape(match: re.Match[str]) -> str:
+    # C0 as \x1b; the rest as \u009b: also a valid escape inside a JSON string, so JSON
+    # printed with ensure_ascii=False (which leaves DEL and C1 raw) stays valid
+    code = ord(match.group())
+    return f"\\x{code:02x}" if code < 0x20 else f"\\u{code:04x}"
 
 
 @dataclass(frozen=True)
@@ -65,7 +83,7 @@ class SymcircError(Exception):
             head = f"{self.file}:{self.line}:{self.column}: {kind}: {self.message}"
         else:
             head = f"{self.file}: {kind}: {self.message}"
-        out = [head]
+        out = [printable(head)]
         if self.source_line is not None:
             shown = self.source_line.replace("\t", " ")
             if len(shown) > 200:  # keep enormous lines readable: a window around the column
@@ -74,7 +92,9 @@ class SymcircError(Exception):
                 caret_col = self.column - start + (3 if start else 0)
             else:
                 caret_col = self.column
-            out.append("    " + shown)
+            # escapes widen the line: the caret moves with the text before it
+            caret_col = len(printable(shown[:max(caret_col - 1, 0)])) + 1
+            out.append("    " + printable(shown))
             out.append("    " + " " * max(caret_col - 1, 0) + "^")
-        out.extend(f"note: {n}" for n in self.notes)
+        out.extend(printable(f"note: {n}") for n in self.notes)
         return "\n".join(out)

@@ -15,6 +15,8 @@ from typing import Any, Protocol
 
 import sympy
 
+from .errors import Location, SymcircError
+
 
 def markdown_text(text: str) -> str:
     """Plain text safe in Markdown (no markup characters act)."""
@@ -103,6 +105,8 @@ class Result:
         """Names' forms given by the circuit's file (`typeset`), used by `latex()`."""
         self.name_latex: str | None = None
         """How the quantity is set in LaTeX when it has a symbol of the trade (`\\omega_{0}`)."""
+        self.origin: tuple[Location, str | None] | None = None
+        """Where the quantity was asked for (location, source text), for messages."""
 
     def __setattr__(self, name: str, value: Any) -> None:
         if self._sealed:
@@ -128,6 +132,7 @@ class Result:
         made.steps = list(self.steps)
         made.details = dict(self.details)
         made.cautions = list(self.cautions)
+        made.origin = self.origin
         return made
 
     # -- the value
@@ -165,12 +170,33 @@ class Result:
             value = self._value
             if value.free_symbols:
                 value = value.xreplace(subs)
-            if not value.is_number or value.is_real is False:
+            if not value.is_number:
+                return None
+            if value.has(sympy.zoo, sympy.nan, sympy.oo, -sympy.oo):
+                raise self.error("no finite value at the nominal values (a division by zero)")
+            if value.is_real is False:
                 return None  # complex (a pole pair) has no single real value
             if value.is_Rational:
                 return Fraction(int(value.p), int(value.q))
-            return Fraction(float(value)).limit_denominator(10**15)
-        return self._value.evaluate({n: self._nominals[n] for n in self.symbols})
+            try:
+                return Fraction(float(value)).limit_denominator(10**15)
+            except TypeError:  # a complex number: no real value to show
+                return None
+        try:
+            return self._value.evaluate({n: self._nominals[n] for n in self.symbols})
+        except ValueError:  # an irrational atom (√a) that is not real at the nominal values
+            return None
+        except SymcircError as problem:
+            raise self.error(f"no value at the nominal values: {problem.message}",
+                             problem.notes) from None
+
+    def error(self, message: str, notes: tuple[str, ...] = ()) -> SymcircError:
+        """A SymcircError about this result, at the place its quantity was asked for."""
+        text = f"{self.quantity}: {message}"
+        if self.origin is None:
+            return SymcircError(text, notes=notes)
+        location, source = self.origin
+        return SymcircError.at(location, text, source, notes)
 
     @property
     def nominal(self) -> float | None:

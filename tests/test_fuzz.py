@@ -21,8 +21,7 @@ ROOT = Path(__file__).resolve().parents[1]
 
 # A valid file using every construct (an invented data-logger channel); mutations start here
 # and from the bundled examples and the valid corpus.
-EVERY_CONSTRUCT = """\
-# Data-logger input channel: every construct of the language (invented example)
+EVERY_CONSTRUCT = r"""# Data-logger channel: every construct of the language (invented example)
 title "Data-logger channel 2, \"thermocouple\" input"
 
 param Ub    = 2.5 V ± 0.05 %     "reference"
@@ -70,6 +69,8 @@ claim gain(Uref, out) = Rt/(R1 + Rt)
 
 
 def _valid_texts() -> list[str]:
+    """The seeds of every mutation: texts that parse (a seed that does not would make its
+    mutations start from an invalid file)."""
     files = sorted(ROOT.glob("examples/*.circuit")) + sorted(ROOT.glob("tests/valid/*.circuit"))
     return [EVERY_CONSTRUCT] + [f.read_text(encoding="utf-8") for f in files]
 
@@ -86,6 +87,23 @@ TOKENS = [
     "\\\n", "\n", " ", "\t", "#", "µ", "Ω", "4k7k", "1e999", "\x00", "\ufeff", "\r\n",
     "4F7", "6L8", "0R47", "R47", "opamp U9 (a, b, gnd)", "V(out)",
 ]
+
+
+def test_every_seed_parses():
+    for text in VALID:
+        symcirc.parse(text, filename="seed.circuit")
+
+
+def test_the_every_construct_seed_uses_every_construct():
+    circuit = symcirc.parse(EVERY_CONSTRUCT, filename="seed.circuit")
+    kinds = {e.kind for e in circuit.elements.values()}
+    assert {"resistor", "capacitor", "inductor", "conductance", "impedance", "admittance",
+            "voltage source", "current source", "opamp", "transformer",
+            "coupling"} <= kinds
+    assert circuit.title == 'Data-logger channel 2, "thermocouple" input'
+    assert any(e.controls for e in circuit.elements.values())
+    assert circuit.elements["Rb_left"].tolerance is not None
+    assert circuit.derives and circuit.claims
 
 
 def check_parse(text: str) -> None:

@@ -314,7 +314,9 @@ class _Assessor:
         values[LAPLACE] = sympy.Float(s.real) + sympy.I * sympy.Float(s.imag)
         for element in self.circuit.elements.values():
             if element.name not in point and element.definition is not None:
-                point[element.name] = complex(sympy.N(element.definition.xreplace(values)))
+                value = sympy.N(element.definition.xreplace(values))
+                if value.is_number:  # a source without a value is left out of the groups
+                    point[element.name] = complex(value)
         point["s"] = s
         return point
 

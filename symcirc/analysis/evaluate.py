@@ -179,6 +179,8 @@ def _groups(outer, inner, coefficients) -> list[tuple[int, Any, Any]]:
     """Terms grouped by their `outer` monomial: (outer row, inner rows, coefficients)."""
     import numpy as np
 
+    if len(outer) == 0:  # a zero polynomial (a derivative of what does not use x)
+        return []
     order = np.argsort(outer, kind="stable")
     starts = np.flatnonzero(np.diff(outer[order], prepend=-1))
     ends = [*starts[1:], len(order)]
@@ -368,6 +370,18 @@ class RationalForm:
                 dn, dd = derivatives.values(columns, size)
                 out[:, k] = (dn * d - n * dd) / (d * d)
         return out
+
+    def denominator_corners(self, lows: Sequence[float], highs: Sequence[float]):
+        """The denominator at every corner of the box (index as in `corners`)."""
+        return self._numeric.corners(lows, highs)[1]
+
+    def denominator_values(self, columns: Sequence[Any], size: int):
+        return self._numeric.values(columns, size)[1]
+
+    def denominator_sign(self, point: Mapping[sympy.Symbol, Fraction]) -> int:
+        """The sign of the denominator at `point`, exactly."""
+        value = self._terms(self.denominator, point)[0]
+        return (value > 0) - (value < 0)
 
     def corners(self, lows: Sequence[float], highs: Sequence[float]):
         import numpy as np

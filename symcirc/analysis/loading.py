@@ -55,8 +55,14 @@ class Loading:
     power: sympy.Expr | None
     """Power in the load, when source and load are resistive (no s): U_loaded²/R_L."""
     maximum_power: sympy.Expr | None
-    """U_th²/(4·R_th) at R_L = R_th, when the source is resistive."""
+    """U_th²/(4·R_th) at R_L = R_th, when the source is resistive and R_th > 0."""
     at_frequency: AtFrequency | None = None
+    no_maximum: str | None = None
+    """Why a resistive source has no maximum power transfer (R_th = 0 or negative)."""
+
+
+class NoAnswer(ValueError):
+    """The question has no finite answer for this source and load (said why)."""
 
 
 def is_reactive(*expressions: sympy.Expr) -> bool:
@@ -81,25 +87,57 @@ def loading(
 ) -> Loading:
     """The loading of a source (U_th, Z_th) by `load`; numbers at `frequency` when given."""
     u, z, zl = source_voltage, source_impedance, load
+    nominals = nominals or {}
+    if _tidy(z + zl) == 0:
+        raise NoAnswer(_SHORTED.format(where="for every value"))
+    if exact_value(z + zl, nominals) == 0:
+        raise NoAnswer(_SHORTED.format(where="at the nominal values"))
     voltage = _tidy(u * zl / (z + zl))
     error = _tidy(-z / (z + zl))
     resistive = not is_reactive(u, z, zl)
-    power = _tidy(voltage**2 / zl) if resistive else None
-    maximum = _tidy(u**2 / (4 * z)) if not is_reactive(z, u) else None
+    # U_th²·R_L/(R_th + R_L)², not U_loaded²/R_L: the same, and finite for a short (R_L = 0)
+    power = _tidy(u**2 * zl / (z + zl) ** 2) if resistive else None
+    maximum, no_maximum = None, None
+    if not is_reactive(z, u):
+        no_maximum = _no_maximum(z, nominals)
+        maximum = _tidy(u**2 / (4 * z)) if no_maximum is None else None
     at_f = None
     if frequency is not None:
-        nominals = nominals or {}
         uf, zf, zlf = (phasor(e, nominals, frequency) for e in (u, z, zl))
-        loaded = uf * zlf / (zf + zlf)
+        if abs(zf + zlf) == 0:
+            raise NoAnswer(_SHORTED.format(where=f"at {eng(frequency, 'Hz')}"))
+        current = uf / (zf + zlf)
         at_f = AtFrequency(
             frequency=frequency,
-            voltage=loaded,
+            voltage=current * zlf,
             error=-zf / (zf + zlf),
-            power=abs(loaded) ** 2 * (1 / zlf).real,
+            power=abs(current) ** 2 * zlf.real,
             matched_load=zf.conjugate(),
             maximum_power=abs(uf) ** 2 / (4 * zf.real) if zf.real > 0 else None,
         )
-    return Loading(u, z, zl, voltage, error, power, maximum, at_f)
+    return Loading(u, z, zl, voltage, error, power, maximum, at_f, no_maximum)
+
+
+_SHORTED = ("source and load impedance add up to zero {where} (Z_th + Z_L = 0: a short across "
+            "an ideal source, or a load that cancels the source impedance): the load current, "
+            "the loaded voltage and the power have no finite value")
+
+
+def _no_maximum(z: sympy.Expr, nominals: Mapping[sympy.Symbol, Fraction]) -> str | None:
+    """Why a resistive source R_th has no maximum power transfer, or None when it has one."""
+    if z == 0 or _tidy(z) == 0:
+        return ("there is no maximum power transfer: the source resistance R_th is 0 (an "
+                "ideal voltage source), so the power U_th²·R_L/(R_th + R_L)² = U_th²/R_L in a "
+                "load grows without bound as R_L → 0")
+    value = exact_value(z, nominals)
+    if value is not None and value < 0:
+        return (f"there is no maximum power transfer: the source resistance R_th is negative "
+                f"at the nominal values ({eng(value, 'Ω')}), so the power in a load grows "
+                "without bound as R_L approaches −R_th")
+    if value == 0:
+        return ("there is no maximum power transfer: the source resistance R_th is 0 at the "
+                "nominal values, so the power in a load grows without bound as R_L → 0")
+    return None
 
 
 @dataclass(frozen=True)

@@ -278,6 +278,11 @@ def figure_of(circuit: Circuit, quantity: syntax.Quantity, options: DeriveOption
             raise q.Reader(circuit, options).error(
                 quantity, f"the source impedance at {case.port} has no value here; a reactive "
                           "source needs a frequency, e.g. loading(out, 10 kΩ, 1 kHz)")
+        if case.source_impedance_value == 0:
+            raise q.Reader(circuit, options).error(
+                quantity, f"nothing to plot: the source impedance at {case.port} is 0 (an ideal "
+                          "source), so every load reads the open-circuit voltage (the loading "
+                          "error is 0)")
         smallest = None
         if case.bound is not None:
             from .loading import minimum_load

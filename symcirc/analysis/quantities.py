@@ -307,10 +307,27 @@ def tolerance_analyses(circuit: Circuit, quantity: syntax.Quantity, options: Der
             analysis = tolerance.analyse(
                 result.expression, circuit.symbol_nominals(), tolerances(circuit),
                 definitions(circuit), distribution=distribution, seed=options.seed)
+        except tolerance.PoleInBox as problem:
+            raise _at_tolerance(read, args[0], result, problem) from None
         except tolerance.ToleranceInputError as problem:
             raise read.error(args[0], f"tolerance of {result.quantity}: {problem}") from None
         out.append((result, analysis))
     return out
+
+
+def _at_tolerance(read: Reader, arg, result: Result,
+                  problem: tolerance.PoleInBox) -> SymcircError:
+    """The error at the tolerance to blame (its statement in the file), the quantity in a
+    note; at the quantity when no single band is to blame."""
+    circuit = read.circuit
+    message = f"tolerance of {result.quantity}: {problem}"
+    name = None if problem.symbol is None else problem.symbol.name
+    owner = circuit.parameters.get(name) or circuit.elements.get(name) if name else None
+    if owner is None:
+        return read.error(arg, message)
+    asked = f"{read.file}:{arg.line}:{arg.column}"
+    return SymcircError.at(owner.location, message, circuit.source,
+                           notes=(f"tolerance({result.quantity}) is asked for at {asked}",))
 
 
 def tolerance_quantity(circuit: Circuit, quantity: syntax.Quantity,
@@ -497,7 +514,14 @@ def loading_quantity(circuit: Circuit, quantity: syntax.Quantity,
     """`.voltage`, `.error`, `.power` and `.maximum_power` of a loaded port."""
     case = loading_case(circuit, quantity, options)
     u, z = case.thevenin_voltage.expression, case.thevenin_impedance.expression
-    analysis = loading.loading(u, z, case.load, case.nominals, case.frequency)
+    read = Reader(circuit, options)
+    try:
+        analysis = loading.loading(u, z, case.load, case.nominals, case.frequency)
+    except loading.NoAnswer as problem:
+        raise read.error(quantity.args[1], f"{case.label} at port {case.port}: {problem}") \
+            from None
+    if analysis.no_maximum is not None and quantity.attribute == "maximum_power":
+        raise read.error(quantity, f"{case.label}.maximum_power: {analysis.no_maximum}")
     nominals = _names(case.nominals)
     label, port = case.label, case.port
 
@@ -525,11 +549,14 @@ def loading_quantity(circuit: Circuit, quantity: syntax.Quantity,
     else:
         if analysis.power is not None:
             power = Result(f"{label}.power", analysis.power, "W", nominals,
-                           ("Power delivered to the load, U_loaded²/R_L.",), part="power")
+                           ("Power delivered to the load, U_th²·R_L/(R_th + R_L)² "
+                            "(= U_loaded²/R_L).",), part="power")
             power.notes += loading.cautions(None, _float(value(analysis.power)), "the load")
             results.append(power)
         if analysis.maximum_power is not None:
             results.append(_maximum_power(analysis.maximum_power, z, case, value))
+        elif analysis.no_maximum is not None:
+            error.notes.append(analysis.no_maximum[0].upper() + analysis.no_maximum[1:] + ".")
         if loading.is_reactive(u, z, case.load):
             error.notes.append("Source or load is reactive: for numbers, power and the "
                                f"conjugate match give a frequency, e.g. {_with_frequency(label)}.")
@@ -538,7 +565,7 @@ def loading_quantity(circuit: Circuit, quantity: syntax.Quantity,
             "port": port, "source_voltage": _text(u), "source_impedance": _text(z),
             "load": _text(case.load), "frequency": case.frequency,
         })
-    return Reader(circuit, options).select(quantity, results)
+    return read.select(quantity, results)
 
 
 def _maximum_power(maximum: sympy.Expr, z: sympy.Expr, case: LoadingCase, value) -> Result:
@@ -568,7 +595,7 @@ def _at_frequency(at: loading.AtFrequency, case: LoadingCase, error: Result) -> 
                        f"{eng(abs(at.voltage), 'V')}.")
     power = Result(f"{case.label}.power", sympy.Float(at.power, 15), "W", {}, (
         f"Average power in the load at {f}, the source value taken as RMS: "
-        "|U_loaded|²·Re(1/Z_L).",), part="power")
+        "|U_th/(Z_th + Z_L)|²·Re Z_L.",), part="power")
     power.notes += loading.cautions(None, at.power, "the load")
     match = at.matched_load
     sign = "+" if match.imag >= 0 else "−"

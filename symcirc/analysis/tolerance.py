@@ -44,6 +44,15 @@ class ToleranceInputError(ValueError):
     """The expression cannot be analysed (a symbol without a value, or `s`)."""
 
 
+class PoleInBox(ToleranceInputError):
+    """Q has no finite value somewhere in the tolerance box; `symbol` is the toleranced
+    symbol whose band reaches the pole (a band reaching zero), when one is to blame."""
+
+    def __init__(self, message: str, symbol: sympy.Symbol | None = None) -> None:
+        super().__init__(message)
+        self.symbol = symbol
+
+
 @dataclass(frozen=True)
 class Variable:
     """One independent toleranced value: its symbol, a label for tables, nominal and band."""
@@ -213,13 +222,103 @@ def analyse(
     slopes = [c.derivative for c in contributions]
     contributions.sort(key=lambda c: (-(c.up - c.down), c.variable.label))
 
+    warnings = _bands_reaching_zero(variables)
+    warnings += _check_denominator(form, variables)
     extremes = _extremes(form, variables, slopes, np.random.default_rng(seed))
-    sampled, warnings = monte_carlo(form, variables, distribution, samples, seed)
+    sampled, sampling_warnings = monte_carlo(form, variables, distribution, samples, seed)
+    warnings += sampling_warnings
     return ToleranceAnalysis(
         expression=q, nominal=nominal, variables=tuple(variables),
         contributions=tuple(contributions), linear_low=linear_low, linear_high=linear_high,
         rss=rss, extremes=extremes, monte_carlo=sampled, warnings=tuple(warnings),
     )
+
+
+def _reaches_zero(v: Variable) -> bool:
+    return v.nominal > 0 >= v.low or v.nominal < 0 <= v.high
+
+
+def _bands_reaching_zero(variables: list[Variable]) -> list[str]:
+    """A note for each band that reaches zero or changes sign: no real part sits there."""
+    return [f"The tolerance band of {v.label} ({_number(v.low)} … {_number(v.high)}) reaches "
+            "zero: the extremes and samples include values no real part takes; a band that "
+            "wide is better written as a range of designs than as a tolerance."
+            for v in variables if _reaches_zero(v)]
+
+
+def _number(value: Fraction) -> str:
+    return f"{float(value):.6g}"
+
+
+def _check_denominator(form, variables: list[Variable]) -> list[str]:
+    """Raise PoleInBox when Q's denominator vanishes somewhere in the tolerance box.
+
+    The denominator's sign is taken at every corner (all of them up to MAX_CORNER_SYMBOLS
+    variables): a zero or a change of sign means a pole in the box (the denominator is
+    continuous). With no change, the box is free of poles when the denominator is of degree
+    at most one in each variable (its extremes over a box are then at corners), or when
+    interval arithmetic over the box keeps it away from zero; otherwise a warning says that
+    a pole inside the box was not ruled out."""
+    import numpy as np
+
+    denominator = getattr(form, "denominator", None)
+    if denominator is None:  # no rational function (a square root): sampled only
+        return []
+    if denominator.is_ground:
+        return []
+    n = len(variables)
+    lows = [float(v.low) for v in variables]
+    highs = [float(v.high) for v in variables]
+    if n <= MAX_CORNER_SYMBOLS:
+        values = form.denominator_corners(lows, highs)
+        indices = range(2**n)
+    else:
+        rng = np.random.default_rng(DEFAULT_SEED)
+        corners = _random_corners(variables, rng, INTERIOR_CHECKS)
+        values = form.denominator_values(corners, INTERIOR_CHECKS)
+        indices = None
+    signs = set(np.sign(values).tolist())
+    if len(signs) > 1 or 0.0 in signs:
+        if indices is not None:  # decide the corners near zero exactly, in rational numbers
+            scale = float(np.max(np.abs(values))) or 1.0
+            signs = {form.denominator_sign(_corner(variables, i))
+                     if abs(values[i]) <= 1e-9 * scale else int(np.sign(values[i]))
+                     for i in indices}
+        if len(signs) > 1 or 0 in signs:
+            blamed = next((v for v in variables if _reaches_zero(v)
+                           and v.symbol in denominator.as_expr().free_symbols), None)
+            what = ("its denominator is zero or changes sign between corners of the tolerance "
+                    "box, so the quantity has a pole inside the box")
+            if blamed is not None:
+                what += (f": the band of {blamed.label} ({_number(blamed.low)} … "
+                         f"{_number(blamed.high)}) reaches zero, where no extreme exists; "
+                         "narrow the band so that it stays on one side of zero")
+            raise PoleInBox(what, blamed.symbol if blamed is not None else None)
+    if n <= MAX_CORNER_SYMBOLS and max(max(m) for m in denominator.monoms()) <= 1:
+        return []
+    if _interval_excludes_zero(denominator, lows, highs):
+        return []
+    return ["A pole inside the tolerance box was not ruled out: the denominator keeps its "
+            "sign at the corners checked, but is not of degree one in each toleranced symbol "
+            "and interval arithmetic over the box does not keep it away from zero."]
+
+
+def _interval_excludes_zero(poly, lows: list[float], highs: list[float]) -> bool:
+    """Interval arithmetic: is the polynomial kept away from zero over the box?"""
+    low_sum, high_sum = 0.0, 0.0
+    for monomial, coefficient in poly.items():
+        low, high = float(coefficient), float(coefficient)
+        for power, a, b in zip(monomial, lows, highs, strict=True):
+            if power:
+                ends = (a**power, b**power)
+                p_low = 0.0 if power % 2 == 0 and a < 0 < b else min(ends)
+                p_high = max(ends)
+                products = (low * p_low, low * p_high, high * p_low, high * p_high)
+                low, high = min(products), max(products)
+        low_sum += low
+        high_sum += high
+    margin = 1e-9 * max(abs(low_sum), abs(high_sum), 1e-300)
+    return low_sum > margin or high_sum < -margin
 
 
 def _fixed(q: sympy.Expr, fixed: dict[sympy.Symbol, Fraction], distribution: Distribution,

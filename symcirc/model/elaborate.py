@@ -196,6 +196,8 @@ class _Elaborator:
         self.walk(self.document.statements, self.top)
         self.draft_of = {d.name: d for d in (*self.params, *self.elements)}
         node_set = set(self.node_order)
+        if any(REFERENCE in d.nodes for d in self.ports):
+            node_set.add(REFERENCE)  # the reference node exists whether or not a part touches it
         self.check_ports(node_set)
         self.choose_reference(node_set)
         parameters = {d.name: self.parameter(d) for d in self.params}
@@ -793,6 +795,12 @@ class _Elaborator:
             if element.nominal is not None and abs(element.nominal) > 1:
                 raise self.error(statement, f"coupling coefficient {element.name} = "
                                  f"{units.engineering(element.nominal)} is outside -1 … 1")
+            values = [elements[n].nominal for n in (first, second) if n in elements]
+            if len(values) == 2 and None not in values and values[0] * values[1] <= 0:
+                raise self.error(statement, f"coupling {element.name} joins inductors {first} "
+                                 f"and {second}, whose values have opposite signs (or one is "
+                                 f"zero): the mutual inductance {element.name}·√({first}·"
+                                 f"{second}) has no real value")
 
     # -------------------------------------------------------------- nominal values
 

@@ -114,6 +114,7 @@ class _Checker:
         for element in self.circuit.elements.values():
             for a, b in _conducting_pairs(element, include_current_sources=True):
                 sets.union(a, b)
+        self._join_ports(sets)
         group = self._first_group_without_reference(sets)
         if group is None:
             return
@@ -135,12 +136,19 @@ class _Checker:
             tuple(notes),
         )
 
+    def _join_ports(self, sets: UnionFind) -> None:
+        """A port is where the circuit meets its source or load, which ties the port's nodes
+        together (a series part between two ports to gnd is a valid two-port)."""
+        for port in self.circuit.ports.values():
+            sets.union(port.positive, port.negative)
+
     def current_source_cut_sets(self) -> None:
         sets = UnionFind()
         sets.find(REFERENCE)
         for element in self.circuit.elements.values():
             for a, b in _conducting_pairs(element, include_current_sources=False):
                 sets.union(a, b)
+        self._join_ports(sets)
         group = self._first_group_without_reference(sets)
         if group is None:
             return

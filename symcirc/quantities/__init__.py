@@ -13,7 +13,7 @@ from dataclasses import dataclass, fields, replace
 from difflib import get_close_matches
 from typing import Any
 
-from ..errors import SymcircError
+from ..errors import Location, SymcircError
 from ..language import syntax
 from ..model.circuit import Assumption, Circuit
 from ..results import Result
@@ -44,7 +44,8 @@ def options_from(options: DeriveOptions | None = None, **kw: Any) -> DeriveOptio
     for symbol, target in limits.items():
         target = str(target)
         if target not in ("oo", "0"):
-            raise SymcircError(f"a limit goes to oo or 0, not {target} ({symbol} -> {target})")
+            raise SymcircError(f"a limit goes to oo or 0, not {target} ({symbol} -> {target})",
+                               "<limits>")
         extra.append(Assumption("limit", symbol, target))
     if where:
         from ..language.parser import parse_where
@@ -132,13 +133,20 @@ def derive_quantity(circuit: Circuit, quantity: syntax.Quantity,
         close = get_close_matches(quantity.name, list(HANDLERS), n=1)
         hint = f"; did you mean `{close[0]}`?" if close else ""
         origin = options.origin or (circuit.file, circuit.source)
-        from ..errors import Location
-
         raise SymcircError.at(Location(origin[0], quantity.line, quantity.column),
                               f"unknown quantity `{quantity.name}(..)`{hint}", origin[1])
     module, function = target.split(":")
     handler = getattr(importlib.import_module(module), function)
-    return handler(circuit, quantity, options)
+    results = handler(circuit, quantity, options)
+    from .stability import add_warnings
+
+    add_warnings(circuit, results, options.memo)
+    origin = options.origin or (circuit.file, circuit.source)
+    where = (Location(origin[0], quantity.line, quantity.column), origin[1])
+    for result in results:
+        if result.origin is None:
+            result.origin = where
+    return results
 
 
 # ---------------------------------------------------------------- the named API
@@ -200,7 +208,12 @@ class TwoPort:
             from .twoports import UNITS
 
             if name in UNITS:
-                raise SymcircError(self._missing or f"no parameter {name}") from None
+                message = self._missing or f"no parameter {name}"
+                first = next(iter(self._results.values()), None)
+                if first is None or first.origin is None:
+                    raise SymcircError(message, QUANTITY_ORIGIN) from None
+                location, source = first.origin
+                raise SymcircError.at(location, message, source) from None
             raise AttributeError(name) from None
 
     def _repr_latex_(self) -> str:

@@ -71,6 +71,11 @@ def _short_cause(context: Context, port: str, a: str, b: str) -> str:
             "impedance is 0)")
 
 
+def _open_cause(port: str) -> str:
+    return (f"an ideal current source drives port {port}, or nothing conducts between its "
+            "terminals while the other ports are open")
+
+
 def raw_thevenin(context: Context, quantity: syntax.Quantity) -> list[Raw]:
     port, a, b = _port(context, quantity)
     parts = _wanted(context, quantity, ("voltage", "impedance"))
@@ -78,8 +83,8 @@ def raw_thevenin(context: Context, quantity: syntax.Quantity) -> list[Raw]:
         found = _open(context, port, a, b)
     if found is None:
         raise context.error(
-            quantity, f"port {port} has no Thevenin equivalent: an ideal current source drives "
-                      "it (its impedance is infinite); use norton(" + port + ")")
+            quantity, f"port {port} has no Thevenin equivalent: {_open_cause(port)} (its "
+                      "impedance is infinite); use norton(" + port + ")")
     voltage, impedance = found
     raws = []
     if "voltage" in parts:
@@ -121,8 +126,8 @@ def raw_impedance(context: Context, quantity: syntax.Quantity) -> list[Raw]:
     with context.at(quantity):
         found = _open(context, port, a, b)
     if found is None:
-        raise context.error(quantity, f"Z({port}) is infinite: an ideal current source drives "
-                                      f"port {port}; its admittance Y({port}) is 0")
+        raise context.error(quantity, f"Z({port}) is infinite: {_open_cause(port)}; its "
+                                      f"admittance Y({port}) is 0")
     impedance = found[1]
     notes = ()
     if impedance.is_zero():
