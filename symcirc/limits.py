@@ -30,7 +30,7 @@ MAX_SOURCE_BYTES = 16 * 2**20
 MAX_INSTANCE_DEPTH = 50
 """Deepest chain of block instances (an instance of a block holding an instance of ...)."""
 
-MAX_ELIMINATION_TERMS = 100_000
+MAX_ELIMINATION_TERMS = 1_000_000
 """Largest entry (terms) elimination may form on the way to a result."""
 
 MAX_PRODUCT_TERMS = 10_000_000
