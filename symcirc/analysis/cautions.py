@@ -24,7 +24,7 @@ from ..algebra.convert import atom_value
 from ..engine.memo import Memo
 from ..engine.mna import Equations
 from ..errors import SymcircError
-from ..model.circuit import LAPLACE, REFERENCE, SOURCES, Circuit
+from ..model.circuit import LAPLACE, REFERENCE, Circuit
 from ..model.units import engineering
 from ..quantities.common import Context
 from ..quantities.registry import DeriveOptions
@@ -74,8 +74,6 @@ THRESHOLDS = (
     "Judged at the nominal values: a source given a frequency (at 50 Hz) is a sinusoid whose "
     "peak amplitude is its value, any other source is DC; sources add by superposition.",
 )
-
-_DISSIPATING = ("resistor", "conductance")
 
 
 @dataclass(frozen=True)
@@ -253,7 +251,7 @@ class _Assessor:
         nominals = self.context.nominals
         names: set[str] = set()
         for element in self.circuit.elements.values():
-            if element.kind in SOURCES and not element.controls:
+            if element.is_source and not element.controls:
                 continue  # judged one by one in groups()
             if element.controls:
                 used = [c.coefficient for c in element.controls]
@@ -371,7 +369,7 @@ class _Assessor:
     def power_cautions(self, voltages: dict[float | None, dict[str, complex]]) -> list[str]:
         out = []
         for element in self.circuit.elements.values():
-            if element.kind not in _DISSIPATING or not element.nominal:
+            if not element.entry.resistive or not element.nominal:
                 continue
             a, b = element.nodes[:2]
             squares = 0.0  # mean square voltage across the part
@@ -379,7 +377,7 @@ class _Assessor:
                 across = abs(v[a] - v[b])
                 squares += across**2 if f is None else across**2 / 2
             value = float(element.nominal)
-            power = squares / value if element.kind == "resistor" else squares * value
+            power = squares / value**element.law.value_power  # P = V²/Z
             if power > POWER_LIMIT:
                 kinds = ", ".join("DC" if f is None else _hertz(f) for f in voltages)
                 out.append(f"{element.name} dissipates {engineering(_exactish(power), 'W')} "

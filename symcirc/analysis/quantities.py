@@ -18,7 +18,7 @@ import sympy
 from ..errors import Location, SymcircError
 from ..language import syntax
 from ..limits import MAX_TABLE_TERMS
-from ..model.circuit import LAPLACE, SOURCES, UNIT_OF_KIND, Circuit
+from ..model.circuit import Circuit
 from ..model.typeset import latex_of
 from ..model.units import degrees, eng
 from ..model.units import per as _per
@@ -133,7 +133,7 @@ def _unit_of(circuit: Circuit, symbol: sympy.Symbol) -> str:
     """The unit of an element's or parameter's symbol ('' when none is known)."""
     name = str(symbol)
     if name in circuit.elements:
-        return UNIT_OF_KIND.get(circuit.elements[name].kind, "")
+        return circuit.elements[name].unit
     parameter = circuit.parameters.get(name)
     return parameter.unit if parameter is not None else ""
 
@@ -172,12 +172,12 @@ def _excitation(circuit: Circuit, expression: sympy.Expr) -> sympy.Symbol | None
     """The one independent source with a nonzero value that Q depends on, if exactly one."""
     nominals = circuit.symbol_nominals()
     found = [e.symbol for e in circuit.elements.values()
-             if e.kind in SOURCES and not e.controls and nominals.get(e.symbol)
+             if e.is_source and not e.controls and nominals.get(e.symbol)
              and e.symbol in expression.free_symbols]
     if not found:  # a source defined by a parameter (`= Ub`): Q may carry the parameter
         found = [p.symbol for p in circuit.parameters.values()
                  if nominals.get(p.symbol) and p.symbol in expression.free_symbols
-                 and any(e.kind in SOURCES and e.definition == p.symbol
+                 and any(e.is_source and e.definition == p.symbol
                          for e in circuit.elements.values())]
     return found[0] if len(found) == 1 else None
 
@@ -442,11 +442,6 @@ class LoadingCase:
         return _float(exact_value(self.load, self.nominals))
 
 
-_LOAD_IMPEDANCE = {
-    "resistor": lambda x: x, "impedance": lambda x: x, "inductor": lambda x: LAPLACE * x,
-    "capacitor": lambda x: 1 / (LAPLACE * x), "conductance": lambda x: 1 / x,
-    "admittance": lambda x: 1 / x,
-}
 
 
 def _without(read: Reader, element_name: str, port: str, node: syntax.Node) -> Circuit:
@@ -454,7 +449,7 @@ def _without(read: Reader, element_name: str, port: str, node: syntax.Node) -> C
     circuit = read.circuit
     element = circuit.elements[element_name]
     p = circuit.ports[port]
-    if element.kind not in _LOAD_IMPEDANCE or set(element.nodes) != {p.positive, p.negative}:
+    if element.law is None or set(element.nodes) != {p.positive, p.negative}:
         raise read.error(node, f"{element_name} is not a two-terminal part across port {port}; "
                                "write the load's impedance as an expression instead")
     for other in circuit.elements.values():
@@ -497,7 +492,7 @@ def loading_case(
         if isinstance(arg, syntax.Name) and arg.name in circuit.elements:
             source = _without(read, arg.name, port, arg)
             element = circuit.elements[arg.name]
-            load = _LOAD_IMPEDANCE[element.kind](element.symbol)
+            load = element.impedance
         else:
             load = read.expression(arg)
     else:

@@ -28,7 +28,7 @@ import sympy
 from ..errors import Location, SymcircError
 from ..language import syntax
 from ..language.syntax import expression_text
-from ..model.circuit import UNIT_OF_KIND, Assumption, Circuit, Claim
+from ..model.circuit import Assumption, Circuit, Claim
 from ..model.units import UNIT_DIMENSIONS
 
 BASE_UNITS = ("kg", "m", "s", "A")
@@ -139,7 +139,7 @@ def symbol_dimensions(circuit: Circuit) -> dict[str, Dimension | None]:
     """Every element, parameter and `s` of the circuit with its dimension (None: free)."""
     dims: dict[str, Dimension | None] = {"s": LAPLACE_DIMENSION}
     for element in circuit.elements.values():
-        dims[element.name] = UNITS.get(UNIT_OF_KIND.get(element.kind, ""))
+        dims[element.name] = UNITS.get(element.unit)
     for param in circuit.parameters.values():
         dims[param.name] = parse_unit(param.unit) if param.unit else None
     # Free parameters whose dimension their use fixes; repeat while something new is learnt.
@@ -156,7 +156,7 @@ def symbol_dimensions(circuit: Circuit) -> dict[str, Dimension | None]:
             for control in element.controls:
                 name = str(control.coefficient)
                 if control.coefficient.is_Symbol and dims.get(name, DIMENSIONLESS) is None:
-                    wanted = UNITS[UNIT_OF_KIND[element.kind]]
+                    wanted = UNITS[element.unit]
                     dims[name] = wanted / (VOLT if control.kind == "voltage" else AMPERE)
                     changed = True
     return dims
@@ -444,7 +444,7 @@ def check_circuit(circuit: Circuit) -> None:
     for element in circuit.elements.values():
         for control in element.controls:
             per = VOLT if control.kind == "voltage" else AMPERE
-            wanted = UNITS[UNIT_OF_KIND[element.kind]] / per
+            wanted = UNITS[element.unit] / per
             what = (f"the coefficient of {'V' if per == VOLT else 'I'}(..) in "
                     f"{element.kind} {element.name}")
             try:

@@ -28,9 +28,8 @@ from ..algebra.convert import atoms_of, names_of, to_function
 from ..algebra.polynomials import LAPLACE_NAME, Poly, PolynomialRing
 from ..algebra.rational import RationalFunction
 from ..model.circuit import REFERENCE, Circuit, Element
+from ..vocabulary import ImpedanceLaw
 from .memo import Memo
-
-PASSIVE = ("resistor", "capacitor", "inductor", "conductance", "impedance", "admittance")
 
 
 @dataclass(frozen=True)
@@ -168,8 +167,8 @@ def _build(circuit: Circuit) -> Network:
         for expr in _expressions(element):
             names |= names_of(expr)
             atoms.update(atoms_of(expr))
-        if element.kind in (*PASSIVE, "transformer") or (
-                element.kind in ("voltage source", "current source") and not element.controls):
+        if element.law is not None or element.kind == "transformer" or (
+                element.is_source and not element.controls):
             names.add(element.name)
         if element.kind == "opamp" and element.definition is None and element.nominal is not None:
             names.add(element.name)
@@ -181,6 +180,18 @@ def _build(circuit: Circuit) -> Network:
     for element in circuit.elements.values():
         _add(network, element, mutuals)
     return network
+
+
+def _admittance(ring: PolynomialRing, name: str, law: ImpedanceLaw) -> tuple[Poly, Poly]:
+    """Y = 1/Z as (numerator, denominator) monomials for Z = x^value_power · s^s_power."""
+    x, s = ring.gen(name), ring.gen(LAPLACE_NAME)
+    numerator, denominator = ring.one, ring.one
+    for generator, power in ((x, -law.value_power), (s, -law.s_power)):
+        if power > 0:
+            numerator = numerator * generator**power
+        elif power < 0:
+            denominator = denominator * generator**-power
+    return numerator, denominator
 
 
 def _expressions(element: Element) -> list[sympy.Expr]:
@@ -196,18 +207,10 @@ def _expressions(element: Element) -> list[sympy.Expr]:
 def _add(network: Network, element: Element, mutuals: dict[str, str]) -> None:
     ring = network.ring
     kind, name, nodes = element.kind, element.name, element.nodes
-    if kind in PASSIVE:
-        x = ring.gen(name)
-        inward, outward = {
-            "resistor": (ring.one, x),
-            "capacitor": (x * ring.gen(LAPLACE_NAME), ring.one),
-            "inductor": (ring.one, x * ring.gen(LAPLACE_NAME)),
-            "conductance": (x, ring.one),
-            "impedance": (ring.one, x),
-            "admittance": (x, ring.one),
-        }[kind]
+    if element.law is not None:
+        inward, outward = _admittance(ring, name, element.law)
         network.branches[name] = Branch(name, kind, nodes[0], nodes[1], inward, outward)
-    elif kind in ("voltage source", "current source"):
+    elif element.is_source:
         controls: list[VoltageControl | CurrentControl] = []
         for control in element.controls:
             coefficient = to_function(control.coefficient, ring)

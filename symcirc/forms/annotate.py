@@ -133,13 +133,6 @@ def _annotation(circuit: Circuit, target: Target, result: Result, options: Deriv
     return None
 
 
-OPENS = {
-    "oo": ("resistor", "inductor", "impedance"),
-    "0": ("capacitor", "conductance", "admittance"),
-}
-"""Element kinds that become an open circuit when their value goes to oo or to 0."""
-
-
 def _opened(
     circuit: Circuit,
     target: Target,
@@ -153,7 +146,8 @@ def _opened(
     names = []
     for assumption in limits:
         element = circuit.elements.get(assumption.symbol)
-        if element is None or element.kind not in OPENS.get(assumption.target or "oo", ()):
+        law = element.law if element is not None else None
+        if law is None or law.opens_at != (assumption.target or "oo"):
             return None
         names.append(element.name)
     reduced = dataclasses.replace(

@@ -12,7 +12,6 @@ from ..language import syntax
 from ..model.circuit import REFERENCE, Circuit, Element
 from . import nodal, structural
 from .dividers import Unsupported
-from .network import impedance_of
 from .printing import latex, text
 from .steps import Recorder
 
@@ -167,7 +166,7 @@ def structural_route(circuit: Circuit, target: Target, rec: Recorder) -> sympy.E
         return structural.current(circuit, circuit.elements[target.element], rec, target.name)
     if kind == "gain":
         source = circuit.elements[target.element]
-        if source.kind not in ("voltage source", "current source") or source.is_controlled:
+        if not source.is_source or source.is_controlled:
             raise Unsupported("gain from a controlled source")
         inner = target.measure
         if inner.kind == "voltage":
@@ -334,20 +333,13 @@ def _solve_voltage(
 def _nodal_current(
     circuit: Circuit, element: Element, active: set[str], rec: Recorder, name: str
 ) -> sympy.Expr:
-    if element.kind in (
-        "resistor",
-        "capacitor",
-        "inductor",
-        "conductance",
-        "impedance",
-        "admittance",
-    ) and not any(
+    if element.law is not None and not any(
         e.kind == "coupling" and element.name in (e.coupled or ())
         for e in circuit.elements.values()
     ):
         system = nodal.build_system(circuit, active)
         v = _solve_voltage(system, *element.nodes, rec, f"V_{element.name}")
-        return structural.ohm(rec, element, name, v, impedance_of(element))
+        return structural.ohm(rec, element, name, v, element.impedance)
     if element.kind == "current source":
         raise Unsupported("the current of a current source is its value")
     system = nodal.build_system(circuit, active, currents=frozenset({element.name}))

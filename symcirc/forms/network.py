@@ -12,21 +12,7 @@ from dataclasses import dataclass, field, replace
 
 import sympy
 
-from ..model.circuit import LAPLACE, REFERENCE, Circuit, Element
-
-IMPEDANCE_OF_KIND = {
-    "resistor": lambda x: x,
-    "capacitor": lambda x: 1 / (LAPLACE * x),
-    "inductor": lambda x: LAPLACE * x,
-    "conductance": lambda x: 1 / x,
-    "impedance": lambda x: x,
-    "admittance": lambda x: 1 / x,
-}
-
-
-def impedance_of(element: Element) -> sympy.Expr:
-    """The element's impedance in its own symbol: `R1`, `1/(s·C1)`, `s·L1`, `1/G1`."""
-    return IMPEDANCE_OF_KIND[element.kind](element.symbol)
+from ..model.circuit import REFERENCE, Circuit
 
 
 @dataclass
@@ -156,19 +142,19 @@ def build(
         if element.name in shorted or element.name in opened:
             continue
         nodes = [contraction.find(n) for n in element.nodes]
-        if element.kind in IMPEDANCE_OF_KIND and element.name not in coupled:
+        if element.law is not None and element.name not in coupled:
             a, b = nodes
             if a == b:
                 out_of_circuit.append(element.name)
                 continue
-            z = impedance_of(element)
+            z = element.impedance
             network.add(Branch(a, b, z, z, (element.name,), element.kind == "resistor"))
         elif element.kind == "opamp":
             network.active.append((element.name, nodes[2], contraction.find(REFERENCE)))
         elif element.kind == "transformer":
             network.active.append((element.name, nodes[0], nodes[1]))
             network.active.append((element.name, nodes[2], nodes[3]))
-        elif element.kind in IMPEDANCE_OF_KIND:  # a coupled inductor
+        elif element.law is not None:  # a coupled inductor
             network.active.append((element.name, nodes[0], nodes[1]))
         elif element.kind in ("voltage source", "current source"):
             network.active.append((element.name, nodes[0], nodes[1]))

@@ -15,7 +15,6 @@ import sympy
 
 from ..engine.network import mutual_name
 from ..model.circuit import LAPLACE, REFERENCE, Circuit, Element
-from .network import IMPEDANCE_OF_KIND, impedance_of
 from .printing import latex, text
 from .steps import Recorder
 
@@ -117,8 +116,8 @@ def build_system(
         return form
 
     def branch_current(e: Element) -> Linear:
-        if e.kind in IMPEDANCE_OF_KIND and e.name not in coupled:
-            return _scale(diff(*e.nodes), 1 / impedance_of(e))
+        if e.law is not None and e.name not in coupled:
+            return _scale(diff(*e.nodes), 1 / e.impedance)
         if e.kind == "current source":
             return control_form(e) if e.is_controlled else {ONE: source_value(e)}
         return {current_of.setdefault(e.name, sympy.Symbol(f"I_{e.name}")): sympy.Integer(1)}
@@ -168,7 +167,7 @@ def build_system(
                     (p2, n2, -ratio),
                 )
             )
-        elif e.kind in IMPEDANCE_OF_KIND and e.name in coupled:
+        elif e.law is not None and e.name in coupled:
             other, mutual = coupled[e.name]
             own = sympy.Symbol(f"I_{e.name}")
             form = _add(
@@ -218,7 +217,7 @@ def build_system(
             leaving[node] = _add(leaving[node], form)
 
     for e in elements.values():
-        if e.kind in IMPEDANCE_OF_KIND and e.name not in coupled:
+        if e.law is not None and e.name not in coupled:
             i = branch_current(e)
             out(e.nodes[0], i)
             out(e.nodes[1], _scale(i, -1))

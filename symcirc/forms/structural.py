@@ -7,7 +7,7 @@ import sympy
 
 from ..model.circuit import REFERENCE, Circuit, Element
 from .dividers import Unsupported, node_voltage, ratio_equation
-from .network import Network, block, build, impedance_of
+from .network import Network, block, build
 from .printing import latex, text
 from .reduce import reduce_two_terminal
 from .steps import Recorder
@@ -17,7 +17,7 @@ def independent_sources(circuit: Circuit) -> list[Element]:
     return [
         e
         for e in circuit.elements.values()
-        if e.kind in ("voltage source", "current source") and not e.is_controlled
+        if e.is_source and not e.is_controlled
     ]
 
 
@@ -275,17 +275,10 @@ def current(
 ) -> sympy.Expr:
     """Current through a passive element: a current divider when a lone current source
     feeds it and one other impedance, otherwise Ohm's law on its voltage."""
-    if element.kind not in (
-        "resistor",
-        "capacitor",
-        "inductor",
-        "conductance",
-        "impedance",
-        "admittance",
-    ):
+    if element.law is None:
         raise Unsupported("current of a source or active element")
     sources = [only] if only is not None else independent_sources(circuit)
-    z = impedance_of(element)
+    z = element.impedance
     if len(sources) == 1 and sources[0].kind == "current source":
         divided = _current_divider(circuit, element, sources[0], rec, final, only is not None)
         if divided is not None:
@@ -322,7 +315,7 @@ def _current_divider(
     if announce:
         deactivate(circuit, rec, keep=source)
     rest = _reduce_between(net, p, n, rec, f"{p}{n}")
-    z = impedance_of(element)
+    z = element.impedance
     sign = 1 if a == p else -1
     symbol = rec.fresh([final], "I")
     rec.add(

@@ -10,14 +10,10 @@ import re
 from lark.exceptions import UnexpectedCharacters, UnexpectedInput, UnexpectedToken
 
 from ..errors import SymcircError
+from ..vocabulary import ELEMENT_WORDS, STATEMENT_KEYWORDS, STATEMENT_WORDS
 from .numbers import PREFIXES, UNIT_LIST
-from .transformer import STATEMENT_KEYWORDS
 
-ELEMENT_KEYWORDS = (
-    "resistor", "capacitor", "inductor", "conductance", "impedance", "admittance", "voltage",
-    "current", "opamp", "transformer", "coupling",
-)
-_SUGGESTIONS = (*STATEMENT_KEYWORDS, "voltage source", "current source")
+_SUGGESTIONS = tuple(dict.fromkeys((*STATEMENT_WORDS, *STATEMENT_KEYWORDS)))
 
 _TOKEN_NAMES = {
     "NAME": "a name", "NUMBER": "a number", "STRING": "a quoted string", "LPAR": "`(`",
@@ -135,7 +131,7 @@ class _Diagnosis:
         if "SOURCE" in self.accepts:
             return self._at(f"unexpected {self._token_text()}: did you mean "
                             f"`{self.first} source`?")
-        if self.first in STATEMENT_KEYWORDS or self._instance_shaped():
+        if self.first in STATEMENT_WORDS or self._instance_shaped():
             return None
         return self._unknown_statement()
 
@@ -201,7 +197,7 @@ class _Diagnosis:
             return self._at(f"missing `=`: a claim is `{shape}`")
         if self.type not in (*_OPERAND, "MINUS", "PLUS"):
             return None
-        if self.first in ELEMENT_KEYWORDS or self.first == "param":
+        if self.first in ELEMENT_WORDS or self.first == "param":
             return self._at(f"missing `=` before the value {self._token_text()}")
         if "with" in self._text(self.line)[:self.column]:
             return self._at("missing `=` in the renaming: `with INNER = OUTER`")
@@ -239,7 +235,7 @@ class _Diagnosis:
                             "`thevenin(out)`, `gain(Ub, out)`")
         if self.accepts and self.accepts <= {"ARROW", "MUCH_GREATER", "MUCH_LESS"}:
             return self._at("a where clause is `X -> oo`, `X -> 0`, `A >> B` or `A << B`")
-        if self.accepts == {"NAME"} and self.first in (*STATEMENT_KEYWORDS, "source"):
+        if self.accepts == {"NAME"} and self.first in (*STATEMENT_WORDS, "source"):
             return self._at(f"missing name before {self._token_text()}")
         if self.accepts == {"LPAR"}:
             return self._at(f"missing terminals: `{self.first} NAME (node, node, ...)`")
@@ -249,7 +245,7 @@ class _Diagnosis:
         return None
 
     def _instance(self) -> SymcircError | None:
-        if self._instance_shaped() and self.first not in STATEMENT_KEYWORDS:
+        if self._instance_shaped() and self.first not in STATEMENT_WORDS:
             close = difflib.get_close_matches(self.first, _SUGGESTIONS, n=1, cutoff=0.8)
             if close:
                 return self._at(f"unknown statement `{self.first}`: did you mean "

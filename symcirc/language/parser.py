@@ -17,6 +17,7 @@ from pathlib import Path
 
 from ..errors import SymcircError
 from ..limits import MAX_SOURCE_BYTES
+from ..vocabulary import ELEMENT_KINDS
 from . import syntax as st
 
 _STARTS = ["start", "quantity_line", "quantity_where_line", "where_line", "expression_line",
@@ -35,6 +36,7 @@ def _parser():
     from .transformer import TreeBuilder
 
     grammar = files("symcirc.grammar").joinpath("circuit.lark").read_text(encoding="utf-8")
+    grammar += element_rules()
     builder = TreeBuilder()
     parser = Lark(grammar, parser="lalr", lexer="contextual", start=_STARTS,
                   transformer=builder, maybe_placeholders=True, cache=_cache_file(grammar))
@@ -67,6 +69,16 @@ def _private(path: str) -> bool:
     info = os.lstat(path)
     return (stat.S_ISDIR(info.st_mode) and info.st_uid == os.getuid()
             and not info.st_mode & (stat.S_IWGRP | stat.S_IWOTH))
+
+
+def element_rules() -> str:
+    """The grammar's `kind` rule and its keyword tokens, one per element kind of the
+    vocabulary (`voltage source` is the two tokens VOLTAGE SOURCE)."""
+    kinds = ELEMENT_KINDS.values()
+    words = dict.fromkeys(word for kind in kinds for word in kind.words)
+    alternatives = " | ".join(" ".join(w.upper() for w in kind.words) for kind in kinds)
+    tokens = "".join(f'{word.upper()}: "{word}"\n' for word in words)
+    return f"\nkind: {alternatives}\n{tokens}"
 
 
 def _parse(text: str, filename: str, start: str):

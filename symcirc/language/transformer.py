@@ -14,6 +14,7 @@ from lark import Token, Transformer, v_args
 
 from ..errors import SymcircError
 from ..limits import MAX_STATEMENTS
+from ..vocabulary import ELEMENT_KINDS, STATEMENT_WORDS
 from . import syntax as st
 from .numbers import PERCENT, NumberError, decode_number
 
@@ -23,22 +24,15 @@ MAX_DEPTH = 200
 MAX_BLOCK_DEPTH = 50
 """Deepest nesting of block definitions."""
 
-STATEMENT_KEYWORDS = (
-    "title", "typeset", "param", "resistor", "capacitor", "inductor", "conductance", "impedance",
-    "admittance", "voltage", "current", "opamp", "transformer", "coupling", "port", "block",
-    "end", "derive", "claim",
-)
-
 TERMINAL_SHAPES: dict[str, tuple[int, str]] = {
-    **{kind: (2, "(first, second)") for kind in (
-        "resistor", "capacitor", "inductor", "conductance", "impedance", "admittance",
-        "voltage source", "current source")},
-    "opamp": (3, "(p, n, o)"),
-    "coupling": (2, "(L1, L2), the two coupled inductors"),
+    **{keyword: (kind.terminal_count, kind.layout)
+       for keyword, kind in ELEMENT_KINDS.items() if len(kind.terminals) == 1},
     "port": (2, "(positive, negative)"),
 }
-"""Number of terminals and their shape, per statement kind (a transformer has two windings)."""
+"""Number of terminals and their shape, per statement kind with one group of terminals
+(a transformer's windings are checked group by group)."""
 
+_NUMBER_WORDS = {1: "one", 2: "two", 3: "three", 4: "four"}
 _CONTINUATION = re.compile(r"\\[ \t\f\r]*\n")
 _JOINED = re.compile(r"\s*\\[ \t\f\r]*\n\s*")
 _DIGITS = re.compile(r"[0-9]+")
@@ -333,15 +327,17 @@ class TreeBuilder(Transformer):
         self._spans.clear()
         what, keyword = kind
         self._count(keyword)
-        if what == "transformer":
-            self._check_windings(name, terminals)
+        entry = ELEMENT_KINDS[what]
+        if len(entry.terminals) > 1:
+            self._check_windings(what, name, terminals)
         else:
             self._check_terminals(f"{what} {name.value}", TERMINAL_SHAPES[what], terminals)
-        if what == "coupling":
-            for inductor in terminals.names:
-                if inductor.name[0].isdigit():
-                    raise self._error_at(inductor, f"coupling {name.value} couples two "
-                                                   f"inductors: give their names, not nodes")
+        if entry.couples:
+            for element in terminals.names:
+                if element.name[0].isdigit():
+                    raise self._error_at(element, f"{what} {name.value} couples two "
+                                                  f"{entry.couples}s: give their names, not "
+                                                  f"nodes")
         return st.ElementStatement(keyword.line, keyword.column, what, _name(name),
                                    terminals.names, value, _description(description))
 
@@ -363,17 +359,20 @@ class TreeBuilder(Transformer):
             raise self._error_at(where, f"{what} needs {count} terminals {layout}, "
                                         f"got {len(names)}")
 
-    def _check_windings(self, name: Token, terminals: _Terminals) -> None:
-        sizes = [len(g) for g in terminals.groups]
-        if sizes != [2, 2]:
+    def _check_windings(self, what: str, name: Token, terminals: _Terminals) -> None:
+        """Terminals in groups separated by `;` (a transformer's windings)."""
+        groups = ELEMENT_KINDS[what].terminals
+        if [len(g) for g in terminals.groups] != [len(g) for g in groups]:
             where = terminals.semicolons[1] if len(terminals.semicolons) > 1 else terminals.open
-            raise self._error_at(where, f"transformer {name.value} needs two windings of two "
-                                        f"terminals each: transformer {name.value} "
-                                        f"(p1, n1; p2, n2)")
+            sizes = {len(g) for g in groups}
+            each = f" of {_NUMBER_WORDS[sizes.pop()]} terminals each" if len(sizes) == 1 else ""
+            raise self._error_at(where, f"{what} {name.value} needs {_NUMBER_WORDS[len(groups)]} "
+                                        f"windings{each}: {what} {name.value} "
+                                        f"{ELEMENT_KINDS[what].layout}")
 
     def block(self, keyword: Token, name: Token, terminals: _Terminals, *rest) -> st.Block:
         *body, _end = rest
-        if name.value in STATEMENT_KEYWORDS:
+        if name.value in STATEMENT_WORDS:
             raise self._error_at(name, f"`{name.value}` is a statement keyword and cannot name "
                                        f"a block")
         depth = 1 + max((self._block_depth.pop(id(s)) for s in body if isinstance(s, st.Block)),

@@ -14,6 +14,7 @@ from typing import TYPE_CHECKING, Literal
 import sympy
 
 from ..errors import Location
+from ..vocabulary import ELEMENT_KINDS, ElementKind, ImpedanceLaw
 
 if TYPE_CHECKING:  # pragma: no cover
     from ..language.syntax import Expr, Quantity
@@ -23,24 +24,6 @@ REFERENCE = "gnd"
 
 LAPLACE = sympy.Symbol("s")
 """The Laplace variable (reserved name `s`)."""
-
-ElementKind = Literal[
-    "resistor", "capacitor", "inductor", "conductance", "impedance", "admittance",
-    "voltage source", "current source", "opamp", "transformer", "coupling",
-]
-
-TWO_TERMINAL_PASSIVE = (
-    "resistor", "capacitor", "inductor", "conductance", "impedance", "admittance",
-)
-SOURCES = ("voltage source", "current source")
-
-UNIT_OF_KIND: dict[str, str] = {
-    "resistor": "Ω", "capacitor": "F", "inductor": "H", "conductance": "S",
-    "impedance": "Ω", "admittance": "S", "voltage source": "V", "current source": "A",
-    "opamp": "", "transformer": "", "coupling": "",
-}
-"""SI unit of each element kind's value ('' for a pure number)."""
-
 
 @dataclass(frozen=True)
 class Tolerance:
@@ -102,7 +85,8 @@ class Element:
     """
 
     name: str
-    kind: ElementKind
+    kind: str
+    """Its keyword in the vocabulary (`resistor`, `voltage source`)."""
     nodes: tuple[str, ...]
     symbol: sympy.Symbol
     """The element's own symbol (`R1`); results use it by default."""
@@ -141,6 +125,29 @@ class Element:
     @property
     def is_controlled(self) -> bool:
         return bool(self.controls)
+
+    @property
+    def entry(self) -> ElementKind:
+        """What the vocabulary says about its kind."""
+        return ELEMENT_KINDS[self.kind]
+
+    @property
+    def law(self) -> ImpedanceLaw | None:
+        """Its impedance law when it is a passive two-terminal element, else None."""
+        return ELEMENT_KINDS[self.kind].law
+
+    @property
+    def is_source(self) -> bool:
+        """A voltage or current source (independent or controlled)."""
+        return ELEMENT_KINDS[self.kind].source
+
+    @property
+    def impedance(self) -> sympy.Expr:
+        """The impedance of a passive element in its own symbol: `R1`, `1/(C1*s)`, `L1*s`."""
+        law = self.law
+        if law is None:
+            raise TypeError(f"{self.kind} {self.name} has no impedance law")
+        return self.symbol**law.value_power * LAPLACE**law.s_power
 
     @property
     def is_ideal_opamp(self) -> bool:

@@ -17,13 +17,18 @@ import sympy
 from ..errors import Location, SymcircError
 from ..language import syntax
 from ..limits import MAX_INSTANCE_DEPTH, MAX_STATEMENTS
+from ..vocabulary import (
+    CURRENT_CARRIERS,
+    ELEMENT_KINDS,
+    QUANTITIES,
+    SOURCE_KINDS,
+    STATEMENT_KEYWORDS,
+    UNIT_OF_KIND,
+)
 from . import topology, typeset, units
 from .circuit import (
     LAPLACE,
     REFERENCE,
-    SOURCES,
-    TWO_TERMINAL_PASSIVE,
-    UNIT_OF_KIND,
     Assumption,
     Circuit,
     Claim,
@@ -45,27 +50,8 @@ from .expressions import (
     unknown_name_message,
 )
 
-KEYWORDS = (
-    "title", "typeset", "param", "resistor", "capacitor", "inductor", "conductance", "impedance",
-    "admittance", "voltage source", "current source", "opamp", "transformer", "coupling",
-    "port", "block", "end", "derive", "claim",
-)
-"""Statement keywords (for "did you mean" when a statement names no known block)."""
-
 RESERVED = ("s", "pi", "sqrt", "oo")
 """Names with a fixed meaning in expressions; nothing may be declared with them."""
-
-CURRENT_CARRIERS = (*TWO_TERMINAL_PASSIVE, *SOURCES)
-"""Element kinds whose current `I(E)` is defined."""
-
-ATTRIBUTES = {
-    "thevenin": ("voltage", "impedance"),
-    "norton": ("current", "admittance"),
-    "twoport": tuple(
-        f"{family}{i}{j}" for family in "zyhg" for i in "12" for j in "12"
-    ) + ("A", "B", "C", "D"),
-}
-
 
 def elaborate(document: syntax.Document) -> Circuit:
     """The flat, validated circuit of a parsed file; raises SymcircError on any problem."""
@@ -346,7 +332,7 @@ class _Elaborator:
 
     def element_statement(self, statement: syntax.ElementStatement, scope: _Scope) -> None:
         name = self.declare(statement.name, "element", scope)
-        if statement.kind == "coupling":
+        if ELEMENT_KINDS[statement.kind].couples:  # its terminals name elements, not nodes
             nodes: tuple[str, ...] = ()
         else:
             nodes = tuple(self.node_name(t, scope) for t in statement.terminals)
@@ -433,7 +419,7 @@ class _Elaborator:
     def expand(self, instance: syntax.Instance, scope: _Scope) -> None:
         found = scope.block(instance.block.name)
         if found is None:
-            candidates = [*KEYWORDS, *scope.visible_blocks()]
+            candidates = [*STATEMENT_KEYWORDS, *scope.visible_blocks()]
             close = get_close_matches(instance.block.name, candidates, n=1, cutoff=0.6)
             hint = f"; did you mean `{close[0]}`?" if close else ""
             raise self.error(
@@ -620,7 +606,7 @@ class _Elaborator:
         controls: tuple[Control, ...] = ()
         if value is not None:
             expression = None
-            if kind in SOURCES and mentions_control(value.expression):
+            if kind in SOURCE_KINDS and mentions_control(value.expression):
                 constant, controls = self.controlled(value, scope, node_set)
                 if controls:
                     independent = constant if constant != 0 else None
@@ -640,8 +626,8 @@ class _Elaborator:
         if value is not None and value.frequency is not None:
             frequency = self.frequency(statement, value.frequency, bool(controls), scope)
         coupled = None
-        if kind == "coupling":
-            coupled = tuple(self.coupled_inductor(t, scope) for t in statement.terminals)
+        if ELEMENT_KINDS[kind].couples:
+            coupled = tuple(self.coupled_element(kind, t, scope) for t in statement.terminals)
         return Element(
             name=draft.name, kind=kind, nodes=tuple(self.node(n) for n in draft.nodes),  # type: ignore[arg-type]
             symbol=sympy.Symbol(draft.name), definition=definition, nominal=nominal,
@@ -655,7 +641,7 @@ class _Elaborator:
                   controlled: bool, scope: _Scope) -> sympy.Expr:
         """`at 50 Hz` or `at f`: only an independent source has a frequency of its own."""
         what = f"{statement.kind} {statement.name.name}"
-        if statement.kind not in SOURCES or controlled:
+        if statement.kind not in SOURCE_KINDS or controlled:
             raise self.error(written, f"`at` gives the frequency of an independent source; "
                              f"{what} takes none", scope.trail)
         if isinstance(written, syntax.Name):
@@ -766,15 +752,17 @@ class _Elaborator:
             )
         return final
 
-    def coupled_inductor(self, name: syntax.Name, scope: _Scope) -> str:
+    def coupled_element(self, kind: str, name: syntax.Name, scope: _Scope) -> str:
+        """The final name of an element that a `kind` (a coupling) names as a terminal."""
+        wanted = ELEMENT_KINDS[kind].couples
         final = scope.lookup(name.name)
         draft = self.draft_of.get(final) if final is not None else None
         if draft is None or not isinstance(draft.statement, syntax.ElementStatement):
-            raise self.error(name, f"coupling names `{name.name}`, which is no element; it must "
-                             "name two inductors", scope.trail)
-        if draft.statement.kind != "inductor":
-            raise self.error(name, f"coupling names {draft.statement.kind} {name.name}; it must "
-                             "name two inductors", scope.trail)
+            raise self.error(name, f"{kind} names `{name.name}`, which is no element; it must "
+                             f"name two {wanted}s", scope.trail)
+        if draft.statement.kind != wanted:
+            raise self.error(name, f"{kind} names {draft.statement.kind} {name.name}; it must "
+                             f"name two {wanted}s", scope.trail)
         return final  # type: ignore[return-value]
 
     def check_couplings(self, elements: dict[str, Element]) -> None:
@@ -884,33 +872,32 @@ class _Elaborator:
     def check_quantity(self, quantity: syntax.Quantity, circuit: Circuit) -> None:
         """Check the names a quantity uses where the language says what they must be."""
         name, args = quantity.name, quantity.args
-        if name in ATTRIBUTES and quantity.attribute is not None \
-                and quantity.attribute not in ATTRIBUTES[name]:
-            close = get_close_matches(quantity.attribute, ATTRIBUTES[name], n=1)
+        entry = QUANTITIES.get(name)
+        parts = entry.part_names if entry is not None else ()
+        if parts and quantity.attribute is not None and quantity.attribute not in parts:
+            close = get_close_matches(quantity.attribute, parts, n=1)
             hint = f"; did you mean `.{close[0]}`?" if close else ""
             raise self.error(quantity, f"{name}(..) has no part `.{quantity.attribute}`; it has "
-                             f"{', '.join('.' + a for a in ATTRIBUTES[name])}{hint}")
-        if name == "V" and args:
-            if len(args) == 1 and _name(args[0]) in circuit.ports:
-                return
-            for arg in args:
-                self.expect(arg, "node", circuit)
-                self.quantity_nodes.add(circuit.resolve_node(arg.name))
-        elif name == "I" and args:
-            self.expect(args[0], "element", circuit)
-        elif name in ("thevenin", "norton", "Z", "Y", "twoport"):
-            for arg in args:
-                self.expect(arg, "port", circuit)
-        elif name == "gain" and args:
-            self.expect(args[0], "independent source", circuit)
-            for arg in args[1:]:
-                self.check_argument(arg, circuit, "port")
-        elif name in ("sensitivity", "relative_sensitivity") and len(args) == 2:
-            self.check_argument(args[0], circuit, "port")
-            self.expect(args[1], "symbol", circuit)
-        else:
-            for arg in args:
-                self.check_argument(arg, circuit)
+                             f"{', '.join('.' + a for a in parts)}{hint}")
+        roles = entry.arguments if entry is not None else ()
+        if not (entry is not None and entry.least <= len(args) <= len(roles)):
+            roles = ("value",) * len(args)  # the handler says how many it takes
+        if name == "V" and len(args) == 1 and _name(args[0]) in circuit.ports:
+            return  # V(port)
+        for arg, role in zip(args, roles, strict=True):
+            self.check_role(arg, role, circuit)
+
+    def check_role(self, arg, role: str, circuit: Circuit) -> None:
+        """Check one argument against its role in the vocabulary (`vocabulary.ROLES`)."""
+        if role == "node":
+            self.expect(arg, "node", circuit)
+            self.quantity_nodes.add(circuit.resolve_node(arg.name))
+        elif role in ("element", "port", "symbol"):
+            self.expect(arg, role, circuit)
+        elif role == "source":
+            self.expect(arg, "independent source", circuit)
+        else:  # a measure (a port or a quantity) or a value the handler reads
+            self.check_argument(arg, circuit, "port" if role == "measure" else None)
 
     def check_argument(self, arg, circuit: Circuit, name_is: str | None = None) -> None:
         if name_is is not None and isinstance(arg, syntax.Name):
@@ -936,9 +923,9 @@ class _Elaborator:
             ok = name in circuit.parameters or name in circuit.elements
         else:
             element = circuit.elements.get(name)
-            ok = element is not None and element.kind in SOURCES and not element.controls
+            ok = element is not None and element.kind in SOURCE_KINDS and not element.controls
             pool = [e.name for e in circuit.elements.values()
-                    if e.kind in SOURCES and not e.controls]
+                    if e.kind in SOURCE_KINDS and not e.controls]
         if not ok:
             close = get_close_matches(name, pool, n=1)
             hint = f"; did you mean `{close[0]}`?" if close else ""

@@ -11,12 +11,8 @@ from collections import deque
 from collections.abc import Iterable, Mapping, Sequence
 
 from ..errors import SymcircError
+from ..vocabulary import CURRENT_CARRIERS
 from .circuit import REFERENCE, Circuit, Element, Notice
-
-TWO_TERMINAL = (
-    "resistor", "capacitor", "inductor", "conductance", "impedance", "admittance",
-    "voltage source", "current source",
-)
 
 MAX_LISTED = 12
 """How many nodes or elements a message lists before saying "and N more"."""
@@ -179,7 +175,7 @@ class _Checker:
                 touches[node] = touches.get(node, 0) + 1
                 first_toucher.setdefault(node, element)
             if (
-                element.kind in TWO_TERMINAL
+                element.kind in CURRENT_CARRIERS
                 and element.kind != "voltage source"
                 and element.nodes[0] == element.nodes[1]
             ):
@@ -238,7 +234,7 @@ class _Checker:
 def _conducting_pairs(element: Element, include_current_sources: bool):
     """Node pairs an element joins for the purpose of a path to the reference."""
     kind = element.kind
-    if kind in TWO_TERMINAL:
+    if kind in CURRENT_CARRIERS:  # the two-terminal kinds
         if kind == "current source" and not include_current_sources:
             return ()
         return (element.nodes,)

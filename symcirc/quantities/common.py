@@ -35,7 +35,7 @@ from ..engine.system import solution
 from ..errors import Location, SymcircError
 from ..language import syntax
 from ..limits import MAX_EXPANSION_TERMS, power_terms
-from ..model.circuit import REFERENCE, UNIT_OF_KIND, Circuit, Element
+from ..model.circuit import REFERENCE, Circuit, Element
 from ..results import Result
 from .registry import RESPONSE_PARTS, RESPONSE_QUANTITIES, DeriveOptions
 
@@ -399,7 +399,7 @@ def unit_of_symbol(circuit: Circuit, name: str) -> str:
     """The unit of an element's or parameter's symbol ('' when none is known)."""
     element = circuit.elements.get(name)
     if element is not None:
-        return UNIT_OF_KIND.get(element.kind, "")
+        return element.unit
     parameter = circuit.parameters.get(name)
     return parameter.unit if parameter is not None else ""
 

@@ -1,4 +1,5 @@
-"""Which function derives each quantity name of the language.
+"""Which function derives each quantity name of the language (the `handler` of each entry
+of `symcirc.vocabulary.QUANTITIES`).
 
 Values are "module:function" strings, imported on first use so that a command only
 pays for what it derives. Every handler has the signature
@@ -15,37 +16,15 @@ from dataclasses import dataclass, field
 
 from ..engine.memo import Memo
 from ..model.circuit import Assumption
+from ..vocabulary import DESIGN_PARAMETERS, QUANTITIES
 
-HANDLERS: dict[str, str] = {
-    # engine quantities
-    "V": "symcirc.quantities.basic:voltage",
-    "I": "symcirc.quantities.basic:current",
-    "thevenin": "symcirc.quantities.equivalents:thevenin_quantity",
-    "norton": "symcirc.quantities.equivalents:norton_quantity",
-    "Z": "symcirc.quantities.equivalents:impedance_quantity",
-    "Y": "symcirc.quantities.equivalents:admittance_quantity",
-    "gain": "symcirc.quantities.basic:gain_quantity",
-    "twoport": "symcirc.quantities.twoports:twoport_quantity",
-    "sensitivity": "symcirc.quantities.sensitivity:sensitivity_quantity",
-    "relative_sensitivity": "symcirc.quantities.sensitivity:relative_sensitivity_quantity",
-    # design analyses
-    "sensitivities": "symcirc.analysis.quantities:sensitivities_quantity",
-    "tolerance": "symcirc.analysis.quantities:tolerance_quantity",
-    "loading": "symcirc.analysis.quantities:loading_quantity",
-    "minimum_load": "symcirc.analysis.quantities:minimum_load_quantity",
-    "solve": "symcirc.analysis.quantities:solve_quantity",
-    # frequency-domain analyses
-    "at": "symcirc.analysis.frequency:at_quantity",
-    "response": "symcirc.analysis.frequency:response_quantity",
-}
+HANDLERS: dict[str, str] = {name: q.handler for name, q in QUANTITIES.items()}
+"""Quantity name → "module:function", from the vocabulary's quantity table."""
 
-RESPONSE_QUANTITIES = ("V", "I", "gain", "Z", "Y")
+RESPONSE_QUANTITIES = tuple(name for name, q in QUANTITIES.items() if q.part_handler)
 """Quantities in s whose parts may name a design parameter (`gain(Uin, out).w0`)."""
-RESPONSE_PARTS = ("dc", "hf", "K", "w0", "f0", "Q", "zeta", "wp", "fp", "tau", "wz", "fz",
-                  "centre", "bandwidth", "poles", "zeros", "f3db")
+RESPONSE_PARTS = tuple(part.name for part in DESIGN_PARAMETERS)
 """The design parameters a response in s has as parts (symcirc.analysis.frequency.PARTS)."""
-PART_HANDLER = "symcirc.analysis.frequency:part_quantity"
-"""Derives `Q.part` for a part in RESPONSE_PARTS of a quantity in RESPONSE_QUANTITIES."""
 PART_SENSITIVITY_HANDLER = "symcirc.analysis.frequency:sensitivity_quantity"
 """`sensitivity(P, x)` and `relative_sensitivity(P, x)` of a design parameter or of an
 at-frequency value P (closed forms with roots and angles, not rational functions)."""
@@ -53,15 +32,18 @@ at-frequency value P (closed forms with roots and angles, not rational functions
 
 def handler_for(quantity) -> str | None:
     """The "module:function" deriving a parsed quantity, or None for an unknown name."""
-    if quantity.name in RESPONSE_QUANTITIES and quantity.attribute in RESPONSE_PARTS:
-        return PART_HANDLER
+    entry = QUANTITIES.get(quantity.name)
+    if entry is None:
+        return None
+    if entry.part_handler and quantity.attribute in entry.part_names:
+        return entry.part_handler
     if quantity.name in ("sensitivity", "relative_sensitivity") and quantity.args:
         inner = quantity.args[0]
         inner_name, part = getattr(inner, "name", None), getattr(inner, "attribute", None)
         if inner_name == "at" or (inner_name in RESPONSE_QUANTITIES
-                                                and part in RESPONSE_PARTS):
+                                  and part in RESPONSE_PARTS):
             return PART_SENSITIVITY_HANDLER
-    return HANDLERS.get(quantity.name)
+    return entry.handler
 
 
 @dataclass(frozen=True)

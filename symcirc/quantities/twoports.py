@@ -14,6 +14,7 @@ from __future__ import annotations
 from ..algebra.rational import RationalFunction
 from ..engine.mna import Current, SingularCircuit, Voltage, port_excitation
 from ..language import syntax
+from ..vocabulary import QUANTITIES
 from .common import Context, Raw, handler
 
 VARIABLES = ("V1", "I1", "V2", "I2")
@@ -33,13 +34,7 @@ NAMES = {
     "chain": ("A", "B", "C", "D"),
 }
 
-UNITS = {
-    "z11": "Ω", "z12": "Ω", "z21": "Ω", "z22": "Ω",
-    "y11": "S", "y12": "S", "y21": "S", "y22": "S",
-    "h11": "Ω", "h12": "", "h21": "", "h22": "S",
-    "g11": "S", "g12": "", "g21": "", "g22": "Ω",
-    "A": "", "B": "Ω", "C": "S", "D": "",
-}
+UNITS = {part.name: part.unit for part in QUANTITIES["twoport"].parts}
 
 WHY_MISSING = {
     "z": "the open-circuit impedances are unbounded (with both ports open, a port current "

@@ -17,6 +17,7 @@ import sympy
 from ..model.circuit import LAPLACE, Assumption, Circuit, Tolerance
 from ..model.typeset import symbol_latex
 from ..model.units import engineering, percent
+from ..vocabulary import QUANTITIES
 from .formulas import Equation, equations
 
 # ---------------------------------------------------------------- the circuit
@@ -394,12 +395,6 @@ def node_latex(name: str) -> str:
     return latex_text(name)
 
 
-_ATTRIBUTE_SYMBOL = {
-    ("thevenin", "voltage"): "V", ("thevenin", "impedance"): "Z",
-    ("norton", "current"): "I", ("norton", "admittance"): "Y",
-}
-
-
 def quantity_symbol(result: Any) -> str:
     """The symbol an engineer writes for a result's quantity: `thevenin(out).voltage` →
     `V_{\\mathrm{Th},\\mathrm{out}}`, `gain(Uref, out)` → `V_{out}/U_{ref}`; others upright;
@@ -443,10 +438,11 @@ def _symbol(q: Any) -> str | None:
     part = _response_part(q)
     if part is not None:
         return part
-    if q.name in ("thevenin", "norton") and q.attribute and names and names[0]:
-        letter = _ATTRIBUTE_SYMBOL.get((q.name, q.attribute))
-        tag = r"\mathrm{Th}" if q.name == "thevenin" else r"\mathrm{N}"
-        return f"{letter}_{{{tag},{node_latex(names[0])}}}" if letter else None
+    entry = QUANTITIES.get(q.name)
+    if entry is not None and entry.tag and q.attribute and names and names[0]:
+        named = entry.part(q.attribute)
+        tag = rf"\mathrm{{{entry.tag}}}"
+        return f"{named.letter}_{{{tag},{node_latex(names[0])}}}" if named else None
     if q.name in ("Z", "Y") and len(names) == 1 and names[0] and not q.attribute:
         return f"{q.name}_{{{node_latex(names[0])}}}"
     if q.name == "V" and names and all(names) and not q.attribute:
