@@ -120,11 +120,6 @@ ELEMENT_KINDS: dict[str, ElementKind] = {kind.keyword: kind for kind in (
 )}
 """Every element kind of the language, by keyword, in the order the docs list them."""
 
-PASSIVE_KINDS = tuple(k for k, kind in ELEMENT_KINDS.items() if kind.passive)
-SOURCE_KINDS = tuple(k for k, kind in ELEMENT_KINDS.items() if kind.source)
-CURRENT_CARRIERS = tuple(k for k, kind in ELEMENT_KINDS.items() if kind.carries_current)
-UNIT_OF_KIND = {k: kind.unit for k, kind in ELEMENT_KINDS.items()}
-"""SI unit of each element kind's value ('' for a pure number)."""
 ELEMENT_WORDS = tuple(dict.fromkeys(kind.words[0] for kind in ELEMENT_KINDS.values()))
 """First words of the element keywords (`voltage` for `voltage source`)."""
 

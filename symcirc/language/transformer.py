@@ -24,13 +24,8 @@ MAX_DEPTH = 200
 MAX_BLOCK_DEPTH = 50
 """Deepest nesting of block definitions."""
 
-TERMINAL_SHAPES: dict[str, tuple[int, str]] = {
-    **{keyword: (kind.terminal_count, kind.layout)
-       for keyword, kind in ELEMENT_KINDS.items() if len(kind.terminals) == 1},
-    "port": (2, "(positive, negative)"),
-}
-"""Number of terminals and their shape, per statement kind with one group of terminals
-(a transformer's windings are checked group by group)."""
+PORT_SHAPE = (2, "(positive, negative)")
+"""Number of terminals of a port and their shape."""
 
 _NUMBER_WORDS = {1: "one", 2: "two", 3: "three", 4: "four"}
 _CONTINUATION = re.compile(r"\\[ \t\f\r]*\n")
@@ -331,7 +326,8 @@ class TreeBuilder(Transformer):
         if len(entry.terminals) > 1:
             self._check_windings(what, name, terminals)
         else:
-            self._check_terminals(f"{what} {name.value}", TERMINAL_SHAPES[what], terminals)
+            self._check_terminals(f"{what} {name.value}",
+                                  (entry.terminal_count, entry.layout), terminals)
         if entry.couples:
             for element in terminals.names:
                 if element.name[0].isdigit():
@@ -344,7 +340,7 @@ class TreeBuilder(Transformer):
     def port(self, keyword: Token, name: Token, terminals: _Terminals,
              description: Token | None) -> st.PortStatement:
         self._count(keyword)
-        self._check_terminals(f"port {name.value}", TERMINAL_SHAPES["port"], terminals)
+        self._check_terminals(f"port {name.value}", PORT_SHAPE, terminals)
         return st.PortStatement(keyword.line, keyword.column, _name(name), terminals.names,
                                 _description(description))
 

@@ -18,12 +18,9 @@ from ..errors import Location, SymcircError
 from ..language import syntax
 from ..limits import MAX_INSTANCE_DEPTH, MAX_STATEMENTS
 from ..vocabulary import (
-    CURRENT_CARRIERS,
     ELEMENT_KINDS,
     QUANTITIES,
-    SOURCE_KINDS,
     STATEMENT_KEYWORDS,
-    UNIT_OF_KIND,
 )
 from . import topology, typeset, units
 from .circuit import (
@@ -548,7 +545,7 @@ class _Elaborator:
         result: units.Inferred = None
         draft = self.draft_of.get(final)
         if draft is not None and isinstance(draft.statement, syntax.ElementStatement):
-            result = units.UNIT_DIMENSIONS[UNIT_OF_KIND[draft.statement.kind]]
+            result = units.UNIT_DIMENSIONS[ELEMENT_KINDS[draft.statement.kind].unit]
         elif draft is not None and draft.statement.value is not None:
             literal = _literal(draft.statement.value.expression)
             if literal is not None:
@@ -601,12 +598,12 @@ class _Elaborator:
     def element(self, draft: _Draft, node_set: set[str]) -> Element:
         statement: syntax.ElementStatement = draft.statement  # type: ignore[assignment]
         kind, value, scope = statement.kind, statement.value, draft.scope
-        unit = UNIT_OF_KIND[kind]
+        unit = ELEMENT_KINDS[kind].unit
         definition = nominal = tolerance = independent = None
         controls: tuple[Control, ...] = ()
         if value is not None:
             expression = None
-            if kind in SOURCE_KINDS and mentions_control(value.expression):
+            if ELEMENT_KINDS[kind].source and mentions_control(value.expression):
                 constant, controls = self.controlled(value, scope, node_set)
                 if controls:
                     independent = constant if constant != 0 else None
@@ -662,14 +659,15 @@ class _Elaborator:
     def check_unit(self, statement: syntax.ElementStatement, value: syntax.Value,
                    scope: _Scope) -> None:
         dimension = self.value_dimension(value, scope)
-        expected = units.UNIT_DIMENSIONS[UNIT_OF_KIND[statement.kind]]
+        unit = ELEMENT_KINDS[statement.kind].unit
+        expected = units.UNIT_DIMENSIONS[unit]
         if not isinstance(dimension, tuple) or dimension == expected:
             return
         literal = _literal(value.expression)
         written = units.describe(dimension)
-        if UNIT_OF_KIND[statement.kind]:
+        if unit:
             wanted = f"{_article(statement.kind)} {statement.kind}'s value is in " \
-                     f"{UNIT_OF_KIND[statement.kind]}"
+                     f"{unit}"
         else:
             wanted = f"{_article(statement.kind)} {statement.kind}'s value is a pure number"
         raise self.error(
@@ -745,7 +743,7 @@ class _Elaborator:
                 ),
             )
         kind = self.draft_of[final].statement.kind  # type: ignore[union-attr]
-        if kind not in CURRENT_CARRIERS:
+        if not ELEMENT_KINDS[kind].carries_current:
             raise ExpressionProblem(
                 name, f"I({name.name}): the current of {_article(kind)} {kind} is not defined; "
                 "use a two-terminal element or a source",
@@ -884,7 +882,7 @@ class _Elaborator:
             roles = ("value",) * len(args)  # the handler says how many it takes
         if name == "V" and len(args) == 1 and _name(args[0]) in circuit.ports:
             return  # V(port)
-        for arg, role in zip(args, roles, strict=True):
+        for arg, role in zip(args, roles[:len(args)], strict=True):
             self.check_role(arg, role, circuit)
 
     def check_role(self, arg, role: str, circuit: Circuit) -> None:
@@ -923,9 +921,9 @@ class _Elaborator:
             ok = name in circuit.parameters or name in circuit.elements
         else:
             element = circuit.elements.get(name)
-            ok = element is not None and element.kind in SOURCE_KINDS and not element.controls
+            ok = element is not None and element.is_source and not element.controls
             pool = [e.name for e in circuit.elements.values()
-                    if e.kind in SOURCE_KINDS and not e.controls]
+                    if e.is_source and not e.controls]
         if not ok:
             close = get_close_matches(name, pool, n=1)
             hint = f"; did you mean `{close[0]}`?" if close else ""

@@ -11,7 +11,6 @@ from collections import deque
 from collections.abc import Iterable, Mapping, Sequence
 
 from ..errors import SymcircError
-from ..vocabulary import CURRENT_CARRIERS
 from .circuit import REFERENCE, Circuit, Element, Notice
 
 MAX_LISTED = 12
@@ -175,7 +174,7 @@ class _Checker:
                 touches[node] = touches.get(node, 0) + 1
                 first_toucher.setdefault(node, element)
             if (
-                element.kind in CURRENT_CARRIERS
+                element.entry.carries_current
                 and element.kind != "voltage source"
                 and element.nodes[0] == element.nodes[1]
             ):
@@ -234,7 +233,7 @@ class _Checker:
 def _conducting_pairs(element: Element, include_current_sources: bool):
     """Node pairs an element joins for the purpose of a path to the reference."""
     kind = element.kind
-    if kind in CURRENT_CARRIERS:  # the two-terminal kinds
+    if element.entry.carries_current:  # the two-terminal kinds
         if kind == "current source" and not include_current_sources:
             return ()
         return (element.nodes,)
