@@ -1,5 +1,5 @@
-"""Shared by the forms tests: circuits (invented), results to annotate, and an independent
-replay of derivation steps with numbers."""
+"""Shared by the forms tests: results to annotate, and an independent replay of derivation
+steps with numbers (the circuits are in tests/circuits.py)."""
 
 from __future__ import annotations
 
@@ -16,38 +16,6 @@ from symcirc.quantities.registry import DeriveOptions
 from symcirc.results import Result
 
 S = sympy.Symbol("s")
-
-# A strain-gauge bridge on a data-logger input (invented scenario).
-# Three buffered RC sections smoothing a logger's reference (invented)
-BUFFERED_RC = """
-voltage source Uin (b0, gnd)
-resistor R1 (b0, x1)
-capacitor C1 (x1, gnd)
-opamp U1 (x1, b1, b1)
-resistor R2 (b1, x2)
-capacitor C2 (x2, gnd)
-opamp U2 (x2, b2, b2)
-resistor R3 (b2, x3)
-capacitor C3 (x3, gnd)
-port out (x3, gnd)
-"""
-
-
-BRIDGE = """
-title "Strain-gauge bridge, logger channel 2"
-voltage source U (exc, gnd)
-resistor R1 (exc, a)
-resistor R2 (a, gnd)
-resistor R3 (exc, b)
-resistor R4 (b, gnd)
-port out (a, b)
-port supply (exc, gnd)
-"""
-
-BRIDGE_LOADED = BRIDGE + "resistor R5 (a, b)\n"
-
-# The same bridge driven from a current source, with a detector across the diagonal.
-BRIDGE_CURRENT = BRIDGE_LOADED.replace("voltage source U (exc, gnd)", "current source I (gnd, exc)")
 
 
 def symbols(names: str) -> tuple[sympy.Symbol, ...]:

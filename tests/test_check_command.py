@@ -6,20 +6,9 @@ input exits 2 with `FILE:LINE:COL: error:`."""
 from pathlib import Path
 
 import pytest
-
-from symcirc.cli import main
+from circuits import SCALE_BRIDGE
 
 ROOT = Path(__file__).resolve().parents[1]
-
-BRIDGE = """\
-title "Strain-gauge bridge, scale front end (invented)"
-voltage source Ub (exc, gnd)
-resistor R1 (exc, a)
-resistor R2 (a, gnd)
-resistor R3 (exc, b)
-resistor R4 (b, gnd)
-port out (a, b)
-"""
 
 INVERTING = """\
 title "Inverting stage of a sensor preamplifier (invented)"
@@ -60,30 +49,28 @@ port o (out, gnd)
 """
 
 
-def run(tmp_path, text: str, *claims: str, capsys) -> tuple[int, str, str]:
-    path = tmp_path / "c.circuit"
-    path.write_text(text, encoding="utf-8")
-    status = main(["check", str(path), *claims])
-    out, err = capsys.readouterr()
-    return status, out, err
+@pytest.fixture
+def check(cli, circuit_file):
+    """`check(text, *claims)`: `symcirc check` on the text written to `circuit.circuit`."""
+    return lambda text, *claims: cli("check", circuit_file(text), *claims)
 
 
 # ---------------------------------------------------------------- claims that hold
 
 
 @pytest.mark.parametrize("example", ["bridge_adc", "diff_amp", "antialias_filter"])
-def test_claims_of_the_examples_hold(example, capsys):
-    assert main(["check", str(ROOT / "examples" / f"{example}.circuit")]) == 0
-    out = capsys.readouterr().out
+def test_claims_of_the_examples_hold(example, cli):
+    status, out, _ = cli("check", ROOT / "examples" / f"{example}.circuit")
+    assert status == 0
     assert out.strip() and all(line.endswith(" holds") for line in out.splitlines())
 
 
 @pytest.mark.parametrize("text, claim", [
     # Thevenin resistance of a bridge across its diagonal: R1∥R2 + R3∥R4
     # (Alexander & Sadiku, Fundamentals of Electric Circuits; from memory).
-    (BRIDGE, "thevenin(out).impedance = R1*R2/(R1 + R2) + R3*R4/(R3 + R4)"),
+    (SCALE_BRIDGE, "thevenin(out).impedance = R1*R2/(R1 + R2) + R3*R4/(R3 + R4)"),
     # Bridge output: Ub*(R2/(R1 + R2) - R4/(R3 + R4)) (Horowitz & Hill, ch. 1; from memory).
-    (BRIDGE, "thevenin(out).voltage = Ub*(R2/(R1 + R2) - R4/(R3 + R4))"),
+    (SCALE_BRIDGE, "thevenin(out).voltage = Ub*(R2/(R1 + R2) - R4/(R3 + R4))"),
     # Ideal inverting amplifier: -Rf/Rg (Sedra & Smith, Microelectronic Circuits; from memory).
     (INVERTING.format(gain=""), "gain(Uin, o) = -Rf/Rg"),
     # With open-loop gain A: -(Rf/Rg)/(1 + (1 + Rf/Rg)/A) (Sedra & Smith; from memory).
@@ -95,8 +82,8 @@ def test_claims_of_the_examples_hold(example, capsys):
     # The claim may use the parameters of a defined element.
     (SENSOR, "gain(Ub, o) = R2/(R2 + R0*(1 + alpha*T))"),
 ])
-def test_published_claims_hold(tmp_path, capsys, text, claim):
-    status, out, err = run(tmp_path, text, claim, capsys=capsys)
+def test_published_claims_hold(check, text, claim):
+    status, out, err = check(text, claim)
     assert status == 0, out + err
     assert out.strip() == f"{claim.split(' = ')[0]} holds"
 
@@ -105,11 +92,11 @@ def test_published_claims_hold(tmp_path, capsys, text, claim):
 
 
 @pytest.mark.parametrize("text, claim, words", [
-    (BRIDGE, "thevenin(out).impedance = R1*R3/(R1 + R3) + R2*R4/(R2 + R4)", "swapped parts"),
-    (BRIDGE, "thevenin(out).impedance = R1*R2/(R1 + R2)",
+    (SCALE_BRIDGE, "thevenin(out).impedance = R1*R3/(R1 + R3) + R2*R4/(R2 + R4)", "swapped parts"),
+    (SCALE_BRIDGE, "thevenin(out).impedance = R1*R2/(R1 + R2)",
      "missing term: the claim lacks the term `+ R3*R4/(R3 + R4)`"),
-    (BRIDGE, "thevenin(out).voltage = Ub*(R4/(R3 + R4) - R2/(R1 + R2))", "overall sign"),
-    (BRIDGE, "thevenin(out).impedance = R1/2 + R3/2", "holds only when R1 = R2 and R3 = R4"),
+    (SCALE_BRIDGE, "thevenin(out).voltage = Ub*(R4/(R3 + R4) - R2/(R1 + R2))", "overall sign"),
+    (SCALE_BRIDGE, "thevenin(out).impedance = R1/2 + R3/2", "holds only when R1 = R2 and R3 = R4"),
     (INVERTING.format(gain=" = A"), "gain(Uin, o) = -Rf/Rg", "holds only in the limit A -> oo"),
     (INVERTING.format(gain=""), "gain(Uin, o) = -Rg/Rf", "swapped parts"),
     (INVERTING.format(gain=""), "gain(Uin, o) = -Rf/Rg - 1", "extra term: `-1`"),
@@ -117,8 +104,8 @@ def test_published_claims_hold(tmp_path, capsys, text, claim):
     (RC, "gain(Uin, out) = 1/(1 + 2*pi*s*R*C)", "wrong term"),
     (RC, "Z(out) = R/(1 + s*R*C) + R", "extra term: `R`"),
 ])
-def test_wrong_claims_are_refused(tmp_path, capsys, text, claim, words):
-    status, out, err = run(tmp_path, text, claim, capsys=capsys)
+def test_wrong_claims_are_refused(check, text, claim, words):
+    status, out, err = check(text, claim)
     assert status == 1, out + err
     assert "does not hold" in out
     assert "counterexample: at " in out
@@ -126,32 +113,33 @@ def test_wrong_claims_are_refused(tmp_path, capsys, text, claim, words):
     assert words in out
 
 
-def test_wrong_dimension_is_reported_first(tmp_path, capsys):
-    status, out, _ = run(tmp_path, BRIDGE, "thevenin(out).impedance = R1/R2", capsys=capsys)
+def test_wrong_dimension_is_reported_first(check):
+    status, out, _ = check(SCALE_BRIDGE, "thevenin(out).impedance = R1/R2")
     assert status == 1
     diagnosis = [line for line in out.splitlines() if "diagnosis:" in line]
     assert diagnosis[0].strip() == ("diagnosis: wrong dimension: the claim is dimensionless, "
                                     "but thevenin(out).impedance is in Ω")
 
 
-def test_mismatch_inside_a_claim_names_the_term(tmp_path, capsys):
-    status, out, _ = run(tmp_path, RC, "gain(Uin, out) = 1/(1 + s*R)", capsys=capsys)
+def test_mismatch_inside_a_claim_names_the_term(check):
+    status, out, _ = check(RC, "gain(Uin, out) = 1/(1 + s*R)")
     assert status == 1
     assert "`s*R` is in 1/F, but `1` is dimensionless" in out
     assert "(at <claim 1>:1:25)" in out
 
 
-def test_file_claims_report_their_line(tmp_path, capsys):
-    text = BRIDGE + "claim thevenin(out).impedance = R1*R2/(R1 + R2)\n"
-    status, out, _ = run(tmp_path, text, capsys=capsys)
+def test_file_claims_report_their_line(check, tmp_path):
+    text = SCALE_BRIDGE + "claim thevenin(out).impedance = R1*R2/(R1 + R2)\n"
+    status, out, _ = check(text)
     assert status == 1
-    assert out.startswith(f"{tmp_path / 'c.circuit'}:8:1: thevenin(out).impedance does not hold")
+    where = tmp_path / "circuit.circuit"
+    assert out.startswith(f"{where}:8:1: thevenin(out).impedance does not hold")
 
 
-def test_every_claim_is_reported(tmp_path, capsys):
-    text = BRIDGE + ("claim thevenin(out).impedance = R1*R2/(R1 + R2) + R3*R4/(R3 + R4)\n"
+def test_every_claim_is_reported(check):
+    text = SCALE_BRIDGE + ("claim thevenin(out).impedance = R1*R2/(R1 + R2) + R3*R4/(R3 + R4)\n"
                      "claim thevenin(out).voltage = 0\n")
-    status, out, _ = run(tmp_path, text, capsys=capsys)
+    status, out, _ = check(text)
     assert status == 1
     assert out.startswith("thevenin(out).impedance holds\n")
     assert ":9:1: thevenin(out).voltage does not hold" in out
@@ -166,15 +154,15 @@ def test_every_claim_is_reported(tmp_path, capsys):
     ("thevenin(out) = R1", "has 2 parts; claim one of them"),
     ("Z(nowhere) = R1", "nowhere"),
 ])
-def test_bad_claims_exit_2(tmp_path, capsys, claim, message):
-    status, out, err = run(tmp_path, BRIDGE, claim, capsys=capsys)
+def test_bad_claims_exit_2(check, claim, message):
+    status, out, err = check(SCALE_BRIDGE, claim)
     assert status == 2
     assert message in err and "Traceback" not in err
     assert ": error: " in err
 
 
-def test_no_claims_is_bad_input(tmp_path, capsys):
-    status, _, err = run(tmp_path, BRIDGE, capsys=capsys)
+def test_no_claims_is_bad_input(check):
+    status, _, err = check(SCALE_BRIDGE)
     assert status == 2 and "has no claim statements" in err
 
 
@@ -251,9 +239,9 @@ PUBLISHED = {
     # Norton's theorem (Hayt, Kemmerly & Durbin; from memory).
     ("norton", "norton(out).current = U/R"),
 ])
-def test_published_cases_hold(tmp_path, capsys, circuit, claim):
+def test_published_cases_hold(check, circuit, claim):
     text = f'title "{circuit}"\n' + PUBLISHED[circuit]
-    status, out, err = run(tmp_path, text, claim, capsys=capsys)
+    status, out, err = check(text, claim)
     assert status == 0, out + err
     assert out.strip() == f"{claim.split(' = ')[0]} holds"
 
@@ -282,9 +270,9 @@ def test_published_cases_hold(tmp_path, capsys, circuit, claim):
     # The turns ratio inverted.
     ("transformer", "Z(pri) = ZL/T1^2", "wrong factor: `T1**(-2)` in the claim should be `T1**2`"),
 ])
-def test_slips_in_published_cases_are_diagnosed(tmp_path, capsys, circuit, claim, words):
+def test_slips_in_published_cases_are_diagnosed(check, circuit, claim, words):
     text = f'title "{circuit}"\n' + PUBLISHED[circuit]
-    status, out, err = run(tmp_path, text, claim, capsys=capsys)
+    status, out, err = check(text, claim)
     assert status == 1, out + err
     first = next(line for line in out.splitlines() if "diagnosis:" in line)
     assert words in first, out
@@ -299,21 +287,21 @@ def test_slips_in_published_cases_are_diagnosed(tmp_path, capsys, circuit, claim
     ("series_rlc", "Z(in) = R + s*L + s*C", "`s*C` is in S, but `R` is in Ω",
      "wrong term: `C*s` in the claim should be `1/(C*s)`"),
 ])
-def test_dimension_first_then_the_other_explanation(tmp_path, capsys, circuit, claim, first,
+def test_dimension_first_then_the_other_explanation(check, circuit, claim, first,
                                                     then):
     text = f'title "{circuit}"\n' + PUBLISHED[circuit]
-    status, out, _ = run(tmp_path, text, claim, capsys=capsys)
+    status, out, _ = check(text, claim)
     assert status == 1
     diagnoses = [line.strip() for line in out.splitlines() if "diagnosis:" in line]
     assert first in diagnoses[0] and then in diagnoses[1], out
 
 
-def test_an_equality_of_parts_never_holds(tmp_path, capsys):
+def test_an_equality_of_parts_never_holds(check):
     # Exact decision only: the claim agrees with the circuit whenever R1 = R3 and R2 = R4
     # (so at every point where a numeric test happened to pick such values), yet must be
     # refused, with a counterexample in small positive integers showing both numbers.
     text = 'title "difference"\n' + PUBLISHED["difference"]
-    status, out, _ = run(tmp_path, text, "V(out) = R2/R1*(V2 - V1)", capsys=capsys)
+    status, out, _ = check(text, "V(out) = R2/R1*(V2 - V1)")
     assert status == 1 and "holds" not in out.replace("holds only", "")
     assert ("counterexample: at R1 = 2, R2 = 3, R3 = 4, R4 = 5, V1 = 6, V2 = 7: "
             "claimed 3/2 (≈ 1.5), derived 13/18 (≈ 0.7222)") in out

@@ -11,7 +11,6 @@ import sympy
 from sympy.parsing.sympy_parser import parse_expr
 
 import symcirc
-from symcirc.cli import main
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 
@@ -41,14 +40,8 @@ def front_end(tmp_path):
     return str(path)
 
 
-def run(capsys, *argv) -> tuple[int, str, str]:
-    code = main(["derive", *argv])
-    captured = capsys.readouterr()
-    return code, captured.out, captured.err
-
-
-def test_default_derives_the_files_statements_with_their_where_clauses(front_end, capsys):
-    code, out, _ = run(capsys, front_end)
+def test_default_derives_the_files_statements_with_their_where_clauses(front_end, cli):
+    code, out, _ = cli("derive", front_end)
     assert code == 0
     lines = out.splitlines()
     assert lines[0].startswith("thevenin(tap).voltage = ")
@@ -57,8 +50,8 @@ def test_default_derives_the_files_statements_with_their_where_clauses(front_end
     assert lines[2] == "gain(Uref, out) where Cf -> 0 = Rt/(Rs + Rt)"
 
 
-def test_text_lines_and_values_in_engineering_notation(front_end, capsys):
-    code, out, _ = run(capsys, front_end, "Z(tap)", "gain(Uref, out)", "--values")
+def test_text_lines_and_values_in_engineering_notation(front_end, cli):
+    code, out, _ = cli("derive", front_end, "Z(tap)", "gain(Uref, out)", "--values")
     assert code == 0
     z_line, gain_line = out.splitlines()
     assert z_line.startswith("Z(tap) = Rs*Rt/(Rs + Rt)")
@@ -67,15 +60,15 @@ def test_text_lines_and_values_in_engineering_notation(front_end, capsys):
     assert gain_line.endswith("no nominal value: it depends on s (a function of frequency)")
 
 
-def test_substitute_replaces_definitions(front_end, capsys):
-    code, out, _ = run(capsys, front_end, "thevenin(tap).voltage", "--substitute")
+def test_substitute_replaces_definitions(front_end, cli):
+    code, out, _ = cli("derive", front_end, "thevenin(tap).voltage", "--substitute")
     assert code == 0
     expression = out.split(" = ", 1)[1]
     assert "R0" in expression and "alpha" in expression and "Rt" not in expression
 
 
-def test_json_contract_and_readback(front_end, capsys):
-    code, out, _ = run(capsys, front_end, "--format", "json", "thevenin(tap)",
+def test_json_contract_and_readback(front_end, cli):
+    code, out, _ = cli("derive", front_end, "--format", "json", "thevenin(tap)",
                        "gain(Uref, out)", "sensitivity(V(tap), T)")
     assert code == 0
     data = json.loads(out)
@@ -103,13 +96,13 @@ def test_json_contract_and_readback(front_end, capsys):
     assert any("through the definition of Rt" in n for n in sensitivity["notes"])
 
 
-def test_json_readback_with_pi_and_square_roots(tmp_path, capsys):
+def test_json_readback_with_pi_and_square_roots(tmp_path, cli):
     path = tmp_path / "coupled.circuit"
     path.write_text("param f0 = 1 kHz\nvoltage source U (a, gnd)\ninductor L1 (a, gnd)\n"
                     "inductor L2 (b, gnd)\nresistor R (b, gnd)\ncoupling k12 (L1, L2) = 0.5\n"
                     "capacitor C (b, gnd) = 1/(2*pi*f0*R)\nresistor R2 (a, gnd) = 1k\n"
                     "port out (b, gnd)\n", encoding="utf-8")
-    code, out, _ = run(capsys, str(path), "gain(U, out)", "--substitute", "--format", "json")
+    code, out, _ = cli("derive", str(path), "gain(U, out)", "--substitute", "--format", "json")
     assert code == 0
     (item,) = json.loads(out)["results"]
     assert "pi" in item["expression"] and "sqrt(L1*L2)" in item["expression"]
@@ -120,27 +113,27 @@ def test_json_readback_with_pi_and_square_roots(tmp_path, capsys):
     assert read.has(sympy.pi)
 
 
-def test_latex_and_markdown_formats(front_end, capsys):
-    code, out, _ = run(capsys, front_end, "Z(tap)", "--format", "latex", "--values")
+def test_latex_and_markdown_formats(front_end, cli):
+    code, out, _ = cli("derive", front_end, "Z(tap)", "--format", "latex", "--values")
     assert code == 0
     assert out.startswith("\\begin{equation*}\n\\mathrm{Z(tap)} = \\frac{")
     assert "\\approx" in out and "\\end{equation*}" in out
-    code, out, _ = run(capsys, front_end, "Z(tap)", "--format", "markdown")
+    code, out, _ = cli("derive", front_end, "Z(tap)", "--format", "markdown")
     assert code == 0
     assert out.startswith("# RTD divider into a filtered ADC input")
     assert "**`Z(tap)`**" in out and "$$\n\\frac{" in out
 
 
-def test_file_without_derive_statements_and_no_quantity_is_a_usage_error(tmp_path, capsys):
+def test_file_without_derive_statements_and_no_quantity_is_a_usage_error(tmp_path, cli):
     path = tmp_path / "bare.circuit"
     path.write_text("resistor R (a, gnd)\n", encoding="utf-8")
-    code, out, err = run(capsys, str(path))
+    code, out, err = cli("derive", str(path))
     assert code == 2 and out == ""
     assert "has no derive statements" in err
 
 
-def test_bad_quantity_text_is_a_syntax_error_with_caret(front_end, capsys):
-    code, _, err = run(capsys, front_end, "thevenin(tap")
+def test_bad_quantity_text_is_a_syntax_error_with_caret(front_end, cli):
+    code, _, err = cli("derive", front_end, "thevenin(tap")
     assert code == 2
     assert err.startswith("<command line>:1:")
     assert "Traceback" not in err
@@ -163,13 +156,13 @@ def test_python_api_named_results_and_latex_display():
     assert limited.text() == "Rt/(Rs + Rt)"
 
 
-def test_seed_option_sets_the_monte_carlo_seed_of_tolerance(tmp_path, capsys):
+def test_seed_option_sets_the_monte_carlo_seed_of_tolerance(tmp_path, cli):
     path = tmp_path / "divider.circuit"
     path.write_text("voltage source U (i, gnd) = 5 V\nresistor R1 (i, o) = 10k ± 1 %\n"
                     "resistor R2 (o, gnd) = 10k ± 1 %\nport out (o, gnd)\n", encoding="utf-8")
 
     def monte_carlo(*extra):
-        code, out, _ = run(capsys, str(path), "tolerance(V(out))", "--format", "json", *extra)
+        code, out, _ = cli("derive", str(path), "tolerance(V(out))", "--format", "json", *extra)
         assert code == 0
         (item,) = json.loads(out)["results"]
         return item["tolerance"]["monte_carlo"]
@@ -183,10 +176,10 @@ def test_seed_option_sets_the_monte_carlo_seed_of_tolerance(tmp_path, capsys):
     assert first["mean"] == pytest.approx(2.5, rel=1e-3)
 
 
-def test_no_steps_is_the_default_and_gives_the_canonical_forms_only(front_end, capsys):
-    code, plain, _ = run(capsys, front_end, "Z(tap)")
+def test_no_steps_is_the_default_and_gives_the_canonical_forms_only(front_end, cli):
+    code, plain, _ = cli("derive", front_end, "Z(tap)")
     assert code == 0
-    code, explicit, _ = run(capsys, front_end, "Z(tap)", "--no-steps")
+    code, explicit, _ = cli("derive", front_end, "Z(tap)", "--no-steps")
     assert code == 0 and plain == explicit == "Z(tap) = Rs*Rt/(Rs + Rt)\n"
 
 

@@ -4,6 +4,7 @@ the relative error, against a published expression and an independent sympy.seri
 from __future__ import annotations
 
 import sympy
+from circuits import LOADED_DIVIDER
 from forms_support import annotated, reference_voltage
 
 import symcirc
@@ -53,15 +54,6 @@ def test_inverting_amplifier_with_finite_gain():
 
 
 # Divider feeding a logger input of resistance RL (invented scenario)
-LOADED_DIVIDER = """
-voltage source U (in, gnd)
-resistor R1 (in, o)
-resistor R2 (o, gnd)
-resistor RL (o, gnd)
-port out (o, gnd)
-"""
-
-
 def test_loaded_divider_where_load_is_much_greater():
     circuit = symcirc.parse(LOADED_DIVIDER)
     exact = reference_voltage(circuit, "o", "gnd")

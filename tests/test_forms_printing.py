@@ -5,7 +5,8 @@ from __future__ import annotations
 import json
 
 import sympy
-from forms_support import BRIDGE, annotated, reference_impedance, reference_voltage
+from circuits import BRIDGE
+from forms_support import annotated, reference_impedance, reference_voltage
 
 from symcirc.forms import Parallel, steps_text
 from symcirc.forms.parallel import expand_parallel

@@ -6,11 +6,16 @@ from __future__ import annotations
 
 import pytest
 import sympy
-from forms_support import (
+from circuits import (
     BRIDGE,
     BRIDGE_CURRENT,
     BRIDGE_LOADED,
     BUFFERED_RC,
+    LOADED_DIVIDER,
+    MFB_BAND_PASS,
+    SALLEN_KEY_LOW,
+)
+from forms_support import (
     S,
     annotated,
     numbers,
@@ -42,16 +47,6 @@ inductor L1 (o, gnd)
 port out (o, gnd)
 """
 
-SALLEN_KEY = """
-voltage source Uin (in, gnd)
-resistor R1 (in, x)
-resistor R2 (x, p)
-capacitor C1 (x, o)
-capacitor C2 (p, gnd)
-opamp U1 (p, o, o)
-port out (o, gnd)
-"""
-
 FINITE_GAIN = """
 param A
 voltage source Uin (in, gnd)
@@ -71,32 +66,11 @@ port out (s2, gnd)
 """
 
 
-MFB_BAND_PASS = """
-voltage source Uin (in, gnd)
-resistor R1 (in, x)
-resistor R2 (x, gnd)
-capacitor C1 (x, n)
-capacitor C2 (x, o)
-resistor R3 (n, o)
-opamp U1 (gnd, n, o)
-port out (o, gnd)
-"""
-
-
 LONG_LADDER = "voltage source U (n0, gnd)\n" + "".join(
     f"resistor Rs{i} (n{i - 1}, n{i})\nresistor Rp{i} (n{i}, gnd)\n" for i in range(1, 6)
 ) + "port out (n5, gnd)\n"
 
 TAPPED_BRIDGE = BRIDGE_LOADED + "port left (a, gnd)\n"
-
-LOADED_DIVIDER = """
-voltage source U (in, gnd)
-resistor R1 (in, o)
-resistor R2 (o, gnd)
-resistor RL (o, gnd)
-port out (o, gnd)
-"""
-
 
 def _voltage(source, pos, neg, active=None):
     return reference_voltage(symcirc.parse(source), pos, neg, active)
@@ -143,11 +117,11 @@ CASES = [
     (LADDER, "gain(Us, out)", lambda: {None: _voltage(LADDER, "x", "gnd") / sympy.Symbol("Us")}),
     (TWO_SOURCES, "V(out)", lambda: {None: _voltage(TWO_SOURCES, "o", "gnd")}),
     (
-        SALLEN_KEY,
+        SALLEN_KEY_LOW,
         "gain(Uin, out)",
-        lambda: {None: _voltage(SALLEN_KEY, "o", "gnd") / sympy.Symbol("Uin")},
+        lambda: {None: _voltage(SALLEN_KEY_LOW, "o", "gnd") / sympy.Symbol("Uin")},
     ),
-    (SALLEN_KEY, "Z(out)", lambda: {None: _impedance(SALLEN_KEY, "o", "gnd")}),
+    (SALLEN_KEY_LOW, "Z(out)", lambda: {None: _impedance(SALLEN_KEY_LOW, "o", "gnd")}),
     (FINITE_GAIN, "V(out)", lambda: {None: _voltage(FINITE_GAIN, "o", "gnd")}),
     (TRANSFORMER, "V(out)", lambda: {None: _voltage(TRANSFORMER, "s2", "gnd")}),
     (TRANSFORMER, "Z(out)", lambda: {None: _impedance(TRANSFORMER, "s2", "gnd")}),

@@ -6,7 +6,8 @@ from __future__ import annotations
 import numpy
 import pytest
 import sympy
-from forms_support import BUFFERED_RC, annotated, reference_voltage
+from circuits import BUFFERED_RC, MFB_BAND_PASS, SALLEN_KEY_LOW
+from forms_support import annotated, reference_voltage
 
 import symcirc
 
@@ -47,17 +48,6 @@ def check_poles(h: sympy.Expr, result, values: dict) -> None:
 
 
 # Anti-alias filter of a data logger: unity-gain Sallen-Key low-pass (invented values)
-SALLEN_KEY_LOW = """
-voltage source Uin (in, gnd)
-resistor R1 (in, x)
-resistor R2 (x, p)
-capacitor C1 (x, o)
-capacitor C2 (p, gnd)
-opamp U1 (p, o, o)
-port out (o, gnd)
-"""
-
-
 def test_sallen_key_low_pass():
     h, result = gain(SALLEN_KEY_LOW)
     assert result.form.kind == "second-order low-pass"
@@ -97,18 +87,6 @@ def test_sallen_key_high_pass():
 
 
 # Tone detector of a test set: multiple-feedback band-pass
-MFB_BAND_PASS = """
-voltage source Uin (in, gnd)
-resistor R1 (in, x)
-resistor R2 (x, gnd)
-capacitor C1 (x, n)
-capacitor C2 (x, o)
-resistor R3 (n, o)
-opamp U1 (gnd, n, o)
-port out (o, gnd)
-"""
-
-
 def test_multiple_feedback_band_pass():
     h, result = gain(MFB_BAND_PASS)
     assert result.form.kind == "second-order band-pass"

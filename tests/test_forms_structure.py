@@ -8,10 +8,8 @@ import random
 import networkx
 import pytest
 import sympy
+from circuits import BRIDGE, BRIDGE_CURRENT, BRIDGE_LOADED
 from forms_support import (
-    BRIDGE,
-    BRIDGE_CURRENT,
-    BRIDGE_LOADED,
     annotated,
     reference_impedance,
     reference_voltage,

@@ -7,7 +7,6 @@ from pathlib import Path
 import sympy
 
 import symcirc
-from symcirc.cli import main
 from symcirc.model.units import engineering, tolerance_text
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -15,14 +14,8 @@ BRIDGE = str(ROOT / "examples" / "bridge_adc.circuit")
 DANGLING = str(ROOT / "tests" / "valid" / "dangling.circuit")
 
 
-def run(capsys, *argv: str) -> tuple[int, str, str]:
-    status = main(["inspect", *argv])
-    out, err = capsys.readouterr()
-    return status, out, err
-
-
-def test_text_shows_everything_that_was_read(capsys):
-    status, out, err = run(capsys, BRIDGE)
+def test_text_shows_everything_that_was_read(cli):
+    status, out, err = cli("inspect", BRIDGE)
     assert status == 0 and err == ""
     assert out.startswith(f"{BRIDGE}: Platinum sensor bridge on a data-logger ADC input")
     for section in ("Parameters", "Elements", "Ports", "Nodes", "Derive", "Claims"):
@@ -39,8 +32,8 @@ def test_text_shows_everything_that_was_read(capsys):
     assert "thevenin(out).impedance = 1/(1/(R1*R2/(R1 + R2)" in out
 
 
-def test_json_is_one_object_with_the_same_content(capsys):
-    status, out, _ = run(capsys, BRIDGE, "--format", "json")
+def test_json_is_one_object_with_the_same_content(cli):
+    status, out, _ = cli("inspect", BRIDGE, "--format", "json")
     assert status == 0
     data = json.loads(out)
     assert data["title"] == "Platinum sensor bridge on a data-logger ADC input"
@@ -66,9 +59,9 @@ def test_json_is_one_object_with_the_same_content(capsys):
     assert sympy.parse_expr(claim["expression"], local_dict=names) == circuit.claims[0].expression
 
 
-def test_controls_and_opamps_in_json(capsys):
+def test_controls_and_opamps_in_json(cli):
     path = str(ROOT / "tests" / "valid" / "sources_controls.circuit")
-    _, out, _ = run(capsys, path, "--format", "json")
+    _, out, _ = cli("inspect", path, "--format", "json")
     elements = {e["name"]: e for e in json.loads(out)["elements"]}
     assert elements["Uamp"]["controls"] == [
         {"kind": "voltage", "coefficient": "A", "nodes": ["b", "e"]},
@@ -79,25 +72,25 @@ def test_controls_and_opamps_in_json(capsys):
     assert elements["k12"]["coupled"] == ["L1", "L2"]
 
 
-def test_notices_go_to_stderr_as_warnings(capsys):
-    status, out, err = run(capsys, DANGLING)
+def test_notices_go_to_stderr_as_warnings(cli):
+    status, out, err = cli("inspect", DANGLING)
     assert status == 0
     assert f"{DANGLING}:5:1: warning: node bb is touched only by R3" in err
     assert f"{DANGLING}:6:1: warning: both terminals of R4" in err
     assert "Notices\n  line 5: warning: node bb" in out
 
 
-def test_chosen_reference_is_shown(capsys):
+def test_chosen_reference_is_shown(cli):
     path = str(ROOT / "tests" / "valid" / "no_reference.circuit")
-    _, out, err = run(capsys, path)
+    _, out, err = cli("inspect", path)
     assert f"{path}:5:1: notice: no node is named gnd or 0: node q" in err
     assert "gnd (reference, was q), p, x" in out
 
 
-def test_missing_file_and_bad_format_exit_2(capsys):
-    status, _, err = run(capsys, str(ROOT / "no_such.circuit"))
+def test_missing_file_and_bad_format_exit_2(cli):
+    status, _, err = cli("inspect", str(ROOT / "no_such.circuit"))
     assert status == 2 and "error:" in err and "Traceback" not in err
-    status, _, err = run(capsys, BRIDGE, "--format", "yaml")
+    status, _, err = cli("inspect", BRIDGE, "--format", "yaml")
     assert status == 2 and "invalid choice" in err
 
 
@@ -113,33 +106,33 @@ def test_engineering_notation():
     assert tolerance_text(Fraction(5), Fraction(5), False, "Ω") == "± 5 Ω"
 
 
-def test_values_beyond_floats_are_shown_not_crashed(tmp_path, capsys):
+def test_values_beyond_floats_are_shown_not_crashed(tmp_path, cli):
     path = tmp_path / "huge.circuit"
     path.write_text("voltage source U (a, gnd)\n"
                     "resistor R (a, gnd) = 1e60*1e60*1e60*1e60*1e60*1e60*1e60\n", encoding="utf-8")
-    status, out, _ = run(capsys, str(path), "--format", "json")
+    status, out, _ = cli("inspect", str(path), "--format", "json")
     (_, resistor) = json.loads(out)["elements"]
     # 10^420 is beyond IEEE 754 double range (max about 1.8e308): no float, exact text
     assert status == 0 and resistor["nominal"] is None
     assert resistor["nominal_text"] == "1×10⁴²⁰ Ω"
 
 
-def test_unknown_quantity_is_a_warning(tmp_path, capsys):
+def test_unknown_quantity_is_a_warning(tmp_path, cli):
     path = tmp_path / "typo.circuit"
     path.write_text("voltage source U (a, gnd) = 1 V\nresistor R (a, gnd) = 1k\n"
                     "port out (a, gnd)\nderive thevnin(out), sensitivity(gian(U, out), R)\n",
                     encoding="utf-8")
-    status, out, err = run(capsys, str(path))
+    status, out, err = cli("inspect", str(path))
     assert status == 0
     assert f"{path}:4:8: warning: unknown quantity `thevnin`; did you mean `thevenin`?" in err
     assert f"{path}:4:34: warning: unknown quantity `gian`; did you mean `gain`?" in err
 
 
-def test_empty_and_comment_only_files_read_with_a_warning(tmp_path, capsys):
+def test_empty_and_comment_only_files_read_with_a_warning(tmp_path, cli):
     for content in ("", "# nothing yet\n\n"):
         path = tmp_path / "empty.circuit"
         path.write_text(content, encoding="utf-8")
-        status, out, err = run(capsys, str(path))
+        status, out, err = cli("inspect", str(path))
         assert status == 0 and out.startswith(str(path))
         assert err == f"{path}: warning: the file describes no elements: there is no circuit " \
                       "to analyse\n"

@@ -10,6 +10,7 @@ from __future__ import annotations
 from fractions import Fraction
 
 import sympy
+from circuits import SCALE_BRIDGE
 
 import symcirc
 
@@ -29,16 +30,6 @@ def same(a: sympy.Expr, b: sympy.Expr) -> bool:
     return sympy.cancel(sympy.together(a - b)) == 0
 
 
-BRIDGE = """
-voltage source Ub (exc, gnd)
-resistor R1 (exc, a)
-resistor R2 (a, gnd)
-resistor R3 (exc, b)
-resistor R4 (b, gnd)
-port out (a, b)
-"""
-
-
 # ---------------------------------------------------------------- resistive networks
 
 
@@ -46,19 +37,20 @@ def test_wheatstone_bridge_thevenin_voltage_four_arbitrary_arms():
     # Wheatstone bridge output: Ub*(R2/(R1 + R2) - R4/(R3 + R4)), e.g. Hayt, Kemmerly &
     # Durbin, Engineering Circuit Analysis (bridge and Thevenin chapters) (from memory)
     Ub, R1, R2, R3, R4 = sym("Ub R1 R2 R3 R4")
-    assert same(derived(BRIDGE, "thevenin(out).voltage"), Ub * (R2 / (R1 + R2) - R4 / (R3 + R4)))
+    assert same(derived(SCALE_BRIDGE, "thevenin(out).voltage"),
+                Ub * (R2 / (R1 + R2) - R4 / (R3 + R4)))
 
 
 def test_wheatstone_bridge_thevenin_resistance_four_arbitrary_arms():
     # same source: R1 || R2 + R3 || R4 with the excitation shorted (from memory)
     R1, R2, R3, R4 = sym("R1 R2 R3 R4")
-    assert same(derived(BRIDGE, "thevenin(out).impedance"),
+    assert same(derived(SCALE_BRIDGE, "thevenin(out).impedance"),
                 R1 * R2 / (R1 + R2) + R3 * R4 / (R3 + R4))
 
 
 def test_equal_arm_bridge_thevenin_resistance_is_the_arm_resistance():
     # common practice: an equal-arm bridge of arm R has source resistance R at its diagonal
-    circuit = symcirc.parse(BRIDGE)
+    circuit = symcirc.parse(SCALE_BRIDGE)
     (impedance,) = circuit.derive("thevenin(out).impedance")
     r = Fraction(350)
     assert impedance.exact.evaluate({"R1": r, "R2": r, "R3": r, "R4": r}) == r
