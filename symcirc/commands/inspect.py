@@ -128,12 +128,13 @@ def _parameter_row(p: Parameter) -> list[str]:
 
 
 def _element_row(e: Element) -> list[str]:
-    if e.kind == "coupling" and e.coupled:
-        nodes = f"{e.coupled[0]} ~ {e.coupled[1]}"
-    elif e.kind == "transformer":
-        nodes = f"{e.nodes[0]}, {e.nodes[1]}; {e.nodes[2]}, {e.nodes[3]}"
-    else:
-        nodes = ", ".join(e.nodes)
+    if e.coupled:
+        nodes = " ~ ".join(e.coupled)
+    else:  # grouped as the kind's terminals are: `p1, n1; p2, n2` for a transformer
+        sizes = [len(group) for group in e.entry.terminals]
+        starts = [sum(sizes[:i]) for i in range(len(sizes))]
+        nodes = "; ".join(", ".join(e.nodes[start:start + size])
+                          for start, size in zip(starts, sizes, strict=True))
     if e.controls:
         nominal = "controlled"
     elif e.kind == "opamp" and e.is_ideal_opamp:
