@@ -9,7 +9,6 @@ import pytest
 import sympy
 
 import symcirc
-from symcirc.cli import main
 from tests.test_plots import svg_texts
 
 BRIDGE = """\
@@ -67,11 +66,12 @@ def test_balanced_bridge_sensitivities_referred_to_excitation(bridge):
         pytest.approx(-5 / 1400)
 
 
-def test_bridge_tolerance_against_brute_force_and_json(tmp_path, capsys):
+def test_bridge_tolerance_against_brute_force_and_json(tmp_path, cli):
     path = tmp_path / "bridge.circuit"
     path.write_text(BRIDGE, encoding="utf-8")
-    assert main(["derive", str(path), "tolerance(V(out))", "--format", "json"]) == 0
-    (entry,) = json.loads(capsys.readouterr().out)["results"]
+    run = cli("derive", str(path), "tolerance(V(out))", "--format", "json")
+    assert run.status == 0
+    (entry,) = json.loads(run.out)["results"]
     table = entry["tolerance"]
     # brute force over the 32 corners of the (R1..R4, Ub) box, in the test
     R1, R2, R3, R4, Ub = sympy.symbols("R1 R2 R3 R4 Ub")
@@ -177,17 +177,17 @@ def test_bad_arguments_are_located_errors(bridge, quantity, message):
     assert caught.value.line == 1 and caught.value.column > 0
 
 
-def test_plot_command_writes_figures(tmp_path):
+def test_plot_command_writes_figures(cli, tmp_path):
     path = tmp_path / "bridge.circuit"
     path.write_text(BRIDGE, encoding="utf-8")
     spread = tmp_path / "spread.svg"
-    assert main(["plot", str(path), "tolerance(V(out))", "-o", str(spread), "--seed", "5"]) == 0
+    assert cli("plot", str(path), "tolerance(V(out))", "-o", str(spread), "--seed", "5").status == 0
     assert "V(out) (V)" in svg_texts(spread) and "Samples" in svg_texts(spread)
     filt = tmp_path / "filter.circuit"
     filt.write_text("voltage source Uin (i, gnd) = 1 V\nresistor R (i, o) = 1.6 kΩ\n"
                     "capacitor C (o, gnd) = 100 nF\nport out (o, gnd)\n", encoding="utf-8")
     bode = tmp_path / "bode.png"
-    assert main(["plot", str(filt), "gain(Uin, out)", "-o", str(bode)]) == 0
+    assert cli("plot", str(filt), "gain(Uin, out)", "-o", str(bode)).status == 0
     assert bode.stat().st_size > 1000
     api = tmp_path / "api.svg"
     symcirc.load(str(filt)).plot("gain(Uin, out)", api)
@@ -205,13 +205,15 @@ def test_plots_of_sensitivities_and_minimum_load(tmp_path, bridge):
     assert "smallest load 349.6 kΩ" in texts and "bound 0.1 %" in texts
 
 
-def test_plot_command_errors_exit_2(tmp_path, capsys):
+def test_plot_command_errors_exit_2(tmp_path, cli):
     path = tmp_path / "bridge.circuit"
     path.write_text(BRIDGE, encoding="utf-8")
-    assert main(["plot", str(path), "V(out)", "-o", str(tmp_path / "x.svg")]) == 2
-    assert "does not depend on s" in capsys.readouterr().err
-    assert main(["plot", str(path), "V(out)", "-o", str(tmp_path / "x.pdf")]) == 2
-    assert ".png or .svg" in capsys.readouterr().err
+    run = cli("plot", str(path), "V(out)", "-o", str(tmp_path / "x.svg"))
+    assert run.status == 2
+    assert "does not depend on s" in run.err
+    run = cli("plot", str(path), "V(out)", "-o", str(tmp_path / "x.pdf"))
+    assert run.status == 2
+    assert ".png or .svg" in run.err
 
 
 ANALYSES = ("sensitivities(V(out))", "tolerance(V(out))", "loading(out, Rm)",
@@ -226,11 +228,11 @@ def sensor_file(tmp_path):
 
 
 @pytest.mark.parametrize("fmt", ["text", "latex", "markdown", "json"])
-def test_every_analysis_through_derive_in_every_format(sensor_file, capsys, fmt):
+def test_every_analysis_through_derive_in_every_format(sensor_file, cli, fmt):
     """`symcirc derive` writes every analysis in every format with the same numbers; the
     expected figures come from the hand formulas in the comments."""
-    assert main(["derive", str(sensor_file), *ANALYSES, "--format", fmt, "--seed", "11"]) == 0
-    out = capsys.readouterr().out
+    status, out, _ = cli("derive", str(sensor_file), *ANALYSES, "--format", fmt, "--seed", "11")
+    assert status == 0
     if fmt == "json":
         results = json.loads(out)["results"]
         kinds = {key for r in results for key in r
@@ -255,14 +257,15 @@ def test_every_analysis_through_derive_in_every_format(sensor_file, capsys, fmt)
     assert "Relative sensitivities (x/Q)·∂Q/∂x of Q = V(out)" in notes
 
 
-def test_analyses_from_derive_statements_and_the_python_api(tmp_path, capsys):
+def test_analyses_from_derive_statements_and_the_python_api(tmp_path, cli):
     """The same analyses written as `derive` statements in the file, and through the API
     with a seed: the file's statements and the API agree."""
     path = tmp_path / "bridge.circuit"
     path.write_text(BRIDGE + "derive tolerance(V(out), normal), sensitivities(V(out))\n",
                     encoding="utf-8")
-    assert main(["derive", str(path), "--format", "json", "--seed", "4"]) == 0
-    results = json.loads(capsys.readouterr().out)["results"]
+    run = cli("derive", str(path), "--format", "json", "--seed", "4")
+    assert run.status == 0
+    results = json.loads(run.out)["results"]
     (spread,) = [r["tolerance"] for r in results if "tolerance" in r]
     assert "3σ" in spread["monte_carlo"]["convention"] and spread["monte_carlo"]["seed"] == 4
     (api,) = symcirc.load(str(path)).derive("tolerance(V(out), normal)", seed=4)

@@ -175,15 +175,13 @@ capacitor C1 (a, gnd)
     ("resistor R3 (a, gnd) = R1 + 10 nF\nderive V(a)\n", (6, 24),
      "adds Ω and F: the terms' units differ (`R1` is in Ω, `10 nF` in F)"),
 ])
-def test_commands_report_dimension_mismatches(tmp_path, capsys, command, extra, position,
+def test_commands_report_dimension_mismatches(tmp_path, cli, command, extra, position,
                                               words):
-    from symcirc.cli import main
-
     path = tmp_path / "stage.circuit"
     path.write_text(STAGE + extra, encoding="utf-8")
     arguments = [command, str(path)] + (["V(a) = Uin"] if command == "check" else [])
-    assert main(arguments) == 2
-    err = capsys.readouterr().err
+    status, _, err = cli(*arguments)
+    assert status == 2
     assert f"{path}:{position[0]}:{position[1]}: error: " in err and words in err
     assert "Traceback" not in err
     caret = err.splitlines()[-1]

@@ -16,7 +16,6 @@ import pytest
 import sympy
 
 import symcirc
-from symcirc.cli import main
 from symcirc.export import c as c_code
 from symcirc.export import python as py_code
 from symcirc.export.functions import functions, identifier
@@ -192,10 +191,10 @@ def test_identifiers():
 # ---------------------------------------------------------------- the command
 
 
-def test_export_command_c_for_a_filter(tmp_path, capsys):
+def test_export_command_c_for_a_filter(tmp_path, cli):
     out = tmp_path / "filter.c"
-    assert main(["export", str(ROOT / "examples" / "antialias_filter.circuit"),
-                 "gain(Uin, out)", "--lang", "c", "--frequency", "-o", str(out)]) == 0
+    assert cli("export", str(ROOT / "examples" / "antialias_filter.circuit"),
+               "gain(Uin, out)", "--lang", "c", "--frequency", "-o", str(out)).status == 0
     text = out.read_text(encoding="utf-8")
     assert "Anti-alias filter for a 1 kS/s data-logger channel" in text
     assert "double complex gain_Uin_out(double C1, double C2, double R1, double R2, " \
@@ -204,10 +203,10 @@ def test_export_command_c_for_a_filter(tmp_path, capsys):
                     str(tmp_path / "filter.o")], check=True)
 
 
-def test_export_command_python_for_a_bridge(tmp_path):
+def test_export_command_python_for_a_bridge(cli, tmp_path):
     out = tmp_path / "bridge_formulas.py"
-    assert main(["export", str(ROOT / "examples" / "bridge_adc.circuit"), "thevenin(out)",
-                 "--lang", "python", "-o", str(out)]) == 0
+    assert cli("export", str(ROOT / "examples" / "bridge_adc.circuit"), "thevenin(out)",
+               "--lang", "python", "-o", str(out)).status == 0
     module = _load_module(out.read_text(encoding="utf-8"), tmp_path / "bridge_mod.py")
     values = {"R1": 1000.0, "R2": 1000.0, "Rt": 1096.25, "R4": 1000.0, "Rin": 2.2e6,
               "Uref": 2.5}
@@ -219,21 +218,22 @@ def test_export_command_python_for_a_bridge(tmp_path):
     assert abs(impedance - bridge) <= 1e-12 * bridge
 
 
-def test_export_command_without_quantities_or_derives_is_bad_input(tmp_path, capsys):
+def test_export_command_without_quantities_or_derives_is_bad_input(tmp_path, cli):
     plain = tmp_path / "plain.circuit"
     plain.write_text("resistor R1 (a, gnd)\nport p (a, gnd)\n", encoding="utf-8")
-    assert main(["export", str(plain), "--lang", "python"]) == 2
-    assert "no derive statements" in capsys.readouterr().err
+    run = cli("export", str(plain), "--lang", "python")
+    assert run.status == 2
+    assert "no derive statements" in run.err
 
 
 @pytest.mark.parametrize("lang", ["python", "numpy", "c"])
-def test_exported_file_formulas_match_the_derived_closed_form(tmp_path, lang):
+def test_exported_file_formulas_match_the_derived_closed_form(cli, tmp_path, lang):
     # The anti-alias example's derive statements (its gain, and two relative sensitivities,
     # long rational functions of s) exported by the command with --frequency, against the
     # closed forms symcirc derives, evaluated by sympy at s = j*omega exactly.
     example = ROOT / "examples" / "antialias_filter.circuit"
     out = tmp_path / ("formulas.c" if lang == "c" else f"formulas_{lang}.py")
-    assert main(["export", str(example), "--lang", lang, "--frequency", "-o", str(out)]) == 0
+    assert cli("export", str(example), "--lang", lang, "--frequency", "-o", str(out)).status == 0
     circuit = symcirc.load(str(example))
     results = [r for d in circuit.derives for q in d.texts for r in circuit.derive(q)]
     assert len(results) == 3

@@ -129,13 +129,13 @@ def test_results_above_the_size_bound_say_why_they_have_no_form(monkeypatch):
     assert any("8 terms, more than the 7" in note for note in impedance.notes)
 
 
-def test_derive_command_json_text_and_switch(tmp_path, capsys):
-    from symcirc.cli import main
+def test_derive_command_json_text_and_switch(tmp_path, cli):
 
     path = tmp_path / "bridge.circuit"
     path.write_text(BRIDGE, encoding="utf-8")
-    assert main(["derive", str(path), "thevenin(out)", "--steps", "--format", "json"]) == 0
-    data = json.loads(capsys.readouterr().out)
+    run = cli("derive", str(path), "thevenin(out)", "--steps", "--format", "json")
+    assert run.status == 0
+    data = json.loads(run.out)
     voltage, impedance = data["results"]
     assert impedance["form"]["text"] == "R1∥R2 + R3∥R4"
     assert r"\parallel" in impedance["form"]["latex"]
@@ -148,13 +148,14 @@ def test_derive_command_json_text_and_switch(tmp_path, capsys):
     assert [s["defines"] for s in impedance["steps"]] == [None, "R12", "R34", "R_th"]
     assert impedance["steps"][1]["latex"] == r"R_{12} = R_{1} \parallel R_{2}"
     assert all(s["sentence"].endswith(".") for s in voltage["steps"])
-    assert main(["derive", str(path), "thevenin(out)", "--steps"]) == 0
-    text_output = capsys.readouterr().out
+    status, text_output, _ = cli("derive", str(path), "thevenin(out)", "--steps")
+    assert status == 0
     assert "  design form: R1∥R2 + R3∥R4" in text_output
     assert "   2. R1 and R2 are in parallel between nodes gnd and a." in text_output
     assert "        R12 = R1∥R2" in text_output
-    assert main(["derive", str(path), "thevenin(out)", "--no-steps", "--format", "json"]) == 0
-    plain = json.loads(capsys.readouterr().out)["results"]
+    run = cli("derive", str(path), "thevenin(out)", "--no-steps", "--format", "json")
+    assert run.status == 0
+    plain = json.loads(run.out)["results"]
     assert all("form" not in r and "steps" not in r for r in plain)
 
 

@@ -13,7 +13,6 @@ from pathlib import Path
 import pytest
 
 import symcirc
-from symcirc.cli import main
 
 INVALID = Path(__file__).parent / "invalid"
 FILES = sorted(INVALID.glob("*.circuit"))
@@ -47,10 +46,10 @@ def test_api_reports_line_column_and_message(path: Path):
 
 
 @pytest.mark.parametrize("path", FILES, ids=lambda p: p.stem)
-def test_command_line_prints_error_and_exits_2(path: Path, capsys):
+def test_command_line_prints_error_and_exits_2(path: Path, cli):
     line, column, _ = _expectation(path)
-    assert main(["inspect", str(path)]) == 2
-    err = capsys.readouterr().err
+    status, _, err = cli("inspect", str(path))
+    assert status == 2
     assert err.startswith(f"{path}:{line}:{column}: error: ")
     assert "Traceback" not in err
     # the source line is quoted, with a caret under the column

@@ -9,7 +9,6 @@ from __future__ import annotations
 import pytest
 
 import symcirc
-from symcirc.cli import main
 from symcirc.errors import SymcircError
 
 DIVIDER = ("voltage source U (i, gnd)\nresistor R1 (i, o)\nresistor R2 (o, gnd)\n"
@@ -188,7 +187,7 @@ def test_loop_of_sources_through_a_transformer_names_them():
     assert "among U, T, U2" in err.message
 
 
-def test_a_job_too_large_to_derive_stops_with_a_clear_error(tmp_path, capsys, monkeypatch):
+def test_a_job_too_large_to_derive_stops_with_a_clear_error(tmp_path, cli, monkeypatch):
     """python-flint aborts the process when memory runs out, so the engine refuses
     polynomials past a size limit (lowered here so that a small circuit reaches it)."""
     from symcirc.algebra import polynomials as polys
@@ -202,8 +201,7 @@ def test_a_job_too_large_to_derive_stops_with_a_clear_error(tmp_path, capsys, mo
     (voltage,) = symcirc.load(str(path)).derive("thevenin(out).voltage")
     assert voltage.exact.size() == (1, 233)  # 233 terms: fine at the normal limit
     monkeypatch.setattr(polys, "MAX_TERMS", 100)
-    code = main(["derive", str(path), "thevenin(out).voltage"])
-    err = capsys.readouterr().err
+    code, _, err = cli("derive", str(path), "thevenin(out).voltage")
     assert code == 2 and "Traceback" not in err
     assert err.startswith("<command line>:1:1: error: the exact derivation is too large")
     assert "the limit is 100" in err and "note: derive the circuit in parts" in err
@@ -245,36 +243,33 @@ def test_relative_sensitivity_of_a_zero_quantity_is_undefined():
     assert "undefined" in err.message and "V(x) is 0" in err.message
 
 
-def test_limit_that_grows_without_bound_is_reported_at_the_where_clause(tmp_path):
+def test_limit_that_grows_without_bound_is_reported_at_the_where_clause(cli, tmp_path):
     path = tmp_path / "grow.circuit"
     path.write_text("voltage source U (i, gnd)\nresistor R1 (i, o)\nresistor R2 (o, gnd)\n"
                     "port out (o, gnd)\nderive Z(out) where R1 -> oo, R2 -> oo\n")
-    code = main(["derive", str(path)])
-    assert code == 2
+    assert cli("derive", str(path)).status == 2
 
 
-def test_limit_that_grows_without_bound_names_the_quantity_and_the_clause(tmp_path, capsys):
+def test_limit_that_grows_without_bound_names_the_quantity_and_the_clause(tmp_path, cli):
     path = tmp_path / "grow.circuit"
     path.write_text("voltage source U (i, gnd)\nresistor R1 (i, o)\nresistor R2 (o, gnd)\n"
                     "port out (o, gnd)\nderive Z(out) where R2 -> oo\n")
-    code = main(["derive", str(path)])
+    code, out, _ = cli("derive", str(path))
     # Z(out) = R1*R2/(R1 + R2) tends to R1 as the shunt opens (common practice): finite
-    assert code == 0 and capsys.readouterr().out == "Z(out) where R2 -> oo = R1\n"
+    assert code == 0 and out == "Z(out) where R2 -> oo = R1\n"
     # I(R2) per volt is 1/(R1 + R2): 1/R1 as R2 -> 0, then unbounded as R1 -> 0
     path.write_text("voltage source U (i, gnd)\nresistor R1 (i, o)\nresistor R2 (o, gnd)\n"
                     "port out (o, gnd)\nderive gain(U, I(R2)) where R2 -> 0, R1 -> 0\n")
-    code = main(["derive", str(path)])
-    err = capsys.readouterr().err
+    code, _, err = cli("derive", str(path))
     assert code == 2 and "Traceback" not in err
     assert "I(R2)" in err and "grows without bound" in err
     assert f"{path}:5:" in err.splitlines()[0]
 
 
-def test_command_line_error_layout_and_exit_status(tmp_path, capsys):
+def test_command_line_error_layout_and_exit_status(tmp_path, cli):
     path = tmp_path / "divider.circuit"
     path.write_text(DIVIDER)
-    code = main(["derive", str(path), "norton(src)"])
-    err = capsys.readouterr().err
+    code, _, err = cli("derive", str(path), "norton(src)")
     assert code == 2
     first, line, caret = err.splitlines()[:3]
     assert first.startswith("<command line>:1:1: error: port src has no Norton equivalent")
@@ -282,10 +277,9 @@ def test_command_line_error_layout_and_exit_status(tmp_path, capsys):
     assert "Traceback" not in err
 
 
-def test_error_in_a_file_derive_statement_points_into_the_file(tmp_path, capsys):
+def test_error_in_a_file_derive_statement_points_into_the_file(tmp_path, cli):
     path = tmp_path / "divider.circuit"
     path.write_text(DIVIDER + "derive V(out), norton(src)\n")
-    code = main(["derive", str(path)])
-    err = capsys.readouterr().err
+    code, _, err = cli("derive", str(path))
     assert code == 2
     assert err.startswith(f"{path}:6:16: error: port src has no Norton equivalent")

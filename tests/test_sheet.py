@@ -8,7 +8,6 @@ import math
 import re
 from pathlib import Path
 
-from symcirc.cli import main
 from tests.notes_support import pdf_pages, pdf_text, pdflatex
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -26,12 +25,12 @@ def _divider(folder: Path) -> Path:
     return source
 
 
-def test_sheet_of_all_examples_in_markdown_and_latex(tmp_path):
+def test_sheet_of_all_examples_in_markdown_and_latex(cli, tmp_path):
     import symcirc
 
     files = [str(e) for e in EXAMPLES]
-    assert main(["sheet", *files, "-o", str(tmp_path / "sheet.md")]) == 0
-    assert main(["sheet", *files, "-o", str(tmp_path / "sheet.tex")]) == 0
+    assert cli("sheet", *files, "-o", str(tmp_path / "sheet.md")).status == 0
+    assert cli("sheet", *files, "-o", str(tmp_path / "sheet.tex")).status == 0
     md = (tmp_path / "sheet.md").read_text(encoding="utf-8")
     words = " ".join(pdf_text(pdflatex(tmp_path / "sheet.tex")).split())
     assert pdf_pages(tmp_path / "sheet.pdf") >= 1
@@ -49,9 +48,9 @@ def test_sheet_of_all_examples_in_markdown_and_latex(tmp_path):
     assert "\\quad $f_{0}$" in (tmp_path / "sheet.tex").read_text(encoding="utf-8")
 
 
-def test_spread_is_the_worst_case_over_the_tolerances(tmp_path):
+def test_spread_is_the_worst_case_over_the_tolerances(cli, tmp_path):
     source = _divider(tmp_path)
-    assert main(["sheet", str(source), "-o", str(tmp_path / "s.md")]) == 0
+    assert cli("sheet", str(source), "-o", str(tmp_path / "s.md")).status == 0
     row = next(line for line in (tmp_path / "s.md").read_text(encoding="utf-8").splitlines()
                if line.startswith("| `V(out)`"))
     # brute force over the four corners, independently of symcirc: V = U·R2/(R1 + R2)
@@ -65,6 +64,7 @@ def test_spread_is_the_worst_case_over_the_tolerances(tmp_path):
     assert "3.333" in row and "| V |" in row
 
 
-def test_sheet_refuses_html(tmp_path, capsys):
-    assert main(["sheet", str(_divider(tmp_path)), "-o", str(tmp_path / "s.html")]) == 2
-    assert "not available" in capsys.readouterr().err
+def test_sheet_refuses_html(tmp_path, cli):
+    run = cli("sheet", str(_divider(tmp_path)), "-o", str(tmp_path / "s.html"))
+    assert run.status == 2
+    assert "not available" in run.err
