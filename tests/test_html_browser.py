@@ -15,8 +15,6 @@ from pathlib import Path
 
 import pytest
 
-from symcirc.cli import main
-
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "examples").glob("*.circuit"))
 CHROMIUM = shutil.which("chromium") or "/usr/bin/chromium"
@@ -96,11 +94,11 @@ def _not_blank(png: bytes) -> float:
     return float((pixels.min(axis=2) < 0.9).mean())
 
 
-def test_html_notes_render_in_chromium(browser, tmp_path):
+def test_html_notes_render_in_chromium(cli, browser, tmp_path):
     assert EXAMPLES
     for example in EXAMPLES:
         note = tmp_path / f"{example.stem}.html"
-        assert main(["note", str(example), "-o", str(note)]) == 0
+        assert cli("note", str(example), "-o", str(note)).status == 0
         _open(browser, note)
         sizes = browser.evaluate(
             "Array.from(document.getElementsByTagNameNS("

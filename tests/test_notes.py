@@ -133,22 +133,22 @@ def test_figures_are_beside_the_note(notes, example):
             assert (note.parent / reference).stat().st_size > 0
 
 
-def test_second_run_is_byte_identical(notes, tmp_path):
+def test_second_run_is_byte_identical(cli, notes, tmp_path):
     for (example, fmt), note in notes.items():
         before = note.read_bytes()
         figures = {p: p.read_bytes() for p in note.parent.glob(f"{note.stem}_figures/*")}
-        assert main(["note", str(note.parent / f"{example}.circuit"), "-o", str(note)]) == 0
+        assert cli("note", str(note.parent / f"{example}.circuit"), "-o", str(note)).status == 0
         assert note.read_bytes() == before, (example, fmt)
         for path, data in figures.items():
             assert path.read_bytes() == data, path
 
 
-def test_analyses_on_the_command_line_make_a_note_that_compiles(tmp_path):
+def test_analyses_on_the_command_line_make_a_note_that_compiles(cli, tmp_path):
     """Loading, sensitivities and tolerance sections: their tables and figures reach the PDF."""
     note = tmp_path / "analyses.tex"
-    assert main(["note", str(ROOT / "examples" / "bridge_adc.circuit"), "loading(out, Rin)",
-                 "sensitivities(thevenin(out).voltage)", "tolerance(gain(Uref, out))",
-                 "-o", str(note)]) == 0
+    assert cli("note", str(ROOT / "examples" / "bridge_adc.circuit"), "loading(out, Rin)",
+               "sensitivities(thevenin(out).voltage)", "tolerance(gain(Uref, out))",
+               "-o", str(note)).status == 0
     text = note.read_text(encoding="utf-8")
     figures = re.findall(r"\\includegraphics\[[^]]*\]\{(analyses_figures/[^}]+)\}", text)
     assert any("loading" in f for f in figures) and any("histogram" in f for f in figures)
@@ -159,40 +159,41 @@ def test_analyses_on_the_command_line_make_a_note_that_compiles(tmp_path):
         assert heading in words, heading
 
 
-def test_standard_output_and_quantities(capsys, tmp_path):
+def test_standard_output_and_quantities(cli, tmp_path):
     example = ROOT / "examples" / "bridge_adc.circuit"
-    assert main(["note", str(example), "thevenin(out)", "-o", "-", "--format", "md"]) == 0
-    out = capsys.readouterr().out
+    status, out, _ = cli("note", str(example), "thevenin(out)", "-o", "-", "--format", "md")
+    assert status == 0
     assert _marker(out)["quantities"] == ["thevenin(out)"]
     assert "thevenin(out).voltage" in out and "_figures/" not in out
 
 
-def test_refuses_to_write_over_the_input(tmp_path, capsys):
+def test_refuses_to_write_over_the_input(tmp_path, cli):
     source = tmp_path / "bridge.circuit"
     shutil.copy(ROOT / "examples" / "bridge_adc.circuit", source)
     before = source.read_bytes()
-    assert main(["note", str(source), "-o", str(source), "--format", "md"]) == 2
-    assert "refusing to write the output over the input" in capsys.readouterr().err
+    run = cli("note", str(source), "-o", str(source), "--format", "md")
+    assert run.status == 2
+    assert "refusing to write the output over the input" in run.err
     assert source.read_bytes() == before
 
 
-def test_unwritable_figures_folder_is_an_error_not_a_traceback(tmp_path, capsys):
+def test_unwritable_figures_folder_is_an_error_not_a_traceback(tmp_path, cli):
     source = tmp_path / "rc.circuit"
     source.write_text('title "RC low-pass"\nvoltage source U (in, gnd)\n'
                       'resistor R (in, o) = 1 kΩ\ncapacitor C (o, gnd) = 1 µF\nport out (o, gnd)\n'
                       'derive gain(U, out)\n', encoding="utf-8")
     (tmp_path / "rc_figures").write_text("a file where the figures folder goes")
-    assert main(["note", str(source), "-o", str(tmp_path / "rc.md")]) == 2
-    err = capsys.readouterr().err
+    status, _, err = cli("note", str(source), "-o", str(tmp_path / "rc.md"))
+    assert status == 2
     assert "rc_figures: error: cannot write" in err and "Traceback" not in err
     assert not (tmp_path / "rc.md").exists()
 
 
-def test_bad_input_is_reported_without_traceback(tmp_path, capsys):
+def test_bad_input_is_reported_without_traceback(tmp_path, cli):
     source = tmp_path / "bad.circuit"
     source.write_text('title "x"\nresistor R1 (a, gnd) = 10 nF\n', encoding="utf-8")
-    assert main(["note", str(source), "-o", str(tmp_path / "bad.md")]) == 2
-    err = capsys.readouterr().err
+    status, _, err = cli("note", str(source), "-o", str(tmp_path / "bad.md"))
+    assert status == 2
     assert re.search(r"bad\.circuit:2:\d+: error: ", err) and "Traceback" not in err
     assert not (tmp_path / "bad.md").exists()
 
@@ -209,10 +210,10 @@ def _hostile_circuit(folder: Path) -> Path:
     return source
 
 
-def test_hostile_title_from_a_file_renders_literally(tmp_path):
+def test_hostile_title_from_a_file_renders_literally(cli, tmp_path):
     source = _hostile_circuit(tmp_path)
     for extension in FORMATS.values():
-        assert main(["note", str(source), "-o", str(tmp_path / f"h{extension}")]) == 0
+        assert cli("note", str(source), "-o", str(tmp_path / f"h{extension}")).status == 0
     page = (tmp_path / "h.html").read_text(encoding="utf-8")
     tree = html5lib.parse(page, namespaceHTMLElements=False)
     assert "".join(tree.find(".//h1").itertext()) == HOSTILE
@@ -226,20 +227,20 @@ def test_hostile_title_from_a_file_renders_literally(tmp_path):
     assert HOSTILE in " ".join(pdf_text(pdflatex(tmp_path / "h.tex")).split())
 
 
-def test_user_templates_override_through_the_command(tmp_path):
+def test_user_templates_override_through_the_command(cli, tmp_path):
     source = _hostile_circuit(tmp_path)
     templates = tmp_path / "mine"
     templates.mkdir()
     (templates / "note.md.j2").write_text(
         "{% for r in note.results %}{{ r.quantity }} = {{ r.nominal | eng(r.unit) }}\n"
         "{% endfor %}", encoding="utf-8")
-    assert main(["note", str(source), "-o", str(tmp_path / "n.md"), "--template",
-                 str(templates)]) == 0
+    assert cli("note", str(source), "-o", str(tmp_path / "n.md"), "--template",
+               str(templates)).status == 0
     # V(out) of a 1 k / 2 k divider from 5 V: 5·2/3 = 3.333 V (voltage divider rule)
     assert (tmp_path / "n.md").read_text(encoding="utf-8") == "V(out) = 3.333 V\n"
 
 
-def test_cautions_for_high_voltage_and_dissipation(tmp_path):
+def test_cautions_for_high_voltage_and_dissipation(cli, tmp_path):
     source = tmp_path / "mains.circuit"
     source.write_text(
         'title "Mains sensing divider"\n'
@@ -247,7 +248,7 @@ def test_cautions_for_high_voltage_and_dissipation(tmp_path):
         'resistor Rtop (line, sense) = 100 kΩ\n'
         'resistor Rbot (sense, gnd) = 1 kΩ\n'
         'derive V(sense)\n', encoding="utf-8")
-    assert main(["note", str(source), "-o", str(tmp_path / "m.md")]) == 0
+    assert cli("note", str(source), "-o", str(tmp_path / "m.md")).status == 0
     text = (tmp_path / "m.md").read_text(encoding="utf-8")
     # independent figures: I = 325/101k; P(Rtop) = I²·100k ≈ 1.035 W; node line at 325 V
     current = 325 / 101e3
