@@ -185,6 +185,9 @@ class QuantityKind:
     parameters of a response in s: `gain(Uin, out).w0`)."""
     analysis: bool = False
     """A design analysis (evaluated at nominal values, tables in notes)."""
+    response: bool = True
+    """A function of s that it gives is a response of the circuit (notes draw its Bode
+    plot); False for sensitivities, whose magnitude in s is not what a reader expects."""
 
     @property
     def part_names(self) -> tuple[str, ...]:
@@ -260,15 +263,16 @@ QUANTITIES: dict[str, QuantityKind] = {q.name: q for q in (
     QuantityKind(
         "sensitivity", ("measure", "symbol"), 2,
         "symcirc.quantities.sensitivity:sensitivity_quantity", "Q's unit per x's", "dQ/dx",
-        convention="sensitivity(Q, x) is ∂Q/∂x."),
+        convention="sensitivity(Q, x) is ∂Q/∂x.", response=False),
     QuantityKind(
         "relative_sensitivity", ("measure", "symbol"), 2,
         "symcirc.quantities.sensitivity:relative_sensitivity_quantity", "none",
-        "(x/Q)·dQ/dx", convention="relative_sensitivity(Q, x) is (x/Q)·∂Q/∂x."),
+        "(x/Q)·dQ/dx", convention="relative_sensitivity(Q, x) is (x/Q)·∂Q/∂x.",
+        response=False),
     QuantityKind(
         "sensitivities", ("value", "value"), 1,
         "symcirc.analysis.quantities:sensitivities_quantity", "none",
-        "every relative sensitivity of Q, largest first", analysis=True,
+        "every relative sensitivity of Q, largest first", analysis=True, response=False,
         convention="Relative sensitivities are (x/Q)·∂Q/∂x: the relative change of Q per "
                    "relative change of x."),
     QuantityKind("tolerance", ("value", "value"), 1,

@@ -156,7 +156,7 @@ def build(
             network.active.append((element.name, nodes[2], nodes[3]))
         elif element.law is not None:  # a coupled inductor
             network.active.append((element.name, nodes[0], nodes[1]))
-        elif element.kind in ("voltage source", "current source"):
+        elif element.is_source:
             network.active.append((element.name, nodes[0], nodes[1]))
     return network, contraction, out_of_circuit
 

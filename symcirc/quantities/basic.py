@@ -34,7 +34,7 @@ def raw_gain(context: Context, quantity: syntax.Quantity) -> list[Raw]:
         quantity, 2, 2, "an independent source and a quantity: gain(Uin, out), "
                         "gain(Uin, V(a, b)), gain(Iq, I(R2))")
     source = context.element(source_arg)
-    if source.kind not in ("voltage source", "current source"):
+    if not source.is_source:
         raise context.error(source_arg, f"{source.name} is {_described(source.kind)}, not a "
                                         "source; gain(X, Q) divides by independent source X")
     if source.controls:
@@ -43,10 +43,9 @@ def raw_gain(context: Context, quantity: syntax.Quantity) -> list[Raw]:
     measure, text, unit, notes = context.measure(target)
     with context.at(quantity):
         value = context.transfer(measure, source.name)
-    source_unit = "V" if source.kind == "voltage source" else "A"
     if value.is_zero():
         notes = notes + (f"{text} does not depend on source {source.name}: the gain is 0.",)
-    return [Raw(quantity.text, value, RATIO_UNITS[(unit, source_unit)], notes)]
+    return [Raw(quantity.text, value, RATIO_UNITS[(unit, source.unit)], notes)]
 
 
 def _described(kind: str) -> str:

@@ -20,6 +20,7 @@ from dataclasses import dataclass, replace
 
 from ..model.circuit import Circuit
 from ..pipeline import Request
+from ..vocabulary import QUANTITIES
 from .content import Figure, ResultView, Section
 
 IMAGE_EXTENSION = {"latex": ".png", "markdown": ".svg", "html": ".svg"}
@@ -114,7 +115,7 @@ def plan(circuit: Circuit, sections: list[Section], wanted: list[Request], stem:
             add(None, section, "loading", f"Loading error of {request.text} against the load.",
                 _loading(circuit, request, extension), f"{section.anchor}-loading")
         for view in section.results:
-            if view.is_transfer_function and _has_values(view) and name not in _NOT_RESPONSES:
+            if view.is_transfer_function and _has_values(view) and _is_response(name):
                 spread = name == "response"  # asked for with its Monte Carlo band
                 add(view, section, "frequency response",
                     f"Magnitude and phase of {view.quantity} at the nominal values"
@@ -130,9 +131,11 @@ def plan(circuit: Circuit, sections: list[Section], wanted: list[Request], stem:
     return drawings
 
 
-_NOT_RESPONSES = ("sensitivity", "relative_sensitivity", "sensitivities")
-"""Functions of s that are not responses of the circuit: no Bode plot (each costs a second
-or more to draw, and the magnitude of a complex sensitivity is not what a reader expects)."""
+def _is_response(name: str) -> bool:
+    """A quantity whose functions of s are responses of the circuit (a Bode plot costs a
+    second or more to draw: only those get one)."""
+    entry = QUANTITIES.get(name)
+    return entry is None or entry.response
 
 
 def _has_values(view: ResultView) -> bool:
