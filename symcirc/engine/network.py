@@ -205,12 +205,14 @@ def _expressions(element: Element) -> list[sympy.Expr]:
 
 
 def _add(network: Network, element: Element, mutuals: dict[str, str]) -> None:
+    """Enter one element into the network the way its kind's `stamp` says."""
     ring = network.ring
     kind, name, nodes = element.kind, element.name, element.nodes
+    stamp = element.entry.stamp
     if element.law is not None:
         inward, outward = _admittance(ring, name, element.law)
         network.branches[name] = Branch(name, kind, nodes[0], nodes[1], inward, outward)
-    elif element.is_source:
+    elif stamp in ("voltage source", "current source"):
         controls: list[VoltageControl | CurrentControl] = []
         for control in element.controls:
             coefficient = to_function(control.coefficient, ring)
@@ -223,9 +225,9 @@ def _add(network: Network, element: Element, mutuals: dict[str, str]) -> None:
                         if element.independent is not None else None)
         else:
             constant = RationalFunction.symbol(name, ring)
-        network.sources[name] = Source(name, "voltage" if kind == "voltage source" else "current",
+        network.sources[name] = Source(name, "voltage" if stamp == "voltage source" else "current",
                                        nodes[0], nodes[1], tuple(controls), constant)
-    elif kind == "opamp":
+    elif stamp == "opamp":
         if element.definition is not None:
             gain = to_function(element.definition, ring)
         elif element.nominal is not None:
@@ -233,8 +235,8 @@ def _add(network: Network, element: Element, mutuals: dict[str, str]) -> None:
         else:
             gain = None
         network.opamps[name] = Opamp(name, *nodes, gain)
-    elif kind == "transformer":
+    elif stamp == "transformer":
         network.transformers[name] = Transformer(name, *nodes, ring.gen(name))
-    elif kind == "coupling":
+    elif stamp == "coupling":
         first, second = element.coupled
         network.couplings[name] = Coupling(name, first, second, mutuals[name])
