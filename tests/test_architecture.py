@@ -8,6 +8,7 @@ layers only; within a layer, only the pairs listed in SAME_LAYER.
 from __future__ import annotations
 
 import ast
+import functools
 from pathlib import Path
 
 import networkx as nx
@@ -74,6 +75,7 @@ def _imports(path: Path, root: Path = PACKAGE) -> list[tuple[str, int]]:
     return [(m, line) for m, line in found if m.split(".")[0] == "symcirc"]
 
 
+@functools.cache
 def _graph() -> tuple[nx.DiGraph, dict[tuple[str, str], list[str]]]:
     graph = nx.DiGraph()
     where: dict[tuple[str, str], list[str]] = {}
