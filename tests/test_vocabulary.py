@@ -103,6 +103,12 @@ def test_readme_lists_every_element_kind_and_quantity():
         assert f"`{name}(" in table, name
 
 
+def test_the_analyses_guide_covers_every_design_analysis():
+    guide = (ROOT / "docs" / "analyses.md").read_text(encoding="utf-8")
+    analyses = [name for name, quantity in QUANTITIES.items() if quantity.analysis]
+    assert analyses and all(f"`{name}(" in guide for name in analyses)
+
+
 def test_a_new_element_kind_is_one_table_entry(monkeypatch):
     """A `choke` (an inductor by another keyword) added to the table alone is parsed,
     checked for its unit, stamped by its law, and reduced by the forms."""
