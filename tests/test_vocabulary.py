@@ -79,6 +79,14 @@ def test_twoport_part_units_follow_their_definitions():
     assert parts["C"] == "S" and parts["A"] == parts["D"] == ""
 
 
+@pytest.mark.parametrize("name", ["thevenin", "norton"])
+def test_results_carry_the_units_the_table_gives_their_parts(name):
+    circuit = symcirc.parse("voltage source U (a, gnd) = 1 V\nresistor R1 (a, b) = 1k\n"
+                            "resistor R2 (b, gnd) = 1k\nport P (b, gnd)\n")
+    results = circuit.derive(f"{name}(P)")
+    assert [r.unit for r in results] == [p.unit for p in QUANTITIES[name].parts]
+
+
 def test_a_part_not_in_the_table_is_refused_with_a_suggestion():
     with pytest.raises(symcirc.SymcircError, match=r"no part `\.impedence`.*`\.impedance`"):
         symcirc.parse("resistor R (a, gnd)\nport P (a, gnd)\nderive thevenin(P).impedence\n")
