@@ -638,7 +638,7 @@ class _Elaborator:
                   controlled: bool, scope: _Scope) -> sympy.Expr:
         """`at 50 Hz` or `at f`: only an independent source has a frequency of its own."""
         what = f"{statement.kind} {statement.name.name}"
-        if statement.kind not in SOURCE_KINDS or controlled:
+        if not ELEMENT_KINDS[statement.kind].source or controlled:
             raise self.error(written, f"`at` gives the frequency of an independent source; "
                              f"{what} takes none", scope.trail)
         if isinstance(written, syntax.Name):
