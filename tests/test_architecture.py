@@ -18,7 +18,8 @@ import symcirc
 PACKAGE = Path(symcirc.__file__).parent
 
 LAYERS: tuple[tuple[str, ...], ...] = (
-    ("errors", "vocabulary"),  # the error type and the words of the language: read by all
+    ("errors", "vocabulary", "output"),  # the error type, the words of the language and the
+                                         # one output writer: read by all, import no stage
     ("language",),            # text → syntax tree
     ("model",),               # syntax tree → Circuit
     ("algebra",),             # exact polynomials and rational functions
@@ -34,7 +35,7 @@ LAYERS: tuple[tuple[str, ...], ...] = (
 )
 """The allowed order, earliest first: a unit imports only from earlier layers."""
 
-SAME_LAYER = {("symcirc", "api")}
+SAME_LAYER = {("symcirc", "api"), ("output", "errors")}
 """Imports allowed within a layer: (importer, imported)."""
 
 LAYER_OF = {unit: index for index, layer in enumerate(LAYERS) for unit in layer}

@@ -111,6 +111,12 @@ def test_readme_lists_every_element_kind_and_quantity():
         assert f"`{name}(" in table, name
 
 
+def test_the_language_reference_covers_every_element_kind_and_quantity():
+    reference = (ROOT / "docs" / "language.md").read_text(encoding="utf-8")
+    assert all(f"`{keyword}" in reference for keyword in ELEMENT_KINDS)
+    assert all(f"`{name}(" in reference for name in QUANTITIES)
+
+
 def test_the_analyses_guide_covers_every_design_analysis():
     guide = (ROOT / "docs" / "analyses.md").read_text(encoding="utf-8")
     analyses = [name for name, quantity in QUANTITIES.items() if quantity.analysis]
