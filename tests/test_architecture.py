@@ -130,3 +130,12 @@ def test_the_reader_sees_imports_inside_functions_relative_and_absolute(tmp_path
         ("symcirc.model", 2), ("symcirc.quantities", 6), ("symcirc", 7),
         ("symcirc.quantities.basic", 8)]
     assert _imports(root / "__init__.py", root) == [("symcirc.model.circuit", 1)]
+
+
+def test_test_folders_mirror_the_packages():
+    """tests/<package>/ holds the tests of symcirc/<package>/; the corpora and benchmarks
+    keep their own folders."""
+    tests = Path(__file__).resolve().parent
+    folders = {p.name for p in tests.iterdir() if p.is_dir() and not p.name.startswith(("_", "."))}
+    packages = {p.name for p in PACKAGE.iterdir() if (p / "__init__.py").is_file()}
+    assert folders - {"valid", "invalid", "perf"} <= packages
