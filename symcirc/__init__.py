@@ -14,13 +14,13 @@ from __future__ import annotations
 from typing import TYPE_CHECKING
 
 from .errors import Location, SymcircError
+from .version import __version__
 
 if TYPE_CHECKING:  # pragma: no cover
     from pathlib import Path
 
     from .api import Circuit
 
-__version__ = "0.1.0"
 
 __all__ = ["Circuit", "Location", "SymcircError", "__version__", "load", "parse"]
 

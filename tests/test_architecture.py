@@ -18,8 +18,9 @@ import symcirc
 PACKAGE = Path(symcirc.__file__).parent
 
 LAYERS: tuple[tuple[str, ...], ...] = (
-    ("errors", "vocabulary", "output"),  # the error type, the words of the language and the
-                                         # one output writer: read by all, import no stage
+    # the error type, the version, the words of the language and the one output writer:
+    # read by every stage, they import none
+    ("errors", "version", "vocabulary", "output"),
     ("language",),            # text → syntax tree
     ("model",),               # syntax tree → Circuit
     ("algebra",),             # exact polynomials and rational functions
@@ -35,8 +36,9 @@ LAYERS: tuple[tuple[str, ...], ...] = (
 )
 """The allowed order, earliest first: a unit imports only from earlier layers."""
 
-SAME_LAYER = {("symcirc", "api"), ("output", "errors")}
-"""Imports allowed within a layer: (importer, imported)."""
+SAME_LAYER = {("symcirc", "api"), ("output", "errors"), ("analysis", "forms")}
+"""Imports allowed within a layer: (importer, imported). Analyses of a response read its
+design form (`analysis.frequency` → `forms`); forms never read analyses."""
 
 LAYER_OF = {unit: index for index, layer in enumerate(LAYERS) for unit in layer}
 

@@ -21,6 +21,7 @@ from ..model import typeset
 from ..model.circuit import Circuit
 from ..model.typeset import latex_of
 from ..pipeline import Pipeline
+from ..version import __version__
 from .content import (
     Figure,
     Parameter,
@@ -188,8 +189,6 @@ def build_note(
 def _build_note(pipeline: Pipeline, source: Path, data: bytes, format: str,
                 quantities: Sequence[str] | None, template: str | Path | None,
                 output_path: str | Path | None, progress: bool) -> tuple[Note, list]:
-    import symcirc
-
     from .derivations import requests, sections
 
     circuit = pipeline.circuit
@@ -203,7 +202,7 @@ def _build_note(pipeline: Pipeline, source: Path, data: bytes, format: str,
     from .figures import folder_name, plan, schematic
 
     drawings: list = []
-    origin = f"{hashlib.sha256(data).hexdigest()}\0{symcirc.__version__}"
+    origin = f"{hashlib.sha256(data).hexdigest()}\0{__version__}"
     stem = Path(output_path).stem if output_path is not None else None
     drawing, statement = schematic(circuit, stem, format, origin)
     if drawing is not None:
@@ -229,8 +228,6 @@ def _note(circuit: Circuit, source: Path, data: bytes, fmt: str,
           quantities: Sequence[str] | None, template: str | Path | None, folder: Path,
           derived: list[Section], claim_views: list[ClaimView], assessment: Assessment,
           figures_folder: str | None) -> Note:
-    import symcirc
-
     from .conventions import conventions
 
     digest = hashlib.sha256(data).hexdigest()
@@ -239,7 +236,7 @@ def _note(circuit: Circuit, source: Path, data: bytes, fmt: str,
     marker = {
         "source": _relative(source, folder),
         "sha256": digest,
-        "version": symcirc.__version__,
+        "version": __version__,
         "format": fmt,
         "quantities": list(quantities) if quantities else None,
         "template": None if template is None else _relative(Path(template), folder),
@@ -251,7 +248,7 @@ def _note(circuit: Circuit, source: Path, data: bytes, fmt: str,
         source=marker["source"],
         source_name=source.name,
         sha256=digest,
-        version=symcirc.__version__,
+        version=__version__,
         format=fmt,
         parts=parts(circuit),
         parameters=parameters(circuit),

@@ -9,6 +9,7 @@ from dataclasses import dataclass
 from pathlib import Path
 
 from ..model import typeset
+from ..version import __version__
 from .content import ResultView
 from .progress import Progress
 
@@ -55,8 +56,6 @@ def render_sheet_for(paths: Sequence[str | Path], format: str,
 
 def build_sheet(paths: Sequence[str | Path], format: str, progress: bool = False) -> Sheet:
     """What the sheet of `paths` shows (the work behind `render_sheet_for`)."""
-    import symcirc
-
     from ..analysis.cautions import DEFER, THRESHOLDS, assess
     from ..pipeline import Pipeline
     from .derivations import requests, sections
@@ -83,4 +82,4 @@ def build_sheet(paths: Sequence[str | Path], format: str, progress: bool = False
                 list(assessment.not_assessed) if assessment.shown else []))
     forms = {name: form for _, _, pipeline, _ in loaded
              for name, form in pipeline.circuit.typeset.items()}
-    return Sheet(circuits, symcirc.__version__, format, list(THRESHOLDS), DEFER, forms)
+    return Sheet(circuits, __version__, format, list(THRESHOLDS), DEFER, forms)
