@@ -18,9 +18,9 @@ import symcirc
 PACKAGE = Path(symcirc.__file__).parent
 
 LAYERS: tuple[tuple[str, ...], ...] = (
-    # the error type, the version, the words of the language and the one output writer:
-    # read by every stage, they import none
-    ("errors", "version", "vocabulary", "output"),
+    # the error type, the version, the words of the language, the one output writer, the
+    # size limits and the Ctrl-C watchdog: read by every stage, they import no stage
+    ("errors", "version", "vocabulary", "output", "limits", "watchdog"),
     ("language",),            # text → syntax tree
     ("model",),               # syntax tree → Circuit
     ("algebra",),             # exact polynomials and rational functions
@@ -36,7 +36,8 @@ LAYERS: tuple[tuple[str, ...], ...] = (
 )
 """The allowed order, earliest first: a unit imports only from earlier layers."""
 
-SAME_LAYER = {("symcirc", "api"), ("output", "errors"), ("analysis", "forms")}
+SAME_LAYER = {("symcirc", "api"), ("output", "errors"), ("limits", "errors"),
+              ("analysis", "forms")}
 """Imports allowed within a layer: (importer, imported). Analyses of a response read its
 design form (`analysis.frequency` → `forms`); forms never read analyses."""
 
