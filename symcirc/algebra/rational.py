@@ -458,7 +458,7 @@ class _Printer:
 class _FlintText:
     """The text of `_Printer` with `_TEXT`, written by python-flint's own printer one power
     of `s` at a time: a 150,000-term result prints in a fraction of a second instead of
-    seconds of Python work per term (tests/test_ratfunc_text.py keeps the two identical)."""
+    seconds of Python work per term (tests/engine/test_ratfunc_text.py keeps the two identical)."""
 
     def __init__(self, ring: PolynomialRing) -> None:
         self.ring = ring

@@ -17,7 +17,7 @@ import symcirc
 from symcirc.cli import main
 from symcirc.errors import SymcircError
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 
 # A valid file using every construct (an invented data-logger channel); mutations start here
 # and from the bundled examples and the valid corpus.

@@ -12,7 +12,7 @@ from sympy.parsing.sympy_parser import parse_expr
 
 import symcirc
 
-EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
+EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
 
 # A sensor front end (invented): an RTD divider, buffered, then an RC filter
 FRONT_END = """\

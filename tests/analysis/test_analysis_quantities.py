@@ -7,9 +7,9 @@ from fractions import Fraction
 
 import pytest
 import sympy
+from test_plots import svg_texts
 
 import symcirc
-from tests.test_plots import svg_texts
 
 BRIDGE = """\
 title "Strain-gauge bridge of a hopper scale (invented)"

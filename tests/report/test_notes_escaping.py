@@ -7,9 +7,9 @@ from __future__ import annotations
 import html5lib
 import pytest
 from markdown_it import MarkdownIt
+from notes_support import HOSTILE, hand_note, pdf_text, pdflatex
 
 from symcirc.report.note import render_note
-from tests.notes_support import HOSTILE, hand_note, pdf_text, pdflatex
 
 MATHML = "{http://www.w3.org/1998/Math/MathML}"
 

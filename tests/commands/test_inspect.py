@@ -9,7 +9,7 @@ import sympy
 import symcirc
 from symcirc.model.units import engineering, tolerance_text
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 BRIDGE = str(ROOT / "examples" / "bridge_adc.circuit")
 DANGLING = str(ROOT / "tests" / "valid" / "dangling.circuit")
 

@@ -21,7 +21,7 @@ from symcirc.export import python as py_code
 from symcirc.export.functions import functions, identifier
 from symcirc.results import Result
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 POINTS = 100
 TOLERANCE = 1e-12
 

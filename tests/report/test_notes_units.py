@@ -7,6 +7,7 @@ import os
 
 import pytest
 import sympy
+from notes_support import hand_note
 
 from symcirc.errors import SymcircError
 from symcirc.output import write_file
@@ -16,7 +17,6 @@ from symcirc.report.files import format_of, output_for
 from symcirc.report.formulas import break_lines, equations, top_level_terms, visible_width
 from symcirc.report.note import render_note
 from symcirc.report.progress import Progress
-from tests.notes_support import hand_note
 
 
 # ---------------------------------------------------------------- engineering notation

@@ -13,12 +13,12 @@ from pathlib import Path
 
 import html5lib
 import pytest
+from notes_support import HOSTILE, last_page, pdf_pages, pdf_text, pdflatex
 
 from symcirc.cli import main
 from symcirc.report.filters import escape_md, escape_tex, escape_tex_code
-from tests.notes_support import HOSTILE, last_page, pdf_pages, pdf_text, pdflatex
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 EXAMPLES = sorted((ROOT / "examples").glob("*.circuit"))
 FORMATS = {"markdown": ".md", "latex": ".tex", "html": ".html"}
 MATHML = "{http://www.w3.org/1998/Math/MathML}math"

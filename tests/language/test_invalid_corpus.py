@@ -14,7 +14,7 @@ import pytest
 
 import symcirc
 
-INVALID = Path(__file__).parent / "invalid"
+INVALID = Path(__file__).parents[1] / "invalid"
 FILES = sorted(INVALID.glob("*.circuit"))
 EXPECT = re.compile(r"# expect: (\d+):(\d+): (.+)")
 

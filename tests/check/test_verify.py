@@ -10,7 +10,7 @@ import pytest
 from symcirc.check.notes import NoteProblem, changes, heading_text, read_marker, unified_diff
 from symcirc.cli import main
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 
 MARKER = {"source": "bridge.circuit", "sha256": "ab" * 32, "version": "0.1.0",
           "format": "markdown", "quantities": None, "template": None}

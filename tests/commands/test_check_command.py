@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 from circuits import SCALE_BRIDGE
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 
 INVERTING = """\
 title "Inverting stage of a sensor preamplifier (invented)"

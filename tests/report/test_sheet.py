@@ -8,9 +8,9 @@ import math
 import re
 from pathlib import Path
 
-from tests.notes_support import pdf_pages, pdf_text, pdflatex
+from notes_support import pdf_pages, pdf_text, pdflatex
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 EXAMPLES = sorted((ROOT / "examples").glob("*.circuit"))
 
 

@@ -12,7 +12,7 @@ from symcirc.cli import main
 from symcirc.errors import SymcircError
 from symcirc.report.environment import environment, render
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 
 DIVIDER = """\
 title "Reference divider of a test fixture (invented)"

@@ -13,7 +13,7 @@ import symcirc
 from symcirc.cli import main
 from symcirc.language.parser import element_rules
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 PAGE = ROOT / "docs" / "language.md"
 EXAMPLES = re.findall(r"^```circuit\n(.*?)^```$", PAGE.read_text(encoding="utf-8"),
                       re.MULTILINE | re.DOTALL)
