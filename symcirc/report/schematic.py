@@ -19,7 +19,7 @@ from __future__ import annotations
 from collections import deque
 from dataclasses import dataclass, field
 
-from ..model.circuit import REFERENCE, SOURCES, Circuit, Element
+from ..model.circuit import REFERENCE, Circuit, Element
 
 MAXIMUM_PARTS = 25
 """Above this many parts a note says so instead of drawing (the drawing would not read)."""
@@ -237,9 +237,9 @@ class _Builder:
         lower, upper = (first, second) if flipped else (second, first)
         y0 = self.y(lower)
         centre = (x, y0 + GAP / 2)
-        half = 0.5 if element.kind not in SOURCES else 0.32
+        half = 0.5 if not element.is_source else 0.32
         bottom, top = (x, centre[1] - half), (x, centre[1] + half)
-        width = 0.32 if element.kind in SOURCES else 0.26
+        width = 0.32 if element.is_source else 0.26
         box = Box(x - width, bottom[1], x + width, top[1])
         terminals = (Terminal(first, bottom if flipped else top),
                      Terminal(second, top if flipped else bottom))
@@ -420,7 +420,7 @@ def _rows(circuit: Circuit) -> dict[str, int]:
                 if a != b and b not in neighbours[a]:
                     neighbours[a].append(b)
     start = next((e.nodes[0] for e in circuit.elements.values()
-                  if e.kind in SOURCES and not e.is_controlled), None)
+                  if e.is_source and not e.is_controlled), None)
     rows = {REFERENCE: 0}
     order = [start] if start is not None else []
     order += [n for n in circuit.nodes if n != start]
@@ -446,7 +446,7 @@ def _ordered(circuit: Circuit, rows: dict[str, int]) -> list[Element]:
 
     def key(e: Element) -> tuple:
         placed = [rows[n] for n in e.nodes] or [0]
-        source = e.kind in SOURCES and not e.is_controlled
+        source = e.is_source and not e.is_controlled
         return (not source, max(placed), min(placed), index[e.name])
 
     return sorted(elements, key=key)

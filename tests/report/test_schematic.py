@@ -11,15 +11,15 @@ import xml.etree.ElementTree as ElementTree
 from pathlib import Path
 
 import pytest
+from notes_support import pdf_text, pdflatex
 
 import symcirc
 from symcirc.report.figures import folder_name
 from symcirc.report.note import render_note_for, write_note
 from symcirc.report.schematic import MAXIMUM_PARTS, Layout, layout
 from symcirc.report.schematic_drawing import image
-from tests.notes_support import pdf_text, pdflatex
 
-EXAMPLES = sorted((Path(__file__).parent.parent / "examples").glob("*.circuit"))
+EXAMPLES = sorted((Path(__file__).resolve().parents[2] / "examples").glob("*.circuit"))
 
 
 def _generated(seed: int, parts: int | None = None) -> str:
