@@ -23,7 +23,7 @@ from symcirc.model.units import (
 )
 from symcirc.report.filters import eng_latex, qty
 
-ROOT = Path(__file__).resolve().parents[1]
+ROOT = Path(__file__).resolve().parents[2]
 
 
 @pytest.mark.parametrize(("value", "unit", "shown"), [

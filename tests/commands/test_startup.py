@@ -9,7 +9,7 @@ import subprocess
 import sys
 from pathlib import Path
 
-BRIDGE = Path(__file__).resolve().parent.parent / "examples" / "bridge_adc.circuit"
+BRIDGE = Path(__file__).resolve().parents[2] / "examples" / "bridge_adc.circuit"
 HEAVY = ("sympy", "numpy", "jinja2", "matplotlib", "flint")
 
 PROBE = """
