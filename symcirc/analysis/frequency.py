@@ -402,16 +402,8 @@ def response_band(circuit: Circuit, result: Result, frequencies, samples: int = 
     numerator = tuple(terms.get((k, 0), sympy.Integer(0)) for k in range(len(response.numerator)))
     denominator = tuple(terms.get((k, 1), sympy.Integer(0))
                         for k in range(len(response.denominator)))
-    rng = np.random.default_rng(tolerance.DEFAULT_SEED if seed is None else seed)
-    columns = []
-    for v in variables:
-        low, nominal, high = float(v.low), float(v.nominal), float(v.high)
-        if distribution == "uniform":
-            columns.append(rng.uniform(low, high, samples))
-        else:
-            z = rng.standard_normal(samples)
-            columns.append(nominal + np.where(z >= 0, z * (high - nominal),
-                                              z * (nominal - low)) / 3)
+    columns = tolerance.draw(variables, distribution, samples,
+                             tolerance.DEFAULT_SEED if seed is None else seed)
     symbols = [v.symbol for v in variables]
     point = {v.symbol: v.nominal for v in variables}
     return band(Response(numerator, denominator), symbols, columns, fixed, point,

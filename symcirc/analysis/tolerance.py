@@ -497,8 +497,9 @@ def _snap(value: float, variable: Variable) -> Fraction:
     return Fraction(value)
 
 
-def monte_carlo(form, variables, distribution, samples, seed) -> tuple[MonteCarlo, list[str]]:
-    """Samples of Q with every variable drawn independently (see DISTRIBUTION_TEXT)."""
+def draw(variables, distribution: str, samples: int, seed: int) -> list:
+    """One column of `samples` values per variable, drawn independently: uniform over the
+    band, or normal with the band's ends at 3σ (an asymmetric band scales each side)."""
     import numpy as np
 
     rng = np.random.default_rng(seed)
@@ -511,6 +512,14 @@ def monte_carlo(form, variables, distribution, samples, seed) -> tuple[MonteCarl
             z = rng.standard_normal(samples)
             spread = np.where(z >= 0, z * (high - nominal), z * (nominal - low)) / 3
             columns.append(nominal + spread)
+    return columns
+
+
+def monte_carlo(form, variables, distribution, samples, seed) -> tuple[MonteCarlo, list[str]]:
+    """Samples of Q with every variable drawn independently (see DISTRIBUTION_TEXT)."""
+    import numpy as np
+
+    columns = draw(variables, distribution, samples, seed)
     values = form.values(columns, samples)
     warnings = []
     finite = np.isfinite(values)
