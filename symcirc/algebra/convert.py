@@ -1,14 +1,17 @@
-"""Model expressions (sympy, built by the transformer) → exact rational functions.
+"""sympy expressions ↔ exact rational functions.
 
 The conversion walks the expression tree (Add, Mul, integer powers, symbols, rationals);
-nothing is ever parsed or evaluated as text. The few irrational pieces the language can
-write (`pi`, `sqrt(x)`, other fractional powers) become *atoms*: opaque variables of the
-polynomial ring, named as they print (`pi`, `sqrt(L1*L2)`), restored by `AtomicValue`.
+nothing is ever parsed or evaluated as text. Irrational pieces become *atoms*: opaque
+variables of the polynomial ring, named as they print. `pi` is `pi`; a rational power
+`b^(p/q)` is the atom `b^(1/q)` (`sqrt(L1*L2)`) to the power p, so `√x` and `1/√x` share
+one atom; any other function or power is an atom as a whole. `AtomicValue` and `restored`
+put the atoms back. Callers with nodes of their own (a parallel operator) pass `operators`:
+how to combine the rational functions of the node's arguments.
 """
 
 from __future__ import annotations
 
-from collections.abc import Mapping
+from collections.abc import Callable, Iterable, Mapping
 from fractions import Fraction
 from functools import cached_property
 
@@ -20,6 +23,9 @@ from .rational import RationalFunction
 
 ATOM_DIGITS = 40
 """Decimal digits kept when an atom (π, a square root) is evaluated at rational values."""
+
+Operators = Mapping[type, Callable[[list[RationalFunction]], RationalFunction]]
+"""Rational functions of a caller's own sympy nodes, from those of their arguments."""
 
 
 def atom_name(expr: sympy.Expr) -> str:
@@ -41,60 +47,145 @@ def _balanced(text: str) -> bool:
     return depth == 0
 
 
-def atoms_of(expr: sympy.Expr) -> dict[str, sympy.Expr]:
+def _root(power: sympy.Pow) -> sympy.Expr | None:
+    """`b^(1/q)` for a rational power `b^(p/q)` (not an integer one); None otherwise."""
+    exponent = power.exp
+    if exponent.is_Rational and not exponent.is_Integer:
+        return sympy.Pow(power.base, sympy.Rational(1, int(exponent.q)))
+    return None
+
+
+def atoms_of(expr: sympy.Expr, operators: Operators | None = None) -> dict[str, sympy.Expr]:
     """The atoms an expression needs, by ring name."""
     found: dict[str, sympy.Expr] = {}
-    _collect(expr, found)
+    _collect(expr, found, operators or {})
     return found
 
 
-def _collect(expr: sympy.Expr, found: dict[str, sympy.Expr]) -> None:
+def _collect(expr: sympy.Expr, found: dict[str, sympy.Expr], operators: Operators) -> None:
     if expr is sympy.pi:
         found["pi"] = expr
-    elif isinstance(expr, sympy.Pow) and not (expr.exp.is_Integer):
+    elif isinstance(expr, sympy.Pow) and not expr.exp.is_Integer:
+        root = _root(expr)
+        if root is None:
+            found[atom_name(expr)] = expr
+        else:
+            found[atom_name(root)] = root
+    elif isinstance(expr, sympy.Function) and type(expr) not in operators:
         found[atom_name(expr)] = expr
     else:
         for arg in expr.args:
-            _collect(arg, found)
+            _collect(arg, found, operators)
 
 
-def names_of(expr: sympy.Expr) -> set[str]:
+def names_of(expr: sympy.Expr, operators: Operators | None = None) -> set[str]:
     """Ring variables an expression needs: its symbols outside atoms, and its atoms."""
-    atoms = atoms_of(expr)
+    atoms = atoms_of(expr, operators)
     plain = expr.xreplace({e: sympy.Integer(1) for e in atoms.values()})
     return {str(x) for x in plain.free_symbols} | set(atoms)
 
 
-def to_function(expr: sympy.Expr, ring: PolynomialRing) -> RationalFunction:
-    """`expr` as a rational function over `ring` (extended by any variable it lacks)."""
-    missing = names_of(expr) - set(ring.names)
+def to_function(expr: sympy.Expr, ring: PolynomialRing,
+                operators: Operators | None = None) -> RationalFunction:
+    """`expr` as a rational function over `ring` (extended by any variable it lacks).
+
+    Raises ValueError for what no rational function holds (a float, an infinity), and
+    `rational.UndefinedValue` for a division by zero."""
+    if isinstance(expr, int):
+        expr = sympy.Integer(expr)
+    missing = names_of(expr, operators) - set(ring.names)
     if missing:
         ring = ring.extend(sorted(missing))
-    return _convert(sympy.Integer(expr) if isinstance(expr, int) else expr, ring)
+    return _Converter(ring, operators or {}).convert(expr)
 
 
-def _convert(expr: sympy.Expr, ring: PolynomialRing) -> RationalFunction:
-    if expr.is_Rational:
-        return RationalFunction.constant(Fraction(int(expr.p), int(expr.q)), ring)
-    if expr.is_Symbol:
-        return RationalFunction.symbol(expr.name, ring)
-    if expr is sympy.pi:
-        return RationalFunction.symbol("pi", ring)
-    if isinstance(expr, sympy.Add):
-        total = RationalFunction(0, 1, ring)
-        for arg in expr.args:
-            total = total + _convert(arg, ring)
-        return total
-    if isinstance(expr, sympy.Mul):
-        product = RationalFunction(1, 1, ring)
-        for arg in expr.args:
-            product = product * _convert(arg, ring)
-        return product
-    if isinstance(expr, sympy.Pow):
-        if expr.exp.is_Integer:
-            return _convert(expr.base, ring) ** int(expr.exp)
-        return RationalFunction.symbol(atom_name(expr), ring)
-    raise ValueError(f"cannot hold {sympy.sstr(expr)} as a rational function")
+class _Converter:
+    """One walk over an expression tree, sharing the work of repeated subexpressions."""
+
+    def __init__(self, ring: PolynomialRing, operators: Operators) -> None:
+        self.ring = ring
+        self.operators = operators
+        self.memo: dict[sympy.Expr, RationalFunction] = {}
+
+    def convert(self, expr: sympy.Expr) -> RationalFunction:
+        done = self.memo.get(expr)
+        if done is None:
+            done = self._convert(expr)
+            self.memo[expr] = done
+        return done
+
+    def _convert(self, expr: sympy.Expr) -> RationalFunction:
+        ring = self.ring
+        if expr.is_Rational:
+            return RationalFunction.constant(Fraction(int(expr.p), int(expr.q)), ring)
+        if expr.is_Symbol:
+            return RationalFunction.symbol(str(expr), ring)
+        if expr is sympy.pi:
+            return RationalFunction.symbol("pi", ring)
+        if isinstance(expr, sympy.Add):
+            polynomial, total = ring.zero, RationalFunction(0, 1, ring, canonical=True)
+            for arg in expr.args:  # polynomial terms first summed without any gcd
+                term = self.convert(arg)
+                if term.is_polynomial() and term.denominator == ring.one:
+                    polynomial = polynomial + term.numerator
+                else:
+                    total = total + term
+            return total + RationalFunction(polynomial, 1, ring)
+        if isinstance(expr, sympy.Mul):
+            product = RationalFunction(1, 1, ring, canonical=True)
+            for arg in expr.args:
+                product = product * self.convert(arg)
+            return product
+        if isinstance(expr, sympy.Pow):
+            if expr.exp.is_Integer:
+                return self.convert(expr.base) ** int(expr.exp)
+            root = _root(expr)
+            if root is not None:
+                atom = RationalFunction.symbol(atom_name(root), ring)
+                return atom ** int(expr.exp.p)
+            return RationalFunction.symbol(atom_name(expr), ring)
+        operator = self.operators.get(type(expr))
+        if operator is not None:
+            return operator([self.convert(arg) for arg in expr.args])
+        if isinstance(expr, sympy.Function):
+            return RationalFunction.symbol(atom_name(expr), ring)
+        raise ValueError(f"cannot hold {sympy.sstr(expr)} as a rational function")
+
+
+def restored(function: RationalFunction, atoms: Mapping[str, sympy.Expr]) -> sympy.Expr:
+    """`function` as a sympy expression with its atoms put back."""
+    expr = function.to_sympy()
+    used = set(function.symbol_names())
+    back = {sympy.Symbol(n): e for n, e in atoms.items() if n in used}
+    return expr.xreplace(back) if back else expr
+
+
+def sympy_ring(function: RationalFunction, atoms: Mapping[str, sympy.Expr],
+               extra: Iterable[sympy.Symbol] = ()):
+    """(numerator, denominator) of `function` as polynomials of a sympy ring over QQ whose
+    generators are its symbols and atoms (and `extra`), in sympy's default order."""
+    from sympy.polys.rings import ring as sympy_poly_ring
+
+    names = function.symbol_names()
+    generators = {n: atoms.get(n, sympy.Symbol(n)) for n in names}
+    ordered = sorted(set(generators.values()) | set(extra), key=sympy.default_sort_key)
+    target, *_ = sympy_poly_ring(ordered or [sympy.Dummy("x")], sympy.QQ)
+    place = {g: i for i, g in enumerate(ordered)}
+    source = function.ring
+    positions = [place.get(generators.get(n)) for n in source.names]
+    width = len(target.gens)
+
+    def convert(p):
+        terms = {}
+        for monom, coeff in source.terms(p):
+            exps = [0] * width
+            for pos, e in zip(positions, monom, strict=False):
+                if e:
+                    exps[pos] = e
+            terms[tuple(exps)] = sympy.QQ(coeff)
+        return target.from_dict(terms) if terms else target.zero
+
+    return convert(function.numerator), convert(function.denominator)
 
 
 def atom_value(expr: sympy.Expr, values: Mapping[str, Fraction]) -> Fraction:

@@ -1,16 +1,31 @@
 """Factoring ratios of polynomials for display, quickly.
 
 python-flint factors multivariate integer polynomials in microseconds where sympy takes
-tens of milliseconds; sympy is the fallback when flint is not installed. Results are
-sympy expressions `c·Π fᵢ^eᵢ / Π gⱼ^eⱼ` with the factors' terms in sympy's order.
+tens of milliseconds; sympy's factoring is used with SYMCIRC_POLYNOMIALS=sympy (or when
+flint is not installed). Results are sympy expressions `c·Π fᵢ^eᵢ / Π gⱼ^eⱼ` with the
+factors' terms in sympy's order.
 """
 
 from __future__ import annotations
 
-from functools import lru_cache
+from collections.abc import Mapping
 from math import lcm
 
 import sympy
+
+from .convert import sympy_ring
+from .polynomials import default_backend
+from .rational import RationalFunction
+
+
+def factored(function: RationalFunction,
+             atoms: Mapping[str, sympy.Expr] | None = None) -> sympy.Expr:
+    """A rational function of the algebra as a factored sympy ratio, atoms put back."""
+    num, den = sympy_ring(function, {})
+    out = factor_ratio(num, den)
+    used = set(function.symbol_names())
+    back = {sympy.Symbol(n): e for n, e in (atoms or {}).items() if n in used}
+    return out.xreplace(back) if back else out
 
 
 def factor_ratio(num, den) -> sympy.Expr:
@@ -116,12 +131,12 @@ def _expression(f, symbols: tuple[sympy.Symbol, ...]) -> sympy.Expr:
     return sympy.Add(*terms)
 
 
-@lru_cache(maxsize=1)
 def _flint():
-    try:
-        import flint
-    except ImportError:  # pragma: no cover - python-flint is a dependency; sympy otherwise
+    """python-flint, unless the sympy backend is selected."""
+    if default_backend() != "flint":
         return None
+    import flint
+
     return flint
 
 

@@ -19,10 +19,18 @@ import sympy
 
 from ..errors import SymcircError
 from ..limits import MAX_EXPANSION_TERMS, MAX_PRODUCT_TERMS, power_terms
+from .rational import RationalFunction
 
 LAPLACE_NAME = "s"
 SHOWN_TERMS = 120
 """Results with more terms than this (numerator and denominator) are described, not shown."""
+
+
+def identical(a: RationalFunction, b: RationalFunction) -> bool:
+    """Exactly: are `a` and `b` the same function? Both are canonical (coprime, content
+    removed, the denominator's first term positive), so in one ring they are equal exactly
+    when numerators and denominators are: sign included, no numeric test anywhere."""
+    return a == b
 
 
 class Undecidable(Exception):

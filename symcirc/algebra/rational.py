@@ -99,9 +99,18 @@ class RationalFunction:
             return b
         if a.denominator == b.denominator:
             return RationalFunction(a.numerator + b.numerator, a.denominator, ring)
+        # Henrici: with g = gcd(b, d), a/b + c/d = (a·d' + c·b')/(g·b'·d'), and only a
+        # factor of g can be common to that numerator and denominator
         g = ring.gcd(a.denominator, b.denominator)
+        if ring.is_constant(g):
+            num = a.numerator * b.denominator + b.numerator * a.denominator
+            return RationalFunction.coprime(num, a.denominator * b.denominator, ring)
         da, db = ring.exquo(a.denominator, g), ring.exquo(b.denominator, g)
-        return RationalFunction(a.numerator * db + b.numerator * da, a.denominator * db, ring)
+        num = a.numerator * db + b.numerator * da
+        h = ring.gcd(num, g)
+        if not ring.is_constant(h):
+            num, g = ring.exquo(num, h), ring.exquo(g, h)
+        return RationalFunction.coprime(num, g * da * db, ring)
 
     __radd__ = __add__
 

@@ -13,8 +13,10 @@ from dataclasses import dataclass
 
 import sympy
 
-from ..algebra.factor import cancel, coefficients_in, factor_ratio
-from .verify import NotRational, to_ratio
+from ..algebra.convert import restored
+from ..algebra.factor import factored
+from ..algebra.rational import RationalFunction
+from .verify import NotRational, function_of
 
 
 @dataclass
@@ -52,61 +54,62 @@ def limit(exact: sympy.Expr, symbol: sympy.Symbol, infinite: bool) -> Expansion:
 def _expand(exact: sympy.Expr, x: sympy.Symbol, infinite: bool) -> Expansion:
     """Laurent expansion in the small quantity 1/x (infinite) or x, by polynomial
     arithmetic: f = N/D, c_j = P_j/d0^(j+1) with P_j = n_j·d0^j − Σ d_i·P_(j−i)·d0^(i−1)."""
-    poly_ring, (num, den), i = _ring_ratio(exact, x)
-    n, d = coefficients_in(num, i, poly_ring), coefficients_in(den, i, poly_ring)
+    f, atoms = _function(exact, x)
+    ring, name = f.ring, str(x)
+    num, den = f.numerator, f.denominator
+    n, d = _coefficients(ring, num, name), _coefficients(ring, den, name)
     offset = 0
     if infinite:  # in t = 1/x: N = t^(−deg N)·Σ n_(deg N − i)·t^i
         offset = len(d) - len(n)
         n, d = n[::-1], d[::-1]
-    if not num:
+    if f.is_zero():
         return Expansion(exact, sympy.Integer(0), sympy.Integer(0), sympy.Integer(0), 0)
-    a = next(k for k, c in enumerate(n) if c)
-    b = next(k for k, c in enumerate(d) if c)
+    a = next(k for k, c in enumerate(n) if not ring.is_zero(c))
+    b = next(k for k, c in enumerate(d) if not ring.is_zero(c))
     n, d = n[a:], d[b:]
     order = offset + a - b
     d0 = d[0]
     series = [n[0]]
     correction = None
     for j in range(1, len(n) + len(d)):
-        p = (n[j] if j < len(n) else poly_ring.zero) * d0**j
+        p = (n[j] if j < len(n) else ring.zero) * d0**j
         for k in range(1, min(j, len(d) - 1) + 1):
             p -= d[k] * series[j - k] * d0 ** (k - 1)
         series.append(p)
-        if p:
+        if not ring.is_zero(p):
             correction = j
             break
     small = 1 / x if infinite else x
-    lead_num, lead_den = cancel(series[0], d0)
-    leading = lead_num.as_expr() / lead_den.as_expr() * small**order
+    lead = RationalFunction(series[0], d0, ring)
+    leading = restored(lead, atoms) * small**order
     neglected = sympy.Integer(0)
     if correction is not None:
-        c_num, c_den = cancel(series[correction], d0 ** (correction + 1))
-        neglected = _shown(c_num, c_den) * small ** (order + correction)
+        term = RationalFunction(series[correction], d0 ** (correction + 1), ring)
+        neglected = factored(term, atoms) * small ** (order + correction)
     # (leading − f)/f = (L·D − N)/N with L = lead_num/lead_den·x^(∓order)
     shift = -order if infinite else order
-    x_poly = poly_ring.gens[i]
-    up, down = (x_poly**shift, 1) if shift >= 0 else (1, x_poly**-shift)
-    top = lead_num * den * up - lead_den * num * down
-    error = _shown(*cancel(top, lead_den * num * down))
+    x_poly = ring.gen(name)
+    up, down = (x_poly**shift, ring.one) if shift >= 0 else (ring.one, x_poly**-shift)
+    top = lead.numerator * den * up - lead.denominator * num * down
+    error = factored(RationalFunction(top, lead.denominator * num * down, ring), atoms)
     return Expansion(exact, grouped(leading), neglected, error, order)
 
 
-def _ring_ratio(expr: sympy.Expr, x: sympy.Symbol):
-    """`expr` as a cancelled ratio of polynomials over QQ, with the index of x."""
+def _coefficients(ring, p, name: str) -> list:
+    """Coefficients of the powers of `name` in polynomial p, lowest power first."""
+    found = ring.coefficients(p, name)
+    return [found.get(k, ring.zero) for k in range(max(found, default=0) + 1)]
+
+
+def _function(expr: sympy.Expr, x: sympy.Symbol) -> tuple[RationalFunction, dict]:
+    """`expr` as an exact rational function whose ring has x, and its atoms."""
     try:
-        num, den = to_ratio(expr, (x,))
+        f, atoms = function_of(expr, extra=(x,))
     except NotRational as err:
         raise NoExpansion("it is not a ratio of polynomials in the small quantity") from err
-    symbols = list(num.ring.symbols)
-    if any(x in g.free_symbols for g in symbols if g != x):
+    if any(x in atom.free_symbols for atom in atoms.values()):
         raise NoExpansion("it is not a ratio of polynomials in the small quantity")
-    return num.ring, (num, den), symbols.index(x)
-
-
-
-def _shown(num, den) -> sympy.Expr:
-    """A ratio of ring polynomials as a factored sympy expression."""
-    return factor_ratio(num, den)
+    return f, atoms
 
 
 def loop_gain_term(
@@ -115,27 +118,40 @@ def loop_gain_term(
     """X with exact = leading/(1 + X/symbol) and X free of `symbol`, when that holds."""
     if exact == 0 or leading == 0:
         return None
-    poly_ring, (num, den), i = _ring_ratio(exact, symbol)
-    _, (lead_num, lead_den), _ = _ring_ratio(leading, symbol)
-    lead_num, lead_den = (poly_ring.from_expr(p.as_expr()) for p in (lead_num, lead_den))
-    # X/symbol = leading/exact − 1 = (lead_num·den − lead_den·num)/(lead_den·num)
-    top, bottom = cancel(lead_num * den - lead_den * num, lead_den * num)
-    if not top or top.degree(i) != 0 or bottom.degree(i) != 1 or bottom.coeff_wrt(i, 0):
+    f, atoms = _function(exact, symbol)
+    try:
+        lead, more = function_of(leading, f.ring)
+    except NotRational:
         return None
-    return grouped(top.as_expr() / bottom.coeff_wrt(i, 1).as_expr())
+    ring, name = lead.ring, str(symbol)
+    f = f.in_ring(ring)
+    # X/symbol = leading/exact − 1
+    ratio = lead / f - 1
+    top, bottom = ratio.numerator, ratio.denominator
+    if ratio.is_zero() or ring.degree(top, name) != 0 or ring.degree(bottom, name) != 1:
+        return None
+    by_power = ring.coefficients(bottom, name)
+    if 0 in by_power:
+        return None
+    return _grouped(RationalFunction(top, by_power[1], ring), {**atoms, **more})
 
 
 def grouped(expr: sympy.Expr) -> sympy.Expr:
     """A ratio written the way it is read: factored, and `1 + Rf/Rg` rather than
     `(Rf + Rg)/Rg` when the numerator is the denominator plus something smaller."""
     try:
-        num, den = to_ratio(expr)
+        f, atoms = function_of(expr)
     except NotRational:
         return expr
-    if den.is_ground:
-        return factor_ratio(num, den)
+    return _grouped(f, atoms)
+
+
+def _grouped(f: RationalFunction, atoms: dict) -> sympy.Expr:
+    ring, num, den = f.ring, f.numerator, f.denominator
+    if ring.is_constant(den):
+        return factored(f, atoms)
     for sign in (1, -1):
         rest = num - den * sign
-        if rest and 2 * len(rest.terms()) <= len(num.terms()):
-            return sign * (1 + factor_ratio(rest * sign, den))
-    return factor_ratio(num, den)
+        if not ring.is_zero(rest) and 2 * ring.nterms(rest) <= ring.nterms(num):
+            return sign * (1 + factored(RationalFunction(rest * sign, den, ring), atoms))
+    return factored(f, atoms)

@@ -1,0 +1,87 @@
+"""Benchmark (a script, not a test): `derive --steps` of every derive statement of the
+bundled examples and of tests/valid, one line per quantity.
+
+Each quantity is derived in a fresh interpreter (modules imported first, no cache or memo
+carried over from another quantity), with its statement's `where` clauses, design forms and
+steps, as `symcirc derive FILE --steps` does; CPU time of the derivation, best of three.
+Compare two versions by running the script in each and reading the columns side by side.
+Run: python tests/perf/bench_steps.py [--runs N]
+"""
+
+from __future__ import annotations
+
+import argparse
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import symcirc
+from symcirc.commands.derive import _with_forms
+from symcirc.quantities import derive_quantity
+from symcirc.quantities.registry import DeriveOptions
+
+ROOT = Path(__file__).resolve().parents[2]
+FOLDERS = ("examples", "tests/valid")
+
+
+def statements() -> list[tuple[Path, int, int, str]]:
+    """(file, statement index, quantity index, text) of every derived quantity."""
+    out = []
+    for folder in FOLDERS:
+        for path in sorted((ROOT / folder).glob("*.circuit")):
+            circuit = symcirc.load(str(path))
+            for i, statement in enumerate(circuit.derives):
+                where = [f"{a.symbol} {a.kind} {a.target}" for a in statement.assumptions]
+                for j, text in enumerate(statement.texts):
+                    shown = text + (f" where {', '.join(where)}" if where else "")
+                    out.append((path, i, j, shown))
+    return out
+
+
+def derive_once(path: Path, i: int, j: int) -> None:
+    circuit = symcirc.load(str(path))
+    statement = circuit.derives[i]
+    quantity = statement.quantities[j]
+    options = DeriveOptions(steps=True, assumptions=statement.assumptions)
+    _with_forms(circuit, quantity, derive_quantity(circuit, quantity, options), options)
+
+
+def cpu_seconds(path: Path, i: int, j: int, runs: int) -> float:
+    """Best CPU time of one derivation, each run in a new interpreter."""
+    best = float("inf")
+    for _ in range(runs):
+        command = [sys.executable, __file__, "--one", str(path), str(i), str(j)]
+        done = subprocess.run(command, check=True, capture_output=True, text=True)
+        best = min(best, float(done.stdout.split()[-1]))
+    return best
+
+
+def one(path: Path, i: int, j: int) -> None:
+    """Print the CPU seconds of one derivation (run in a fresh interpreter)."""
+    import symcirc.forms  # noqa: F401  (imports outside the timing)
+
+    start = time.process_time()
+    derive_once(path, i, j)
+    print(time.process_time() - start)
+
+
+def main() -> None:
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--runs", type=int, default=3, help="runs per quantity (best kept)")
+    parser.add_argument("--one", nargs=3, metavar=("FILE", "STATEMENT", "QUANTITY"),
+                        help=argparse.SUPPRESS)
+    args = parser.parse_args()
+    if args.one:
+        one(Path(args.one[0]), int(args.one[1]), int(args.one[2]))
+        return
+    total = 0.0
+    for path, i, j, text in statements():
+        seconds = cpu_seconds(path, i, j, args.runs)
+        total += seconds
+        print(f"{seconds * 1000:9.1f} ms  {path.relative_to(ROOT)}  {text}")
+    print(f"{total * 1000:9.1f} ms  total")
+
+
+if __name__ == "__main__":
+    main()
