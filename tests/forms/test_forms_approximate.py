@@ -3,11 +3,16 @@ the relative error, against a published expression and an independent sympy.seri
 
 from __future__ import annotations
 
+import json
+from pathlib import Path
+
+import pytest
 import sympy
 from circuits import LOADED_DIVIDER
 from forms_support import annotated, reference_voltage
 
 import symcirc
+from symcirc.cli import main
 from symcirc.forms import approximate, steps_text
 from symcirc.model.circuit import Assumption
 
@@ -105,3 +110,44 @@ def test_an_approximation_too_large_to_read_is_not_made(monkeypatch):
     made = approximate(circuit, v, Assumption("much_greater", "RL", "R2"))
     # a divider unloaded: U·R2/(R1 + R2) (common practice)
     assert sympy.cancel(made.expression - U * R2 / (R1 + R2)) == 0
+
+
+# ---------------------------------------------------------------- a limit on a full bridge
+
+STRAIN_BRIDGE = Path(__file__).parent / "circuits" / "strain_bridge.circuit"
+
+
+def _derive_json(capsys, *argv: str) -> dict:
+    assert main(["derive", str(STRAIN_BRIDGE), *argv, "--format", "json"]) == 0
+    (result,) = json.loads(capsys.readouterr().out)["results"]
+    return result
+
+
+@pytest.mark.parametrize("backend", ["flint", "sympy"])
+def test_full_bridge_limit_with_steps(backend, monkeypatch, capsys):
+    """The bridge of four gauges behind excitation leads, with the amplifier's input
+    resistance Rid -> oo: with steps (the path that multiplied unreduced ratios for minutes)
+    the result is the exact limit of the full result, on either polynomial backend."""
+    monkeypatch.setenv("SYMCIRC_POLYNOMIALS", backend)
+    full = sympy.parse_expr(_derive_json(capsys, "V(out)")["expression"])
+    rid, t = sympy.symbols("Rid t")
+    # the limit by substitution Rid = 1/t, t = 0, done by sympy alone
+    expected = sympy.cancel(sympy.cancel(full.subs(rid, 1 / t)).subs(t, 0))
+    circuit = symcirc.load(str(STRAIN_BRIDGE))
+    independent = reference_voltage(circuit, "a", "b")  # sympy.solve on the current laws
+    assert sympy.cancel(independent - full) == 0
+    limited = _derive_json(capsys, "--steps")
+    assert sympy.cancel(sympy.parse_expr(limited["expression"]) - expected) == 0
+    kinds = [step["kind"] for step in limited["steps"]]
+    assert "open" in kinds or "limit" in kinds
+    # the first neglected term: Rid·(V − V∞) tends to a finite, nonzero value
+    neglected = sympy.parse_expr(limited["neglected"]["expression"])
+    difference = sympy.cancel(sympy.cancel((full - expected) * rid).subs(rid, 1 / t))
+    assert sympy.cancel(neglected * rid - difference.subs(t, 0)) == 0
+    # four active gauges: V = −Uex·k·eps·R0/(R0 + RLa + RLb), the lead resistances in
+    # series with the bridge's R0 (common practice); 5 V·2.1·500e-6·350/353 = 5.2054 mV
+    assert limited["nominal"] == pytest.approx(-5 * 2.1 * 500e-6 * 350 / 353, rel=1e-9)
+    substituted = _derive_json(capsys, "--steps", "--substitute")
+    R0, Uex, k, eps, RLa, RLb = sympy.symbols("R0 Uex k eps RLa RLb")
+    assert sympy.cancel(sympy.parse_expr(substituted["expression"])
+                        + R0 * Uex * k * eps / (R0 + RLa + RLb)) == 0
