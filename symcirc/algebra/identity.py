@@ -1,6 +1,7 @@
 """Exact arithmetic for deciding claims, with no floating point anywhere in the decision.
 
-Expressions become ratios of integer polynomials (python-flint `fmpz_mpoly`). Element and
+Expressions become ratios of integer polynomials of the algebra's `PolynomialRing` (python-
+flint, or sympy's rings with SYMCIRC_POLYNOMIALS=sympy). Element and
 parameter symbols are positive reals and `s` is complex; only polynomial identities are used,
 so the answer holds for every value. A radical `b^(p/q)` becomes a new variable `r` tied by
 `r^q = b`; an identity that reduces to zero modulo these relations holds on every branch, so
@@ -14,11 +15,11 @@ import re
 from collections.abc import Iterable, Sequence
 from fractions import Fraction
 
-import flint
 import sympy
 
 from ..errors import SymcircError
 from ..limits import MAX_EXPANSION_TERMS, MAX_PRODUCT_TERMS, power_terms
+from .polynomials import Poly, PolynomialRing
 from .rational import RationalFunction
 
 LAPLACE_NAME = "s"
@@ -49,7 +50,7 @@ def _refuse(terms: int) -> TooLarge:
         notes=("write the claim in a factored or shorter form, or check it in parts",))
 
 
-def _product(x: flint.fmpz_mpoly, y: flint.fmpz_mpoly) -> flint.fmpz_mpoly:
+def _product(x: Poly, y: Poly) -> Poly:
     """x*y, refused beforehand when its term bound is past MAX_PRODUCT_TERMS and afterwards
     when it is past MAX_EXPANSION_TERMS."""
     bound = len(x) * len(y)
@@ -58,7 +59,7 @@ def _product(x: flint.fmpz_mpoly, y: flint.fmpz_mpoly) -> flint.fmpz_mpoly:
     return _sized(x * y)
 
 
-def _power(x: flint.fmpz_mpoly, exponent: int) -> flint.fmpz_mpoly:
+def _power(x: Poly, exponent: int) -> Poly:
     """x**exponent, refused beforehand when the binomial count of its terms is too large."""
     bound = power_terms(len(x), exponent)
     if bound > MAX_EXPANSION_TERMS:
@@ -66,7 +67,7 @@ def _power(x: flint.fmpz_mpoly, exponent: int) -> flint.fmpz_mpoly:
     return x**exponent
 
 
-def _sized(p: flint.fmpz_mpoly) -> flint.fmpz_mpoly:
+def _sized(p: Poly) -> Poly:
     if len(p) > MAX_EXPANSION_TERMS:
         raise _refuse(len(p))
     return p
@@ -85,63 +86,71 @@ def positive_symbols(names: Iterable[str]) -> dict[sympy.Symbol, sympy.Symbol]:
 
 
 class RatFunc:
-    """A ratio of two integer polynomials in one flint context (not necessarily cancelled)."""
+    """A ratio of two integer polynomials of one ring (not necessarily cancelled). Products
+    and powers are refused before they would pass the size limits."""
 
-    __slots__ = ("num", "den")
+    __slots__ = ("num", "den", "ring")
 
-    def __init__(self, num: flint.fmpz_mpoly, den: flint.fmpz_mpoly) -> None:
+    def __init__(self, num: Poly, den: Poly, ring: PolynomialRing) -> None:
         self.num = num
         self.den = den
+        self.ring = ring
 
     def __add__(self, other: RatFunc) -> RatFunc:
+        ring = self.ring
         if self.den == other.den:
-            return RatFunc(_sized(self.num + other.num), self.den)
-        if other.den.is_one():
-            return RatFunc(_sized(self.num + _product(other.num, self.den)), self.den)
-        if self.den.is_one():
-            return RatFunc(_sized(_product(self.num, other.den) + other.num), other.den)
-        g = self.den.gcd(other.den)
-        a, b = self.den / g, other.den / g
+            return RatFunc(_sized(self.num + other.num), self.den, ring)
+        if other.den == ring.one:
+            return RatFunc(_sized(self.num + _product(other.num, self.den)), self.den, ring)
+        if self.den == ring.one:
+            return RatFunc(_sized(_product(self.num, other.den) + other.num), other.den, ring)
+        g = ring.gcd(self.den, other.den)
+        a, b = ring.exquo(self.den, g), ring.exquo(other.den, g)
         return RatFunc(_sized(_product(self.num, b) + _product(other.num, a)),
-                       _product(self.den, b))
+                       _product(self.den, b), ring)
 
     def __neg__(self) -> RatFunc:
-        return RatFunc(-self.num, self.den)
+        return RatFunc(-self.num, self.den, self.ring)
 
     def __sub__(self, other: RatFunc) -> RatFunc:
         return self + (-other)
 
     def __mul__(self, other: RatFunc) -> RatFunc:
-        return RatFunc(_product(self.num, other.num), _product(self.den, other.den))
+        return RatFunc(_product(self.num, other.num), _product(self.den, other.den), self.ring)
 
     def __truediv__(self, other: RatFunc) -> RatFunc:
-        if other.num.is_zero():
+        if self.ring.is_zero(other.num):
             raise ZeroDivisionError("division by zero")
-        return RatFunc(_product(self.num, other.den), _product(self.den, other.num))
+        return RatFunc(_product(self.num, other.den), _product(self.den, other.num), self.ring)
 
     def ratio(self, other: RatFunc) -> RatFunc:
         """self / other in lowest terms, for operands in lowest terms (cheaper than
         dividing, then cancelling)."""
-        g1, g2 = self.num.gcd(other.num), self.den.gcd(other.den)
-        num = _product(self.num / g1, other.den / g2)
-        den = _product(self.den / g2, other.num / g1)
-        return RatFunc(num, den).cancelled() if den.leading_coefficient() < 0 else RatFunc(num, den)
+        ring = self.ring
+        g1, g2 = ring.gcd(self.num, other.num), ring.gcd(self.den, other.den)
+        num = _product(ring.exquo(self.num, g1), ring.exquo(other.den, g2))
+        den = _product(ring.exquo(self.den, g2), ring.exquo(other.num, g1))
+        value = RatFunc(num, den, ring)
+        return value.cancelled() if ring.leading_coefficient(den) < 0 else value
 
     def __pow__(self, exponent: int) -> RatFunc:
         if exponent >= 0:
-            return RatFunc(_power(self.num, exponent), _power(self.den, exponent))
-        return RatFunc(_power(self.den, -exponent), _power(self.num, -exponent))
+            return RatFunc(_power(self.num, exponent), _power(self.den, exponent), self.ring)
+        return RatFunc(_power(self.den, -exponent), _power(self.num, -exponent), self.ring)
 
     def cancelled(self) -> RatFunc:
         """Lowest terms, denominator with a positive leading coefficient."""
-        g = self.num.gcd(self.den)
-        num, den = (self.num / g, self.den / g) if not g.is_one() else (self.num, self.den)
-        if den.leading_coefficient() < 0:
+        ring = self.ring
+        g = ring.gcd(self.num, self.den)
+        num, den = self.num, self.den
+        if g != ring.one:
+            num, den = ring.exquo(num, g), ring.exquo(den, g)
+        if ring.leading_coefficient(den) < 0:
             num, den = -num, -den
-        return RatFunc(num, den)
+        return RatFunc(num, den, ring)
 
     def is_zero(self) -> bool:
-        return self.num.is_zero()
+        return self.ring.is_zero(self.num)
 
 
 class Space:
@@ -167,15 +176,13 @@ class Space:
         variables = list(self.symbols) + [f"#root{i}" for i in range(len(self.roots))]
         if self.has_pi:
             variables.append("#pi")
-        if not variables:
-            variables.append("#one")  # flint needs at least one variable
-        self.ctx = flint.fmpz_mpoly_ctx.get(tuple(variables), "deglex")
-        self.gens = self.ctx.gens()
+        self.ring = PolynomialRing(variables, keep_order=True, ordering="deglex")
+        self.gens = [self.ring.gen(n) for n in variables]
         self._root_var = {
             radicand: len(self.symbols) + i for i, (radicand, _) in enumerate(self.roots)
         }
         self._memo: dict[sympy.Expr, RatFunc] = {}
-        self.one = self.ctx.constant(1)
+        self.one = self.ring.one
         # Relations r^q * den(b) = num(b), converted in order so inner radicals exist first.
         self.relations: list[tuple[int, int, RatFunc]] = []
         for radicand, degree in self.roots:
@@ -206,10 +213,11 @@ class Space:
 
     def constant(self, value: Fraction | int) -> RatFunc:
         value = Fraction(value)
-        return RatFunc(self.ctx.constant(value.numerator), self.ctx.constant(value.denominator))
+        ring = self.ring
+        return RatFunc(ring.constant(value.numerator), ring.constant(value.denominator), ring)
 
     def variable(self, name: str) -> RatFunc:
-        return RatFunc(self.gens[self.symbols.index(name)], self.one)
+        return RatFunc(self.gens[self.symbols.index(name)], self.one, self.ring)
 
     def convert(self, expr: sympy.Expr, prepared: bool = True) -> RatFunc:
         """A sympy expression (built from our own trees) as an exact ratio of polynomials."""
@@ -223,13 +231,14 @@ class Space:
 
     def _convert(self, expr: sympy.Expr) -> RatFunc:
         if expr.is_Rational:
-            return RatFunc(self.ctx.constant(int(expr.p)), self.ctx.constant(int(expr.q)))
+            ring = self.ring
+            return RatFunc(ring.constant(int(expr.p)), ring.constant(int(expr.q)), ring)
         if expr.is_Float:
             return self.constant(Fraction(str(expr)))
         if expr.is_Symbol:
-            return RatFunc(self.gens[self.symbols.index(expr.name)], self.one)
+            return RatFunc(self.gens[self.symbols.index(expr.name)], self.one, self.ring)
         if expr is sympy.pi:
-            return RatFunc(self.gens[-1], self.one)
+            return RatFunc(self.gens[-1], self.one, self.ring)
         if expr.is_Add:
             total = self.convert(expr.args[0])
             for arg in expr.args[1:]:
@@ -242,34 +251,34 @@ class Space:
             return product
         if expr.is_Pow and expr.exp.is_Integer:
             base = self.convert(expr.base)
-            if int(expr.exp) < 0 and base.num.is_zero():
+            if int(expr.exp) < 0 and base.is_zero():
                 raise Undecidable("a division by zero")
             return base ** int(expr.exp)
         if expr.is_Pow and _fractional(expr.exp):
             var = self._root_var[expr.base]
             degree = dict(self.roots)[expr.base]
             power = int(expr.exp.p) * (degree // int(expr.exp.q))
-            return RatFunc(self.gens[var], self.one) ** power
+            return RatFunc(self.gens[var], self.one, self.ring) ** power
         if expr in (sympy.zoo, sympy.nan, sympy.oo, -sympy.oo):
             raise Undecidable("a division by zero")
         raise Undecidable(f"`{sympy.sstr(expr)}`")
 
     # -- deciding
-    def reduce(self, poly: flint.fmpz_mpoly) -> flint.fmpz_mpoly:
+    def reduce(self, poly: Poly) -> Poly:
         """The polynomial with every radical's power below its degree (outer radicals first)."""
         for var, degree, radicand in reversed(self.relations):
-            poly = _reduce_power(poly, var, degree, radicand, self.ctx)
+            poly = _reduce_power(poly, var, degree, radicand, self.ring)
         return poly
 
     def is_zero(self, value: RatFunc) -> bool:
         """Exactly: is the value zero for every value of the symbols?"""
         if not self.relations:
-            return value.num.is_zero()
-        return self.reduce(value.num).is_zero()
+            return self.ring.is_zero(value.num)
+        return self.ring.is_zero(self.reduce(value.num))
 
     def equal(self, a: RatFunc, b: RatFunc) -> bool:
         return self.is_zero(RatFunc(_sized(_product(a.num, b.den) - _product(b.num, a.den)),
-                                    self.one))  # only the numerator decides
+                                    self.one, self.ring))  # only the numerator decides
 
     @property
     def rational(self) -> bool:
@@ -278,14 +287,15 @@ class Space:
 
     def evaluate(self, value: RatFunc, point: Sequence[int]) -> Fraction | None:
         """Exact value at integer values of the symbols (rational spaces only); None at a pole."""
-        args = list(point) + [0] * (len(self.gens) - len(point))
-        den = int(value.den(*args))
+        names = self.ring.names
+        values = dict(zip(names, list(point) + [0] * (len(names) - len(point)), strict=True))
+        den = self.ring.evaluate(value.den, values)
         if den == 0:
             return None
-        return Fraction(int(value.num(*args)), den)
+        return self.ring.evaluate(value.num, values) / den
 
     # -- reading back
-    def to_sympy(self, poly: flint.fmpz_mpoly) -> sympy.Expr:
+    def to_sympy(self, poly: Poly) -> sympy.Expr:
         """A polynomial of this space as a sympy expression over plain symbols."""
         symbols = [sympy.Symbol(n) for n in self.symbols]
         plain = {v: k for k, v in self._positive.items()}
@@ -293,7 +303,7 @@ class Space:
         if self.has_pi:
             symbols.append(sympy.pi)
         terms = []
-        for monom, coeff in poly.terms():
+        for monom, coeff in self.ring.terms(poly):
             factors = [sym**e for sym, e in zip(symbols, monom, strict=False) if e]
             terms.append(sympy.Mul(sympy.Integer(int(coeff)), *factors))
         return sympy.Add(*terms)
@@ -308,15 +318,15 @@ class Space:
         value = value.cancelled()
         if len(value.num) + len(value.den) <= most_terms:
             return sympy.sstr(self.ratfunc_to_sympy(value))
-        if value.den.is_constant():
+        if self.ring.is_constant(value.den):
             return f"(a polynomial of {len(value.num)} terms, too long to show)"
         return (f"(a ratio of polynomials of {len(value.num)} and {len(value.den)} terms, "
                 "too long to show)")
 
-    def _factored(self, poly: flint.fmpz_mpoly, factor: bool) -> sympy.Expr:
-        if not factor or len(poly) > 400 or poly.is_constant():
+    def _factored(self, poly: Poly, factor: bool) -> sympy.Expr:
+        if not factor or len(poly) > 400 or self.ring.is_constant(poly):
             return self.to_sympy(poly)
-        content, factors = poly.factor()
+        content, factors = self.ring.factor(poly)
         product = sympy.Mul(*(self.to_sympy(f) ** int(e) for f, e in factors))
         if content == 1:
             return product
@@ -349,21 +359,20 @@ def _positive_coefficients(poly: sympy.Expr) -> bool:
     return all(c.is_positive for c in sympy.Poly(poly).coeffs())
 
 
-def _reduce_power(
-    poly: flint.fmpz_mpoly, var: int, degree: int, radicand: RatFunc, ctx
-) -> flint.fmpz_mpoly:
+def _reduce_power(poly: Poly, var: int, degree: int, radicand: RatFunc,
+                  ring: PolynomialRing) -> Poly:
     """Replace r^degree by radicand = num/den in `poly`, times a power of den (nonzero)."""
-    by_power: dict[int, dict] = {}
-    for monom, coeff in poly.terms():
-        by_power.setdefault(monom[var], {})[monom[:var] + (0,) + monom[var + 1:]] = coeff
+    by_power: dict[int, list] = {}
+    for monom, coeff in ring.terms(poly):
+        by_power.setdefault(monom[var], []).append((monom[:var] + (0,) + monom[var + 1:], coeff))
     top = max(by_power, default=0)
     if top < degree:
         return poly
     scale = top // degree
-    out = ctx.constant(0)
-    r = ctx.gens()[var]
+    out = ring.zero
+    r = ring.gen(ring.names[var])
     for power, terms in by_power.items():
         k, rest = divmod(power, degree)
-        part = ctx.from_dict(terms) * r**rest
+        part = ring.from_terms(terms) * r**rest
         out += part * radicand.num**k * radicand.den ** (scale - k)
     return out

@@ -90,29 +90,37 @@ def default_backend() -> str:
 class PolynomialRing:
     """Integer polynomials in the given variable names (kept in canonical order: `.names`).
 
-    Two rings with the same names and backend are equal and their polynomials mix freely.
+    Two rings with the same names, term order and backend are equal and their polynomials
+    mix freely. `keep_order=True` keeps the names in the order given (a caller that
+    addresses variables by position), and `ordering="deglex"` orders terms by total degree
+    first.
     """
 
-    def __init__(self, names: Sequence[str], backend: str | None = None) -> None:
-        self.names: tuple[str, ...] = canonical_order(names)
+    def __init__(self, names: Sequence[str], backend: str | None = None, *,
+                 keep_order: bool = False, ordering: str = "lex") -> None:
+        self.names: tuple[str, ...] = (tuple(dict.fromkeys(names)) if keep_order
+                                       else canonical_order(names))
         self.backend: str = backend or default_backend()
         if self.backend not in BACKENDS:
             raise ValueError(f"unknown polynomial backend {self.backend!r} (use {BACKENDS})")
+        if ordering not in ("lex", "deglex"):
+            raise ValueError(f"unknown term order {ordering!r} (use 'lex' or 'deglex')")
+        self.ordering = ordering
         self._index = {n: i for i, n in enumerate(self.names)}
         if self.backend == "flint":
             import flint
 
             # flint wants at least one variable; a ring with no names gets a hidden one
-            self._ctx = flint.fmpz_mpoly_ctx.get(self.names or ("_",), "lex")
+            self._ctx = flint.fmpz_mpoly_ctx.get(self.names or ("_",), ordering)
             self._qctx = None
             self._width = max(len(self.names), 1)
         else:
             from sympy.polys.domains import ZZ
-            from sympy.polys.orderings import lex
+            from sympy.polys.orderings import grlex, lex
             from sympy.polys.rings import PolyRing
 
             self._ring = PolyRing([sympy.Symbol(n) for n in self.names] or [sympy.Dummy("_")],
-                                  ZZ, lex)
+                                  ZZ, lex if ordering == "lex" else grlex)
             self._width = max(len(self.names), 1)
         self.zero = self.constant(0)
         self.one = self.constant(1)
@@ -120,10 +128,10 @@ class PolynomialRing:
     # -- identity
     def __eq__(self, other: object) -> bool:
         return (isinstance(other, PolynomialRing) and self.names == other.names
-                and self.backend == other.backend)
+                and self.backend == other.backend and self.ordering == other.ordering)
 
     def __hash__(self) -> int:
-        return hash((self.names, self.backend))
+        return hash((self.names, self.backend, self.ordering))
 
     def __repr__(self) -> str:
         return f"PolynomialRing({list(self.names)!r}, backend={self.backend!r})"
@@ -195,8 +203,8 @@ class PolynomialRing:
         return self.from_terms(out)
 
     def extend(self, names: Iterable[str]) -> PolynomialRing:
-        """A ring with these names added (same backend)."""
-        return PolynomialRing(self.names + tuple(names), self.backend)
+        """A ring with these names added (same backend and term order)."""
+        return PolynomialRing(self.names + tuple(names), self.backend, ordering=self.ordering)
 
     # -- looking at polynomials
     def terms(self, p: Poly) -> list[tuple[Monomial, int]]:
@@ -246,6 +254,14 @@ class PolynomialRing:
         if self.backend == "flint":
             return int(p.degrees()[i])
         return int(p.degree(i))
+
+    def degrees(self, p: Poly) -> tuple[int, ...]:
+        """Degree in each variable, in `.names` order (zeros for the zero polynomial)."""
+        if self.is_zero(p):
+            return (0,) * len(self.names)
+        if self.backend == "flint":
+            return tuple(int(d) for d in p.degrees())[:len(self.names)]
+        return tuple(int(d) for d in p.degrees())[:len(self.names)]
 
     def lowest_degree(self, p: Poly, name: str) -> int:
         """Lowest power of `name` in any term; -1 for the zero polynomial."""
@@ -418,6 +434,26 @@ class PolynomialRing:
         except ExactQuotientFailed as exc:
             raise InexactDivision("polynomial division is not exact") from exc
 
+    def factor(self, p: Poly) -> tuple[int, list[tuple[Poly, int]]]:
+        """(integer content with the sign, [(irreducible factor, multiplicity)])."""
+        if self.backend == "flint":
+            content, found = p.factor()
+            return int(content), [(f, int(e)) for f, e in found]
+        content, found = p.factor_list()
+        return int(content), [(f, int(e)) for f, e in found]
+
+    def permute(self, p: Poly, mapping: Mapping[int, int]) -> Poly:
+        """p with variable i replaced by variable mapping[i] (positions in `.names`)."""
+        width = self._width
+        out = []
+        for monom, coeff in self.terms(p):
+            exps = [0] * width
+            for i, e in enumerate(monom):
+                if e:
+                    exps[mapping.get(i, i)] += e
+            out.append((tuple(exps), coeff))
+        return self.from_terms(out)
+
     def primitive(self, p: Poly) -> tuple[int, Poly]:
         """(content, p / content)."""
         c = self.content(p)
@@ -447,11 +483,15 @@ class PolynomialRing:
         missing = [n for n in used if n not in values]
         if missing:
             raise KeyError(f"no value for {', '.join(missing)}")
+        if self.backend == "flint" and all(
+                Fraction(values[n]).denominator == 1 for n in used):
+            point = {n: int(values[n]) for n in used}
+            return Fraction(int(p(*[point.get(n, 0) for n in self.names or ("_",)])))
         if self.backend == "flint":
             import flint
 
             if self._qctx is None:
-                self._qctx = flint.fmpq_mpoly_ctx.get(self.names or ("_",), "lex")
+                self._qctx = flint.fmpq_mpoly_ctx.get(self.names or ("_",), self.ordering)
             q = flint.fmpq_mpoly(p, self._qctx)
             args = []
             for n in self.names or ("_",):

@@ -114,7 +114,7 @@ def _decide(quantity: str, derived: sympy.Expr, claimed: sympy.Expr, dims: Dimen
 
 
 def _reduced(space: Space, value: RatFunc) -> RatFunc:
-    return RatFunc(space.reduce(value.num), space.reduce(value.den))
+    return RatFunc(space.reduce(value.num), space.reduce(value.den), space.ring)
 
 
 def find_counterexample(

@@ -14,10 +14,10 @@ from collections.abc import Callable, Iterator
 from fractions import Fraction
 from itertools import combinations
 
-import flint
 import sympy
 
 from ..algebra.identity import LAPLACE_NAME, RatFunc, Space
+from ..algebra.polynomials import Poly, PolynomialRing
 from .dimensions import Dimensions
 
 UNKNOWN = sympy.Symbol("#u")
@@ -43,6 +43,7 @@ class _Case:
         self.point = [rng.randint(2, 10**6) for _ in space.gens]
         self.d_vars = _used_variables(d)
         self.used = self.d_vars | _used_variables(c)
+        self.ring = space.ring
 
     def at(self, value: RatFunc, point: list[int]) -> Fraction | None:
         return self.space.evaluate(value, point)
@@ -58,9 +59,8 @@ class _Case:
                 yield a, b
 
     def compose(self, value: RatFunc, mapping: dict[int, int]) -> RatFunc:
-        gens = list(self.space.gens)
-        args = [gens[mapping.get(i, i)] for i in range(len(gens))]
-        return RatFunc(value.num.compose(*args), value.den.compose(*args))
+        ring = self.ring
+        return RatFunc(ring.permute(value.num, mapping), ring.permute(value.den, mapping), ring)
 
     def show(self, value: RatFunc) -> str:
         return sympy.sstr(self.space.ratfunc_to_sympy(value))
@@ -178,10 +178,10 @@ def _limits(case: _Case) -> Iterator[tuple[str, str, RatFunc]]:
         if i not in case.d_vars or i in c_vars:
             continue
         for toward, pick in (("oo", max), ("0", min)):
-            pn, an = _coefficient(case.d.num, i, pick)
-            pd, ad = _coefficient(case.d.den, i, pick)
+            pn, an = _coefficient(case.ring, case.d.num, i, pick)
+            pd, ad = _coefficient(case.ring, case.d.den, i, pick)
             if pn == pd:
-                yield name, toward, RatFunc(an, ad)
+                yield name, toward, RatFunc(an, ad, case.ring)
 
 
 def _in_a_limit(case: _Case) -> str | None:
@@ -251,7 +251,8 @@ def _term_test(case: _Case, node: sympy.Expr, top: bool, negative: bool = True,
             return f"wrong term: `{_short(term)}` in {where} should be `{case.show(fixed)}`"
     forgotten = not early or _monomial(missing) or not (
         _used_variables(missing) & _used_variables(case.c))
-    if _nice(missing) and forgotten and (negative or missing.num.leading_coefficient() > 0):
+    if _nice(missing) and forgotten and (
+            negative or case.ring.leading_coefficient(missing.num) > 0):
         shown = case.show(missing)
         signed = f"- {shown[1:]}" if shown.startswith("-") else f"+ {shown}"
         return f"missing term: {where} lacks the term `{signed}`"
@@ -281,9 +282,10 @@ def _wrong_factor(case: _Case) -> str | None:
                 continue
             others = [a for a in node.args if a is not factor]
             fixed = _solve_for_replacement(case, node, sympy.Mul(UNKNOWN, *others))
-            if fixed is None or not (_monomial(fixed) and fixed.den.is_one()):
+            if fixed is None or not (_monomial(fixed) and fixed.den == case.ring.one):
                 continue
-            if fixed.num.leading_coefficient() < 0 or space.equal(fixed, space.convert(factor)):
+            if (case.ring.leading_coefficient(fixed.num) < 0
+                    or space.equal(fixed, space.convert(factor))):
                 continue
             if not _same_dimension(case, factor, fixed) or _cancels(case, fixed, others):
                 continue
@@ -296,7 +298,7 @@ def _cancels(case: _Case, fixed: RatFunc, others: list[sympy.Expr]) -> bool:
     """True when the replacement is a part that stands alone elsewhere in the product
     (`R1*Z/R2`: `R1` should be `R2` is better said as a factor `R1/R2`)."""
     alone = {f.base if f.is_Pow else f for f in others}
-    names = {case.space.symbols[i] for i in _used_variables(fixed)}
+    names = {case.ring.names[i] for i in _used_variables(fixed)}
     return any(sympy.Symbol(n, positive=True) in alone or sympy.Symbol(n) in alone
                for n in names)
 
@@ -322,15 +324,15 @@ def _solve_for_replacement(case: _Case, node: sympy.Expr, replaced: sympy.Expr
         with_u = space.convert(case.claimed.xreplace({node: replaced}))
     except ZeroDivisionError:
         return None
-    n1, n0 = _split_linear(with_u.num, u, space)
-    m1, m0 = _split_linear(with_u.den, u, space)
+    n1, n0 = _split_linear(with_u.num, u, space.ring)
+    m1, m0 = _split_linear(with_u.den, u, space.ring)
     if n1 is None or m1 is None:
         return None
     top = m0 * case.d.num - n0 * case.d.den
     bottom = n1 * case.d.den - m1 * case.d.num
-    if bottom.is_zero() or top.is_zero():
+    if space.ring.is_zero(bottom) or space.ring.is_zero(top):
         return None
-    return RatFunc(top, bottom).cancelled()
+    return RatFunc(top, bottom, space.ring).cancelled()
 
 
 def _products(expr: sympy.Expr) -> list[sympy.Expr]:
@@ -351,27 +353,26 @@ def _factor(case: _Case) -> str | None:
 def _used_variables(value: RatFunc) -> set[int]:
     used = set()
     for poly in (value.num, value.den):
-        used.update(i for i, e in enumerate(poly.degrees()) if e)
+        used.update(i for i, e in enumerate(value.ring.degrees(poly)) if e)
     return used
 
 
-def _coefficient(poly: flint.fmpz_mpoly, var: int, pick) -> tuple[int, flint.fmpz_mpoly]:
+def _coefficient(ring: PolynomialRing, poly: Poly, var: int, pick) -> tuple[int, Poly]:
     """Highest (pick=max) or lowest (pick=min) power of variable `var`, with its coefficient."""
-    terms = list(poly.terms())
+    terms = ring.terms(poly)
     power = pick(m[var] for m, _ in terms)
-    ctx = poly.context()
-    chosen = {m[:var] + (0,) + m[var + 1:]: c for m, c in terms if m[var] == power}
-    return power, ctx.from_dict(chosen)
+    chosen = [(m[:var] + (0,) + m[var + 1:], c) for m, c in terms if m[var] == power]
+    return power, ring.from_terms(chosen)
 
 
-def _split_linear(poly, var: int, space: Space):
+def _split_linear(poly: Poly, var: int, ring: PolynomialRing):
     """(a, b) with poly = a*x + b in variable `var`, or (None, None) when of higher degree."""
-    if poly.degrees()[var] > 1:
+    if ring.degrees(poly)[var] > 1:
         return None, None
-    parts: dict[int, dict] = {0: {}, 1: {}}
-    for m, c in poly.terms():
-        parts[m[var]][m[:var] + (0,) + m[var + 1:]] = c
-    return space.ctx.from_dict(parts[1]), space.ctx.from_dict(parts[0])
+    parts: dict[int, list] = {0: [], 1: []}
+    for m, c in ring.terms(poly):
+        parts[m[var]].append((m[:var] + (0,) + m[var + 1:], c))
+    return ring.from_terms(parts[1]), ring.from_terms(parts[0])
 
 
 def _sums(expr: sympy.Expr) -> list[sympy.Expr]:

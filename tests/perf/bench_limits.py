@@ -30,8 +30,7 @@ CASES = [
 
 
 def cold(*arguments: str) -> tuple[float, float]:
-    """(wall clock, CPU time) of `symcirc derive` in a fresh interpreter, best of three; the target is read on the CPU time, which is the wall
-clock of an idle machine (on a shared one the wall clock mostly measures the others)."""
+    """(wall clock, CPU time) of `symcirc derive` in a fresh interpreter, best of three."""
     command = [sys.executable, "-m", "symcirc.cli", "derive", *arguments]
     best_wall = best_cpu = float("inf")
     for _ in range(3):
