@@ -120,3 +120,21 @@ def test_sympy_ring_view_is_in_lowest_terms():
     f = to_function((R1**2 - R2**2) / (R1 + R2), PolynomialRing([]))
     num, den = sympy_ring(f, {})
     assert num.as_expr() == R1 - R2 and den.as_expr() == 1
+
+
+def test_ring_operations_of_the_identity_decision_agree_on_both_backends():
+    """Swapping variables, degrees, factoring and evaluation, as the claims' diagnosis uses
+    them, in the space's own variable order with terms by degree first."""
+    out = []
+    for backend in BACKENDS:
+        ring = PolynomialRing(["R2", "R1", "#u"], backend, keep_order=True, ordering="deglex")
+        r2, r1, u = (ring.gen(n) for n in ring.names)
+        p = (r1 + 2 * r2) * (r1 - r2) ** 2 * u
+        swapped = ring.permute(p, {0: 1, 1: 0})
+        content, found = ring.factor(p)
+        out.append((ring.names, ring.terms(swapped), ring.degrees(p), content,
+                    sorted((tuple(ring.terms(f)), e) for f, e in found),
+                    ring.evaluate(p, {"R2": 3, "R1": 5, "#u": 7}),
+                    ring.leading_coefficient(swapped)))
+    assert out[0] == out[1]
+    assert out[0][5] == (5 + 6) * (5 - 3) ** 2 * 7

@@ -444,6 +444,9 @@ class PolynomialRing:
 
     def permute(self, p: Poly, mapping: Mapping[int, int]) -> Poly:
         """p with variable i replaced by variable mapping[i] (positions in `.names`)."""
+        if self.backend == "flint" and self.names:
+            gens = self._ctx.gens()
+            return p.compose(*[gens[mapping.get(i, i)] for i in range(len(gens))])
         width = self._width
         out = []
         for monom, coeff in self.terms(p):
