@@ -41,7 +41,7 @@ def factor_ratio(num, den) -> sympy.Expr:
 
 def factors(poly) -> tuple[sympy.Rational, list[tuple[sympy.Expr, int]]]:
     """A ring polynomial as (rational content, [(irreducible factor, multiplicity)])."""
-    flint = _flint()
+    flint = flint_backend()
     symbols = tuple(poly.ring.symbols)
     if flint is None:
         content, found = sympy.factor_list(poly.as_expr(), *symbols)
@@ -51,7 +51,7 @@ def factors(poly) -> tuple[sympy.Rational, list[tuple[sympy.Expr, int]]]:
     content, found = context.from_dict(integer).factor()
     return (
         sympy.Rational(int(content), scale),
-        [(_expression(f, symbols), int(e)) for f, e in found],
+        [(flint_to_sympy(f, symbols), int(e)) for f, e in found],
     )
 
 
@@ -60,7 +60,7 @@ def factors_in(poly, i: int, max_degree: int):
     (lowest power first, sympy expressions) with multiplicities, after the rational content:
     `(content, [(coefficients, multiplicity)])`. None as soon as a factor has a degree above
     `max_degree` in that generator: it is then never turned into sympy (the slow part)."""
-    flint = _flint()
+    flint = flint_backend()
     symbols = tuple(poly.ring.symbols)
     out = []
     if flint is None:
@@ -94,7 +94,7 @@ def factors_in(poly, i: int, max_degree: int):
 def cancel(num, den):
     """num/den (sympy ring polynomials over QQ) with their greatest common divisor divided
     out and a positive leading coefficient below; flint's gcd when it is there."""
-    flint = _flint()
+    flint = flint_backend()
     if flint is None or not num or not den:
         return num.cancel(den)
     ring = num.ring
@@ -121,7 +121,7 @@ def _integer(poly) -> tuple[int, dict]:
     return scale, {m: p * (scale // q) for m, (p, q) in pairs.items()}
 
 
-def _expression(f, symbols: tuple[sympy.Symbol, ...]) -> sympy.Expr:
+def flint_to_sympy(f, symbols: tuple[sympy.Symbol, ...]) -> sympy.Expr:
     """A flint polynomial as a sympy sum of products (built flat: repeated `*=` is slow)."""
     terms = []
     for monom, coeff in f.to_dict().items():
@@ -131,8 +131,8 @@ def _expression(f, symbols: tuple[sympy.Symbol, ...]) -> sympy.Expr:
     return sympy.Add(*terms)
 
 
-def _flint():
-    """python-flint, unless the sympy backend is selected."""
+def flint_backend():
+    """The python-flint module, or None when the sympy backend is selected."""
     if default_backend() != "flint":
         return None
     import flint

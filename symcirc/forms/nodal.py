@@ -343,10 +343,10 @@ class _Determinants:
     python-flint's integer polynomials; sympy's DomainMatrix when flint is absent."""
 
     def __init__(self, generators: list[sympy.Symbol]) -> None:
-        from ..algebra.factor import _flint
+        from ..algebra.factor import flint_backend
 
         self.generators = generators
-        self.flint = _flint()
+        self.flint = flint_backend()
         if self.flint is not None:
             names = tuple(f"x{i}" for i in range(len(generators)))
             self.ctx = self.flint.fmpz_mpoly_ctx.get(names, "lex")
@@ -402,9 +402,9 @@ class _Determinants:
     def expr(self, p) -> sympy.Expr:
         if self.flint is None:
             return self.domain.to_sympy(p)
-        from ..algebra.factor import _expression
+        from ..algebra.factor import flint_to_sympy
 
-        return _expression(p, tuple(self.generators))
+        return flint_to_sympy(p, tuple(self.generators))
 
 
 def record(
