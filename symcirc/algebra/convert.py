@@ -132,10 +132,7 @@ class _Converter:
                     total = total + term
             return total + RationalFunction(polynomial, 1, ring)
         if isinstance(expr, sympy.Mul):
-            product = RationalFunction(1, 1, ring, canonical=True)
-            for arg in expr.args:
-                product = product * self.convert(arg)
-            return product
+            return self._product([self.convert(arg) for arg in expr.args])
         if isinstance(expr, sympy.Pow):
             if expr.exp.is_Integer:
                 return self.convert(expr.base) ** int(expr.exp)
@@ -150,6 +147,30 @@ class _Converter:
         if isinstance(expr, sympy.Function):
             return RationalFunction.symbol(atom_name(expr), ring)
         raise ValueError(f"cannot hold {sympy.sstr(expr)} as a rational function")
+
+    def _product(self, factors: list[RationalFunction]) -> RationalFunction:
+        """Π factors, each numerator cancelled against every other denominator before
+        anything is multiplied out: a product whose value is small (a divider chain, a
+        determinant over its cofactor) never grows beyond that value on the way."""
+        ring = self.ring
+        if any(f.is_zero() for f in factors):
+            return RationalFunction(0, 1, ring, canonical=True)
+        tops = [f.numerator for f in factors]
+        bottoms = [f.denominator for f in factors]
+        for i in range(len(tops)):
+            for j in range(len(bottoms)):
+                if i == j or ring.is_constant(tops[i]) or ring.is_constant(bottoms[j]):
+                    continue
+                g = ring.gcd(tops[i], bottoms[j])
+                if not ring.is_constant(g):
+                    tops[i], bottoms[j] = ring.exquo(tops[i], g), ring.exquo(bottoms[j], g)
+        num, den = ring.one, ring.one
+        for p in tops:
+            num = num * p
+        for q in bottoms:
+            den = den * q
+        # every numerator is now prime to every denominator, so the products are too
+        return RationalFunction.coprime(num, den, ring)
 
 
 def restored(function: RationalFunction, atoms: Mapping[str, sympy.Expr]) -> sympy.Expr:
