@@ -157,13 +157,17 @@ class _Converter:
             return RationalFunction(0, 1, ring, canonical=True)
         tops = [f.numerator for f in factors]
         bottoms = [f.denominator for f in factors]
-        for i in range(len(tops)):
-            for j in range(len(bottoms)):
-                if i == j or ring.is_constant(tops[i]) or ring.is_constant(bottoms[j]):
+        below = [j for j, q in enumerate(bottoms) if not ring.is_constant(q)]
+        above = [i for i, p in enumerate(tops) if not ring.is_constant(p)] if below else []
+        for i in above:
+            for j in below:
+                if i == j or ring.is_constant(bottoms[j]):
                     continue
                 g = ring.gcd(tops[i], bottoms[j])
                 if not ring.is_constant(g):
                     tops[i], bottoms[j] = ring.exquo(tops[i], g), ring.exquo(bottoms[j], g)
+                    if ring.is_constant(tops[i]):
+                        break
         num, den = ring.one, ring.one
         for p in tops:
             num = num * p
