@@ -20,40 +20,35 @@ import time
 from pathlib import Path
 
 import symcirc
-from symcirc.commands.derive import _with_forms
-from symcirc.quantities import derive_quantity
-from symcirc.quantities.registry import DeriveOptions
+from symcirc.pipeline import Pipeline
 
 ROOT = Path(__file__).resolve().parents[2]
 FOLDERS = ("examples", "tests/valid")
 
 
-def statements() -> list[tuple[Path, int, int, str]]:
-    """(file, statement index, quantity index, text) of every derived quantity."""
+def statements() -> list[tuple[Path, int, str]]:
+    """(file, request index, text) of every derived quantity."""
     out = []
     for folder in FOLDERS:
         for path in sorted((ROOT / folder).glob("*.circuit")):
-            circuit = symcirc.load(str(path))
-            for i, statement in enumerate(circuit.derives):
-                where = [f"{a.symbol} {a.kind} {a.target}" for a in statement.assumptions]
-                for j, text in enumerate(statement.texts):
-                    shown = text + (f" where {', '.join(where)}" if where else "")
-                    out.append((path, i, j, shown))
+            for i, request in enumerate(Pipeline.load(path).requests(steps=True)):
+                where = [f"{a.symbol} {a.kind} {a.target}"
+                         for a in request.options.assumptions]
+                out.append((path, i, request.text + (f" where {', '.join(where)}"
+                                                     if where else "")))
     return out
 
 
-def derive_once(circuit: symcirc.Circuit, i: int, j: int) -> None:
-    statement = circuit.derives[i]
-    quantity = statement.quantities[j]
-    options = DeriveOptions(steps=True, assumptions=statement.assumptions)
-    _with_forms(circuit, quantity, derive_quantity(circuit, quantity, options), options)
+def derive_once(pipeline: Pipeline, i: int) -> None:
+    """The i-th derived quantity of the file, with steps, as `derive FILE --steps` does."""
+    pipeline.derive(pipeline.requests(steps=True)[i])
 
 
-def cpu_seconds(path: Path, i: int, j: int, runs: int) -> float:
+def cpu_seconds(path: Path, i: int, runs: int) -> float:
     """Best CPU time of one derivation, each run in a new interpreter."""
     best = float("inf")
     for _ in range(runs):
-        command = [sys.executable, __file__, "--one", str(path), str(i), str(j)]
+        command = [sys.executable, __file__, "--one", str(path), str(i)]
         done = subprocess.run(command, check=True, capture_output=True, text=True)
         best = min(best, float(done.stdout.split()[-1]))
     return best
@@ -70,33 +65,29 @@ derive V(out) where R3 -> oo
 """A divider derived first, outside the timing, so that modules imported on first use are."""
 
 
-def one(path: Path, i: int, j: int) -> None:
+def one(path: Path, i: int) -> None:
     """Print the CPU seconds of one derivation (run in a fresh interpreter)."""
     for module in pkgutil.walk_packages(symcirc.__path__, "symcirc."):
         importlib.import_module(module.name)
-    circuit = symcirc.parse(WARM_UP)
-    statement = circuit.derives[0]
-    options = DeriveOptions(steps=True, assumptions=statement.assumptions)
-    quantity = statement.quantities[0]
-    _with_forms(circuit, quantity, derive_quantity(circuit, quantity, options), options)
-    circuit = symcirc.load(str(path))
+    derive_once(Pipeline.parse(WARM_UP), 0)
+    pipeline = Pipeline.load(path)
     start = time.process_time()
-    derive_once(circuit, i, j)
+    derive_once(pipeline, i)
     print(time.process_time() - start)
 
 
 def main() -> None:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--runs", type=int, default=3, help="runs per quantity (best kept)")
-    parser.add_argument("--one", nargs=3, metavar=("FILE", "STATEMENT", "QUANTITY"),
+    parser.add_argument("--one", nargs=2, metavar=("FILE", "INDEX"),
                         help=argparse.SUPPRESS)
     args = parser.parse_args()
     if args.one:
-        one(Path(args.one[0]), int(args.one[1]), int(args.one[2]))
+        one(Path(args.one[0]), int(args.one[1]))
         return
     total = 0.0
-    for path, i, j, text in statements():
-        seconds = cpu_seconds(path, i, j, args.runs)
+    for path, i, text in statements():
+        seconds = cpu_seconds(path, i, args.runs)
         total += seconds
         print(f"{seconds * 1000:9.1f} ms  {path.relative_to(ROOT)}  {text}")
     print(f"{total * 1000:9.1f} ms  total")
