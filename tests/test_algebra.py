@@ -11,6 +11,7 @@ import sympy
 from symcirc.algebra.convert import atoms_of, restored, sympy_ring, to_function
 from symcirc.algebra.factor import factored
 from symcirc.algebra.identity import Space, identical
+from symcirc.algebra.matrices import determinant
 from symcirc.algebra.polynomials import PolynomialRing
 from symcirc.algebra.rational import RationalFunction
 from symcirc.forms.approximate import limit
@@ -138,3 +139,18 @@ def test_ring_operations_of_the_identity_decision_agree_on_both_backends():
                     ring.leading_coefficient(swapped)))
     assert out[0] == out[1]
     assert out[0][5] == (5 + 6) * (5 - 3) ** 2 * 7
+
+
+@pytest.mark.parametrize("backend", BACKENDS)
+def test_determinant_matches_sympy(backend):
+    """Fraction-free elimination in the algebra against sympy's own determinant."""
+    rng = random.Random(3)
+    symbols = [R1, R2, R3, s]
+    ring = PolynomialRing(["R1", "R2", "R3", "s"], backend, keep_order=True)
+    for n in (1, 2, 3, 4):
+        entries = [[sum(rng.randint(-2, 2) * rng.choice(symbols) ** rng.randint(0, 2)
+                        for _ in range(2)) for _ in range(n)] for _ in range(n)]
+        matrix = [[to_function(x, ring).numerator for x in row] for row in entries]
+        expected = sympy.expand(sympy.Matrix(entries).det())
+        found = RationalFunction(determinant(ring, matrix), 1, ring)
+        assert sympy.expand(found.to_sympy() - expected) == 0

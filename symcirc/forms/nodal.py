@@ -13,6 +13,8 @@ from dataclasses import dataclass, field
 
 import sympy
 
+from ..algebra.matrices import determinant
+from ..algebra.polynomials import PolynomialRing
 from ..engine.network import mutual_name
 from ..model.circuit import LAPLACE, REFERENCE, Circuit, Element
 from .printing import latex, text
@@ -327,7 +329,7 @@ def cramer(system: System, targets: list[sympy.Symbol]) -> dict[sympy.Symbol, sy
     matrix = [[algebra.poly(x) for x in r] for r in rows]
     right = [algebra.poly(x) for x in values]
     delta = algebra.det(matrix)
-    if not delta:
+    if algebra.ring.is_zero(delta):
         raise Singular("the nodal equations are singular")
     out = {}
     for target in targets:
@@ -339,72 +341,36 @@ def cramer(system: System, targets: list[sympy.Symbol]) -> dict[sympy.Symbol, sy
 
 
 class _Determinants:
-    """Determinants of polynomial matrices by fraction-free (Bareiss) elimination over
-    python-flint's integer polynomials; sympy's DomainMatrix when flint is absent."""
+    """The nodal equations as polynomials of the algebra (either backend), one variable per
+    generator in sympy's order, and the determinants and ratios Cramer's rule needs."""
 
     def __init__(self, generators: list[sympy.Symbol]) -> None:
-        from ..algebra.factor import flint_backend
-
         self.generators = generators
-        self.flint = flint_backend()
-        if self.flint is not None:
-            names = tuple(f"x{i}" for i in range(len(generators)))
-            self.ctx = self.flint.fmpz_mpoly_ctx.get(names, "lex")
-            self.index = {g: i for i, g in enumerate(generators)}
-        else:
-            self.domain = sympy.ZZ[tuple(generators)]
+        self.ring = PolynomialRing([f"x{i}" for i in range(len(generators))], keep_order=True)
 
     def poly(self, x: sympy.Expr):
-        if self.flint is None:
-            return self.domain.from_sympy(x)
-        terms = {
-            tuple(monom): int(coeff) for monom, coeff in sympy.Poly(x, *self.generators).terms()
-        }
-        return self.ctx.from_dict(terms) if terms else self.ctx.constant(0)
+        return self.ring.from_terms(sympy.Poly(x, *self.generators).terms())
 
     def det(self, m: list[list]):
-        n = len(m)
-        if self.flint is None:
-            from sympy.polys.matrices import DomainMatrix
-
-            return DomainMatrix(m, (n, n), self.domain).det()
-        a = [list(r) for r in m]
-        sign, previous = 1, self.ctx.constant(1)
-        for k in range(n - 1):
-            candidates = [r for r in range(k, n) if a[r][k]]
-            if not candidates:
-                return self.ctx.constant(0)
-            pivot = min(candidates, key=lambda r: len(a[r][k]))
-            if pivot != k:
-                a[k], a[pivot] = a[pivot], a[k]
-                sign = -sign
-            for i in range(k + 1, n):
-                for j in range(k + 1, n):
-                    a[i][j] = (a[i][j] * a[k][k] - a[i][k] * a[k][j]) // previous
-            previous = a[k][k]
-        return a[n - 1][n - 1] * sign if n else self.ctx.constant(1)
+        return determinant(self.ring, m)
 
     def cancel(self, num, den):
         """num/den with their gcd divided out and a positive leading term below."""
-        if self.flint is None:
-            domain = self.domain
-            common = domain.gcd(num, den)
-            num, den = domain.exquo(num, common), domain.exquo(den, common)
-            if domain.is_negative(domain.canonical_unit(den)):
-                num, den = -num, -den
-            return num, den
-        common = num.gcd(den)
-        num, den = num // common, den // common
-        if int(den.leading_coefficient()) < 0:
+        ring = self.ring
+        common = ring.gcd(num, den)
+        num, den = ring.exquo(num, common), ring.exquo(den, common)
+        if ring.leading_coefficient(den) < 0:
             num, den = -num, -den
         return num, den
 
     def expr(self, p) -> sympy.Expr:
-        if self.flint is None:
-            return self.domain.to_sympy(p)
-        from ..algebra.factor import flint_to_sympy
-
-        return flint_to_sympy(p, tuple(self.generators))
+        terms = []
+        for monom, coeff in self.ring.terms(p):
+            factors = [sympy.Integer(coeff)]
+            factors += [g if e == 1 else g**e
+                        for g, e in zip(self.generators, monom, strict=False) if e]
+            terms.append(sympy.Mul(*factors))
+        return sympy.Add(*terms)
 
 
 def record(
