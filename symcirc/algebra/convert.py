@@ -81,6 +81,8 @@ def _collect(expr: sympy.Expr, found: dict[str, sympy.Expr], operators: Operator
 def names_of(expr: sympy.Expr, operators: Operators | None = None) -> set[str]:
     """Ring variables an expression needs: its symbols outside atoms, and its atoms."""
     atoms = atoms_of(expr, operators)
+    if not atoms:
+        return {str(x) for x in expr.free_symbols}
     plain = expr.xreplace({e: sympy.Integer(1) for e in atoms.values()})
     return {str(x) for x in plain.free_symbols} | set(atoms)
 
