@@ -114,7 +114,7 @@ def test_an_approximation_too_large_to_read_is_not_made(monkeypatch):
 
 # ---------------------------------------------------------------- a limit on a full bridge
 
-STRAIN_BRIDGE = Path(__file__).parent / "circuits" / "strain_bridge.circuit"
+STRAIN_BRIDGE = Path(__file__).parent / "strain_bridge.circuit"
 
 
 def _derive_json(capsys, *argv: str) -> dict:

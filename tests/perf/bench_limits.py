@@ -1,6 +1,6 @@
 """Benchmark (a script, not a test): limits and approximations with steps.
 
-Target: `symcirc derive tests/circuits/strain_bridge.circuit --steps` (a full bridge of four
+Target: `symcirc derive tests/forms/strain_bridge.circuit --steps` (a full bridge of four
 strain gauges behind excitation leads, `V(out) where Rid -> oo`) under 3 s; it took minutes
 while the limit's expansion multiplied unreduced ratios in sympy's rings. Also shown: the
 same with `--substitute`, and the bundled examples' limits. Wall clock and CPU time of a
@@ -18,7 +18,7 @@ import time
 from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[2]
-BRIDGE = ROOT / "tests" / "circuits" / "strain_bridge.circuit"
+BRIDGE = ROOT / "tests" / "forms" / "strain_bridge.circuit"
 TARGET = 3.0
 
 CASES = [
