@@ -51,6 +51,9 @@ PARTS: dict[str, tuple[str | None, str, str]] = {
              "value (DC, else high-frequency, else peak gain)."),
 }
 
+FLAT_PARTS = ("dc", "hf")
+"""Parts that a response which does not depend on s still has (both are the response)."""
+
 AT_PARTS = {"magnitude": r"\left\lvert H\right\rvert",
             "dB": r"\left\lvert H\right\rvert_{\mathrm{dB}}", "phase": r"\angle H"}
 
@@ -69,9 +72,9 @@ def _response(read: Reader, inner: Result, node: syntax.Node) -> Response:
     cached = store.get(key)
     if cached is not None:
         return cached
-    if "s" not in inner.symbols:
+    if "s" not in inner.symbols and node.attribute not in FLAT_PARTS:
         raise read.error(node, f"{inner.quantity} does not depend on s: it has no frequency "
-                               "response to take parts of")
+                               "response to take parts of (its .dc and .hf are itself)")
     try:
         response = Response.of(inner.expression)
     except ResponseError as problem:

@@ -648,3 +648,17 @@ def test_sensitivity_of_phase_and_db_at_a_frequency_match_finite_differences():
         pytest.approx(db, rel=1e-6)
     relative = one(circuit, "relative_sensitivity(at(gain(Uin, out), 1 kHz).magnitude, C1)")
     assert relative.nominal == pytest.approx(db * 22e-9 * math.log(10) / 20, rel=1e-6)
+
+
+def test_a_response_without_s_has_itself_as_dc_and_hf_gain(cli, tmp_path):
+    """A resistive divider's gain is flat: its DC and high-frequency gains are the divider
+    ratio R1/(R1 + R2) (common practice); ω0 of a flat response is refused with a reason."""
+    path = tmp_path / "flat.circuit"
+    path.write_text("resistor R1 (a, gnd) = 1k\nvoltage source Ub (a, b) = 5 V\n"
+                    "resistor R2 (b, gnd) = 3k\nport p (a, gnd)\n", encoding="utf-8")
+    status, out, _ = cli("derive", path, "gain(Ub, p).dc", "gain(Ub, p).hf", "--format", "json")
+    assert status == 0
+    results = json.loads(out)["results"]
+    assert [r["nominal"] for r in results] == [0.25, 0.25]
+    status, _, err = cli("derive", path, "gain(Ub, p).w0")
+    assert status == 2 and "does not depend on s" in err
