@@ -56,7 +56,7 @@ MEMORY_VARIABLE = "SYMCIRC_MEMORY_LIMIT"
 """Environment variable: the address-space ceiling in bytes, with an optional k/M/G suffix
 (`8G`), or `none` to set no ceiling."""
 
-INTERRUPT_GRACE = 1.0
+INTERRUPT_GRACE = 0.75
 """Seconds after Ctrl-C before the process ends even inside a call that ignores signals."""
 
 
