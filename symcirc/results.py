@@ -86,8 +86,9 @@ class Result:
         self.condition = condition
         """The `where` clause of its limits as written (`A -> oo`), or ''."""
         self.parsed = parsed
-        """The quantity as the grammar read it, its part included (`syntax.Quantity`); None
-        when the result answers no quantity of the grammar (`sensitivity(Q where A -> oo, x)`)."""
+        """The quantity as the grammar read it, its part included (`syntax.Quantity`), set by
+        the handlers, the frequency analyses and `solve`; None otherwise (the report then
+        sets the quantity's text upright)."""
         self.unit = unit
         self._value = value
         self._nominals = dict(nominals or {})
