@@ -86,8 +86,9 @@ class Result:
         self.condition = condition
         """The `where` clause of its limits as written (`A -> oo`), or ''."""
         self.parsed = parsed
-        """The quantity as the grammar read it, its part included (`syntax.Quantity`), for
-        results the quantity handlers derive; None for an analysis' own results."""
+        """The quantity as the grammar read it, its part included (`syntax.Quantity`), set by
+        the handlers, the frequency analyses and `solve`; None otherwise (the report then
+        sets the quantity's text upright)."""
         self.unit = unit
         self._value = value
         self._nominals = dict(nominals or {})

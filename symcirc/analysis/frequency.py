@@ -58,6 +58,17 @@ AT_PARTS = {"magnitude": r"\left\lvert H\right\rvert",
             "dB": r"\left\lvert H\right\rvert_{\mathrm{dB}}", "phase": r"\angle H"}
 
 
+def _answers(result: Result, quantity: syntax.Quantity | None, inner: Result) -> Result:
+    """`result` marked as the answer to `quantity` (as parsed), under `inner`'s limits."""
+    result.parsed, result.condition = quantity, inner.condition
+    return result
+
+
+def _with_part(quantity: syntax.Quantity, part: str) -> syntax.Quantity:
+    """`gain(Uin, out)` and `w0`: the quantity `gain(Uin, out).w0`."""
+    return dataclasses.replace(quantity, attribute=part, text=f"{quantity.text}.{part}")
+
+
 def _label(inner: Result, base: str, part: str) -> str:
     """`gain(Uin, out).w0`, with the inner result's `where` clause kept at the end."""
     where = inner.quantity[len(base):] if inner.quantity.startswith(base) else ""
@@ -100,7 +111,7 @@ def part_quantity(circuit: Circuit, quantity: syntax.Quantity,
     out = []
     for inner in _approximated(read, base):
         response = _response(read, inner, quantity)
-        for result in _parts(read, inner, response, base.text, part, quantity):
+        for result in _parts(read, inner, response, base, part, quantity):
             if "neglected" in inner.details:  # parts of the approximated response
                 result.details["neglected"] = inner.details["neglected"]
                 result.notes.extend(n for n in inner.notes if n not in result.notes)
@@ -120,14 +131,14 @@ def _approximated(read: Reader, quantity: syntax.Quantity) -> list[Result]:
                                                                        steps=False))
 
 
-def _parts(read: Reader, inner: Result, response: Response, base: str, part: str,
+def _parts(read: Reader, inner: Result, response: Response, base: syntax.Quantity, part: str,
            node: syntax.Node) -> list[Result]:
     nominals = _nominals(read.circuit)
     unit, symbol, definition = PARTS[part]
     unit = inner.unit if unit is None else unit
     stability = response.stability(nominals)
     notes = [definition] + ([stability] if stability else [])
-    label = _label(inner, base, part)
+    label = _label(inner, base.text, part)
     try:
         if part in ("poles", "zeros"):
             return _roots(inner, response, base, part, notes, nominals)
@@ -144,7 +155,8 @@ def _parts(read: Reader, inner: Result, response: Response, base: str, part: str
             value = values[part]
     except ResponseError as problem:
         raise read.error(node, f"{inner.quantity} has no `.{part}`: {problem}") from None
-    result = Result(label, value, unit, _names(nominals), tuple(notes))
+    result = _answers(Result(label, value, unit, _names(nominals), tuple(notes)),
+                      _with_part(base, part), inner)
     result.name_latex = symbol
     result.details["response"] = {"part": part, "kind": _kind_text(response),
                                   "order": response.order, "stable": stability is None
@@ -168,13 +180,16 @@ def _kind_text(response: Response) -> str:
     return f"{order} {response.kind()}"
 
 
-def _roots(inner: Result, response: Response, base: str, part: str, notes: list[str],
+def _roots(inner: Result, response: Response, base: syntax.Quantity, part: str,
+           notes: list[str],
            nominals) -> list[Result]:
     roots = response.roots(part == "zeros", nominals)
     letter = "p" if part == "poles" else "z"
     if not roots:
-        result = Result(_label(inner, base, part), sympy.Integer(0), "rad/s", _names(nominals),
-                        (*notes, f"{inner.quantity} has no finite {part[:-1]}s."))
+        result = _answers(Result(_label(inner, base.text, part), sympy.Integer(0), "rad/s",
+                                 _names(nominals),
+                                 (*notes, f"{inner.quantity} has no finite {part[:-1]}s.")),
+                          _with_part(base, part), inner)
         result.details["response"] = {"part": part, part: []}
         return [result]
     listed = [complex_text(v, "rad/s") for _, v in roots if v is not None]
@@ -183,8 +198,9 @@ def _roots(inner: Result, response: Response, base: str, part: str, notes: list[
         expression = closed if closed is not None else (
             sympy.Float(value.real, 15) + sympy.I * sympy.Float(value.imag, 15)
             if value is not None else sympy.nan)
-        result = Result(_label(inner, base, f"{letter}{k}"), expression, "rad/s",
-                        _names(nominals), tuple(notes if k == 1 else ()))
+        result = _answers(Result(_label(inner, base.text, f"{letter}{k}"), expression, "rad/s",
+                                 _names(nominals), tuple(notes if k == 1 else ())),
+                          _with_part(base, f"{letter}{k}"), inner)
         result.name_latex = f"{letter}_{{{k}}}"
         if value is not None:
             hertz = eng(abs(value) / (2 * math.pi), "Hz")
@@ -203,7 +219,7 @@ def _roots(inner: Result, response: Response, base: str, part: str, notes: list[
     return out
 
 
-def _corners(inner: Result, response: Response, base: str, notes: list[str],
+def _corners(inner: Result, response: Response, base: syntax.Quantity, notes: list[str],
              nominals) -> list[Result]:
     frequencies = response.corner_frequencies(nominals)
     if not frequencies:
@@ -213,9 +229,10 @@ def _corners(inner: Result, response: Response, base: str, notes: list[str],
         [f"f3db_{k}" for k in range(1, len(frequencies) + 1)]
     out = []
     for name, f in zip(names, frequencies, strict=True):
-        result = Result(_label(inner, base, name), sympy.Float(f, 15), "Hz", {},
-                        (*notes, f"{eng(f, 'Hz')} at the nominal values (a number: the "
-                                 "closed form is a root of a polynomial in ω²)."))
+        result = _answers(Result(_label(inner, base.text, name), sympy.Float(f, 15), "Hz", {},
+                                 (*notes, f"{eng(f, 'Hz')} at the nominal values (a number: "
+                                          "the closed form is a root of a polynomial in ω²).")),
+                          _with_part(base, name), inner)
         result.name_latex = PARTS["f3db"][1]
         result.details["response"] = {"part": "f3db", "frequencies": frequencies}
         out.append(result)
@@ -233,6 +250,7 @@ def at_quantity(circuit: Circuit, quantity: syntax.Quantity,
                                           "1 kHz), at(Z(out), 0), at(Z(out), oo)", parts=True)
     frequency = _frequency(read, args[1])
     base = base_text(quantity)
+    plain = dataclasses.replace(quantity, attribute=None, text=base)
     nominals = _nominals(circuit)
     out: list[Result] = []
     for inner in read.derive(args[0]):
@@ -258,8 +276,10 @@ def at_quantity(circuit: Circuit, quantity: syntax.Quantity,
         stability = response.stability(nominals)
         values = {}
         for part, expression, unit, sentence in parts:
-            result = Result(f"{base}.{part}{where}", expression, unit, _names(nominals),
-                            (sentence,) + ((stability,) if stability else ()))
+            result = _answers(Result(f"{base}.{part}{where}", expression, unit,
+                                     _names(nominals),
+                                     (sentence,) + ((stability,) if stability else ())),
+                              _with_part(plain, part), inner)
             result.name_latex = AT_PARTS[part]
             values[part] = result.nominal
             result.details["at_frequency"] = {"part": part}
@@ -329,6 +349,9 @@ def sensitivity_quantity(circuit: Circuit, quantity: syntax.Quantity,
         unit = "" if relative else _per(inner.unit, _unit_of(circuit, x))
         result = Result(f"{quantity.name}({inner.quantity}, {x})", value, unit,
                         _names(nominals), tuple(notes))
+        if inner.parsed is not None and not inner.condition:  # one with limits is no quantity
+            result.parsed = dataclasses.replace(quantity, args=(inner.parsed, variable),
+                                                text=result.quantity)
         out.append(result)
     return out
 
@@ -444,9 +467,14 @@ def response_quantity(circuit: Circuit, quantity: syntax.Quantity,
             frequencies = sorted(set(decade_frequencies(low * 10, high / 10)) | set(corners))
         table = response_table(response, values, frequencies)
         spread = response_band(circuit, inner, frequencies, seed=options.seed)
-        result = Result(quantity.text if inner.quantity == read.quantity(quantity.args[0]).text
-                        else f"response({inner.quantity})", inner.expression, inner.unit,
-                        _names(nominals))
+        asked = inner.quantity == read.quantity(quantity.args[0]).text
+        result = Result(quantity.text if asked else f"response({inner.quantity})",
+                        inner.expression, inner.unit, _names(nominals))
+        if asked:
+            result.parsed = quantity
+        elif inner.parsed is not None and not inner.condition:
+            result.parsed = dataclasses.replace(quantity, args=(inner.parsed,),
+                                                text=result.quantity)
         stability = response.stability(nominals)
         if stability:
             result.notes.append(stability)

@@ -684,10 +684,11 @@ def solve_quantity(circuit: Circuit, quantity: syntax.Quantity,
                      if s != x and s not in nominals)
     results = []
     for k, solution in enumerate(solved.solutions, start=1):
-        label = quantity.text if len(solved.solutions) == 1 else f"{quantity.text}.solution{k}"
+        answered = quantity if len(solved.solutions) == 1 else dataclasses.replace(
+            quantity, attribute=f"solution{k}", text=f"{quantity.text}.solution{k}")
         expression = solution.expression if solution.expression is not None else \
             sympy.Float(float(solution.value), 15)
-        result = Result(label, expression, unit, others)
+        result = Result(answered.text, expression, unit, others, parsed=answered)
         if k == 1:
             result.notes.append(_solve_heading(solved, inner.quantity, unit, missing))
         if solution.expression is None:

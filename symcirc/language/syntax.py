@@ -5,7 +5,7 @@ Nothing here is evaluated; elaboration (`symcirc.model.elaborate`) gives it mean
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from fractions import Fraction
 
 
@@ -21,7 +21,28 @@ class Node:
 
 
 @dataclass(frozen=True)
-class Number(Node):
+class Span:
+    """Where a piece of an expression is written, parentheses around it included: offsets
+    into the source (`source[start:end]`), the line and column it starts at, and how many
+    levels of operators, calls and parentheses it nests (to refuse runaway nesting)."""
+
+    start: int
+    end: int
+    line: int
+    column: int
+    depth: int = 0
+
+
+@dataclass(frozen=True)
+class Spanned(Node):
+    """A node that knows where it is written (set by the transformer from lark's tokens;
+    None for nodes made up elsewhere). Not part of equality: `(x)` equals `x`."""
+
+    span: Span | None = field(default=None, kw_only=True, compare=False, repr=False)
+
+
+@dataclass(frozen=True)
+class Number(Spanned):
     """A number literal, prefixes and RKM code decoded: `10k`, `4k7`, `2.5E6`, `10 kΩ`."""
 
     value: Fraction
@@ -32,7 +53,7 @@ class Number(Node):
 
 
 @dataclass(frozen=True)
-class Name(Node):
+class Name(Spanned):
     """A name in an expression: a parameter, an element, `s`, `pi`, or (in quantities) a node
     or port. Integer node names (`V(3)`) are Names too, with the digits as `name`."""
 
@@ -40,21 +61,21 @@ class Name(Node):
 
 
 @dataclass(frozen=True)
-class Voltage(Node):
+class Voltage(Spanned):
     """`V(x)` or `V(x, y)` inside an expression (x may be a port)."""
 
     nodes: tuple[Name, ...]
 
 
 @dataclass(frozen=True)
-class Current(Node):
+class Current(Spanned):
     """`I(E)` inside an expression: the current through element E."""
 
     element: Name
 
 
 @dataclass(frozen=True)
-class Function(Node):
+class Function(Spanned):
     """`sqrt(x)` (the only function of the language)."""
 
     name: str
@@ -62,7 +83,7 @@ class Function(Node):
 
 
 @dataclass(frozen=True)
-class Unary(Node):
+class Unary(Spanned):
     """`-x` or `+x`."""
 
     op: str
@@ -70,7 +91,7 @@ class Unary(Node):
 
 
 @dataclass(frozen=True)
-class Binary(Node):
+class Binary(Spanned):
     """`a + b`, `a - b`, `a * b`, `a / b`, `a ^ b` (`**` is read as `^`)."""
 
     op: str
@@ -82,7 +103,7 @@ Expr = Number | Name | Voltage | Current | Function | Unary | Binary
 
 
 @dataclass(frozen=True)
-class Tolerance(Node):
+class Tolerance(Spanned):
     """`± 1 %`, `+- 5 Ω`, `+80 % -20 %`. Numbers are the magnitudes as written."""
 
     plus: Number
@@ -107,7 +128,7 @@ class Value(Node):
 
 
 @dataclass(frozen=True)
-class Equation(Node):
+class Equation(Spanned):
     """`QUANTITY = EXPRESSION` inside a quantity's arguments (`solve(gain(U, out) = -10, Rf)`)."""
 
     left: Quantity
@@ -115,7 +136,7 @@ class Equation(Node):
 
 
 @dataclass(frozen=True)
-class Quantity(Node):
+class Quantity(Spanned):
     """A quantity: `V(x)`, `V(x, y)`, `I(E)`, `thevenin(out)`, `thevenin(out).impedance`,
     `gain(Ub, out)`, `twoport(p1, p2).z21`, `sensitivity(Q, x)`, ...
 
@@ -204,6 +225,8 @@ class Block(Node):
     name: Name
     terminals: tuple[Name, ...]
     body: tuple[Statement, ...]
+    depth: int = field(default=1, kw_only=True, repr=False)
+    """Levels of blocks, itself included (the transformer refuses runaway nesting)."""
 
 
 @dataclass(frozen=True)

@@ -8,6 +8,7 @@ mean anything (a resistor with three terminals, `4k7k`, `I(3)`) are reported her
 from __future__ import annotations
 
 import re
+from dataclasses import replace
 from fractions import Fraction
 
 from lark import Token, Transformer, v_args
@@ -67,10 +68,6 @@ class TreeBuilder(Transformer):
         """Start a new parse of `source` (read from `filename`)."""
         self.source = source
         self.filename = filename
-        # id(expression node) -> (start offset, end offset, depth, line, column) as written,
-        # parentheses included; cleared after each statement.
-        self._spans: dict[int, tuple[int, int, int, int, int]] = {}
-        self._block_depth: dict[int, int] = {}  # id(Block) -> levels of blocks inside it
         self._statements = 0  # parameters, elements, ports and instances read so far
 
     # ------------------------------------------------------------ reporting
@@ -89,68 +86,58 @@ class TreeBuilder(Transformer):
 
     def number(self, token: Token) -> st.Number:
         value, unit = self._decode(token)
-        node = st.Number(token.line, token.column, value, unit, token.value)
-        self._spans[id(node)] = (token.start_pos, token.end_pos, 0, token.line, token.column)
-        return node
+        return st.Number(token.line, token.column, value, unit, token.value, span=_span(token))
 
     def name(self, token: Token) -> st.Name:
-        node = st.Name(token.line, token.column, token.value)
-        self._spans[id(node)] = (token.start_pos, token.end_pos, 0, token.line, token.column)
-        return node
+        return st.Name(token.line, token.column, token.value, span=_span(token))
 
     def group(self, open_: Token, inner: st.Expr, close: Token) -> st.Expr:
-        depth = self._deeper(self._spans[id(inner)][2], open_)
-        self._spans[id(inner)] = (open_.start_pos, close.end_pos, depth, open_.line, open_.column)
-        return inner
+        depth = self._deeper(inner.span.depth, open_)
+        return replace(inner, span=st.Span(open_.start_pos, close.end_pos, open_.line,
+                                           open_.column, depth))
 
     def binary(self, left: st.Expr, op: Token, right: st.Expr) -> st.Binary:
-        start, _, left_depth, line, column = self._spans[id(left)]
-        _, end, right_depth, _, _ = self._spans[id(right)]
-        node = st.Binary(line, column, "^" if op.value == "**" else op.value, left, right)
-        depth = self._deeper(max(left_depth, right_depth), op)
-        self._spans[id(node)] = (start, end, depth, line, column)
-        return node
+        first, last = left.span, right.span
+        depth = self._deeper(max(first.depth, last.depth), op)
+        return st.Binary(first.line, first.column, "^" if op.value == "**" else op.value,
+                         left, right, span=replace(first, end=last.end, depth=depth))
 
     def unary(self, op: Token, operand: st.Expr) -> st.Unary:
-        _, end, depth, _, _ = self._spans[id(operand)]
-        node = st.Unary(op.line, op.column, op.value, operand)
-        self._spans[id(node)] = (op.start_pos, end, self._deeper(depth, op), op.line, op.column)
-        return node
+        depth = self._deeper(operand.span.depth, op)
+        return st.Unary(op.line, op.column, op.value, operand,
+                        span=_span(op, operand.span.end, depth))
 
     def call(self, name: Token, open_: Token, *rest) -> st.Expr | st.Quantity:
         *arguments, close, _dot, attribute = rest
         arguments = [a for a in arguments if a is not None]
         end = (attribute or close).end_pos
-        depth = self._deeper(max((self._spans[id(a)][2] for a in arguments), default=0), name)
+        depth = self._deeper(max((a.span.depth for a in arguments), default=0), name)
+        span = _span(name, end, depth)
         if attribute is None and name.value in ("V", "I", "sqrt"):
-            node = self._builtin(name, arguments, close)
-        else:
-            node = st.Quantity(
-                name.line, name.column, name.value,
-                tuple(self._quantity_argument(a) for a in arguments),
-                attribute.value if attribute is not None else None,
-                _quantity_text(self.source[name.start_pos:end]),
-            )
-        self._spans[id(node)] = (name.start_pos, end, depth, name.line, name.column)
-        return node
+            return self._builtin(name, arguments, close, span)
+        return st.Quantity(
+            name.line, name.column, name.value,
+            tuple(self._quantity_argument(a) for a in arguments),
+            attribute.value if attribute is not None else None,
+            _quantity_text(self.source[name.start_pos:end]), span=span,
+        )
 
     def equation(self, left: st.Expr, _equal: Token, right: st.Expr) -> st.Equation:
-        start, _, left_depth, line, column = self._spans[id(left)]
-        _, end, right_depth, _, _ = self._spans[id(right)]
+        first, last = left.span, right.span
         quantity = self._as_quantity(
             left, "the left side of `=` in a quantity must be a quantity, as in "
                   "`solve(gain(Uin, out) = -10, Rf)`")
-        node = st.Equation(line, column, quantity, right)
-        self._spans[id(node)] = (start, end, max(left_depth, right_depth), line, column)
-        return node
+        return st.Equation(first.line, first.column, quantity, right,
+                           span=replace(first, end=last.end,
+                                        depth=max(first.depth, last.depth)))
 
-    def _builtin(self, name: Token, arguments: list, close: Token) -> st.Expr:
+    def _builtin(self, name: Token, arguments: list, close: Token, span: st.Span) -> st.Expr:
         """`V(x)`, `V(x, y)`, `I(E)` or `sqrt(x)` inside an expression."""
         if name.value == "V":
             if not 1 <= len(arguments) <= 2:
                 raise self._error_at(name, "V(..) takes one or two nodes: V(x) or V(x, y)")
             nodes = tuple(self._voltage_node(a) for a in arguments)
-            return st.Voltage(name.line, name.column, nodes)
+            return st.Voltage(name.line, name.column, nodes, span=span)
         if len(arguments) != 1:
             usage = "I(..) takes one element name: I(R1)" if name.value == "I" else \
                 "sqrt(..) takes one argument: sqrt(x)"
@@ -161,8 +148,8 @@ class TreeBuilder(Transformer):
         if name.value == "I":
             if not isinstance(argument, st.Name) or argument.name[0].isdigit():
                 raise self._error_at(argument, "I(..) takes one element name: I(R1)")
-            return st.Current(name.line, name.column, argument)
-        return st.Function(name.line, name.column, "sqrt", argument)
+            return st.Current(name.line, name.column, argument, span=span)
+        return st.Function(name.line, name.column, "sqrt", argument, span=span)
 
     def _voltage_node(self, argument) -> st.Name:
         """A node inside V(..): a name, or a non-negative integer."""
@@ -181,12 +168,13 @@ class TreeBuilder(Transformer):
     def _as_quantity(self, node, message: str) -> st.Quantity:
         if isinstance(node, st.Quantity):
             return node
-        start, end = self._spans[id(node)][:2]
-        text = _quantity_text(self.source[start:end])
+        text = _quantity_text(self._source_of(node))
         if isinstance(node, st.Voltage):
-            return st.Quantity(node.line, node.column, "V", node.nodes, None, text)
+            return st.Quantity(node.line, node.column, "V", node.nodes, None, text,
+                               span=node.span)
         if isinstance(node, st.Current):
-            return st.Quantity(node.line, node.column, "I", (node.element,), None, text)
+            return st.Quantity(node.line, node.column, "I", (node.element,), None, text,
+                               span=node.span)
         raise self._error_at(node, message or f"`{text}` is not a quantity")
 
     def _check_expression(self, node: st.Expr) -> None:
@@ -219,20 +207,19 @@ class TreeBuilder(Transformer):
         except NumberError as problem:
             raise self.error(problem.message, token.line, token.column + problem.offset) from None
 
-    def _written(self, node) -> str:
-        start, end = self._spans[id(node)][:2]
-        return _as_written(self.source[start:end])
+    def _source_of(self, node: st.Spanned) -> str:
+        """The text of `node` as written, parentheses around it included."""
+        return self.source[node.span.start:node.span.end]
 
     # ------------------------------------------------------------ values
 
     def value(self, _equal: Token, expression: st.Expr, tolerance: st.Tolerance | None,
               frequency: st.Number | st.Name | None = None) -> st.Value:
         self._check_expression(expression)
-        start, end, _, line, column = self._spans[id(expression)]
-        if tolerance is not None:
-            end = self._spans[id(tolerance)][1]
-        return st.Value(line, column, expression, tolerance, _as_written(self.source[start:end]),
-                        frequency)
+        span = expression.span
+        end = tolerance.span.end if tolerance is not None else span.end
+        return st.Value(span.line, span.column, expression, tolerance,
+                        _as_written(self.source[span.start:end]), frequency)
 
     def frequency(self, _at: Token, target: Token) -> st.Number | st.Name:
         """`at 50 Hz` or `at f`."""
@@ -243,17 +230,14 @@ class TreeBuilder(Transformer):
 
     def tolerance(self, sign: Token, magnitude: Token | None = None) -> st.Tolerance:
         if magnitude is None:
-            node = self._asymmetric(sign)
-        else:
-            value, unit = self._decode(magnitude)
-            percent = unit == PERCENT
-            text = magnitude.value.rstrip("% \t") if percent else magnitude.value
-            number = st.Number(magnitude.line, magnitude.column,
-                               value * 100 if percent else value, None if percent else unit, text)
-            node = st.Tolerance(sign.line, sign.column, number, number, percent)
-        end = (magnitude or sign).end_pos
-        self._spans[id(node)] = (sign.start_pos, end, 0, sign.line, sign.column)
-        return node
+            return self._asymmetric(sign)
+        value, unit = self._decode(magnitude)
+        percent = unit == PERCENT
+        text = magnitude.value.rstrip("% \t") if percent else magnitude.value
+        number = st.Number(magnitude.line, magnitude.column,
+                           value * 100 if percent else value, None if percent else unit, text)
+        return st.Tolerance(sign.line, sign.column, number, number, percent,
+                            span=_span(sign, magnitude.end_pos))
 
     def _asymmetric(self, token: Token) -> st.Tolerance:
         """`+80 % -20 %` (one token)."""
@@ -266,7 +250,8 @@ class TreeBuilder(Transformer):
             except NumberError as problem:
                 raise self.error(problem.message, token.line, column + problem.offset) from None
             numbers.append(st.Number(token.line, column, value, None, match[part]))
-        return st.Tolerance(token.line, token.column, numbers[0], numbers[1], True)
+        return st.Tolerance(token.line, token.column, numbers[0], numbers[1], True,
+                            span=_span(token))
 
     # ------------------------------------------------------------ statements
 
@@ -291,7 +276,6 @@ class TreeBuilder(Transformer):
 
     def param(self, keyword: Token, name: Token, value: st.Value | None,
               description: Token | None) -> st.Param:
-        self._spans.clear()
         self._count(keyword)
         return st.Param(keyword.line, keyword.column, _name(name), value, _description(description))
 
@@ -319,7 +303,6 @@ class TreeBuilder(Transformer):
 
     def element(self, kind: tuple[str, Token], name: Token, terminals: _Terminals,
                 value: st.Value | None, description: Token | None) -> st.ElementStatement:
-        self._spans.clear()
         what, keyword = kind
         self._count(keyword)
         entry = ELEMENT_KINDS[what]
@@ -371,15 +354,13 @@ class TreeBuilder(Transformer):
         if name.value in STATEMENT_WORDS:
             raise self._error_at(name, f"`{name.value}` is a statement keyword and cannot name "
                                        f"a block")
-        depth = 1 + max((self._block_depth.pop(id(s)) for s in body if isinstance(s, st.Block)),
-                        default=0)
+        depth = 1 + max((s.depth for s in body if isinstance(s, st.Block)), default=0)
         if depth > MAX_BLOCK_DEPTH:
             raise self._error_at(keyword, f"blocks nested too deeply (more than "
                                           f"{MAX_BLOCK_DEPTH} levels)")
-        block = st.Block(keyword.line, keyword.column, _name(name),
-                         self._node_list(f"block {name.value}", terminals), tuple(body))
-        self._block_depth[id(block)] = depth
-        return block
+        return st.Block(keyword.line, keyword.column, _name(name),
+                        self._node_list(f"block {name.value}", terminals), tuple(body),
+                        depth=depth)
 
     def instance(self, block: Token, name: Token, terminals: _Terminals,
                  renames: tuple[st.Rename, ...] | None) -> st.Instance:
@@ -403,7 +384,6 @@ class TreeBuilder(Transformer):
     def derive(self, keyword: Token, *rest) -> st.DeriveStatement:
         *calls, assumptions = rest
         quantities = tuple(self._as_quantity(c, "") for c in calls)
-        self._spans.clear()
         return st.DeriveStatement(keyword.line, keyword.column, quantities, assumptions or ())
 
     def where(self, _keyword: Token, *assumptions: st.Assumption) -> tuple[st.Assumption, ...]:
@@ -426,8 +406,7 @@ class TreeBuilder(Transformer):
               ) -> st.ClaimStatement:
         quantity = self._as_quantity(call, "")
         self._check_expression(expression)
-        text = self._written(expression)
-        self._spans.clear()
+        text = _as_written(self._source_of(expression))
         return st.ClaimStatement(keyword.line, keyword.column, quantity, expression, text)
 
     # ------------------------------------------------------------ command-line pieces
@@ -450,7 +429,13 @@ class TreeBuilder(Transformer):
                    ) -> tuple[st.Quantity, st.Expr, str]:
         quantity = self._as_quantity(call, "")
         self._check_expression(expression)
-        return quantity, expression, self._written(expression)
+        return quantity, expression, _as_written(self._source_of(expression))
+
+
+def _span(token: Token, end: int | None = None, depth: int = 0) -> st.Span:
+    """The span starting at `token` (lark's offsets, line and column), to `end` if given."""
+    return st.Span(token.start_pos, token.end_pos if end is None else end, token.line,
+                   token.column, depth)
 
 
 def _name(token: Token) -> st.Name:

@@ -400,23 +400,10 @@ def quantity_symbol(result: Any) -> str:
     `V_{\\mathrm{Th},\\mathrm{out}}`, `gain(Uref, out)` → `V_{out}/U_{ref}`; others upright;
     its `where` limits (`Rin -> oo`) as a subscript bar."""
     quantity, condition = result.parsed, result.condition
-    if quantity is None:  # an analysis' own result (`gain(Uh, out).f0`): read its text
-        written, _, condition = result.quantity.partition(" where ")
-        quantity = _parse(written)
     symbol = _symbol(quantity) if quantity is not None else None
     if symbol is None:
         return latex_text(result.quantity)
     return symbol + (r"\big|_{" + _condition_latex(condition) + "}" if condition else "")
-
-
-def _parse(text: str) -> Any:
-    from ..errors import SymcircError
-    from ..language.parser import parse_quantity
-
-    try:
-        return parse_quantity(text)
-    except SymcircError:  # a quantity we cannot read just keeps its text
-        return None
 
 
 _RELATIONS = {"->": r"\to", "oo": r"\infty", ">>": r"\gg", "<<": r"\ll", ",": ","}
@@ -490,7 +477,8 @@ def _response_part(q: Any) -> str | None:
         if base is None:
             return None
         where = q.args[1]
-        text = getattr(where, "text", None) or getattr(where, "name", "")
+        # the frequency as the quantity's text writes it: `1kHz`
+        text = "".join((getattr(where, "text", None) or getattr(where, "name", "")).split())
         at = {"0": r"\mathrm{DC}", "oo": r"f \to \infty"}.get(text) or \
             "f = " + latex_text(text)
         if q.attribute == "magnitude":
