@@ -422,3 +422,24 @@ def test_command_line_pieces_report_errors(parse):
         parse("gain(Ub, out")
     assert problem.value.file == "<command line>"
     assert "missing `)`" in problem.value.message
+
+
+def test_every_expression_node_carries_its_own_span():
+    """Positions live on the syntax nodes (from lark's tokens), parentheses included."""
+    from symcirc.language import syntax
+    from symcirc.language.parser import parse_claim
+
+    text = "Z(out) = (R1 + R2)*k12"
+    _, written, _ = parse_claim(text)
+    nodes, seen = [written], []
+    while nodes:
+        node = nodes.pop()
+        if isinstance(node, syntax.Spanned):
+            seen.append(node)
+            assert node.span is not None, node
+            assert text[node.span.start:node.span.end].strip()
+        nodes.extend(v for v in vars(node).values() if isinstance(v, syntax.Node))
+        nodes.extend(x for v in vars(node).values() if isinstance(v, tuple)
+                     for x in v if isinstance(x, syntax.Node))
+    sums = [n for n in seen if isinstance(n, syntax.Binary) and n.op == "+"]
+    assert [text[n.span.start:n.span.end] for n in sums] == ["(R1 + R2)"]
