@@ -41,8 +41,7 @@ class Circuit(model.Circuit):
         options.setdefault("steps", False)
         derived = self.pipeline.derive_text(quantity, origin=QUANTITY_ORIGIN, **options)
         # the cautions a reader must see beside each value (Python's display only)
-        return [result.seal() for result in attach(self, [r.copy() for r in derived],
-                                                         self.pipeline.memo)]
+        return attach(self, derived, self.pipeline.memo)
 
     def _repr_markdown_(self) -> str:
         """In Jupyter: the title, the parts and nodes, and the safety cautions."""

@@ -141,9 +141,7 @@ class Pipeline:
         with the file's `typeset` forms, in the forms and steps and in `Result.latex()`."""
         with typeset.names(self.circuit.typeset):
             results = self._derive(request)
-        for result in results:
-            result.typeset = self.circuit.typeset
-        return [result.seal() for result in results]
+        return [result.replace(typeset=self.circuit.typeset) for result in results]
 
     def _derive(self, request: Request) -> list[Result]:
         from .forms import finish

@@ -7,7 +7,9 @@ turning a large polynomial into a sympy expression costs far more than deriving 
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+import dataclasses
+from collections.abc import Mapping
+from dataclasses import KW_ONLY, dataclass, field
 from fractions import Fraction
 from functools import cached_property
 from types import MappingProxyType
@@ -55,120 +57,121 @@ class Step:
                 "defines": self.defines}
 
 
+@dataclass(frozen=True, eq=False)
 class Result:
     """One derived scalar quantity: `.quantity`, `.expression`, `.unit`, `.nominal`.
 
-    The stages that derive a result complete it (forms, steps, notes); the pipeline then
-    seals it, and from there on it cannot change (`copy()` gives one that can).
+    Immutable: a stage that adds something (notes, a form, steps, details) makes a new
+    result with `with_notes`, `with_details` or `replace`.
     """
 
-    _sealed = False
+    quantity: str
+    """The quantity as shown: `thevenin(out).impedance where A -> oo`."""
+    value: ExactValue | sympy.Expr
+    """The exact value: the engine's rational function or a sympy expression."""
+    unit: str = ""
+    nominals: Mapping[str, Fraction] = field(default_factory=dict)
+    """The nominal value of each symbol that has one."""
+    notes: tuple[str, ...] = ()
+    """Plain sentences for the reader (e.g. why a result is zero)."""
+    _: KW_ONLY
+    part: str | None = None
+    """The part of a quantity with several (`impedance`, `z21`, `error`), or None."""
+    base: str | None = None
+    """The quantity without its `where` clause: `thevenin(out).impedance` (the quantity
+    when not given)."""
+    condition: str = ""
+    """The `where` clause of its limits as written (`A -> oo`), or ''."""
+    parsed: Any = None
+    """The quantity as the grammar read it, its part included (`syntax.Quantity`), set by
+    the handlers, the frequency analyses and `solve`; None otherwise (the report then sets
+    the quantity's text upright)."""
+    form: Any = None
+    """Design-oriented form (symcirc.forms), shown when verified equal."""
+    steps: tuple[Step, ...] = ()
+    details: Mapping[str, Any] = field(default_factory=dict)
+    """Extra named results (analyses put tables here)."""
+    cautions: tuple[str, ...] = ()
+    """Safety cautions shown with the result (see symcirc.analysis.cautions.attach)."""
+    typeset: Mapping[str, str] = field(default_factory=dict)
+    """Names' forms given by the circuit's file (`typeset`), used by `latex()`."""
+    name_latex: str | None = None
+    """How the quantity is set in LaTeX when it has a symbol of the trade (`\\omega_{0}`)."""
+    origin: tuple[Location, str | None] | None = None
+    """Where the quantity was asked for (location, source text), for messages."""
 
-    def __init__(
-        self,
-        quantity: str,
-        value: ExactValue | sympy.Expr,
-        unit: str = "",
-        nominals: dict[str, Fraction] | None = None,
-        notes: tuple[str, ...] = (),
-        *,
-        part: str | None = None,
-        base: str | None = None,
-        condition: str = "",
-        parsed: Any = None,
-    ) -> None:
-        self.quantity = quantity
-        """The quantity as shown: `thevenin(out).impedance where A -> oo`."""
-        self.part = part
-        """The part of a quantity with several (`impedance`, `z21`, `error`), or None."""
-        self.base = base if base is not None else quantity
-        """The quantity without its `where` clause: `thevenin(out).impedance`."""
-        self.condition = condition
-        """The `where` clause of its limits as written (`A -> oo`), or ''."""
-        self.parsed = parsed
-        """The quantity as the grammar read it, its part included (`syntax.Quantity`), set by
-        the handlers, the frequency analyses and `solve`; None otherwise (the report then
-        sets the quantity's text upright)."""
-        self.unit = unit
-        self._value = value
-        self._nominals = dict(nominals or {})
-        self.notes: list[str] = list(notes)
-        """Plain sentences for the reader (e.g. why a result is zero)."""
-        self.form: Any = None
-        """Design-oriented form (symcirc.forms), shown when verified equal."""
-        self.steps: list[Step] = []
-        self.details: dict[str, Any] = {}
-        """Extra named results (analyses put tables here)."""
-        self.cautions: list[str] = []
-        """Safety cautions shown with the result (set by `Circuit.derive`; see
-        symcirc.analysis.cautions)."""
-        self.typeset: dict[str, str] = {}
-        """Names' forms given by the circuit's file (`typeset`), used by `latex()`."""
-        self.name_latex: str | None = None
-        """How the quantity is set in LaTeX when it has a symbol of the trade (`\\omega_{0}`)."""
-        self.origin: tuple[Location, str | None] | None = None
-        """Where the quantity was asked for (location, source text), for messages."""
+    def __post_init__(self) -> None:
+        # sequences become tuples and mappings read-only copies, so nothing a caller keeps
+        # can change the result afterwards
+        fixed = {"notes": tuple(self.notes), "steps": tuple(self.steps),
+                 "cautions": tuple(self.cautions),
+                 "nominals": MappingProxyType(dict(self.nominals)),
+                 "details": MappingProxyType(dict(self.details)),
+                 "typeset": MappingProxyType(dict(self.typeset))}
+        if self.base is None:
+            fixed["base"] = self.quantity
+        for name, value in fixed.items():
+            object.__setattr__(self, name, value)
 
-    def __setattr__(self, name: str, value: Any) -> None:
-        if self._sealed:
-            raise AttributeError(f"a derived result cannot change (`{name}`); copy() it first")
-        object.__setattr__(self, name, value)
-
-    def seal(self) -> Result:
-        """Make the result immutable (notes, steps and details included); returns it."""
-        self.notes = tuple(self.notes)  # type: ignore[assignment]
-        self.steps = tuple(self.steps)  # type: ignore[assignment]
-        self.cautions = tuple(self.cautions)  # type: ignore[assignment]
-        self.details = MappingProxyType(dict(self.details))  # type: ignore[assignment]
-        object.__setattr__(self, "_sealed", True)
-        return self
-
-    def copy(self) -> Result:
-        """An unsealed copy to complete further (an approximation of this result)."""
-        made = Result(self.quantity, self._value, self.unit, self._nominals, tuple(self.notes),
-                      part=self.part, base=self.base, condition=self.condition,
-                      parsed=self.parsed)
-        made.form = self.form
-        made.typeset = self.typeset
-        made.steps = list(self.steps)
-        made.details = dict(self.details)
-        made.cautions = list(self.cautions)
-        made.origin = self.origin
+    def replace(self, **changes: Any) -> Result:
+        """A new result with `changes`; what was computed from the value is kept when the
+        value and nominals stay (turning a large value into sympy costs much)."""
+        made = dataclasses.replace(self, **changes)
+        if "value" not in changes and "nominals" not in changes:
+            for name in _COMPUTED:
+                if name in self.__dict__:
+                    made.__dict__[name] = self.__dict__[name]
         return made
+
+    def with_notes(self, *more: str) -> Result:
+        """A new result with `more` notes after its own."""
+        return self.replace(notes=(*self.notes, *more)) if more else self
+
+    def with_new_notes(self, *more: str) -> Result:
+        """A new result with those of `more` notes it does not have yet."""
+        fresh: list[str] = []
+        for note in more:
+            if note not in self.notes and note not in fresh:
+                fresh.append(note)
+        return self.with_notes(*fresh)
+
+    def with_details(self, **more: Any) -> Result:
+        """A new result with `more` details (replacing those of the same name)."""
+        return self.replace(details={**self.details, **more})
 
     # -- the value
     @property
     def exact(self) -> ExactValue | None:
         """The engine's rational function, when the result came from the engine."""
-        return None if isinstance(self._value, sympy.Basic) else self._value
+        return None if isinstance(self.value, sympy.Basic) else self.value
 
     @cached_property
     def expression(self) -> sympy.Expr:
-        if isinstance(self._value, sympy.Basic):
-            return self._value
-        return self._value.to_sympy()
+        if isinstance(self.value, sympy.Basic):
+            return self.value
+        return self.value.to_sympy()
 
     @cached_property
     def symbols(self) -> tuple[str, ...]:
         """Every name the expression uses, sorted."""
-        if isinstance(self._value, sympy.Basic):
-            return tuple(sorted(str(x) for x in self._value.free_symbols))
-        return tuple(sorted(self._value.symbol_names()))
+        if isinstance(self.value, sympy.Basic):
+            return tuple(sorted(str(x) for x in self.value.free_symbols))
+        return tuple(sorted(self.value.symbol_names()))
 
     @cached_property
     def missing(self) -> tuple[str, ...]:
         """Symbols without a nominal value (`s` included: a transfer function has none)."""
-        return tuple(n for n in self.symbols if n not in self._nominals)
+        return tuple(n for n in self.symbols if n not in self.nominals)
 
     @cached_property
     def nominal_exact(self) -> Fraction | None:
         """Exact value at the nominal values, or None when a symbol has no value."""
         if self.missing:
             return None
-        if isinstance(self._value, sympy.Basic):
+        if isinstance(self.value, sympy.Basic):
             subs = {sympy.Symbol(n): sympy.Rational(v.numerator, v.denominator)
-                    for n, v in self._nominals.items()}
-            value = self._value
+                    for n, v in self.nominals.items()}
+            value = self.value
             if value.free_symbols:
                 value = value.xreplace(subs)
             if not value.is_number:
@@ -184,7 +187,7 @@ class Result:
             except TypeError:  # a complex number: no real value to show
                 return None
         try:
-            return self._value.evaluate({n: self._nominals[n] for n in self.symbols})
+            return self.value.evaluate({n: self.nominals[n] for n in self.symbols})
         except ValueError:  # an irrational atom (√a) that is not real at the nominal values
             return None
         except SymcircError as problem:
@@ -206,9 +209,9 @@ class Result:
 
     # -- showing it
     def text(self) -> str:
-        if isinstance(self._value, sympy.Basic):
-            return sympy.sstr(self._value)
-        return self._value.to_text()
+        if isinstance(self.value, sympy.Basic):
+            return sympy.sstr(self.value)
+        return self.value.to_text()
 
     def latex(self) -> str:
         from .model.typeset import latex_of, names
@@ -216,12 +219,12 @@ class Result:
         with names(self.typeset):
             # the engine writes LaTeX straight from its terms: far faster than sympy for
             # big results
-            if not isinstance(self._value, sympy.Basic) and hasattr(self._value, "to_latex"):
-                return self._value.to_latex()
-            if isinstance(self._value, sympy.Float):  # a value found numerically
+            if not isinstance(self.value, sympy.Basic) and hasattr(self.value, "to_latex"):
+                return self.value.to_latex()
+            if isinstance(self.value, sympy.Float):  # a value found numerically
                 from .model.units import number_latex
 
-                return number_latex(float(self._value), self.unit)
+                return number_latex(float(self.value), self.unit)
             return latex_of(self.expression)
 
     def _repr_latex_(self) -> str:
@@ -263,3 +266,7 @@ class Result:
         for key, value in self.details.items():
             out.setdefault(key, value)
         return out
+
+
+_COMPUTED = ("expression", "symbols", "missing", "nominal_exact")
+"""The cached properties that depend only on the value and the nominals."""

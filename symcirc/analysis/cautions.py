@@ -129,17 +129,19 @@ def assess(circuit: Circuit, memo: Memo | None = None) -> Assessment:
 
 
 def attach(circuit: Circuit, results: list, memo: Memo | None = None) -> list:
-    """Give each result the cautions a reader must see beside it (the Python API's display):
-    its own value's, then the circuit's."""
+    """The results with the cautions a reader must see beside each (the Python API's
+    display): its own value's, then the circuit's."""
     assessment = assess(circuit, memo)
     shared = list(assessment.cautions)
     if assessment.shown:
         shared += list(assessment.not_assessed) + list(THRESHOLDS) + [DEFER]
+    out = []
     for result in results:
         own = value_caution(result.nominal, result.unit, assessment.ac)
-        result.cautions = ([f"{result.quantity} is {engineering(result.nominal_exact, result.unit)}"
-                            f": {own}."] if own else []) + shared
-    return results
+        out.append(result.replace(cautions=(
+            [f"{result.quantity} is {engineering(result.nominal_exact, result.unit)}: {own}."]
+            if own else []) + shared))
+    return out
 
 
 def value_caution(value: float | None, unit: str, ac: bool = False) -> str | None:

@@ -60,8 +60,7 @@ AT_PARTS = {"magnitude": r"\left\lvert H\right\rvert",
 
 def _answers(result: Result, quantity: syntax.Quantity | None, inner: Result) -> Result:
     """`result` marked as the answer to `quantity` (as parsed), under `inner`'s limits."""
-    result.parsed, result.condition = quantity, inner.condition
-    return result
+    return result.replace(parsed=quantity, condition=inner.condition)
 
 
 def _with_part(quantity: syntax.Quantity, part: str) -> syntax.Quantity:
@@ -113,8 +112,8 @@ def part_quantity(circuit: Circuit, quantity: syntax.Quantity,
         response = _response(read, inner, quantity)
         for result in _parts(read, inner, response, base, part, quantity):
             if "neglected" in inner.details:  # parts of the approximated response
-                result.details["neglected"] = inner.details["neglected"]
-                result.notes.extend(n for n in inner.notes if n not in result.notes)
+                result = result.with_details(neglected=inner.details["neglected"]) \
+                    .with_new_notes(*inner.notes)
             out.append(result)
     return out
 
@@ -155,13 +154,11 @@ def _parts(read: Reader, inner: Result, response: Response, base: syntax.Quantit
             value = values[part]
     except ResponseError as problem:
         raise read.error(node, f"{inner.quantity} has no `.{part}`: {problem}") from None
-    result = _answers(Result(label, value, unit, _names(nominals), tuple(notes)),
-                      _with_part(base, part), inner)
-    result.name_latex = symbol
-    result.details["response"] = {"part": part, "kind": _kind_text(response),
-                                  "order": response.order, "stable": stability is None
-                                  or not stability.startswith("Unstable")}
-    return [result]
+    details = {"part": part, "kind": _kind_text(response), "order": response.order,
+               "stable": stability is None or not stability.startswith("Unstable")}
+    return [_answers(Result(label, value, unit, _names(nominals), tuple(notes),
+                            name_latex=symbol, details={"response": details}),
+                     _with_part(base, part), inner)]
 
 
 def _missing_part(part: str, response: Response) -> str:
@@ -186,36 +183,34 @@ def _roots(inner: Result, response: Response, base: syntax.Quantity, part: str,
     roots = response.roots(part == "zeros", nominals)
     letter = "p" if part == "poles" else "z"
     if not roots:
-        result = _answers(Result(_label(inner, base.text, part), sympy.Integer(0), "rad/s",
-                                 _names(nominals),
-                                 (*notes, f"{inner.quantity} has no finite {part[:-1]}s.")),
-                          _with_part(base, part), inner)
-        result.details["response"] = {"part": part, part: []}
-        return [result]
+        return [_answers(Result(_label(inner, base.text, part), sympy.Integer(0), "rad/s",
+                                _names(nominals),
+                                (*notes, f"{inner.quantity} has no finite {part[:-1]}s."),
+                                details={"response": {"part": part, part: []}}),
+                         _with_part(base, part), inner)]
     listed = [complex_text(v, "rad/s") for _, v in roots if v is not None]
     out = []
     for k, (closed, value) in enumerate(roots, start=1):
         expression = closed if closed is not None else (
             sympy.Float(value.real, 15) + sympy.I * sympy.Float(value.imag, 15)
             if value is not None else sympy.nan)
-        result = _answers(Result(_label(inner, base.text, f"{letter}{k}"), expression, "rad/s",
-                                 _names(nominals), tuple(notes if k == 1 else ())),
-                          _with_part(base, f"{letter}{k}"), inner)
-        result.name_latex = f"{letter}_{{{k}}}"
+        said = list(notes if k == 1 else ())
         if value is not None:
             hertz = eng(abs(value) / (2 * math.pi), "Hz")
-            result.notes.append(f"{letter}{k} = {complex_text(value, 'rad/s')} at the nominal "
-                                f"values (|{letter}{k}|/2π = {hertz})"
-                                + ("" if closed is not None else
-                                   "; no closed form above degree 2: the number is isolated "
-                                   "exactly at the nominal values") + ".")
+            said.append(f"{letter}{k} = {complex_text(value, 'rad/s')} at the nominal "
+                        f"values (|{letter}{k}|/2π = {hertz})"
+                        + ("" if closed is not None else
+                           "; no closed form above degree 2: the number is isolated "
+                           "exactly at the nominal values") + ".")
         if k == 1 and listed:
-            result.notes.append(f"All {part} at the nominal values: {', '.join(listed)}.")
-        result.details["response"] = {
-            "part": part, "index": k,
-            "value": None if value is None else [value.real, value.imag],
-        }
-        out.append(result)
+            said.append(f"All {part} at the nominal values: {', '.join(listed)}.")
+        details = {"part": part, "index": k,
+                   "value": None if value is None else [value.real, value.imag]}
+        out.append(_answers(Result(_label(inner, base.text, f"{letter}{k}"), expression,
+                                   "rad/s", _names(nominals), tuple(said),
+                                   name_latex=f"{letter}_{{{k}}}",
+                                   details={"response": details}),
+                            _with_part(base, f"{letter}{k}"), inner))
     return out
 
 
@@ -229,13 +224,13 @@ def _corners(inner: Result, response: Response, base: syntax.Quantity, notes: li
         [f"f3db_{k}" for k in range(1, len(frequencies) + 1)]
     out = []
     for name, f in zip(names, frequencies, strict=True):
-        result = _answers(Result(_label(inner, base.text, name), sympy.Float(f, 15), "Hz", {},
-                                 (*notes, f"{eng(f, 'Hz')} at the nominal values (a number: "
-                                          "the closed form is a root of a polynomial in ω²).")),
-                          _with_part(base, name), inner)
-        result.name_latex = PARTS["f3db"][1]
-        result.details["response"] = {"part": "f3db", "frequencies": frequencies}
-        out.append(result)
+        out.append(_answers(Result(_label(inner, base.text, name), sympy.Float(f, 15), "Hz", {},
+                                   (*notes, f"{eng(f, 'Hz')} at the nominal values (a number: "
+                                            "the closed form is a root of a polynomial in ω²)."),
+                                   name_latex=PARTS["f3db"][1],
+                                   details={"response": {"part": "f3db",
+                                                         "frequencies": frequencies}}),
+                            _with_part(base, name), inner))
     return out
 
 
@@ -274,19 +269,15 @@ def at_quantity(circuit: Circuit, quantity: syntax.Quantity,
                  ("dB", db, "dB", f"20·log10|{inner.quantity}| {at_text}."),
                  ("phase", phase, "°", f"Phase of {inner.quantity} {at_text}, in degrees."))
         stability = response.stability(nominals)
-        values = {}
-        for part, expression, unit, sentence in parts:
-            result = _answers(Result(f"{base}.{part}{where}", expression, unit,
-                                     _names(nominals),
-                                     (sentence,) + ((stability,) if stability else ())),
-                              _with_part(plain, part), inner)
-            result.name_latex = AT_PARTS[part]
-            values[part] = result.nominal
-            result.details["at_frequency"] = {"part": part}
-            out.append(result)
-        for result in out[-3:]:
-            result.details["at_frequency"].update(
-                frequency=None if frequency is None else float(frequency), **values)
+        made = [_answers(Result(f"{base}.{part}{where}", expression, unit, _names(nominals),
+                                (sentence,) + ((stability,) if stability else ()),
+                                name_latex=AT_PARTS[part]),
+                         _with_part(plain, part), inner)
+                for part, expression, unit, sentence in parts]
+        values = {part: result.nominal for (part, *_), result in zip(parts, made, strict=True)}
+        hertz = None if frequency is None else float(frequency)
+        out += [result.with_details(at_frequency={"part": part, "frequency": hertz, **values})
+                for (part, *_), result in zip(parts, made, strict=True)]
     if quantity.attribute is None:
         return out
     if quantity.attribute not in AT_PARTS:
@@ -350,8 +341,8 @@ def sensitivity_quantity(circuit: Circuit, quantity: syntax.Quantity,
         result = Result(f"{quantity.name}({inner.quantity}, {x})", value, unit,
                         _names(nominals), tuple(notes))
         if inner.parsed is not None and not inner.condition:  # one with limits is no quantity
-            result.parsed = dataclasses.replace(quantity, args=(inner.parsed, variable),
-                                                text=result.quantity)
+            result = result.replace(parsed=dataclasses.replace(
+                quantity, args=(inner.parsed, variable), text=result.quantity))
         out.append(result)
     return out
 
@@ -471,13 +462,12 @@ def response_quantity(circuit: Circuit, quantity: syntax.Quantity,
         result = Result(quantity.text if asked else f"response({inner.quantity})",
                         inner.expression, inner.unit, _names(nominals))
         if asked:
-            result.parsed = quantity
+            result = result.replace(parsed=quantity)
         elif inner.parsed is not None and not inner.condition:
-            result.parsed = dataclasses.replace(quantity, args=(inner.parsed,),
-                                                text=result.quantity)
+            result = result.replace(parsed=dataclasses.replace(
+                quantity, args=(inner.parsed,), text=result.quantity))
         stability = response.stability(nominals)
-        if stability:
-            result.notes.append(stability)
+        said = [stability] if stability else []
         rows = []
         for k, (f, magnitude, db, phase) in enumerate(table):
             row = {"frequency": f, "magnitude": magnitude, "dB": db, "phase": phase,
@@ -491,15 +481,14 @@ def response_quantity(circuit: Circuit, quantity: syntax.Quantity,
             band_text = "" if spread is None else (
                 f" [{decibels(row['dB_low']).removesuffix(' dB')} … {decibels(row['dB_high'])}, "
                 f"{degrees(row['phase_low'])} … {degrees(row['phase_high'])}]")
-            result.notes.append(f"At {eng(f, 'Hz')}{mark}: |H| = {eng(magnitude, inner.unit)}, "
-                                f"{decibels(db)}, phase {degrees(phase)}{band_text}.")
+            said.append(f"At {eng(f, 'Hz')}{mark}: |H| = {eng(magnitude, inner.unit)}, "
+                        f"{decibels(db)}, phase {degrees(phase)}{band_text}.")
         if spread is not None:
-            result.notes.append(f"Spreads in brackets: 0.1 % … 99.9 % of {spread.samples:,} "
-                                "Monte Carlo samples, each toleranced part uniform over its "
-                                "band.")
-        result.details["response"] = {"rows": rows, "corners": corners,
-                                      "samples": None if spread is None else spread.samples}
-        out.append(result)
+            said.append(f"Spreads in brackets: 0.1 % … 99.9 % of {spread.samples:,} "
+                        "Monte Carlo samples, each toleranced part uniform over its band.")
+        out.append(result.replace(notes=said, details={"response": {
+            "rows": rows, "corners": corners,
+            "samples": None if spread is None else spread.samples}}))
     return out
 
 

@@ -265,15 +265,14 @@ def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
             continue
         for rank, row in enumerate(table.rows, start=1):
             derivative_unit = _per(inner.unit, _unit_of(circuit, row.symbol))
-            result = Result(f"{quantity.name}({q}).{row.symbol}", row.relative, unit, nominals,
-                            part=str(row.symbol))
+            said = []
             if rank == 1 or quantity.attribute == str(row.symbol):  # a row named alone
-                result.notes.append(heading[0].upper() + heading[1:])
+                said.append(heading[0].upper() + heading[1:])
             at = "" if row.derivative_value is None else \
                 f" = {eng(row.derivative_value, derivative_unit)} at the nominal values"
             via = f" (through {', '.join(map(str, row.via))})" if row.via else ""
-            result.notes.append(f"∂({q})/∂{row.symbol}{via} = {_text(row.derivative)}{at}.")
-            result.details["sensitivity"] = {
+            said.append(f"∂({q})/∂{row.symbol}{via} = {_text(row.derivative)}{at}.")
+            details = {
                 "symbol": str(row.symbol),
                 "rank": rank,
                 "relative_to": relative_to,
@@ -284,7 +283,9 @@ def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
                 "relative_nominal": _float(row.relative_value),
                 "via": [str(v) for v in row.via],
             }
-            results.append(result)
+            results.append(Result(f"{quantity.name}({q}).{row.symbol}", row.relative, unit,
+                                  nominals, tuple(said), part=str(row.symbol),
+                                  details={"sensitivity": details}))
     return Reader(circuit, options).select(quantity, results)
 
 
@@ -335,11 +336,9 @@ def tolerance_quantity(circuit: Circuit, quantity: syntax.Quantity,
     """One Result per inner result: Q's closed form, with the spread in notes and details."""
     out = []
     for inner, a in tolerance_analyses(circuit, quantity, options):
-        result = Result(f"tolerance({inner.quantity})", inner.expression, inner.unit,
-                        _names(circuit.symbol_nominals()))
-        result.notes += _tolerance_sentences(inner, a)
-        result.details["tolerance"] = _tolerance_details(a)
-        out.append(result)
+        out.append(Result(f"tolerance({inner.quantity})", inner.expression, inner.unit,
+                          _names(circuit.symbol_nominals()), tuple(_tolerance_sentences(inner, a)),
+                          details={"tolerance": _tolerance_details(a)}))
     return out
 
 
@@ -523,43 +522,44 @@ def loading_quantity(circuit: Circuit, quantity: syntax.Quantity,
     def value(expression):
         return exact_value(expression, case.nominals)
 
-    voltage = Result(f"{label}.voltage", analysis.voltage, "V", nominals, (
+    voltage_notes = (
         f"Thevenin equivalent at {port}: U_th = {_text(u)}, Z_th = {_text(z)}; "
         f"load Z_L = {_text(case.load)}.",
-        "Loaded port voltage U_th·Z_L/(Z_th + Z_L)."), part="voltage")
-    voltage.notes += loading.cautions(_float(value(u)), None, f"port {port} (open circuit)")
-    error = Result(f"{label}.error", analysis.error, "", nominals,
-                   ("Relative loading error (U_loaded − U_open)/U_open = −Z_th/(Z_th + Z_L).",),
-                   part="error")
+        "Loaded port voltage U_th·Z_L/(Z_th + Z_L).",
+        *loading.cautions(_float(value(u)), None, f"port {port} (open circuit)"))
+    error_notes = ["Relative loading error (U_loaded − U_open)/U_open = −Z_th/(Z_th + Z_L)."]
     e = value(analysis.error)
     if e is not None:
-        error.notes.append(f"At the nominal values the loaded port reads {percent(abs(e))} "
+        error_notes.append(f"At the nominal values the loaded port reads {percent(abs(e))} "
                            + ("low." if e < 0 else "high." if e > 0 else "true."))
-    results = [voltage, error]
+    own: dict = {}  # the loading details of voltage and error of their own
+    extra: list[Result] = []
     if case.frequency is not None:
-        extra = _at_frequency(analysis.at_frequency, case, error)
-        for r in (voltage, error):  # the numbers their notes show, for the JSON too
-            r.details["loading"] = {"at_frequency": extra[0].details["loading"]["at_frequency"]}
-        results += extra
+        sentence, extra = _at_frequency(analysis.at_frequency, case)
+        error_notes.append(sentence)
+        # the numbers their notes show, for the JSON too
+        own = {"at_frequency": extra[0].details["loading"]["at_frequency"]}
     else:
         if analysis.power is not None:
-            power = Result(f"{label}.power", analysis.power, "W", nominals,
-                           ("Power delivered to the load, U_th²·R_L/(R_th + R_L)² "
-                            "(= U_loaded²/R_L).",), part="power")
-            power.notes += loading.cautions(None, _float(value(analysis.power)), "the load")
-            results.append(power)
+            extra.append(Result(f"{label}.power", analysis.power, "W", nominals, (
+                "Power delivered to the load, U_th²·R_L/(R_th + R_L)² (= U_loaded²/R_L).",
+                *loading.cautions(None, _float(value(analysis.power)), "the load")),
+                part="power"))
         if analysis.maximum_power is not None:
-            results.append(_maximum_power(analysis.maximum_power, z, case, value))
+            extra.append(_maximum_power(analysis.maximum_power, z, case, value))
         elif analysis.no_maximum is not None:
-            error.notes.append(analysis.no_maximum[0].upper() + analysis.no_maximum[1:] + ".")
+            error_notes.append(analysis.no_maximum[0].upper() + analysis.no_maximum[1:] + ".")
         if loading.is_reactive(u, z, case.load):
-            error.notes.append("Source or load is reactive: for numbers, power and the "
+            error_notes.append("Source or load is reactive: for numbers, power and the "
                                f"conjugate match give a frequency, e.g. {_with_frequency(label)}.")
-    for r in results:
-        r.details.setdefault("loading", {}).update({
-            "port": port, "source_voltage": _text(u), "source_impedance": _text(z),
-            "load": _text(case.load), "frequency": case.frequency,
-        })
+    results = [Result(f"{label}.voltage", analysis.voltage, "V", nominals, voltage_notes,
+                      part="voltage", details={"loading": own}),
+               Result(f"{label}.error", analysis.error, "", nominals, tuple(error_notes),
+                      part="error", details={"loading": own}), *extra]
+    common = {"port": port, "source_voltage": _text(u), "source_impedance": _text(z),
+              "load": _text(case.load), "frequency": case.frequency}
+    results = [r.with_details(loading={**r.details.get("loading", {}), **common})
+               for r in results]
     return read.select(quantity, results)
 
 
@@ -568,10 +568,10 @@ def _maximum_power(maximum: sympy.Expr, z: sympy.Expr, case: LoadingCase, value)
     result = Result(f"{case.label}.maximum_power", maximum, "W", _names(case.nominals), (
         "Maximum power transfer: a resistive load equal to the source resistance, "
         f"R_L = R_th = {_text(z)}" + (f" = {eng(matched, 'Ω')}" if matched is not None else "")
-        + ", takes U_th²/(4·R_th).",), part="maximum_power")
-    result.notes += loading.cautions(None, _float(value(maximum)), "a matched load")
-    result.details["loading"] = {"matched_load": _text(z),
-                                 "matched_load_nominal": _float(matched)}
+        + ", takes U_th²/(4·R_th).",
+        *loading.cautions(None, _float(value(maximum)), "a matched load")),
+        part="maximum_power", details={"loading": {"matched_load": _text(z),
+                                                   "matched_load_nominal": _float(matched)}})
     return result
 
 
@@ -579,42 +579,40 @@ def _with_frequency(label: str) -> str:
     return label[:-1] + ", 1 kHz)"
 
 
-def _at_frequency(at: loading.AtFrequency, case: LoadingCase, error: Result) -> list[Result]:
-    """Power and maximum power at the frequency (numbers), with notes on voltage and error."""
+def _at_frequency(at: loading.AtFrequency,
+                  case: LoadingCase) -> tuple[str, list[Result]]:
+    """The error's note at the frequency, and power and maximum power there (numbers)."""
     import cmath
     import math
 
     f = eng(at.frequency, "Hz")
-    error.notes.append(f"At {f}: |error| = {percent(abs(at.error))}, phase "
-                       f"{degrees(math.degrees(cmath.phase(at.error)))}; |U_loaded| = "
-                       f"{eng(abs(at.voltage), 'V')}.")
-    power = Result(f"{case.label}.power", sympy.Float(at.power, 15), "W", {}, (
-        f"Average power in the load at {f}, the source value taken as RMS: "
-        "|U_th/(Z_th + Z_L)|²·Re Z_L.",), part="power")
-    power.notes += loading.cautions(None, at.power, "the load")
+    sentence = (f"At {f}: |error| = {percent(abs(at.error))}, phase "
+                f"{degrees(math.degrees(cmath.phase(at.error)))}; |U_loaded| = "
+                f"{eng(abs(at.voltage), 'V')}.")
+    power_notes = [f"Average power in the load at {f}, the source value taken as RMS: "
+                   "|U_th/(Z_th + Z_L)|²·Re Z_L.", *loading.cautions(None, at.power, "the load")]
     match = at.matched_load
     sign = "+" if match.imag >= 0 else "−"
     match_text = f"{eng(match.real, 'Ω')} {sign} j·{eng(abs(match.imag), 'Ω')}"
-    out = [power]
     if at.maximum_power is None:
-        power.notes.append(f"No conjugate match exists at {f}: Re Z_th is not positive.")
-    else:
-        maximum = Result(f"{case.label}.maximum_power", sympy.Float(at.maximum_power, 15), "W",
-                         {}, (f"Maximum power transfer at {f}: the conjugate-matched load "
-                              f"Z_L = Z_th* = {match_text} takes |U_th|²/(4·Re Z_th).",),
-                         part="maximum_power")
-        maximum.notes += loading.cautions(None, at.maximum_power, "a matched load")
-        out.append(maximum)
-    for r in out:
-        r.details["loading"] = {"at_frequency": {
-            "frequency": at.frequency,
-            "voltage": [at.voltage.real, at.voltage.imag],
-            "error": [at.error.real, at.error.imag],
-            "power": at.power,
-            "matched_load": [match.real, match.imag],
-            "maximum_power": at.maximum_power,
-        }}
-    return out
+        power_notes.append(f"No conjugate match exists at {f}: Re Z_th is not positive.")
+    out = [Result(f"{case.label}.power", sympy.Float(at.power, 15), "W", {},
+                  tuple(power_notes), part="power")]
+    if at.maximum_power is not None:
+        out.append(Result(f"{case.label}.maximum_power", sympy.Float(at.maximum_power, 15),
+                          "W", {}, (f"Maximum power transfer at {f}: the conjugate-matched load "
+                                    f"Z_L = Z_th* = {match_text} takes |U_th|²/(4·Re Z_th).",
+                                    *loading.cautions(None, at.maximum_power, "a matched load")),
+                          part="maximum_power"))
+    numbers = {"at_frequency": {
+        "frequency": at.frequency,
+        "voltage": [at.voltage.real, at.voltage.imag],
+        "error": [at.error.real, at.error.imag],
+        "power": at.power,
+        "matched_load": [match.real, match.imag],
+        "maximum_power": at.maximum_power,
+    }}
+    return sentence, [r.with_details(loading=numbers) for r in out]
 
 
 def minimum_load_quantity(circuit: Circuit, quantity: syntax.Quantity,
@@ -649,12 +647,12 @@ def minimum_load_quantity(circuit: Circuit, quantity: syntax.Quantity,
                        + ("" if numbers_only else ": C_L ≤ e/(2π·f·R_th·√(1 − e²))") + ". "
                        f"At the nominal values: {eng(bound.capacitance_value, 'F')}.",),
             part="capacitance"))
-    for r in results:
-        r.details["minimum_load"] = {
-            "port": case.port, "bound": float(case.bound), "frequency": case.frequency,
-            "source_impedance": _text(z), "resistance": bound.resistance_value,
-            "capacitance": bound.capacitance_value,
-        }
+    bounds = {
+        "port": case.port, "bound": float(case.bound), "frequency": case.frequency,
+        "source_impedance": _text(z), "resistance": bound.resistance_value,
+        "capacitance": bound.capacitance_value,
+    }
+    results = [r.with_details(minimum_load=bounds) for r in results]
     return Reader(circuit, options).select(quantity, results)
 
 
@@ -688,23 +686,24 @@ def solve_quantity(circuit: Circuit, quantity: syntax.Quantity,
             quantity, attribute=f"solution{k}", text=f"{quantity.text}.solution{k}")
         expression = solution.expression if solution.expression is not None else \
             sympy.Float(float(solution.value), 15)
-        result = Result(answered.text, expression, unit, others, parsed=answered)
+        said = []
         if k == 1:
-            result.notes.append(_solve_heading(solved, inner.quantity, unit, missing))
+            said.append(_solve_heading(solved, inner.quantity, unit, missing))
         if solution.expression is None:
-            result.notes.append(f"{x} is a root of {_text(solved.polynomial.as_expr())} = 0 "
-                                f"(degree {solved.polynomial.degree()}): no closed form is given.")
+            said.append(f"{x} is a root of {_text(solved.polynomial.as_expr())} = 0 "
+                        f"(degree {solved.polynomial.degree()}): no closed form is given.")
         if solution.value is None and not missing:
-            result.notes.append("Not real and positive at the nominal values.")
-        result.notes += [_series_sentence(c, unit, inner.unit) for c in solution.choices]
-        result.details["solve"] = {
+            said.append("Not real and positive at the nominal values.")
+        said += [_series_sentence(c, unit, inner.unit) for c in solution.choices]
+        details = {
             "symbol": str(x), "quantity": inner.quantity, "target": _text(target),
             "solution": k, "of": len(solved.solutions), "value": _float(solution.value),
             "series": {c.series: {"below": float(c.below), "above": float(c.above),
                                   "q_below": _float(c.q_below), "q_above": _float(c.q_above),
                                   "best": float(c.best)} for c in solution.choices},
         }
-        results.append(result)
+        results.append(Result(answered.text, expression, unit, others, tuple(said),
+                              details={"solve": details}, parsed=answered))
     return results
 
 

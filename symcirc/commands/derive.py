@@ -104,9 +104,7 @@ def _with_stability(circuit, result: Result) -> Result:
         return result
     if not words:
         return result
-    said = result.copy()
-    said.notes.append(words)
-    return said.seal()
+    return result.with_notes(words)
 
 
 def _notice(notice, circuit) -> str:

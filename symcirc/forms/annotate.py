@@ -45,40 +45,44 @@ ladder, 377 terms, takes seconds), which no reader can use."""
 
 def annotate(
     circuit: Circuit, quantity: syntax.Quantity, results: list[Result], options: DeriveOptions
-) -> None:
-    """Set `result.form` and `result.steps` on each result forms can derive and prove."""
+) -> list[Result]:
+    """The results, each with its `form` and `steps` where forms can derive and prove them."""
     if not options.steps:
-        return
-    for result in results:
-        attribute = quantity.attribute or result.part
-        target = target_of(circuit, quantity, attribute)
-        if target is None:
-            continue
+        return results
+    return [_annotated(circuit, quantity, result, options) for result in results]
+
+
+def _annotated(
+    circuit: Circuit, quantity: syntax.Quantity, result: Result, options: DeriveOptions
+) -> Result:
+    attribute = quantity.attribute or result.part
+    target = target_of(circuit, quantity, attribute)
+    if target is not None:
         terms = size(result)
-        if terms > MAX_TERMS:
-            note = (
-                f"no design form or derivation steps: the result has {terms} terms, more "
-                f"than the {MAX_TERMS} up to which they are worked out"
-            )
-            if note not in result.notes:
-                result.notes.append(note)
-            continue
-        key = (
-            "forms",
-            result.quantity,
-            options.substitute,
-            tuple(a for a in options.assumptions if a.kind == "limit"),
+    if target is None:
+        return result
+    if terms > MAX_TERMS:
+        return result.with_new_notes(
+            f"no design form or derivation steps: the result has {terms} terms, more "
+            f"than the {MAX_TERMS} up to which they are worked out"
         )
-        store = options.memo.of(circuit)
-        if key not in store:
-            store[key] = _annotation(circuit, target, result, options)
-        found = store[key]
-        if found is not None:
-            steps, form, details = found
-            result.steps = list(steps)
-            result.form = form
-            for name, value in details.items():
-                result.details.setdefault(name, value)
+    key = (
+        "forms",
+        result.quantity,
+        options.substitute,
+        tuple(a for a in options.assumptions if a.kind == "limit"),
+    )
+    store = options.memo.of(circuit)
+    if key not in store:
+        store[key] = _annotation(circuit, target, result, options)
+    found = store[key]
+    if found is None:
+        return result
+    steps, form, details, warnings = found
+    merged = dict(result.details)
+    for name, value in details.items():
+        merged.setdefault(name, value)
+    return result.with_new_notes(*warnings).replace(steps=steps, form=form, details=merged)
 
 
 def size(result: Result) -> int:
@@ -116,10 +120,12 @@ def _annotation(circuit: Circuit, target: Target, result: Result, options: Deriv
             continue
         if not equal(value, canonical):
             continue
+        warnings: list[str] = []
         if expansions and not options.substitute:
-            opened = _opened(circuit, target, result, limits, expansions, nominals)
+            opened = _opened(circuit, target, result, limits, expansions, nominals, warnings)
             if opened is not None:
-                return (*opened, details)
+                return (*opened, details, tuple(warnings))
+            warnings.clear()
         form = _form(
             value,
             result,
@@ -128,8 +134,9 @@ def _annotation(circuit: Circuit, target: Target, result: Result, options: Deriv
             nominals,
             rec,
             symbol,
+            warnings,
         )
-        return rec.steps, form, details
+        return rec.steps, form, details, tuple(warnings)
     return None
 
 
@@ -140,9 +147,11 @@ def _opened(
     limits: list[Assumption],
     expansions: list[approx.Expansion],
     nominals: dict[str, Fraction],
+    warnings: list[str],
 ):
     """A part whose limit is an open circuit (`RL -> oo`): take it out and derive the rest
-    by its structure, which gives the form an engineer writes; None when that fails."""
+    by its structure, which gives the form an engineer writes; None when that fails.
+    Warnings for the reader go into `warnings`."""
     names = []
     for assumption in limits:
         element = circuit.elements.get(assumption.symbol)
@@ -175,7 +184,7 @@ def _opened(
     value = rec.substitute(symbol)
     if not equal(value, _canonical(result)):
         return None
-    form = _form(value, result, target, True, nominals, rec, symbol)
+    form = _form(value, result, target, True, nominals, rec, symbol, warnings)
     for assumption, expansion in zip(limits, expansions, strict=False):
         _error_step(rec, expansion, f"{assumption.symbol} → {_arrow(assumption)}")
     return rec.steps, form
@@ -199,14 +208,16 @@ def _form(
     nominals: dict[str, Fraction],
     rec: Recorder,
     symbol: sympy.Expr,
+    warnings: list[str],
 ) -> Form:
+    """The design form of `value`; an instability it shows goes into `warnings`."""
     standard = standard_form(_canonical(result), result.unit) if "s" in result.symbols else None
     parameters = _parameters(standard, nominals) if standard else {}
     if standard is not None:
         _standard_step(rec, symbol, standard, parameters)
         warning = _instability(parameters)
-        if warning and warning not in result.notes:
-            result.notes.append(warning)
+        if warning:
+            warnings.append(warning)
     if standard is not None and (target.kind in TRANSFER_KINDS or not structural):
         return Form(standard.expression, standard.text, standard.latex, parameters, standard.kind)
     if structural:
@@ -394,28 +405,22 @@ def approximate(circuit: Circuit, result: Result, assumption: Assumption) -> Res
     """The result under `big >> small`: its leading term in small/big, with the neglected
     first-order term and the exact relative error in `details`, and the steps."""
     big, small = _symbol(circuit, assumption.symbol), _symbol(circuit, assumption.target)
-    result = result.copy()  # the exact result stays as it was derived
     terms = size(result)
     if terms > MAX_APPROXIMATED_TERMS:
-        result.notes.append(
+        return result.with_notes(
             f"{big} >> {small} is not applied: the result has {terms} terms, more than the "
             f"{MAX_APPROXIMATED_TERMS} up to which approximations are worked out; exact "
             "result kept"
         )
-        return result
     exact = result.expression
     try:
         expansion = approx.much_greater(exact, big, small)
     except approx.NoExpansion as err:
-        result.notes.append(f"{big} >> {small} gives no expansion here ({err}); exact result kept")
-        return result
+        return result.with_notes(
+            f"{big} >> {small} gives no expansion here ({err}); exact result kept")
     if not result.steps:  # the exact result's own derivation comes first
-        _annotate_alone(circuit, result)
+        result = _annotate_alone(circuit, result)
     nominals = _nominals(circuit)
-    new = Result(
-        result.quantity, _Value(expansion.leading), result.unit, nominals, tuple(result.notes),
-        part=result.part, base=result.base, condition=result.condition, parsed=result.parsed,
-    )
     rec = Recorder(_taken(circuit) | {step.defines for step in result.steps if step.defines})
     symbol = rec.fresh([f"{_result_name(result)}_approx"], "X")
     rec.add(
@@ -437,23 +442,28 @@ def approximate(circuit: Circuit, result: Result, assumption: Assumption) -> Res
         order=expansion.order,
     )
     _error_step(rec, expansion, f"{big} ≫ {small}")
-    new.steps = list(result.steps) + rec.steps
-    new.details = {
-        "neglected": describe(expansion.neglected, nominals),
-        "relative_error": describe(expansion.relative_error, nominals),
-        "assumption": f"{big} >> {small}",
-    }
-    if equal(expansion.leading, new.expression):
+    leading = _Value(expansion.leading)
+    form = None
+    if equal(expansion.leading, leading.to_sympy()):
         standard = standard_form(expansion.leading, result.unit)
         parameters = _parameters(standard, nominals) if standard else {}
-        new.form = Form(
+        form = Form(
             expansion.leading,
             text(expansion.leading),
             latex(expansion.leading),
             parameters,
             "approximation",
         )
-    return new
+    return Result(
+        result.quantity, leading, result.unit, nominals, result.notes,
+        part=result.part, base=result.base, condition=result.condition, parsed=result.parsed,
+        form=form, steps=(*result.steps, *rec.steps),
+        details={
+            "neglected": describe(expansion.neglected, nominals),
+            "relative_error": describe(expansion.relative_error, nominals),
+            "assumption": f"{big} >> {small}",
+        },
+    )
 
 
 class _Value:
@@ -484,7 +494,7 @@ class _Value:
         return Fraction(int(value.p), int(value.q))
 
 
-def _annotate_alone(circuit: Circuit, result: Result) -> None:
+def _annotate_alone(circuit: Circuit, result: Result) -> Result:
     """Annotate a result known only by its quantity text (`V(out) where ...`)."""
     from ..errors import SymcircError
     from ..language.parser import parse_quantity
@@ -492,8 +502,9 @@ def _annotate_alone(circuit: Circuit, result: Result) -> None:
     try:
         quantity = parse_quantity(result.base)
     except SymcircError:
-        return
-    annotate(circuit, quantity, [result], DeriveOptions())
+        return result
+    (annotated,) = annotate(circuit, quantity, [result], DeriveOptions())
+    return annotated
 
 
 def _result_name(result: Result) -> str:

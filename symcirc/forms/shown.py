@@ -26,7 +26,7 @@ def finish(
     if approximations:
         results = [_approximated(circuit, r, approximations) for r in results]
     if options.steps and not any(r.form is not None or r.steps for r in results):
-        annotate(circuit, quantity, results, options)
+        results = annotate(circuit, quantity, results, options)
     return results
 
 

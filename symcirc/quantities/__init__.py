@@ -140,13 +140,11 @@ def derive_quantity(circuit: Circuit, quantity: syntax.Quantity,
     results = handler(circuit, quantity, options)
     from .stability import add_warnings
 
-    add_warnings(circuit, results, options.memo)
+    results = add_warnings(circuit, results, options.memo)
     origin = options.origin or (circuit.file, circuit.source)
     where = (Location(origin[0], quantity.line, quantity.column), origin[1])
-    for result in results:
-        if result.origin is None:
-            result.origin = where
-    return results
+    return [result if result.origin is not None else result.replace(origin=where)
+            for result in results]
 
 
 # ---------------------------------------------------------------- the named API

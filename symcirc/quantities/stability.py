@@ -263,17 +263,18 @@ def _row_at_nominal(ring: PolynomialRing, row: dict, in_s: PolynomialRing,
     return out
 
 
-def add_warnings(circuit: Circuit, results: list[Result], memo: Memo | None = None) -> None:
-    """Put the stability warnings into each result's notes (derive, notes and JSON show
+def add_warnings(circuit: Circuit, results: list[Result],
+                 memo: Memo | None = None) -> list[Result]:
+    """The results with the stability warnings in their notes (derive, notes and JSON show
     them)."""
     loop = opamp_notes(circuit, memo)
     nominals = None
+    out = []
     for result in results:
         extra = list(loop)
         if result.exact is not None:
             if nominals is None:
                 nominals = {str(k): v for k, v in circuit.symbol_nominals().items()}
             extra += response_notes(result, nominals)
-        for note in extra:
-            if note not in result.notes:
-                result.notes.append(note)
+        out.append(result.with_new_notes(*extra))
+    return out

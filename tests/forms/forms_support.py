@@ -45,8 +45,7 @@ def annotated(
                 part=attribute or None,
             )
         )
-    annotate(circuit, q, results, DeriveOptions(assumptions=assumptions))
-    return circuit, results
+    return circuit, annotate(circuit, q, results, DeriveOptions(assumptions=assumptions))
 
 
 def solve_nodal(equations: list[sympy.Expr], unknowns: list[sympy.Symbol]) -> dict:

@@ -242,7 +242,7 @@ def test_opamp_circuit_goes_to_the_nodal_equations():
 
 def test_a_form_that_does_not_prove_out_is_not_shown():
     _, (z,) = annotated(BRIDGE, "Z(out)", {None: R1 + R2 + R3 + R4})
-    assert z.form is None and z.steps == []
+    assert z.form is None and z.steps == ()
 
 
 def test_grounded_port_impedance_of_an_rc_network_keeps_s():

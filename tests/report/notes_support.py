@@ -43,8 +43,8 @@ def hand_note(fmt: str, title: str = HOSTILE) -> Note:
         {"out": Port("out", "out", "gnd", _AT)}, ("gnd", "in", "out"))
     r1, r2, u = sympy.symbols("R1 R2 U")
     nominals = {"R1": Fraction(1000), "R2": Fraction(2000), "U": Fraction(5)}
-    result = Result("V(out)", u * r2 / (r1 + r2), "V", nominals, notes=(title,))
-    result.steps = [Step("divider", title, r"V_{out} = U \frac{R_{2}}{R_{1} + R_{2}}")]
+    result = Result("V(out)", u * r2 / (r1 + r2), "V", nominals, notes=(title,),
+                    steps=[Step("divider", title, r"V_{out} = U \frac{R_{2}}{R_{1} + R_{2}}")])
     section = Section("V(out)", "v-out", (), (), [result_view(result, "V_{out}")])
     return Note(title, "hand.circuit", "hand.circuit", "0" * 64, "0.1.0", fmt, parts(circuit),
                 parameters(circuit), ports(circuit), circuit.nodes, [], [section], [],
