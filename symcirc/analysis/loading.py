@@ -75,6 +75,11 @@ def phasor(
     """`expression` at s = j·2π·f and the nominal values, as a complex number."""
     values = {x: sympy.Float(float(v), 30) for x, v in nominals.items()}
     values[LAPLACE] = sympy.I * 2 * sympy.pi * sympy.Float(frequency, 30)
+    missing = sorted(str(x) for x in expression.free_symbols if x not in values)
+    if missing:
+        raise NoAnswer(f"the numbers at {eng(frequency, 'Hz')} need a value for "
+                       f"{', '.join(missing)}: give {'it' if len(missing) == 1 else 'them'} "
+                       "one in the file, or ask without a frequency for the closed forms")
     return complex(expression.xreplace(values).evalf(30))
 
 

@@ -624,7 +624,11 @@ def minimum_load_quantity(circuit: Circuit, quantity: syntax.Quantity,
         raise Reader(circuit, options).error(
             quantity, f"the source impedance at {case.port} depends on s; give a frequency: "
                       f"{_with_frequency(case.label)}")
-    bound = loading.minimum_load(z, case.bound, case.nominals, case.frequency)
+    try:
+        bound = loading.minimum_load(z, case.bound, case.nominals, case.frequency)
+    except loading.NoAnswer as problem:
+        raise Reader(circuit, options).error(
+            quantity, f"{case.label} at port {case.port}: {problem}") from None
     nominals = _names(case.nominals)
     within = f"keeps the loading error within {percent(case.bound)}"
     at_f = "" if case.frequency is None else f" at {eng(case.frequency, 'Hz')}"

@@ -108,3 +108,14 @@ def test_cautions_for_voltage_and_dissipation():
     assert "local electrical codes" in voltage and "licensed practice" in voltage
     power, = cautions(None, 0.5, "the load")
     assert "power rating" in power and "licensed practice" in power
+
+
+def test_numbers_at_a_frequency_without_values_are_an_error_not_a_traceback(cli, tmp_path):
+    """The phasors at f need every value: a part without one is named (exit 2)."""
+    path = tmp_path / "free.circuit"
+    path.write_text("param Rs\nvoltage source Uin (a, gnd)\nresistor R1 (a, x) = Rs\n"
+                    "capacitor C1 (x, gnd) = 1n\nport out (x, gnd)\n", encoding="utf-8")
+    for asked in ("loading(out, 10k, 1 kHz)", "minimum_load(out, 1 %, 1 kHz)"):
+        status, _, err = cli("derive", path, asked)
+        assert status == 2, err
+        assert "need a value for" in err and "Traceback" not in err
