@@ -204,7 +204,7 @@ def _interrupt(command: list[str], cwd: Path) -> subprocess.CompletedProcess:
     try:
         first = child.stderr.readline()
         child.send_signal(signal.SIGINT)
-        out, err = child.communicate(timeout=5)
+        out, err = child.communicate(timeout=30)
     finally:
         child.kill()
         child.wait()
