@@ -196,11 +196,18 @@ def test_a_bad_memory_setting_is_an_error_message(tmp_path: Path) -> None:
     refused(done, "SYMCIRC_MEMORY_LIMIT: error: `lots` is not a size")
 
 
+def _terminal_child() -> None:
+    """The child as a terminal starts it: Ctrl-C is not ignored even when the test run was
+    started in the background (a shell starts background jobs with SIGINT ignored)."""
+    _ceiling()
+    signal.signal(signal.SIGINT, signal.SIG_DFL)
+
+
 def _interrupt(command: list[str], cwd: Path) -> subprocess.CompletedProcess:
     """Start `command`, wait for its first line on stderr (it is then at work), send SIGINT
     and wait for it to end (TimeoutExpired if it does not: the test fails)."""
     child = subprocess.Popen(command, cwd=cwd, stdout=subprocess.PIPE, stderr=subprocess.PIPE,
-                             text=True, preexec_fn=_ceiling)
+                             text=True, preexec_fn=_terminal_child)
     try:
         first = child.stderr.readline()
         child.send_signal(signal.SIGINT)
