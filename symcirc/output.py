@@ -15,6 +15,9 @@
   temporary and every file the transaction had put in place; nothing else changes.
 - Temporary names start with `.`, carry `.symcirc-PID-` and end in `.tmp`; those left by a
   process that no longer runs (killed outright) are removed at the next write in the folder.
+- A program symcirc runs (pdflatex, pandoc) works in a `private_folder`: made by `mkdtemp`
+  (readable by this user only), filled through `Transaction`, removed with everything in it
+  when the work is done or fails.
 
 This is a utility like `errors`, usable from every stage; it imports no stage.
 """
@@ -24,6 +27,7 @@ from __future__ import annotations
 import errno
 import os
 import re
+import shutil
 import signal
 import stat
 import tempfile
@@ -232,6 +236,21 @@ class Transaction:
                 except OSError:
                     pass  # not empty: other files were there before
             self._staged, self._placed, self._made = [], [], []
+
+
+@contextmanager
+def private_folder() -> Iterator[Path]:
+    """A new folder in the system's temporary folder that only this user can enter (mode
+    0700, from `mkdtemp`), removed with everything in it on leaving the block."""
+    try:
+        path = Path(tempfile.mkdtemp(prefix="symcirc-"))
+    except OSError as err:
+        raise _error(Path(tempfile.gettempdir()), err, "cannot make a private work folder") \
+            from None
+    try:
+        yield path
+    finally:
+        shutil.rmtree(path, ignore_errors=True)
 
 
 def remove_stale_temporaries(folder: Path) -> None:

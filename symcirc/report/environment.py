@@ -26,7 +26,7 @@ from jinja2.loaders import split_template_path
 from jinja2.sandbox import ImmutableSandboxedEnvironment, SecurityError
 
 from ..errors import SymcircError
-from .filters import FILTERS
+from .filters import FILTERS, FORMAT_FILTERS
 
 TEMPLATE_PACKAGE = "symcirc.templates"
 
@@ -119,8 +119,11 @@ class TemplateSandbox(ImmutableSandboxedEnvironment):
         return operator.mul(left, right)
 
 
-def environment(template_dir: str | Path | None = None) -> jinja2.Environment:
-    """The environment: templates from `template_dir` (if given) override the built-in ones."""
+def environment(template_dir: str | Path | None = None,
+                format: str | None = None) -> jinja2.Environment:
+    """The environment: templates from `template_dir` (if given) override the built-in ones;
+    `format` picks the filters of a document made from another's text (a Word document's
+    Markdown keeps its maths as pandoc reads TeX)."""
     loaders: list[jinja2.BaseLoader] = []
     if template_dir is not None:
         folder = Path(template_dir)
@@ -138,6 +141,7 @@ def environment(template_dir: str | Path | None = None) -> jinja2.Environment:
         keep_trailing_newline=True,
     )
     env.filters.update(FILTERS)
+    env.filters.update(FORMAT_FILTERS.get(format or "", {}))
     return env
 
 

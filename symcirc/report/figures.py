@@ -23,10 +23,13 @@ from ..pipeline import Request
 from ..vocabulary import QUANTITIES
 from .content import Figure, ResultView, Section
 
-IMAGE_EXTENSION = {"latex": ".png", "markdown": ".svg", "html": ".svg"}
-"""pdflatex takes PNG (not SVG); Markdown and HTML get scalable SVG."""
-SCHEMATIC_EXTENSION = {"latex": ".pdf", "markdown": ".svg", "html": ".svg"}
-"""A schematic is line art: PDF (vector) for pdflatex."""
+IMAGE_EXTENSION = {"latex": ".png", "markdown": ".svg", "html": ".svg", "pdf": ".png",
+                   "docx": ".png"}
+"""pdflatex takes PNG (not SVG); Markdown and HTML get scalable SVG; every Word reads PNG."""
+SCHEMATIC_EXTENSION = {"latex": ".pdf", "markdown": ".svg", "html": ".svg", "pdf": ".pdf",
+                       "docx": ".svg"}
+"""A schematic is line art: PDF (vector) for pdflatex, SVG elsewhere (Word 2016 and later
+show it; it has no raster form of its own)."""
 
 
 @dataclass(frozen=True)

@@ -14,10 +14,11 @@ from ..errors import SymcircError
 from ..output import check_target, write_file
 
 FORMATS = {".md": "markdown", ".markdown": "markdown", ".tex": "latex", ".html": "html",
-           ".htm": "html"}
+           ".htm": "html", ".pdf": "pdf", ".docx": "docx"}
 """Document format of each output extension."""
 
-EXTENSIONS = {"markdown": ".md", "latex": ".tex", "html": ".html"}
+EXTENSIONS = {"markdown": ".md", "latex": ".tex", "html": ".html", "pdf": ".pdf",
+              "docx": ".docx"}
 
 
 @dataclass(frozen=True)
@@ -55,7 +56,8 @@ def output_for(option: str, inputs: Iterable[str | os.PathLike],
 
 
 def format_of(output: Output, requested: str | None, allowed: tuple[str, ...]) -> str:
-    """The document format: `--format` when given, else from the output's extension."""
+    """The document format: `--format` when given, else from the output's extension. A PDF
+    or Word document's program is looked for here, before the work starts."""
     if requested is not None:
         fmt = {"md": "markdown", "tex": "latex", "htm": "html"}.get(requested, requested)
     elif output.path is None:
@@ -70,12 +72,21 @@ def format_of(output: Output, requested: str | None, allowed: tuple[str, ...]) -
     if fmt not in allowed:
         raise SymcircError(f"format '{fmt}' is not available here (choose from "
                            + ", ".join(allowed) + ")")
+    if fmt in ("pdf", "docx"):
+        from .documents import require
+
+        require(fmt, output.path)
     return fmt
 
 
-def write_document(output: Output, text: str) -> None:
-    """The document to its file (through the one writer) or to standard output."""
-    if output.path is None:
+def write_document(output: Output, text: str, fmt: str | None = None) -> None:
+    """The document to its file (through the one writer) or to standard output; a PDF or
+    Word document (`fmt`) is made from `text` first."""
+    if fmt in ("pdf", "docx") and output.path is not None:
+        from .documents import document
+
+        write_file(output.path, document(fmt, text, (), output.path), output.inputs)
+    elif output.path is None:
         sys.stdout.write(text)
         sys.stdout.flush()
     else:

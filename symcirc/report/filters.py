@@ -92,16 +92,23 @@ def escape_md(text: Any) -> str:
     return "".join(out)
 
 
-def math_md(latex: Any) -> str:
+def math_md(latex: Any, line_break: str = "\\cr ") -> str:
     """LaTeX maths for between `$` signs in Markdown, written so that renderers which parse
     Markdown before the maths still leave it whole: no `_` that could open emphasis (a space
     follows each one after punctuation), `\\cr` for line breaks (`\\\\` would lose a
     backslash), `\\vert` for `|` (which would split a table cell)."""
     import re
 
-    text = str(latex).replace("\\\\", "\\cr ")
+    text = str(latex).replace("\\\\", line_break)
     text = re.sub(r"\|(?=[A-Za-z])", r"\\vert ", text).replace("|", "\\vert")
     return re.sub(r"(?<=[^A-Za-z0-9\\])_(?=\S)", "_ ", text)
+
+
+def math_pandoc(latex: Any) -> str:
+    """LaTeX maths between `$` signs in the Markdown pandoc turns into a Word document: as
+    `math_md`, but with `\\\\` for line breaks (pandoc reads the maths as TeX, which has
+    no `\\cr` in its `aligned`)."""
+    return math_md(latex, "\\\\ ")
 
 
 def code_md(text: Any) -> str:
@@ -221,3 +228,6 @@ FILTERS = {
     "latex": latex,
 }
 """Name → filter, as registered in the template environment."""
+
+FORMAT_FILTERS = {"docx": {"math_md": math_pandoc}}
+"""Filters that differ for a format made from another's templates (name → filter)."""

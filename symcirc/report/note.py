@@ -35,7 +35,10 @@ from .content import (
 from .files import Output, write_document
 from .progress import Progress
 
-TEMPLATES = {"markdown": "note.md.j2", "latex": "note.tex.j2", "html": "note.html.j2"}
+TEMPLATES = {"markdown": "note.md.j2", "latex": "note.tex.j2", "html": "note.html.j2",
+             "pdf": "note.tex.j2", "docx": "note.md.j2"}
+"""The template of each format: a PDF is compiled from the LaTeX note, a Word document made
+from the Markdown one (`report.documents`)."""
 MARKER = "symcirc-note"
 """Name of the machine-readable marker `symcirc verify` reads back."""
 
@@ -105,7 +108,8 @@ def render_note_for(
 ) -> str:
     """The text of the design note of the circuit file `path`.
 
-    format: 'markdown', 'latex' or 'html'. quantities: the quantities to show (as written on
+    format: 'markdown', 'latex', 'html', or 'pdf' / 'docx' (the text they are made from).
+    quantities: the quantities to show (as written on
     the command line), or None for the file's `derive` statements. template: a folder whose
     templates override the built-in ones, or None. output_path: where the note is (or will
     be) written, which fixes the relative paths to the source and to the figures; None for
@@ -127,7 +131,8 @@ def write_note(
     """Render the note, draw its figures, then write figures and note together through the
     one writer (figures first, the note last; see `symcirc.output`); returns the note's
     content (claims, figures) for the caller to report on."""
-    from ..output import Transaction
+    from ..output import Transaction, write_file
+    from .documents import SOURCE_FORMAT, document
     from .figures import figure_names, folder_name
 
     note, drawings = build_note(path, format, quantities, template, output.path, progress)
@@ -137,6 +142,9 @@ def write_note(
         return note
     with typeset.names(note.circuit.typeset):
         images = [(drawing.figure.path, drawing.draw()) for drawing in drawings]
+    if format in SOURCE_FORMAT:  # figures go inside the document
+        write_file(output.path, document(format, text, images, output.path), output.inputs)
+        return note
     folder = output.folder / folder_name(output.stem)
     shown = {Path(name).name for name, _ in images}
     old = figure_names(_previous_text(output.path), output.stem)
@@ -221,7 +229,7 @@ def render_note(note: Note, template: str | Path | None = None) -> str:
     from .environment import environment, render
 
     with typeset.names(note.circuit.typeset if note.circuit is not None else {}):
-        return render(environment(template), TEMPLATES[note.format], note=note)
+        return render(environment(template, note.format), TEMPLATES[note.format], note=note)
 
 
 def _note(circuit: Circuit, source: Path, data: bytes, fmt: str,

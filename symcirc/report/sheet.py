@@ -13,7 +13,8 @@ from ..version import __version__
 from .content import ResultView
 from .progress import Progress
 
-TEMPLATES = {"markdown": "sheet.md.j2", "latex": "sheet.tex.j2"}
+TEMPLATES = {"markdown": "sheet.md.j2", "latex": "sheet.tex.j2", "html": "sheet.html.j2",
+             "pdf": "sheet.tex.j2", "docx": "sheet.md.j2"}
 
 
 @dataclass(frozen=True)
@@ -45,13 +46,14 @@ class Sheet:
 
 def render_sheet_for(paths: Sequence[str | Path], format: str,
                      template: str | Path | None = None, progress: bool = False) -> str:
-    """The formula sheet of the circuit files `paths` ('markdown' or 'latex'); the design form
-    of each result where one exists, the spread from the tolerance analysis where toleranced."""
+    """The formula sheet of the circuit files `paths` ('markdown', 'latex' or 'html'); the
+    design form of each result where one exists, the spread from the tolerance analysis where
+    toleranced."""
     from .environment import environment, render
 
     sheet = build_sheet(paths, format, progress)
     with typeset.names(sheet.typeset):
-        return render(environment(template), TEMPLATES[format], sheet=sheet)
+        return render(environment(template, format), TEMPLATES[format], sheet=sheet)
 
 
 def build_sheet(paths: Sequence[str | Path], format: str, progress: bool = False) -> Sheet:
