@@ -64,7 +64,42 @@ def test_spread_is_the_worst_case_over_the_tolerances(cli, tmp_path):
     assert "3.333" in row and "| V |" in row
 
 
-def test_sheet_refuses_html(tmp_path, cli):
-    run = cli("sheet", str(_divider(tmp_path)), "-o", str(tmp_path / "s.html"))
-    assert run.status == 2
-    assert "not available" in run.err
+def test_html_sheet_holds_the_markdown_sheets_rows_as_mathml(cli, tmp_path):
+    """The HTML sheet parses as HTML5 and has one row per row of the Markdown sheet, the
+    same nominal values and spreads, and its formulas as MathML."""
+    import html5lib
+
+    files = [str(e) for e in EXAMPLES] + [str(_divider(tmp_path))]
+    assert cli("sheet", *files, "-o", str(tmp_path / "s.html")).status == 0
+    assert cli("sheet", *files, "-o", str(tmp_path / "s.md")).status == 0
+    text = (tmp_path / "s.html").read_text(encoding="utf-8")
+    tree = html5lib.parse(text, namespaceHTMLElements=False, treebuilder="etree")
+    assert html5lib.HTMLParser(strict=True).parse(text) is not None
+    rows = [row for row in tree.iter("tr") if row.find("td") is not None]
+    md_rows = [line for line in (tmp_path / "s.md").read_text(encoding="utf-8").splitlines()
+               if line.startswith("| ") and not line.startswith("| Quantity")]
+    assert len(rows) == len(md_rows) and len(tree.findall(".//table")) == len(files)
+    for row, line in zip(rows, md_rows, strict=True):
+        cells = ["".join(c.itertext()).strip() for c in row.findall("td")]
+        md_cells = [c.strip() for c in line.strip("|").split(" | ")]
+        assert cells[2] == md_cells[2].replace("**Caution:**", "Caution:")
+        assert cells[4] == md_cells[4], (cells, md_cells)
+        assert row.findall("td")[1].iter("math")
+    divider = next(row for row in rows if "".join(row.find("td").itertext()) == "V(out)"
+                   and "3.333" in "".join(row.itertext()))
+    # the four corners, independently of symcirc: V = U·R2/(R1 + R2)
+    values = [5 * r2 / (r1 + r2) for r1, r2 in itertools.product((990, 1010), (1980, 2020))]
+    low, high = (100 * (v / (5 * 2000 / 3000) - 1) for v in (min(values), max(values)))
+    assert f"−{-low:.3g} % / +{high:.3g} %" in "".join(divider.itertext())
+
+
+def test_html_sheet_escapes_a_hostile_title(cli, tmp_path):
+    source = _divider(tmp_path)
+    source.write_text(source.read_text(encoding="utf-8").replace(
+        "Reference divider", "Divider <script>alert(1)</script> & co"), encoding="utf-8")
+    assert cli("sheet", str(source), "-o", str(tmp_path / "s.html")).status == 0
+    text = (tmp_path / "s.html").read_text(encoding="utf-8")
+    assert "<script>" not in text
+    assert "<h2>Divider &lt;script&gt;alert(1)&lt;/script&gt; &amp; co</h2>" in text
+
+
