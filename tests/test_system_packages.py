@@ -11,8 +11,9 @@ SCRIPT = ROOT / ".ci" / "system-packages"
 
 
 def stand_ins(tmp_path: Path, missing: str = "", lock_held: int = 0) -> Path:
-    """A folder of stand-in commands: kpsewhich finds every file but `missing`; fuser
-    reports the lock held for its first `lock_held` calls."""
+    """A folder of stand-in commands: kpsewhich finds every file but `missing`, and every
+    tool but `missing` is there; fuser reports the lock held for its first `lock_held`
+    calls."""
     bin_dir = tmp_path / "bin"
     bin_dir.mkdir()
     scripts = {
@@ -23,8 +24,9 @@ def stand_ins(tmp_path: Path, missing: str = "", lock_held: int = 0) -> Path:
                   f'[ "$n" -lt {lock_held} ]'),
         "sleep": "exit 0",
     }
-    for name in ("pdflatex", "pdfinfo", "chromium", "gcc"):
-        scripts[name] = "exit 0"
+    for name in ("pdflatex", "pdfinfo", "chromium", "gcc", "pandoc"):
+        if name != missing:
+            scripts[name] = "exit 0"
     for name, body in scripts.items():
         path = bin_dir / name
         path.write_text(f"#!/bin/sh\n{body}\n", encoding="utf-8")
@@ -32,8 +34,20 @@ def stand_ins(tmp_path: Path, missing: str = "", lock_held: int = 0) -> Path:
     return bin_dir
 
 
-def run(tmp_path: Path, bin_dir: Path, **env: str) -> subprocess.CompletedProcess:
-    environment = {**os.environ, "PATH": f"{bin_dir}:/usr/bin:/bin", **env}
+def system_without(tmp_path: Path, program: str) -> str:
+    """The system's command folders as one folder of links, without `program`."""
+    shadow = tmp_path / "system"
+    shadow.mkdir()
+    for folder in (Path("/usr/bin"), Path("/bin")):
+        for entry in folder.iterdir():
+            if entry.name != program and not os.path.lexists(shadow / entry.name):
+                (shadow / entry.name).symlink_to(entry)
+    return str(shadow)
+
+
+def run(tmp_path: Path, bin_dir: Path, system: str = "/usr/bin:/bin",
+        **env: str) -> subprocess.CompletedProcess:
+    environment = {**os.environ, "PATH": f"{bin_dir}:{system}", **env}
     if os.geteuid() != 0:  # the script asks sudo when not root: let a stand-in pass through
         (bin_dir / "sudo").write_text('#!/bin/sh\nexec "$@"\n', encoding="utf-8")
         (bin_dir / "sudo").chmod(0o755)
@@ -59,6 +73,13 @@ def test_missing_lmodern_installs_lmodern_only(tmp_path):
     done = run(tmp_path, stand_ins(tmp_path, missing="t1lmr.fd"))
     assert done.returncode == 0, done.stderr
     assert apt_log(tmp_path)[-1].endswith("--no-install-recommends lmodern")
+
+
+def test_missing_pandoc_installs_pandoc_only(tmp_path):
+    done = run(tmp_path, stand_ins(tmp_path, missing="pandoc"),
+               system_without(tmp_path, "pandoc"))
+    assert done.returncode == 0, done.stderr
+    assert apt_log(tmp_path)[-1].endswith("--no-install-recommends pandoc")
 
 
 def test_nothing_missing_installs_nothing(tmp_path):
