@@ -12,6 +12,7 @@ the answers the commands give.
 from __future__ import annotations
 
 import dataclasses
+from dataclasses import dataclass, field
 from functools import cached_property
 from pathlib import Path
 from typing import Any
@@ -20,6 +21,19 @@ from .model import circuit as model
 from .pipeline import ClaimOutcome, Pipeline
 from .quantities import QUANTITY_ORIGIN, Norton, Thevenin, TwoPort
 from .results import Result
+
+
+@dataclass(frozen=True, eq=False, repr=False)
+class CircuitResult(Result):
+    """A result of one of a circuit's methods: in Jupyter it shows as the note shows it
+    (formula, nominal value, steps, spread), derived through its circuit's pipeline."""
+
+    circuit: Any = field(default=None, compare=False)
+
+    def _repr_html_(self) -> str:
+        from .report.jupyter import result_html
+
+        return result_html(self.circuit.pipeline, self)
 
 
 class Circuit(model.Circuit):
@@ -41,7 +55,24 @@ class Circuit(model.Circuit):
         options.setdefault("steps", False)
         derived = self.pipeline.derive_text(quantity, origin=QUANTITY_ORIGIN, **options)
         # the cautions a reader must see beside each value (Python's display only)
-        return attach(self, derived, self.pipeline.memo)
+        return self._own(attach(self, derived, self.pipeline.memo))
+
+    def _own(self, results: list[Result]) -> list[Result]:
+        """The results as this circuit's (`CircuitResult`), with what they computed kept."""
+        owned = []
+        for result in results:
+            made = CircuitResult(**{f.name: getattr(result, f.name)
+                                    for f in dataclasses.fields(result)}, circuit=self)
+            for name, value in result.__dict__.items():  # cached values (expression ...)
+                made.__dict__.setdefault(name, value)
+            owned.append(made)
+        return owned
+
+    def _repr_html_(self) -> str:
+        """In Jupyter: the title, the schematic, the parts table, ports and cautions."""
+        from .report.jupyter import circuit_html
+
+        return circuit_html(self, self.pipeline)
 
     def _repr_markdown_(self) -> str:
         """In Jupyter: the title, the parts and nodes, and the safety cautions."""
@@ -68,7 +99,7 @@ class Circuit(model.Circuit):
         results: list[Result] = []
         for request in self.pipeline.requests(None, **options):
             results += self.pipeline.derive(request)
-        return results
+        return self._own(results)
 
     def check(self) -> list[ClaimOutcome]:
         """The file's claims, each decided exactly (as `symcirc check` decides them)."""
