@@ -142,3 +142,27 @@ def test_schematic_labels_fit_the_boxes_the_layout_reserved(browser, tmp_path):
             box, slack = label.box, 0.02
             assert box.x0 - slack <= x and x + width <= box.x1 + slack, (example, text)
             assert box.y0 - 0.1 <= bottom and top <= box.y1 + slack, (example, text)
+
+
+def test_html_sheet_renders_in_chromium_within_its_column(cli, browser, tmp_path):
+    """The formula sheet of every example: each formula is laid out as MathML and fits the
+    page's column (no formula reaches past the body's content box, nothing scrolls
+    sideways)."""
+    sheet = tmp_path / "sheet.html"
+    assert cli("sheet", *map(str, EXAMPLES), "-o", str(sheet)).status == 0
+    _open(browser, sheet)
+    column = browser.evaluate(
+        "(() => { const r = document.body.getBoundingClientRect();"
+        " const s = getComputedStyle(document.body);"
+        " return [r.left + parseFloat(s.paddingLeft), r.right - parseFloat(s.paddingRight)];"
+        " })()")
+    boxes = browser.evaluate(
+        "Array.from(document.getElementsByTagNameNS("
+        "'http://www.w3.org/1998/Math/MathML', 'math'))"
+        ".map(m => { const r = m.getBoundingClientRect();"
+        " return [r.left, r.right, r.width, r.height]; })")
+    assert len(boxes) >= len(EXAMPLES)
+    assert all(width > 0 and height > 0 for _, _, width, height in boxes)
+    wide = [box for box in boxes if box[0] < column[0] - 0.5 or box[1] > column[1] + 0.5]
+    assert not wide, (column, wide)
+    assert browser.evaluate("document.documentElement.scrollWidth <= window.innerWidth")

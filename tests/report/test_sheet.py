@@ -66,7 +66,7 @@ def test_spread_is_the_worst_case_over_the_tolerances(cli, tmp_path):
 
 def test_html_sheet_holds_the_markdown_sheets_rows_as_mathml(cli, tmp_path):
     """The HTML sheet parses as HTML5 and has one row per row of the Markdown sheet, the
-    same nominal values and spreads, and its formulas as MathML."""
+    same nominal values and spreads, each followed by its formula as MathML."""
     import html5lib
 
     files = [str(e) for e in EXAMPLES] + [str(_divider(tmp_path))]
@@ -76,16 +76,19 @@ def test_html_sheet_holds_the_markdown_sheets_rows_as_mathml(cli, tmp_path):
     tree = html5lib.parse(text, namespaceHTMLElements=False, treebuilder="etree")
     assert html5lib.HTMLParser(strict=True).parse(text) is not None
     rows = [row for row in tree.iter("tr") if row.find("td") is not None]
+    values, formulas = rows[0::2], rows[1::2]
     md_rows = [line for line in (tmp_path / "s.md").read_text(encoding="utf-8").splitlines()
                if line.startswith("| ") and not line.startswith("| Quantity")]
-    assert len(rows) == len(md_rows) and len(tree.findall(".//table")) == len(files)
-    for row, line in zip(rows, md_rows, strict=True):
+    assert len(values) == len(formulas) == len(md_rows)
+    assert len(tree.findall(".//table")) == len(files)
+    for row, formula, line in zip(values, formulas, md_rows, strict=True):
         cells = ["".join(c.itertext()).strip() for c in row.findall("td")]
         md_cells = [c.strip() for c in line.strip("|").split(" | ")]
-        assert cells[2] == md_cells[2].replace("**Caution:**", "Caution:")
-        assert cells[4] == md_cells[4], (cells, md_cells)
-        assert row.findall("td")[1].iter("math")
-    divider = next(row for row in rows if "".join(row.find("td").itertext()) == "V(out)"
+        assert cells[1] == md_cells[2].replace("**Caution:**", "Caution:")
+        assert cells[3] == md_cells[4], (cells, md_cells)
+        assert formula.get("class") == "formula"
+        assert list(formula.iter("{http://www.w3.org/1998/Math/MathML}math"))
+    divider = next(row for row in values if "".join(row.find("td").itertext()) == "V(out)"
                    and "3.333" in "".join(row.itertext()))
     # the four corners, independently of symcirc: V = U·R2/(R1 + R2)
     values = [5 * r2 / (r1 + r2) for r1, r2 in itertools.product((990, 1010), (1980, 2020))]
