@@ -1,7 +1,8 @@
 """Benchmark (a script, not a test): `symcirc note` on the largest example against
 `symcirc derive` of the same quantities, cold starts, wall clock, best of three.
 
-Target: the note takes at most 2 s more than the derivation.
+Targets: the note takes at most 2 s more than the derivation; a Word note (pandoc) at most 3 s
+more than the Markdown note (`-o note.pdf`, compiled by pdflatex, is shown for reference).
 Run: python tests/perf/bench_note.py
 """
 
@@ -38,16 +39,21 @@ def main() -> int:
     print(f"{'command':<34}{'seconds':>9}{'over derive':>13}")
     print(f"{'derive':<34}{derive:>9.2f}{'':>13}")
     worst = 0.0
+    times = {}
     with tempfile.TemporaryDirectory() as folder:
-        for extension in (".md", ".tex", ".html"):
+        for extension in (".md", ".tex", ".html", ".docx", ".pdf"):
             out = Path(folder) / f"note{extension}"
-            note = _time(["note", str(example), "-o", str(out)])
-            worst = max(worst, note - derive)
+            note = times[extension] = _time(["note", str(example), "-o", str(out)])
+            if extension in (".md", ".tex", ".html"):
+                worst = max(worst, note - derive)
             print(f"{'note -o note' + extension:<34}{note:>9.2f}{note - derive:>+13.2f}")
     verdict = "meets" if worst <= 2.0 else "MISSES"
     print(f"largest difference {worst:+.2f} s: {verdict} the 2 s target "
           "(shared machine: figures are noisy)")
-    return 0 if worst <= 2.0 else 1
+    word = times[".docx"] - times[".md"]
+    print(f"Word note over the Markdown note {word:+.2f} s: "
+          f"{'meets' if word <= 3.0 else 'MISSES'} the 3 s target")
+    return 0 if worst <= 2.0 and word <= 3.0 else 1
 
 
 if __name__ == "__main__":
