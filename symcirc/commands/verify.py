@@ -154,6 +154,11 @@ def _read_text(path: Path) -> str:
     except FileNotFoundError:
         raise SymcircError("no such note", str(path)) from None
     except UnicodeDecodeError:
+        if path.suffix.lower() in (".pdf", ".docx"):
+            raise SymcircError(
+                f"a {path.suffix[1:].upper()} note cannot be verified: verify the note it was "
+                f"made from (`-o {path.stem}.{'tex' if path.suffix.lower() == '.pdf' else 'md'}`"
+                " writes it)", str(path)) from None
         raise SymcircError("the note is not UTF-8 text", str(path)) from None
     except OSError as err:
         raise SymcircError(f"cannot read the note: {err.strerror or err}", str(path)) from None

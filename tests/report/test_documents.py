@@ -204,3 +204,12 @@ def test_word_document_embeds_only_its_own_figures(cli, tmp_path):
         assert not [n for n in package.namelist() if n.startswith("word/media/")]
     text = "\n".join(p.text for p in docx.Document(str(out)).paragraphs)
     assert "the secret" in text and "remote" in text
+
+
+def test_verify_of_a_pdf_note_names_the_note_to_verify_instead(cli, tmp_path):
+    out = tmp_path / "bridge.pdf"
+    out.write_bytes(b"%PDF-1.5\n\xe2\x28\xa1 binary")
+    run = cli("verify", str(out))
+    assert run.status == 2
+    assert run.err.startswith(f"{out}: error: a PDF note cannot be verified: verify the note "
+                              "it was made from (`-o bridge.tex` writes it)")
