@@ -165,6 +165,9 @@ class Thevenin:
     def _repr_latex_(self) -> str:
         return _latex_lines(self.voltage, self.impedance)
 
+    def _repr_html_(self) -> str | None:
+        return _html_parts(self.voltage, self.impedance)
+
 
 @dataclass(frozen=True)
 class Norton:
@@ -175,6 +178,9 @@ class Norton:
 
     def _repr_latex_(self) -> str:
         return _latex_lines(self.current, self.admittance)
+
+    def _repr_html_(self) -> str | None:
+        return _html_parts(self.current, self.admittance)
 
 
 class TwoPort:
@@ -216,6 +222,18 @@ class TwoPort:
 
     def _repr_latex_(self) -> str:
         return _latex_lines(*self._results.values())
+
+    def _repr_html_(self) -> str | None:
+        return _html_parts(*self._results.values())
+
+
+def _html_parts(*results: Result) -> str | None:
+    """The HTML of each part one after the other, when the results have one (a circuit's
+    methods give such results); None otherwise, and Jupyter shows the LaTeX."""
+    shown = [getattr(result, "_repr_html_", None) for result in results]
+    if not shown or not all(shown):
+        return None
+    return "\n".join(show() for show in shown)
 
 
 def _latex_lines(*results: Result) -> str:

@@ -6,8 +6,8 @@ from __future__ import annotations
 
 import os
 import re
+import shutil
 import stat
-import subprocess
 import tempfile
 import zipfile
 from pathlib import Path
@@ -36,7 +36,8 @@ def scratch(tmp_path, monkeypatch):
 
 def _without(tmp_path: Path, program: str) -> str:
     """A PATH on which every command of this one's folder is found but `program`."""
-    found = subprocess.run(["which", program], capture_output=True, text=True).stdout.strip()
+    found = shutil.which(program)
+    assert found is not None, f"{program} is installed by .ci/system-packages"
     shadow = tmp_path / "bin"
     shadow.mkdir()
     for entry in Path(found).parent.iterdir():

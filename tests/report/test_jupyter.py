@@ -100,3 +100,11 @@ def test_a_circuit_too_big_to_draw_says_so():
     tree = _tree(symcirc.parse(ladder)._repr_html_())
     assert not list(tree.iter("img"))
     assert "The schematic is not drawn: the circuit has 27 parts" in _text(tree)
+
+
+def test_a_thevenin_equivalent_shows_both_parts():
+    equivalent = symcirc.parse(DIVIDER).thevenin("tap")
+    text = _text(_tree(equivalent._repr_html_()))
+    # U·R2/(R1 + R2) = 3.333 V and R1 ∥ R2 = 666.7 Ω (common practice)
+    assert "thevenin(tap).voltage" in text and "Nominal value: 3.333 V" in text
+    assert "thevenin(tap).impedance" in text and "Nominal value: 666.7 Ω" in text

@@ -37,6 +37,18 @@ def test_html_title_is_literal():
     assert not any(e.tag == "script" for e in tree.iter())
 
 
+def test_word_title_is_literal(tmp_path):
+    import docx
+
+    from symcirc.report.documents import document
+
+    out = tmp_path / "hostile.docx"
+    out.write_bytes(document("docx", render_note(hand_note("docx")), (), out))
+    paragraphs = [p.text for p in docx.Document(str(out)).paragraphs]
+    assert paragraphs[0] == HOSTILE
+    assert sum(HOSTILE in p for p in paragraphs) >= 3  # the description and notes too
+
+
 def test_latex_title_is_literal(tmp_path):
     tex = tmp_path / "hostile.tex"
     tex.write_text(render_note(hand_note("latex")), encoding="utf-8")
