@@ -109,12 +109,12 @@ def render_note_for(
     """The text of the design note of the circuit file `path`.
 
     format: 'markdown', 'latex', 'html', or 'pdf' / 'docx' (the text they are made from).
-    quantities: the quantities to show (as written on
-    the command line), or None for the file's `derive` statements. template: a folder whose
-    templates override the built-in ones, or None. output_path: where the note is (or will
-    be) written, which fixes the relative paths to the source and to the figures; None for
-    standard output (paths relative to the working folder, no figures). progress: show a
-    progress line on a terminal for long derivations. Raises SymcircError on bad input.
+    quantities: the quantities to show (as written on the command line), or None for the
+    file's `derive` statements. template: a folder whose templates override the built-in
+    ones, or None. output_path: where the note is (or will be) written, which fixes the
+    relative paths to the source and to the figures; None for standard output (paths
+    relative to the working folder, no figures). progress: show a progress line on a
+    terminal for long derivations. Raises SymcircError on bad input.
     """
     note, _ = build_note(path, format, quantities, template, output_path, progress)
     return render_note(note, template)
@@ -129,13 +129,18 @@ def write_note(
     progress: bool = True,
 ) -> Note:
     """Render the note, draw its figures, then write figures and note together through the
-    one writer (figures first, the note last; see `symcirc.output`); returns the note's
+    one writer (figures first, the note last; see `symcirc.output`), or, for 'pdf' and
+    'docx', make the document with its figures inside and write it; returns the note's
     content (claims, figures) for the caller to report on."""
     from ..output import Transaction, write_file
     from .documents import SOURCE_FORMAT, document
     from .figures import figure_names, folder_name
 
-    note, drawings = build_note(path, format, quantities, template, output.path, progress)
+    place = output.path
+    if place is not None and format in SOURCE_FORMAT:
+        # figures inside a document: a plain folder name, whatever the document's name
+        place = place.with_name(f"document.{format}")
+    note, drawings = build_note(path, format, quantities, template, place, progress)
     text = render_note(note, template)
     if output.path is None:
         write_document(output, text)

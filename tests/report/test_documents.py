@@ -179,6 +179,15 @@ def test_word_note_holds_one_native_equation_per_displayed_formula(cli, tmp_path
     assert out.read_bytes() == first  # byte-identical on a second run
 
 
+def test_a_document_name_with_spaces_and_markup_is_fine(cli, tmp_path):
+    for name in ("my note [v2] (draft).docx", "my note [v2] (draft).pdf"):
+        run = cli("note", str(FILTER_EXAMPLE), "-o", str(tmp_path / name))
+        assert run.status == 0, run.err
+    with zipfile.ZipFile(tmp_path / "my note [v2] (draft).docx") as package:
+        media = sorted(Path(n).suffix for n in package.namelist() if n.startswith("word/media/"))
+    assert media == [".png", ".svg"]
+
+
 def test_word_sheet_has_its_formulas_as_equations(cli, tmp_path):
     import docx
 
