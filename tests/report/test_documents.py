@@ -66,7 +66,7 @@ def test_pdf_note_is_the_compiled_latex_note_and_leaves_nothing_behind(cli, tmp_
 
 def test_pdf_sheet(cli, tmp_path, scratch):
     out = tmp_path / "sheet.pdf"
-    run = cli("sheet", str(BRIDGE_EXAMPLE), str(FILTER_EXAMPLE), "-o", str(out))
+    run = cli("sheet", str(FILTER_EXAMPLE), "-o", str(out))
     assert run.status == 0, run.err
     words = " ".join(pdf_text(out).split())
     assert "Formula sheet" in words and TITLE in words
@@ -180,9 +180,8 @@ def test_word_note_holds_one_native_equation_per_displayed_formula(cli, tmp_path
 
 
 def test_a_document_name_with_spaces_and_markup_is_fine(cli, tmp_path):
-    for name in ("my note [v2] (draft).docx", "my note [v2] (draft).pdf"):
-        run = cli("note", str(FILTER_EXAMPLE), "-o", str(tmp_path / name))
-        assert run.status == 0, run.err
+    run = cli("note", str(FILTER_EXAMPLE), "-o", str(tmp_path / "my note [v2] (draft).docx"))
+    assert run.status == 0, run.err
     with zipfile.ZipFile(tmp_path / "my note [v2] (draft).docx") as package:
         media = sorted(Path(n).suffix for n in package.namelist() if n.startswith("word/media/"))
     assert media == [".png", ".svg"]
