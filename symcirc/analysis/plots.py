@@ -65,10 +65,12 @@ def _axis_label(name: str, unit: str) -> str:
 
 
 def image(figure, fmt: str) -> bytes:
-    """`figure` as PNG or SVG bytes (`fmt`: 'png' or 'svg'), deterministically."""
+    """`figure` as PNG, SVG or PDF bytes (`fmt`: 'png', 'svg' or 'pdf'; PDF for the PDF
+    note), deterministically."""
     from matplotlib import rc_context
 
-    metadata = {"Date": None} if fmt == "svg" else {"Software": None}
+    metadata = {"svg": {"Date": None}, "pdf": {"CreationDate": None}}.get(
+        fmt, {"Software": None})
     buffer = io.BytesIO()
     with rc_context(_STYLE):
         figure.savefig(buffer, format=fmt, metadata=metadata)

@@ -23,9 +23,10 @@ from ..pipeline import Request
 from ..vocabulary import QUANTITIES
 from .content import Figure, ResultView, Section
 
-IMAGE_EXTENSION = {"latex": ".png", "markdown": ".svg", "html": ".svg", "pdf": ".png",
+IMAGE_EXTENSION = {"latex": ".png", "markdown": ".svg", "html": ".svg", "pdf": ".pdf",
                    "docx": ".png"}
-"""pdflatex takes PNG (not SVG); Markdown and HTML get scalable SVG; every Word reads PNG."""
+"""pdflatex takes PNG (not SVG) beside a .tex note, and vector PDF inside a PDF note;
+Markdown and HTML get scalable SVG; every Word reads PNG."""
 SCHEMATIC_EXTENSION = {"latex": ".pdf", "markdown": ".svg", "html": ".svg", "pdf": ".pdf",
                        "docx": ".svg"}
 """A schematic is line art: PDF (vector) for pdflatex, SVG elsewhere (Word 2016 and later

@@ -8,6 +8,7 @@ import os
 import re
 import shutil
 import stat
+import subprocess
 import tempfile
 import zipfile
 from pathlib import Path
@@ -48,19 +49,24 @@ def _without(tmp_path: Path, program: str) -> str:
 
 def test_pdf_note_is_the_compiled_latex_note_and_leaves_nothing_behind(cli, tmp_path,
                                                                         scratch):
-    out = tmp_path / "bridge.pdf"
-    run = cli("note", str(BRIDGE_EXAMPLE), "-o", str(out))
+    out = tmp_path / "filter.pdf"
+    run = cli("note", str(FILTER_EXAMPLE), "-o", str(out))
     assert run.status == 0, run.err
     assert out.read_bytes().startswith(b"%PDF-")
     words = " ".join(pdf_text(out).split())
-    assert "Platinum sensor bridge on a data-logger ADC input" in words
-    assert "Summary" in words and "SHA-256" in words
+    assert TITLE in words and "Summary" in words and "SHA-256" in words
     assert pdf_pages(out) >= 2
+    # the schematic and the frequency response are inside, both as vector drawings
+    assert "Figure 1: Schematic of the circuit" in words
+    assert "Figure 2: Magnitude and phase of gain(Uin, out)" in words
+    images = subprocess.run(["pdfimages", "-list", str(out)], capture_output=True, text=True,
+                            check=True).stdout.splitlines()
+    assert len(images) == 2  # the list's two header lines: no raster image
     # the figures went inside the document: nothing beside it, nothing left in the temp folder
-    assert sorted(p.name for p in tmp_path.iterdir()) == ["bridge.pdf", "system-temporary"]
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["filter.pdf", "system-temporary"]
     assert list(scratch.iterdir()) == []
     first = out.read_bytes()
-    assert cli("note", str(BRIDGE_EXAMPLE), "-o", str(out)).status == 0
+    assert cli("note", str(FILTER_EXAMPLE), "-o", str(out)).status == 0
     assert out.read_bytes() == first  # byte-identical on a second run
 
 
