@@ -67,7 +67,7 @@ def document(fmt: str, text: str, images: Sequence[tuple[str, bytes]], output: P
                 files.add(folder / name, data)
             files.add(folder / source, text.encode("utf-8"))
             if fmt == "docx":  # the filter, and an empty data folder: no user defaults apply
-                files.add(folder / FILTER, _figures_only([name for name, _ in images]))
+                files.add(folder / FILTER, _word_filter([name for name, _ in images]))
                 files.folder(folder / "data")
             files.commit()
         if fmt == "pdf":
@@ -127,13 +127,15 @@ def latex_errors(log: str) -> tuple[str, ...]:
     return tuple(found[:ERROR_LINES])
 
 
-FILTER = "figures-only.lua"
-"""pandoc's image filter, written beside the text."""
+FILTER = "word-filter.lua"
+"""pandoc's Lua filter (figures and anchors), written beside the text."""
 
 
-def _figures_only(names: list[str]) -> bytes:
+def _word_filter(names: list[str]) -> bytes:
     """A pandoc Lua filter that keeps the images of `names` and turns every other image
-    into its description: pandoc then reads no file and fetches no address but the figures."""
+    into its description: pandoc then reads no file and fetches no address but the figures.
+    It also turns the note's anchors (`<a id="..."></a>`, raw HTML, which Word drops) into
+    bookmarks, so the summary's links lead to their sections."""
     for name in names:
         if not re.fullmatch(r"[A-Za-z0-9_./-]+", name) or ".." in name:
             raise ValueError(f"not a figure's name: {name!r}")
@@ -142,6 +144,12 @@ def _figures_only(names: list[str]) -> bytes:
             "function Image(image)\n"
             "  if figures[image.src] then return image end\n"
             "  return pandoc.Str(pandoc.utils.stringify(image.caption))\n"
+            "end\n"
+            "function RawInline(raw)\n"
+            "  if raw.format ~= 'html' then return nil end\n"
+            "  local id = raw.text:match('^<a id=\"([%w_%-]+)\">$')\n"
+            "  if id then return pandoc.Span({}, {id = id}) end\n"
+            "  if raw.text == '</a>' then return {} end\n"
             "end\n").encode()
 
 

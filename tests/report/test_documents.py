@@ -178,7 +178,11 @@ def test_word_note_holds_one_native_equation_per_displayed_formula(cli, tmp_path
     assert document.paragraphs[0].style.name == "Heading 1"
     with zipfile.ZipFile(out) as package:
         media = sorted(Path(n).suffix for n in package.namelist() if n.startswith("word/media/"))
+        xml = package.read("word/document.xml").decode("utf-8")
     assert media == [".png", ".svg"]  # the frequency response and the schematic
+    # the summary's links lead to bookmarks of the same names
+    links = set(re.findall(r'w:anchor="([^"]+)"', xml))
+    assert links and links <= set(re.findall(r'w:bookmarkStart [^>]*w:name="([^"]+)"', xml))
     assert len(document.inline_shapes) == 2
     first = out.read_bytes()
     assert cli("note", str(FILTER_EXAMPLE), "-o", str(out)).status == 0
