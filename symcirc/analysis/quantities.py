@@ -25,7 +25,7 @@ from ..model.units import per as _per
 from ..model.units import percent_text as percent
 from ..quantities.registry import DeriveOptions
 from ..results import Result
-from . import components, loading, sensitivity, tolerance
+from . import components, loading, nearzero, sensitivity, tolerance
 from .values import exact_value
 
 # ---------------------------------------------------------------- reading arguments
@@ -203,12 +203,22 @@ def sensitivity_tables(circuit: Circuit, quantity: syntax.Quantity, options: Der
                              f"{MAX_TABLE_TERMS:,}); ask for " + (
                                  f"it without --substitute, or {one}" if options.substitute
                                  else one))
-        reference = named
-        if reference is None and exact_value(expression, nominals) == 0:
+        table = sensitivity.sensitivities(expression, nominals, definitions(circuit), named)
+        if named is None and nearzero.near_zero(
+                table.nominal, nearzero.swings(table.rows, tolerances(circuit), nominals)):
             reference = _excitation(circuit, expression) or sympy.Integer(1)
-        table = sensitivity.sensitivities(expression, nominals, definitions(circuit), reference)
+            table = sensitivity.sensitivities(expression, nominals, definitions(circuit),
+                                              reference)
         out.append((result, table))
     return out
+
+
+def is_near_zero(circuit: Circuit, table) -> bool:
+    """Whether the table's Q is near zero by the rule of `nearzero` (its rows referred to
+    something other than Q for that reason)."""
+    nominals = circuit.symbol_nominals()
+    return nearzero.near_zero(table.nominal,
+                              nearzero.swings(table.rows, tolerances(circuit), nominals))
 
 
 def _terms(result: Result) -> int:
@@ -225,8 +235,15 @@ def _sensitivity_heading(circuit: Circuit, inner: Result, table) -> tuple[str, s
     q = inner.quantity
     if table.reference is None:
         return q, "", f"Relative sensitivities (x/Q)·∂Q/∂x of Q = {q}, largest first."
-    zero = (f"{q} is zero at the nominal values (a balanced bridge), so its relative "
-            "sensitivity is undefined; ") if table.nominal == 0 else ""
+    if table.nominal == 0:
+        zero = (f"{q} is zero at the nominal values (a balanced bridge), so its relative "
+                "sensitivity is undefined; ")
+    elif is_near_zero(circuit, table):
+        zero = (f"Q = {q} is near zero at the nominal values ({eng(table.nominal, inner.unit)}): "
+                f"{nearzero.RULE}, and a relative sensitivity (x/Q)·∂Q/∂x would be divided by "
+                "an accident of the nominal values; ")
+    else:
+        zero = ""
     if table.reference == 1:
         return "1", inner.unit, (
             f"{zero}shown is x·∂Q/∂x, the change of {q} per unit relative change of x (no "
@@ -252,6 +269,7 @@ def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
     nominals = _names(circuit.symbol_nominals())
     for inner, table in sensitivity_tables(circuit, quantity, options):
         relative_to, unit, heading = _sensitivity_heading(circuit, inner, table)
+        near = table.nominal == 0 or is_near_zero(circuit, table)
         q = inner.quantity
         largest = max((abs(r.relative_value) for r in table.rows
                        if r.relative_value is not None), default=0)
@@ -276,11 +294,18 @@ def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
                 "symbol": str(row.symbol),
                 "rank": rank,
                 "relative_to": relative_to,
+                "referred": table.reference is not None,
                 "derivative": _text(row.derivative),
                 "derivative_latex": latex_of(row.derivative),
                 "derivative_unit": derivative_unit,
                 "derivative_nominal": _float(row.derivative_value),
                 "relative_nominal": _float(row.relative_value),
+                "near_zero": near,
+                "absolute_nominal": _float(None if row.derivative_value is None
+                                           or row.symbol not in circuit.symbol_nominals()
+                                           else row.derivative_value
+                                           * circuit.symbol_nominals()[row.symbol]),
+                "absolute_unit": inner.unit,
                 "via": [str(v) for v in row.via],
             }
             results.append(Result(f"{quantity.name}({q}).{row.symbol}", row.relative, unit,
@@ -348,17 +373,27 @@ def _tolerance_sentences(inner: Result, a: tolerance.ToleranceAnalysis) -> list[
         return [f"No tolerance reaches {inner.quantity} (with definitions substituted, no "
                 f"toleranced symbol remains): it is fixed at {eng(a.nominal, u)}."]
 
+    near = near_zero(a)
+
     def span(low, high) -> str:
         text = f"{eng(low, u)} to {eng(high, u)}"
-        if a.nominal:
+        if near:
+            text += (f" (offsets {signed(Fraction(low) - a.nominal, u)} / "
+                     f"{signed(Fraction(high) - a.nominal, u)} from nominal)")
+        elif a.nominal:
             text += (f" ({percent((Fraction(low) - a.nominal) / abs(a.nominal), signed=True)} / "
                      f"{percent((Fraction(high) - a.nominal) / abs(a.nominal), signed=True)})")
         return text
 
     names = ", ".join(v.label for v in a.variables)
-    rss = f"±{eng(a.rss, u)}" + (f" (±{percent(a.rss / abs(a.nominal))})" if a.nominal else "")
+    rss = f"±{eng(a.rss, u)}" + (f" (±{percent(a.rss / abs(a.nominal))})"
+                                  if a.nominal and not near else "")
+    said = ([f"Near zero: {nearzero.RULE}; {inner.quantity} is, so its spread is given as "
+             f"absolute offsets in its unit, not relative to its nominal value."]
+            if near else [])
     return [
         f"Nominal {eng(a.nominal, u)}; toleranced: {names}.",
+        *said,
         f"Linearised worst case, nominal ± Σ|∂Q/∂x|·Δx: {span(a.linear_low, a.linear_high)}.",
         f"Extremes over the tolerance box: {span(a.extremes.low, a.extremes.high)}; "
         f"method: {a.extremes.method}.",
@@ -373,6 +408,19 @@ def _tolerance_sentences(inner: Result, a: tolerance.ToleranceAnalysis) -> list[
     ]
 
 
+def near_zero(a: tolerance.ToleranceAnalysis) -> bool:
+    """Whether a toleranced quantity is near zero (`nearzero`): its linearised worst-case
+    band reaches zero."""
+    return bool(a.variables) and nearzero.band_reaches_zero(a.nominal, a.linear_low,
+                                                            a.linear_high) \
+        or a.nominal == 0
+
+
+def signed(value, unit: str) -> str:
+    """An offset with its sign: `+3.81 mV`, `−3.81 mV`."""
+    return ("+" if value > 0 else "") + eng(value, unit)
+
+
 def _contribution(c: tolerance.Contribution, unit: str) -> str:
     """`±1.25 mV`, `-0.2 mV/+0.8 mV`, or `0 V (∂Q/∂x = 0 at nominal)`."""
     if c.up == c.down == 0:
@@ -384,8 +432,20 @@ def _contribution(c: tolerance.Contribution, unit: str) -> str:
 
 def _tolerance_details(a: tolerance.ToleranceAnalysis) -> dict:
     mc = a.monte_carlo
+    nominal = a.nominal
+
+    def offsets(low, high) -> dict:
+        return {"low": float(Fraction(low) - nominal), "high": float(Fraction(high) - nominal)}
+
     return {
         "nominal": float(a.nominal),
+        "near_zero": near_zero(a),
+        "near_zero_rule": nearzero.RULE,
+        "offsets": {
+            "linearised": offsets(a.linear_low, a.linear_high),
+            "extremes": offsets(a.extremes.low, a.extremes.high),
+            "monte_carlo": offsets(mc.quantile_low, mc.quantile_high),
+        },
         "linearised": {"low": float(a.linear_low), "high": float(a.linear_high)},
         "extremes": {
             "low": float(a.extremes.low), "high": float(a.extremes.high),
@@ -404,7 +464,8 @@ def _tolerance_details(a: tolerance.ToleranceAnalysis) -> dict:
         "contributions": [
             {"symbol": c.variable.label, "nominal": float(c.variable.nominal),
              "low": float(c.variable.low), "high": float(c.variable.high),
-             "derivative": float(c.derivative), "down": float(c.down), "up": float(c.up)}
+             "derivative": float(c.derivative), "down": float(c.down), "up": float(c.up),
+             "absolute": float(c.variable.nominal * c.derivative)}
             for c in a.contributions
         ],
     }

@@ -18,17 +18,23 @@ from ..model.units import per as unit_per
 from .content import Cell, Spread, Table, name_latex
 from .filters import eng, percent
 
-_STANDARD_TOLERANCE_NOTES = ("Nominal ", "Linearised", "Extremes", "Root-sum-square",
+_STANDARD_TOLERANCE_NOTES = ("Nominal ", "Near zero", "Linearised", "Extremes", "Root-sum-square",
                              "Monte Carlo", "Largest contributions", "No symbol")
 
 
 def sensitivity_table(results: list[Any], quantity: str) -> Table | None:
     """One table from the results of `sensitivities(Q)` (one result per symbol)."""
     rows = []
+    heading = "Relative sensitivity"
     for result in results:
         row = result.details.get("sensitivity")
         if row is None:
             continue
+        reference = row.get("relative_to")
+        if reference == "1":
+            heading = "Sensitivity x·∂Q/∂x"
+        elif row.get("referred"):
+            heading = f"Sensitivity (x/{reference})·∂Q/∂x"
         unit = row.get("derivative_unit") or ""
         rows.append((
             Cell(row["symbol"], name_latex(row["symbol"])),
@@ -41,7 +47,7 @@ def sensitivity_table(results: list[Any], quantity: str) -> Table | None:
         return None
     caption = results[0].notes[0] if results[0].notes else None
     return Table(f"Sensitivities of {quantity}",
-                 ("Symbol x", "Relative sensitivity", "At nominal", "∂Q/∂x at nominal"),
+                 ("Symbol x", heading, "At nominal", "∂Q/∂x at nominal"),
                  tuple(rows), caption)
 
 
@@ -53,10 +59,11 @@ def tolerance_tables(details: dict[str, Any], unit: str,
     units = units or {}
     t = details
     nominal = t["nominal"]
+    near = t.get("near_zero", not nominal)
 
     def rel(value: float) -> str:
-        if not nominal:
-            return "—"
+        if near:  # an offset in Q's unit: a relative figure would divide by nearly nothing
+            return _signed(value - nominal, unit)
         change = (value - nominal) / nominal
         return ("+" if change > 0 else "") + percent(change)
 
@@ -70,30 +77,38 @@ def tolerance_tables(details: dict[str, Any], unit: str,
          Cell(f"{rel(t['extremes']['low'])} / {rel(t['extremes']['high'])}")),
         (Cell("Root-sum-square"), Cell(eng(nominal - t["rss"], unit)),
          Cell(eng(nominal + t["rss"], unit)),
-         Cell(f"± {percent(t['rss'] / abs(nominal))}" if nominal else "—")),
+         Cell(f"± {eng(t['rss'], unit)}" if near else f"± {percent(t['rss'] / abs(nominal))}")),
         (Cell("Monte Carlo 0.1 % … 99.9 %"), Cell(eng(mc["quantile_0.1%"], unit)),
          Cell(eng(mc["quantile_99.9%"], unit)),
          Cell(f"mean {eng(mc['mean'], unit)}, σ {eng(mc['std'], unit)}")),
     )
-    caption = (f"Nominal {eng(nominal, unit)}. Extremes: {t['extremes']['method']}. "
+    caption = (f"Nominal {eng(nominal, unit)}. "
+               + (f"Near zero ({t.get('near_zero_rule', 'zero at the nominal values')}): "
+                  "offsets from nominal in Q's unit instead of relative spreads. " if near else "")
+               + f"Extremes: {t['extremes']['method']}. "
                f"Monte Carlo: {mc['samples']:,} samples, seed {mc['seed']}, {mc['convention']}.")
-    tables = [Table("Tolerance", ("Method", "Low", "High", "Relative"), rows, caption)]
+    tables = [Table("Tolerance", ("Method", "Low", "High", "Offset" if near else "Relative"),
+                    rows, caption)]
     contributions = [
         (Cell(c["symbol"], _label_latex(c["symbol"])),
          Cell(f"{_number(c['low'], units.get(c['symbol'], ''))} … "
               f"{_number(c['high'], units.get(c['symbol'], ''))}"),
          Cell(eng(c["derivative"], unit_per(unit, units.get(c["symbol"], "")))),
-         Cell(eng(c["nominal"] * c["derivative"] / nominal) if nominal else "—"),
+         Cell(eng(c["nominal"] * c["derivative"], unit) if near
+              else eng(c["nominal"] * c["derivative"] / nominal)),
          Cell(eng(c["down"], unit)), Cell("+" + eng(c["up"], unit)))
         for c in t["contributions"]
     ]
     if contributions:
         tables.append(Table(
             "Sensitivities and contributions of the toleranced values",
-            ("Symbol x", "Range", "∂Q/∂x", "(x/Q)·∂Q/∂x", "Lowers Q by", "Raises Q by"),
+            ("Symbol x", "Range", "∂Q/∂x", "x·∂Q/∂x" if near else "(x/Q)·∂Q/∂x",
+             "Lowers Q by", "Raises Q by"),
             tuple(contributions),
             "At the nominal values, largest contribution first; Q moves by ∂Q/∂x times the "
-            "change of x (linearised)."))
+            "change of x (linearised)."
+            + (" Q is near zero: x·∂Q/∂x is the change of Q per unit relative change of x, "
+               "in Q's unit." if near else "")))
     return tables
 
 
@@ -172,6 +187,10 @@ def detail_tables(details: dict[str, Any]) -> list[Table]:
 
 def _label_latex(label: str) -> str | None:
     return name_latex(label) if label.isidentifier() else None
+
+
+def _signed(value: float, unit: str) -> str:
+    return ("+" if value > 0 else "") + eng(value, unit)
 
 
 def _number(value: Any, unit: str) -> str:
