@@ -292,6 +292,18 @@ QUANTITIES: dict[str, QuantityKind] = {q.name: q for q in (
                  "none, dB, °", "magnitude, dB and phase of a response at a frequency",
                  parts=(Part("magnitude", None), Part("dB", "dB"), Part("phase", "°")),
                  analysis=True),
+    QuantityKind(
+        "cmrr", ("value", "value"), 2, "symcirc.analysis.rejection:ratio_quantity", "dB",
+        "common-mode rejection ratio 20·log10|A_dm/A_cm| of two gains of one unit",
+        analysis=True, response=False,
+        convention="cmrr(A_dm, A_cm) is 20·log10|A_dm/A_cm| in dB: the differential gain over "
+                   "the common-mode gain."),
+    QuantityKind(
+        "psrr", ("value", "value"), 2, "symcirc.analysis.rejection:ratio_quantity", "dB",
+        "power-supply rejection ratio 20·log10|A/A_supply| of two gains of one unit",
+        analysis=True, response=False,
+        convention="psrr(A, A_supply) is 20·log10|A/A_supply| in dB: the signal gain over the "
+                   "gain from the supply source."),
     QuantityKind("response", ("value",), 1, "symcirc.analysis.frequency:response_quantity",
                  "Q's unit", "Q with its magnitude and phase at chosen frequencies",
                  analysis=True),

@@ -358,7 +358,22 @@ def _at_tolerance(read: Reader, arg, result: Result,
 
 def tolerance_quantity(circuit: Circuit, quantity: syntax.Quantity,
                        options: DeriveOptions) -> list[Result]:
-    """One Result per inner result: Q's closed form, with the spread in notes and details."""
+    """One Result per inner result: Q's closed form, with the spread in notes and details;
+    a rejection ratio in dB (`cmrr(..)`, `psrr(..)`) through its own analysis."""
+    inner = quantity.args[0] if quantity.args else None
+    if isinstance(inner, syntax.Quantity) and inner.name in ("cmrr", "psrr"):
+        from . import rejection
+
+        read = Reader(circuit, options)
+        args = read.arguments(quantity, 1, 2, "a quantity and optionally a distribution: "
+                                              "tolerance(V(out)) or tolerance(V(out), normal)")
+        distribution = "uniform"
+        if len(args) == 2:
+            if not (isinstance(args[1], syntax.Name)
+                    and args[1].name in tolerance.DISTRIBUTION_TEXT):
+                raise read.error(args[1], "the distribution is `uniform` or `normal`")
+            distribution = args[1].name
+        return rejection.tolerance_quantity(circuit, quantity, inner, options, distribution)
     out = []
     for inner, a in tolerance_analyses(circuit, quantity, options):
         out.append(Result(f"tolerance({inner.quantity})", inner.expression, inner.unit,
