@@ -28,6 +28,7 @@ from ..quantities.registry import DeriveOptions
 from ..results import Result
 from . import tolerance
 from .quantities import Reader, _names, _unit_of, definitions, tolerances
+from .tidy import tidy
 from .values import exact_value
 
 WORDS = {
@@ -57,15 +58,18 @@ class Ratio:
 
     @property
     def level(self) -> sympy.Expr:
-        """20·log10|wanted/unwanted| in dB."""
+        """20·log10|wanted| − 20·log10|unwanted| in dB: the two gains' levels, each in
+        lowest terms, read as the difference an engineer draws on a Bode plot."""
         from sympy.codegen.cfunctions import log10
 
-        return 20 * log10(sympy.Abs(self.wanted.expression / self.unwanted.expression))
+        return sympy.Add(20 * log10(sympy.Abs(tidy(self.wanted.expression))),
+                         -20 * log10(sympy.Abs(tidy(self.unwanted.expression))),
+                         evaluate=False)
 
     @property
     def rejection(self) -> sympy.Expr:
         """r = unwanted/wanted, the ratio's level being −20·log10|r|."""
-        return sympy.cancel(self.unwanted.expression / self.wanted.expression)
+        return tidy(self.unwanted.expression / self.wanted.expression)
 
 
 def _gain(read: Reader, node, what: str) -> Gain:
@@ -152,7 +156,7 @@ def ratio_quantity(circuit: Circuit, quantity: syntax.Quantity,
                "wanted_nominal": None if wanted is None else float(wanted),
                "unwanted_nominal": None if unwanted is None else float(unwanted)}
     return [Result(quantity.text, ratio.level, "dB", _names(nominals), tuple(notes),
-                   details={"rejection": details})]
+                   details={"rejection": details}, parsed=quantity)]
 
 
 def level(r: float) -> float:
@@ -185,7 +189,6 @@ def tolerance_quantity(circuit: Circuit, quantity: syntax.Quantity, inner: synta
         levels = -20 * np.log10(np.abs(mc.values))
     q_low, q_high = (float(v) for v in np.quantile(levels, [0.001, 0.999]))
     finite = levels[np.isfinite(levels)]
-    unit = ratio.wanted.unit
     at_worst = a.extremes.high_at if abs(high) >= abs(low) else a.extremes.low_at
     worst_at = ", ".join(f"{name} = {eng(value, _unit_of(circuit, sympy.Symbol(name)))}"
                          for name, value in sorted(at_worst.items()))
@@ -194,9 +197,9 @@ def tolerance_quantity(circuit: Circuit, quantity: syntax.Quantity, inner: synta
         return "unbounded (∞ dB)" if math.isinf(value) else decibels(value)
 
     notes = [
-        f"{short} = −20·log10|r| with the rejection r = {ratio.unwanted.text} / "
-        f"{ratio.wanted.text}, analysed over the tolerance box (r has no pole where the "
-        f"{first} is away from zero).",
+        f"{short} = −20·log10|r| with the rejection r, the {second} over the {first}, "
+        f"analysed over the tolerance box (r has no pole where the {first} is away from "
+        "zero).",
         f"Nominal {db(nominal)}; r from {eng(low)} to "
         f"{eng(high)} over the box ({a.extremes.method}).",
         f"Worst case {db(worst)} at {worst_at or 'the nominal values'}; best "
@@ -225,4 +228,4 @@ def tolerance_quantity(circuit: Circuit, quantity: syntax.Quantity, inner: synta
     # a perfect match at nominal has no finite level: the result then shows no value
     shown = {} if a.nominal == 0 else _names(circuit.symbol_nominals())
     return [Result(f"tolerance({inner.text})", ratio.level, "dB", shown, tuple(notes),
-                   details={"rejection_tolerance": details})]
+                   details={"rejection_tolerance": details}, parsed=quantity)]

@@ -445,6 +445,10 @@ def _symbol(q: Any) -> str | None:
         if q.attribute in ("A", "B", "C", "D"):
             return rf"\mathrm{{{q.attribute}}}"
         return f"{q.attribute[0]}_{{{q.attribute[1:]}}}"
+    if q.name in ("cmrr", "psrr"):
+        return rf"\mathrm{{{q.name.upper()}}}"
+    if q.name == "tolerance" and q.args and getattr(q.args[0], "name", None) in ("cmrr", "psrr"):
+        return _symbol(q.args[0])
     if q.name in ("sensitivity", "relative_sensitivity") and len(q.args) == 2 and names[1]:
         inner = q.args[0]
         of = _symbol(inner) if type(inner).__name__ == "Quantity" else None
