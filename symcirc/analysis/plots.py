@@ -51,6 +51,48 @@ def _eng_axis(axis, unit: str) -> None:
     axis.set_major_formatter(FuncFormatter(lambda value, _: eng(value, unit)))
 
 
+def _scaled_axis(axis, values: Sequence[float], unit: str) -> str:
+    """Tick labels as plain numbers in one SI prefix chosen from the data (`−3.05` with the
+    axis in mV), never a prefix on each tick: returns the axis' unit with its prefix
+    (`mV`), or a power of ten (`×10⁻³`) for a pure number."""
+    from matplotlib.ticker import FuncFormatter
+
+    from ..model.units import MINUS, PREFIXES, UNPREFIXED
+
+    finite = [abs(float(v)) for v in values if math.isfinite(float(v)) and v != 0]
+    largest = max(finite, default=1.0)
+    exponent = 0 if unit in UNPREFIXED else \
+        max(-15, min(12, 3 * math.floor(math.log10(largest) / 3)))
+    scale = 10.0 ** exponent
+
+    def tick(value: float, _: int) -> str:
+        number = f"{value / scale:.6g}"
+        return ("0" if float(number) == 0 else number).replace("-", MINUS)
+
+    axis.set_major_formatter(FuncFormatter(tick))
+    if unit:
+        return PREFIXES[exponent] + unit
+    if exponent == 0:
+        return ""
+    return "×10" + str(exponent).translate(_SUPERSCRIPT)
+
+
+_SUPERSCRIPT = str.maketrans("-0123456789", "⁻⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+def _legend_below(figure, axes) -> None:
+    """The legend under the plot, outside the axes: never over the data it explains."""
+    handles, labels = axes.get_legend_handles_labels()
+    if not handles:
+        return
+    longest = sorted((len(label) for label in labels), reverse=True)
+    # as many columns as fit the figure's width (about 100 characters at 7 pt)
+    columns = max([k for k in (1, 2, 3) if k <= len(labels)
+                   and k * (longest[0] + 6) <= 100] or [1])
+    figure.legend(handles, labels, loc="outside lower center", ncols=columns, fontsize=7,
+                  frameon=False)
+
+
 def _percent_axis(axis) -> None:
     """Plain decimal percentages on a log axis (`0.01 %`, not a power of ten)."""
     from matplotlib.ticker import FuncFormatter
@@ -112,38 +154,110 @@ def _styled(build):
 @_styled
 def frequency_response_figure(
     frequencies: Sequence[float], response: Sequence[complex], label: str, unit: str = "",
-    band: Any = None, unstable: bool = False,
+    band: Any = None, unstable: bool = False, markers: Sequence[tuple[float, str]] = (),
 ):
-    """Magnitude (dB) and phase (°) against frequency on a log axis; with `band` (a
-    response.Band over the same frequencies) the Monte Carlo spread shaded around them."""
+    """Magnitude and phase (°) against frequency on a log axis; with `band` (a
+    response.Band over the same frequencies) the Monte Carlo spread shaded around them.
+    A pure number (a voltage gain) is drawn in dB; a quantity with a unit (an impedance in
+    Ω) as its magnitude in that unit on log axes. `markers` (frequency, name) are drawn as
+    vertical lines through both plots, named at the top (f0, the −3 dB points)."""
     import numpy as np
 
     f = np.asarray(frequencies, dtype=float)
     h = np.asarray(response, dtype=complex)
     figure, (top, bottom) = _figure(rows=2)
+    in_db = not unit
     with np.errstate(divide="ignore"):
-        top.semilogx(f, 20 * np.log10(np.abs(h)), color="C0", label="nominal")
+        if in_db:
+            top.semilogx(f, 20 * np.log10(np.abs(h)), color="C0", label="nominal")
+        else:
+            top.loglog(f, np.abs(h), color="C0", label="nominal")
     phase = np.degrees(np.unwrap(np.angle(h)))
     bottom.semilogx(f, phase, color="C1")
     if band is not None:
         low, high = band.quantiles
         shown = f"Monte Carlo {100 * low:g} % … {100 * high:g} % ({band.samples:,} samples)"
-        top.fill_between(f, band.low_db, band.high_db, color="C0", alpha=0.25, linewidth=0,
+        low_band, high_band = band.low_db, band.high_db
+        if not in_db:
+            low_band, high_band = 10 ** (low_band / 20), 10 ** (high_band / 20)
+        top.fill_between(f, low_band, high_band, color="C0", alpha=0.25, linewidth=0,
                          label=shown)
         # the band follows the nominal phase's branch; shift it onto the curve as drawn
         shift = phase - band.nominal_phase
         bottom.fill_between(f, band.low_phase + shift, band.high_phase + shift, color="C1",
                             alpha=0.25, linewidth=0)
-        top.legend(loc="lower left", fontsize=7)
-    top.set_ylabel("Magnitude (dB" + (f" re 1 {unit})" if unit else ")"))
+    _mark_frequencies(top, bottom, f, h, markers, in_db)
+    if band is not None or markers:
+        _legend_below(figure, top)
+    if in_db:
+        top.set_ylabel("Magnitude (dB)")
+    else:
+        top.set_ylabel(f"|{label}| ({unit})" if len(label) <= 12 else f"Magnitude ({unit})")
+        _eng_axis(top.yaxis, unit)
     bottom.set_ylabel("Phase (°)")
     bottom.set_xlabel("Frequency (Hz)")
     _eng_axis(bottom.xaxis, "Hz")
-    if unstable:
-        top.set_title(label + "  (unstable: a pole in the right half-plane)", color="C3")
-    else:
-        top.set_title(label)
+    title = label + ("  (unstable: a pole in the right half-plane)" if unstable else "")
+    # above the markers' names
+    figure.suptitle(title, fontsize=9, color="C3" if unstable else "k")
     return figure
+
+
+MARKER_STYLE = {"f0": ("0.3", ":"), "−3 dB": ("C2", "--")}
+"""Colour and line style of each kind of frequency marker."""
+
+
+def _mark_frequencies(top, bottom, f, h, markers: Sequence[tuple[float, str]],
+                      in_db: bool) -> None:
+    """Vertical lines through both plots at each marked frequency, named in the legend (`f0 =
+    1.03 kHz`, `−3 dB: 969 Hz, 1.09 kHz`: close markers cannot overlap there); the −3 dB
+    points also as dots on the magnitude curve."""
+    import numpy as np
+
+    from ..model.units import eng
+
+    for kind, (color, style) in MARKER_STYLE.items():
+        found = sorted(frequency for frequency, name in markers if name == kind)
+        if not found:
+            continue
+        joined = ", ".join(eng(x, "Hz") for x in found)
+        label = f"{kind} = {joined}" if kind == "f0" else f"{kind}: {joined}"
+        for k, frequency in enumerate(found):
+            top.axvline(frequency, color=color, linestyle=style, linewidth=1,
+                        label=label if k == 0 else None)
+            bottom.axvline(frequency, color=color, linestyle=style, linewidth=1)
+        if kind == "−3 dB":
+            magnitude = np.interp(np.log10(found), np.log10(f), np.abs(h))
+            top.plot(found, 20 * np.log10(magnitude) if in_db else magnitude, "o",
+                     color=color, markersize=4)
+
+
+def response_markers(expression, nominals) -> list[tuple[float, str]]:
+    """(frequency in Hz, kind) of f0 (a second-order section's natural frequency) and of
+    each −3 dB point, at the nominal values; the kinds are those of MARKER_STYLE. None that
+    cannot be found."""
+    from .response import Response, ResponseError
+    from .values import rational
+
+    markers: list[tuple[float, str]] = []
+    try:
+        response = Response.of(expression)
+    except ResponseError:
+        return markers
+    if response.order == 2:
+        try:
+            f0 = response.parameters()["f0"].xreplace(
+                {x: rational(v) for x, v in nominals.items()})
+            if f0.is_number and f0.is_real and float(f0) > 0:
+                markers.append((float(f0), "f0"))
+        except (ResponseError, TypeError, KeyError):
+            pass
+    try:
+        corners = response.corner_frequencies(nominals)
+    except ResponseError:
+        corners = []
+    markers += [(f, "−3 dB") for f in corners if f > 0]
+    return markers
 
 
 def is_unstable(expression, nominals) -> bool:
@@ -172,11 +286,37 @@ def histogram_figure(analysis: ToleranceAnalysis, label: str, unit: str = ""):
     ]
     for value, name, color, style in marks:
         axes.axvline(float(value), color=color, linestyle=style, linewidth=1.2, label=name)
-    axes.set_xlabel(_axis_label(label, unit))
+    shown = [float(v) for v, *_ in marks] + [float(mc.minimum), float(mc.maximum)]
+    pad = 0.04 * (max(shown) - min(shown)) or 0.04 * abs(shown[0]) or 1.0
+    axes.set_xlim(min(shown) - pad, max(shown) + pad)  # the outermost marks clear of the edge
+    axes.set_xlabel(_axis_label(label, _scaled_axis(axes.xaxis, shown, unit)))
     axes.set_ylabel("Samples")
-    _eng_axis(axes.xaxis, unit)
     axes.set_title(f"Spread of {label} ({mc.distribution} tolerances)")
-    axes.legend(loc="upper right", fontsize=7)
+    _legend_below(figure, axes)
+    return figure
+
+
+@_styled
+def level_histogram_figure(levels: Any, worst: float, nominal: float | None, label: str):
+    """Monte Carlo histogram of a level in dB (a rejection ratio), its worst case over the
+    tolerance box and its nominal value marked; levels above the 99.9 % quantile (a near
+    perfect match, up to infinity) are left out of the bins and said so."""
+    import numpy as np
+
+    values = np.asarray(levels, dtype=float)
+    top = float(np.quantile(values, 0.999))
+    kept = values[values <= top]
+    figure, axes = _figure()
+    axes.hist(kept, bins=100, color="C0", alpha=0.75,
+              label=f"Monte Carlo ({values.size:,}; top 0.1 % not drawn)")
+    axes.axvline(worst, color="C3", linestyle="--", linewidth=1.2,
+                 label=f"worst case over the box {worst:.1f} dB")
+    if nominal is not None and nominal <= top:
+        axes.axvline(nominal, color="k", linewidth=1.2, label="nominal")
+    axes.set_xlabel(f"{label} (dB)")
+    axes.set_ylabel("Samples")
+    axes.set_title(f"Spread of {label}")
+    _legend_below(figure, axes)
     return figure
 
 
@@ -188,18 +328,52 @@ def sensitivity_figure(table: SensitivityTable, label: str, unit: str = ""):
     figure, axes = _figure()
     names = [str(r.symbol) for r in rows][::-1]
     values = [float(r.relative_value) for r in rows][::-1]
-    axes.barh(names, values, color=["C0" if v >= 0 else "C3" for v in values])
+    limit = dominance_limit(values)
+    drawn = values if limit is None else [max(-limit, min(limit, v)) for v in values]
+    axes.barh(names, drawn, color=["C0" if v >= 0 else "C3" for v in values],
+              hatch=[("//" if limit is not None and abs(v) > limit else "") for v in values])
     axes.axvline(0, color="k", linewidth=0.8)
     if table.reference == 1:
-        axes.set_xlabel(_axis_label("Sensitivity x·∂Q/∂x", unit))
+        name = "Sensitivity x·∂Q/∂x"
     else:
         reference = "Q" if table.reference is None else str(table.reference)
-        axes.set_xlabel(_axis_label(f"Relative sensitivity (x/{reference})·∂Q/∂x", unit))
-    if unit:
-        _eng_axis(axes.xaxis, unit)
+        name = f"Relative sensitivity (x/{reference})·∂Q/∂x"
+    shown = _scaled_axis(axes.xaxis, drawn, unit)
+    axes.set_xlabel(_axis_label(name, shown) if shown else name)
+    from ..model.units import eng
+
+    span = max((abs(v) for v in drawn), default=1.0) or 1.0
+    for y, (value, bar) in enumerate(zip(values, drawn, strict=True)):
+        clipped = limit is not None and abs(value) > limit
+        text = eng(value, unit) + (" (bar cut)" if clipped else "")
+        inside = clipped or abs(bar) > 0.6 * span  # long bars carry their value inside
+        axes.text(bar - (0.02 * span if bar >= 0 else -0.02 * span) if inside
+                  else bar + (0.02 * span if bar >= 0 else -0.02 * span), y, text,
+                  va="center", fontsize=7,
+                  ha=("right" if bar >= 0 else "left") if inside else
+                  ("left" if bar >= 0 else "right"),
+                  color="white" if inside else "k")
+    axes.set_xlim(-1.25 * span if min(drawn, default=0) < 0 else 0,
+                  1.25 * span if max(drawn, default=0) > 0 else 0.05 * span)
     axes.set_ylabel("Symbol x")
     axes.set_title(f"Sensitivities of Q = {label}")
     return figure
+
+
+DOMINANCE = 5.0
+"""A bar longer than this many times the next longest is cut (and its value written on it),
+so that the others stay readable on a linear axis."""
+
+
+def dominance_limit(values: Sequence[float]) -> float | None:
+    """Where bars are cut when one dominates: 1.5 times the second longest, or None.
+
+    A log axis would lose the signs and make small bars look alike; a cut bar with its value
+    written keeps the axis linear, so the other bars compare by length as before."""
+    magnitudes = sorted((abs(v) for v in values), reverse=True)
+    if len(magnitudes) < 2 or magnitudes[1] == 0 or magnitudes[0] <= DOMINANCE * magnitudes[1]:
+        return None
+    return 1.5 * magnitudes[1]
 
 
 @_styled
@@ -237,7 +411,7 @@ def loading_figure(
     _percent_axis(axes.yaxis)
     axes.set_title(f"Loading of {label}")
     if load is not None or bound is not None:
-        axes.legend(loc="upper right", fontsize=7)
+        _legend_below(figure, axes)
     return figure
 
 
@@ -263,7 +437,14 @@ def figure_of(circuit: Circuit, quantity: syntax.Quantity, options: DeriveOption
     """
     from . import quantities as q
 
-    if quantity.name == "tolerance":
+    inner = quantity.args[0] if quantity.args else None
+    if quantity.name == "tolerance" and getattr(inner, "name", None) in ("cmrr", "psrr"):
+        from .rejection import spread
+
+        level = spread(circuit, inner, options)
+        figure = level_histogram_figure(level.levels, level.worst, level.nominal,
+                                        level.label)
+    elif quantity.name == "tolerance":
         result, analysis = q.tolerance_analyses(circuit, quantity, options)[0]
         figure = histogram_figure(analysis, result.quantity, result.unit)
     elif quantity.name == "sensitivities":
@@ -307,7 +488,8 @@ def figure_of(circuit: Circuit, quantity: syntax.Quantity, options: DeriveOption
             band = response_band(circuit, result, frequencies, seed=options.seed)
         figure = frequency_response_figure(
             frequencies, response, result.quantity, result.unit, band,
-            is_unstable(result.expression, circuit.symbol_nominals()))
+            is_unstable(result.expression, circuit.symbol_nominals()),
+            response_markers(result.expression, circuit.symbol_nominals()))
     return figure
 
 
@@ -332,8 +514,10 @@ def frequency_response(expression, nominals):
                for p in (numerator, denominator) if p.degree() > 0
                for r in p.nroots(n=15)]
     corners = [c for c in corners if c > 0]
-    low = 10 ** (math.floor(math.log10(min(corners))) - 2) if corners else 1.0
-    high = 10 ** (math.ceil(math.log10(max(corners))) + 2) if corners else 1e6
+    # two decades below the lowest and above the highest, widened to whole decades (a
+    # corner a rounding error above a decade does not add one)
+    low = 10 ** math.floor(math.log10(min(corners)) - 2 + 1e-9) if corners else 1.0
+    high = 10 ** math.ceil(math.log10(max(corners)) + 2 - 1e-9) if corners else 1e6
     frequencies = np.logspace(math.log10(low), math.log10(high), 600)
     s = 2j * math.pi * frequencies
     response = np.polyval([complex(c) for c in numerator.all_coeffs()], s) / np.polyval(

@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
 import sympy
 
@@ -164,29 +165,58 @@ def level(r: float) -> float:
     return math.inf if r == 0 else -20 * math.log10(abs(r))
 
 
+@dataclass(frozen=True)
+class LevelSpread:
+    """A rejection ratio's spread over the tolerances, in dB (∞ for a perfect match)."""
+
+    ratio: Ratio
+    analysis: tolerance.ToleranceAnalysis
+    """The tolerance analysis of the rejection r."""
+    nominal: float
+    worst: float
+    best: float
+    levels: Any
+    """The Monte Carlo samples as levels in dB (numpy array)."""
+
+    @property
+    def label(self) -> str:
+        return WORDS[self.ratio.name][0]
+
+
+def spread(circuit: Circuit, inner: syntax.Quantity, options: DeriveOptions,
+           distribution: str = "uniform") -> LevelSpread:
+    """The spread of `cmrr(..)` or `psrr(..)` through its rejection r (module docstring)."""
+    import numpy as np
+
+    ratio = read_ratio(circuit, inner, options)
+    try:
+        a = tolerance.analyse(ratio.rejection, circuit.symbol_nominals(), tolerances(circuit),
+                              definitions(circuit), distribution=distribution,
+                              seed=options.seed)
+    except tolerance.ToleranceInputError as problem:
+        raise Reader(circuit, options).error(
+            inner, f"tolerance of {inner.text}: {problem}") from None
+    low, high = float(a.extremes.low), float(a.extremes.high)
+    best = math.inf if low <= 0 <= high else level(min(abs(low), abs(high)))
+    with np.errstate(divide="ignore"):
+        levels = -20 * np.log10(np.abs(a.monte_carlo.values))
+    return LevelSpread(ratio, a, level(float(a.nominal)), level(max(abs(low), abs(high))),
+                       best, levels)
+
+
 def tolerance_quantity(circuit: Circuit, quantity: syntax.Quantity, inner: syntax.Quantity,
                        options: DeriveOptions, distribution: str) -> list[Result]:
     """`tolerance(cmrr(..))`: the worst and best level over the tolerance box and its Monte
     Carlo spread, through the rejection r = A_unwanted/A_wanted (see the module docstring)."""
     import numpy as np
 
-    ratio = read_ratio(circuit, inner, options)
+    found = spread(circuit, inner, options, distribution)
+    ratio, a, levels = found.ratio, found.analysis, found.levels
+    nominal, worst, best = found.nominal, found.worst, found.best
     short, first, second = WORDS[ratio.name]
-    read = Reader(circuit, options)
-    try:
-        a = tolerance.analyse(ratio.rejection, circuit.symbol_nominals(), tolerances(circuit),
-                              definitions(circuit), distribution=distribution,
-                              seed=options.seed)
-    except tolerance.ToleranceInputError as problem:
-        raise read.error(inner, f"tolerance of {inner.text}: {problem}") from None
     low, high = float(a.extremes.low), float(a.extremes.high)
-    worst = level(max(abs(low), abs(high)))
-    through_zero = low <= 0 <= high
-    best = math.inf if through_zero else level(min(abs(low), abs(high)))
-    nominal = level(float(a.nominal))
+    through_zero = math.isinf(best)
     mc = a.monte_carlo
-    with np.errstate(divide="ignore"):
-        levels = -20 * np.log10(np.abs(mc.values))
     q_low, q_high = (float(v) for v in np.quantile(levels, [0.001, 0.999]))
     finite = levels[np.isfinite(levels)]
     at_worst = a.extremes.high_at if abs(high) >= abs(low) else a.extremes.low_at

@@ -159,9 +159,10 @@ def _frequency_response(circuit: Circuit, view: ResultView, extension: str, spre
 
             band = response_band(circuit, view.result, frequencies, seed=request.options.seed)
         unstable = plots.is_unstable(view.result.expression, circuit.symbol_nominals())
+        markers = plots.response_markers(view.result.expression, circuit.symbol_nominals())
         return plots.image(plots.frequency_response_figure(frequencies, response,
                                                            view.quantity, view.unit, band,
-                                                           unstable),
+                                                           unstable, markers),
                            extension[1:])
     return draw
 

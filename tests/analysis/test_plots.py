@@ -1,6 +1,7 @@
 """Plots: files are written, non-empty, deterministic, with the expected axis labels read back
 from the SVG text."""
 
+import math
 import xml.etree.ElementTree as ET
 from fractions import Fraction
 
@@ -38,7 +39,9 @@ def test_histogram_svg_has_labels_and_is_byte_identical(tmp_path):
     texts = svg_texts(first)
     assert "V(out) (V)" in texts and "Samples" in texts
     assert "linearised worst case" in texts and "extremes over the box" in texts
-    assert any(t.endswith(" V") and t[0].isdigit() for t in texts)  # engineering tick labels
+    # one prefix for the axis, in its label; the ticks are plain numbers (1.24, 1.25 …)
+    ticks = [t for t in texts if t[:1].isdigit()]
+    assert "1.25" in ticks and not any(t.endswith("V") for t in ticks)
 
 
 def test_frequency_response_axes(tmp_path):
@@ -85,3 +88,85 @@ def test_loading_curve_png_and_svg(tmp_path):
 def test_other_extensions_are_refused(tmp_path):
     with pytest.raises(SymcircError, match=r"\.png or \.svg"):
         plots.save(_histogram(), tmp_path / "figure.pdf")
+
+
+def _tick_texts(texts: list[str]) -> list[str]:
+    return [t for t in texts if t[:1].isdigit() or t[:1] == "−"]
+
+
+def test_near_zero_spread_axis_reads_in_millivolts(tmp_path):
+    # a bridge near balance: V(out) a few mV either side of zero, unit and prefix on the
+    # axis label, never a bare "−3 m" tick
+    bridge = U * (R2 / (R1 + R2) - C / (C + R1))
+    nominals = {R1: Fraction(1000), R2: Fraction(1000), C: Fraction(1001), U: Fraction(5)}
+    a = analyse(bridge, nominals, {R1: ONE_PERCENT, R2: ONE_PERCENT, C: ONE_PERCENT},
+                samples=2000)
+    path = tmp_path / "spread.svg"
+    plots.save(plots.histogram_figure(a, "V(out)", "V"), path)
+    texts = svg_texts(path)
+    assert "V(out) (mV)" in texts
+    ticks = _tick_texts(texts)
+    assert ticks and not any(t.endswith(("m", "µ", "V")) for t in ticks)
+    assert any(t.startswith("−") for t in ticks)  # U+2212, not a hyphen
+    unitless = tmp_path / "gain.svg"
+    plots.save(plots.histogram_figure(a, "gain", ""), unitless)
+    assert "gain (×10⁻³)" in svg_texts(unitless)
+
+
+def test_legend_is_outside_the_axes():
+    figure = _histogram()
+    [axes] = figure.axes
+    assert axes.get_legend() is None and figure.legends  # a figure legend, not over the data
+    figure.canvas.draw()  # lay it out (constrained layout places the legend)
+    legend = figure.legends[0].get_window_extent()
+    plot_area = axes.get_window_extent()
+    assert legend.y1 <= plot_area.y0  # below the axes, clear of every bar and line
+
+
+def test_frequency_response_marks_f0_and_the_corner(tmp_path):
+    # second-order low-pass 1/(1 + s/(Q·w0) + s²/w0²), w0 = 2π·2 kHz, Q = 1/√2 (Butterworth):
+    # f0 and the −3 dB frequency are both 2 kHz (common practice)
+    w0 = 4000 * sympy.Rational(355, 113)  # 2π·2 kHz with π ≈ 355/113
+    f0 = 2000 * 355 / 113 / math.pi
+    h = sympy.cancel(1 / (1 + sympy.sqrt(2) * s / w0 + s**2 / w0**2))
+    markers = plots.response_markers(h, {})
+    assert sorted(name for _, name in markers) == ["f0", "−3 dB"]
+    for frequency, _ in markers:
+        assert frequency == pytest.approx(f0, rel=1e-6)
+    frequencies, response = plots.frequency_response(h, {})
+    # two decades either side of the poles (to whole decades), not a fixed sweep
+    assert f0 / 1000 < frequencies[0] <= f0 / 100 and 100 * f0 <= frequencies[-1] < 1000 * f0
+    path = tmp_path / "bode.svg"
+    plots.save(plots.frequency_response_figure(frequencies, response, "gain(U, out)",
+                                               markers=markers), path)
+    texts = svg_texts(path)
+    assert any(t.startswith("f0 = 2 kHz") for t in texts)
+    assert any(t.startswith("−3 dB: 2 kHz") for t in texts)
+
+
+def test_impedance_is_drawn_in_ohms_on_log_axes(tmp_path):
+    z = R1 + 1 / (s * C)  # series RC: 3 kΩ above 5.3 kHz, capacitive below
+    frequencies, response = plots.frequency_response(z, NOMINALS)
+    figure = plots.frequency_response_figure(frequencies, response, "Z(in)", "Ω")
+    top = figure.axes[0]
+    assert top.get_yscale() == "log" and top.get_xscale() == "log"
+    path = tmp_path / "z.svg"
+    plots.save(figure, path)
+    texts = svg_texts(path)
+    assert "|Z(in)| (Ω)" in texts and not any("dB" in t for t in texts)
+    assert any(t.endswith("kΩ") for t in texts)
+
+
+def test_a_dominating_sensitivity_bar_is_cut_and_labelled(tmp_path):
+    assert plots.dominance_limit([243.0, -2.0, 1.0]) == pytest.approx(3.0)
+    assert plots.dominance_limit([3.0, -2.0, 1.0]) is None
+    # relative sensitivities 40, 1 and 1: the power of a symbol is its relative sensitivity
+    table = sensitivities(U * R2 * R1**40, NOMINALS)
+    path = tmp_path / "bars.svg"
+    figure = plots.sensitivity_figure(table, "V(out)")
+    plots.save(figure, path)
+    texts = svg_texts(path)
+    assert sum("(bar cut)" in t for t in texts) >= 1
+    # the axis spans the small bars, not the dominating one
+    low, high = figure.axes[0].get_xlim()
+    assert max(abs(low), abs(high)) < 10
