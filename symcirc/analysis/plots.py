@@ -61,8 +61,8 @@ def _scaled_axis(axis, values: Sequence[float], unit: str) -> str:
 
     finite = [abs(float(v)) for v in values if math.isfinite(float(v)) and v != 0]
     largest = max(finite, default=1.0)
-    exponent = 0 if unit in UNPREFIXED else \
-        max(-15, min(12, 3 * math.floor(math.log10(largest) / 3)))
+    plain = unit in UNPREFIXED or (not unit and 1e-2 <= largest < 1e4)  # 0.25, not 250×10⁻³
+    exponent = 0 if plain else max(-15, min(12, 3 * math.floor(math.log10(largest) / 3)))
     scale = 10.0 ** exponent
 
     def tick(value: float, _: int) -> str:

@@ -108,9 +108,11 @@ def test_near_zero_spread_axis_reads_in_millivolts(tmp_path):
     ticks = _tick_texts(texts)
     assert ticks and not any(t.endswith(("m", "µ", "V")) for t in ticks)
     assert any(t.startswith("−") for t in ticks)  # U+2212, not a hyphen
+    # a pure number of a few thousandths: a power of ten in the label (0.25 would stay 0.25)
+    ratio = analyse(bridge / U / 10, nominals, {R1: ONE_PERCENT, R2: ONE_PERCENT}, samples=2000)
     unitless = tmp_path / "gain.svg"
-    plots.save(plots.histogram_figure(a, "gain", ""), unitless)
-    assert "gain (×10⁻³)" in svg_texts(unitless)
+    plots.save(plots.histogram_figure(ratio, "gain", ""), unitless)
+    assert "gain (×10⁻⁶)" in svg_texts(unitless)  # about ±250×10⁻⁶
 
 
 def test_legend_is_outside_the_axes():
