@@ -189,6 +189,10 @@ def sensitivity_tables(circuit: Circuit, quantity: syntax.Quantity, options: Der
                                           "sensitivities(V(out)) or sensitivities(V(out), Ub)",
                           parts=True)
     named = read.expression(args[1]) if len(args) == 2 else None
+    if getattr(args[0], "name", None) in ("cmrr", "psrr"):
+        raise read.error(args[0], f"a level in dB has no sensitivity table; ask for the "
+                                  f"sensitivities of its two gains, or tolerance({args[0].name}"
+                                  "(..)) for its worst case over the tolerances")
     nominals = circuit.symbol_nominals()
     out = []
     for result in read.derive(args[0]):

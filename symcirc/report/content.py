@@ -221,8 +221,12 @@ class Spread:
     method: str
 
     def relative(self, nominal: float | None) -> tuple[float, float] | None:
-        """(low, high) relative to `nominal` (−0.01, +0.012), or None when nominal is 0."""
-        if not nominal:
+        """(low, high) relative to `nominal` (−0.01, +0.012), or None when the result is near
+        zero (0 at nominal, or the band reaching zero: `analysis.nearzero`), where only the
+        band in the result's unit means something."""
+        from ..analysis.nearzero import band_reaches_zero
+
+        if nominal is None or band_reaches_zero(nominal, self.low, self.high):
             return None
         return self.low / nominal - 1, self.high / nominal - 1
 

@@ -150,3 +150,16 @@ def test_psrr_and_its_errors(cli, circuit_file) -> None:
     assert status == 2 and "one unit" in err
     status, _, err = cli("derive", path, "cmrr(gain(Uin, out), gain(Usup, out)*Ru)")
     assert status == 2 and "pure number" in err
+
+
+def test_a_level_has_no_sensitivity_table(cli) -> None:
+    status, _, err = cli("derive", DIFF_AMP, f"sensitivities({CMRR})")
+    assert status == 2 and "no sensitivity table" in err and "Traceback" not in err
+
+
+def test_sheet_shows_a_near_zero_spread_as_its_band(cli, tmp_path) -> None:
+    sheet = tmp_path / "sheet.md"
+    assert cli("sheet", DIFF_AMP, "-o", sheet).status == 0
+    row = next(line for line in sheet.read_text(encoding="utf-8").splitlines()
+               if line.startswith("| `gain(Usup, sense)`"))
+    assert "%" not in row and "m … " in row  # −3.815 m … 3.805 m, not ±2×10⁵ %
