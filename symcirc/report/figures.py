@@ -117,7 +117,7 @@ def plan(circuit: Circuit, sections: list[Section], wanted: list[Request], stem:
         name = request.quantity.name
         if name in ("loading", "minimum_load") and not request.options.assumptions:
             add(None, section, "loading", f"Loading error of {request.text} against the load.",
-                _loading(circuit, request, extension), f"{section.anchor}-loading")
+                _plotted(circuit, request, extension), f"{section.anchor}-loading")
         for view in section.results:
             if view.is_transfer_function and _has_values(view) and _is_response(name):
                 spread = name == "response"  # asked for with its Monte Carlo band
@@ -131,6 +131,11 @@ def plan(circuit: Circuit, sections: list[Section], wanted: list[Request], stem:
                 add(view, section, "histogram",
                     f"Monte Carlo histogram of {view.quantity} with the worst-case bounds.",
                     _histogram(circuit, view, request, extension),
+                    f"{view.anchor}-histogram")
+            elif name == "tolerance" and "rejection_tolerance" in view.result.details:
+                add(view, section, "histogram",
+                    f"Monte Carlo histogram of {view.quantity} in dB with its worst case over "
+                    "the tolerance box.", _plotted(circuit, request, extension),
                     f"{view.anchor}-histogram")
     return drawings
 
@@ -182,7 +187,8 @@ def _histogram(circuit: Circuit, view: ResultView, request: Request,
     return draw
 
 
-def _loading(circuit: Circuit, request: Request, extension: str) -> Callable[[], bytes]:
+def _plotted(circuit: Circuit, request: Request, extension: str) -> Callable[[], bytes]:
+    """The figure `symcirc plot` draws of the request (loading curves, a level's spread)."""
     def draw() -> bytes:
         from ..analysis import plots
 
