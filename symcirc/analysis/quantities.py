@@ -23,9 +23,10 @@ from ..model.typeset import latex_of
 from ..model.units import degrees, eng
 from ..model.units import per as _per
 from ..model.units import percent_text as percent
+from ..quantities import nearzero
 from ..quantities.registry import DeriveOptions
 from ..results import Result
-from . import components, loading, nearzero, sensitivity, tolerance
+from . import components, loading, sensitivity, tolerance
 from .values import exact_value
 
 # ---------------------------------------------------------------- reading arguments

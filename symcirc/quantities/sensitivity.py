@@ -10,6 +10,7 @@ from __future__ import annotations
 
 from ..algebra.rational import RationalFunction
 from ..language import syntax
+from . import nearzero
 from .basic import raw_current, raw_gain, raw_voltage
 from .common import Context, Raw, handler, per, unit_of_symbol
 from .equivalents import raw_admittance, raw_impedance, raw_norton, raw_thevenin
@@ -69,6 +70,7 @@ def raw_sensitivity(context: Context, quantity: syntax.Quantity, relative: bool)
             value = derivative
             if not derivative.is_zero():
                 value = derivative * RationalFunction.symbol(name, function.ring) / function
+                notes += _near_zero(context, raw.quantity, function, derivative, name)
             out.append(Raw(text, value, "", tuple(notes)))
         else:
             out.append(Raw(text, derivative, per(raw.unit, unit_of_symbol(context.circuit, name)),
@@ -78,3 +80,28 @@ def raw_sensitivity(context: Context, quantity: syntax.Quantity, relative: bool)
 
 sensitivity_quantity = handler(raw_sensitivity, relative=False)
 relative_sensitivity_quantity = handler(raw_sensitivity, relative=True)
+
+
+def _near_zero(context: Context, q: str, function: RationalFunction,
+               derivative: RationalFunction, name: str) -> list[str]:
+    """A note when Q is near zero by x alone (`nearzero`): x moved by its tolerance (1 %
+    without one) moves Q by more than Q, so (x/Q)·∂Q/∂x is divided by nearly nothing."""
+    circuit = context.circuit
+    nominals = {str(k): v for k, v in circuit.symbol_nominals().items()}
+    used = set(function.symbol_names()) | set(derivative.symbol_names()) | {name}
+    if not used <= set(nominals):
+        return []
+    try:
+        value = function.evaluate({n: nominals[n] for n in function.symbol_names()})
+        slope = derivative.evaluate({n: nominals[n] for n in derivative.symbol_names()})
+    except ZeroDivisionError:
+        return []
+    owner = circuit.parameters.get(name) or circuit.elements.get(name)
+    band = nearzero.relative_band(getattr(owner, "tolerance", None), nominals[name])
+    if value == 0 or not nearzero.near_zero(value, [nominals[name] * slope * band]):
+        return []
+    return [f"{q} is near zero at the nominal values: {name} moved by "
+            f"{float(band) * 100:g} % (its tolerance, or 1 % without one) moves it by more "
+            "than its own value, so this relative sensitivity is divided by an accident of "
+            f"the nominal values; sensitivity({q}, {name}) gives ∂Q/∂x in Q's unit per "
+            f"{name}'s, and sensitivities({q}) the table as absolute figures."]

@@ -224,7 +224,7 @@ class Spread:
         """(low, high) relative to `nominal` (−0.01, +0.012), or None when the result is near
         zero (0 at nominal, or the band reaching zero: `analysis.nearzero`), where only the
         band in the result's unit means something."""
-        from ..analysis.nearzero import band_reaches_zero
+        from ..quantities.nearzero import band_reaches_zero
 
         if nominal is None or band_reaches_zero(nominal, self.low, self.high):
             return None

@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 import symcirc
-from symcirc.analysis import nearzero
+from symcirc.quantities import nearzero
 
 EXAMPLES = Path(__file__).resolve().parents[2] / "examples"
 DIFF_AMP = EXAMPLES / "diff_amp.circuit"
@@ -163,3 +163,13 @@ def test_sheet_shows_a_near_zero_spread_as_its_band(cli, tmp_path) -> None:
     row = next(line for line in sheet.read_text(encoding="utf-8").splitlines()
                if line.startswith("| `gain(Usup, sense)`"))
     assert "%" not in row and "m … " in row  # −3.815 m … 3.805 m, not ±2×10⁵ %
+
+
+def test_relative_sensitivity_of_a_near_zero_gain_says_so() -> None:
+    circuit = symcirc.load(DIFF_AMP)
+    [result] = circuit.derive("relative_sensitivity(gain(Usup, sense), Rf)")
+    assert abs(result.nominal) > 1e5  # (x/Q)·∂Q/∂x, divided by a near-zero Q
+    assert any("near zero" in n and "sensitivity(gain(Usup, sense), Rf)" in n
+               for n in result.notes)
+    [far] = circuit.derive("relative_sensitivity(gain(Iload, sense), Rf)")
+    assert not any("near zero" in n for n in far.notes)
