@@ -83,8 +83,9 @@ def tolerance_tables(details: dict[str, Any], unit: str,
          Cell(f"mean {eng(mc['mean'], unit)}, σ {eng(mc['std'], unit)}")),
     )
     caption = (f"Nominal {eng(nominal, unit)}. "
-               + (f"Near zero ({t.get('near_zero_rule', 'zero at the nominal values')}): "
-                  "offsets from nominal in Q's unit instead of relative spreads. " if near else "")
+               + ("Q is near zero, so its spread is given as offsets from nominal in its unit, "
+                  f"not relative to it; {t.get('near_zero_rule', 'it is 0 at nominal')}. "
+                  if near else "")
                + f"Extremes: {t['extremes']['method']}. "
                f"Monte Carlo: {mc['samples']:,} samples, seed {mc['seed']}, {mc['convention']}.")
     tables = [Table("Tolerance", ("Method", "Low", "High", "Offset" if near else "Relative"),
