@@ -173,3 +173,27 @@ def test_relative_sensitivity_of_a_near_zero_gain_says_so() -> None:
                for n in result.notes)
     [far] = circuit.derive("relative_sensitivity(gain(Iload, sense), Rf)")
     assert not any("near zero" in n for n in far.notes)
+
+
+# A difference amplifier of gain 10 whose pairs match exactly at nominal (invented).
+MATCHED = """
+voltage source Ucm (c, gnd) = 1 V
+voltage source Udm (p_in, c) = 10 mV
+resistor R1 (c, n) = 10 kΩ ± 0.1 %
+resistor Rf (n, o) = 100 kΩ ± 0.1 %
+resistor R3 (p_in, p) = 10 kΩ ± 0.1 %
+resistor R4 (p, gnd) = 100 kΩ ± 0.1 %
+opamp U1 (p, n, o)
+port out (o, gnd)
+"""
+
+
+def test_a_perfect_match_at_nominal_has_a_worst_case_but_no_nominal_level() -> None:
+    circuit = symcirc.parse(MATCHED)
+    with pytest.raises(symcirc.SymcircError, match="unbounded there"):
+        circuit.derive("cmrr(gain(Udm, out), gain(Ucm, out))")
+    [spread] = circuit.derive("tolerance(cmrr(gain(Udm, out), gain(Ucm, out)))")
+    t = spread.details["rejection_tolerance"]
+    assert t["nominal_dB"] is None and spread.nominal is None
+    # the resistor-tolerance rule 20·log10((1 + G)/(4t)) with G = 10, t = 0.1 % (see above)
+    assert t["worst_dB"] == pytest.approx(20 * math.log10(11 / 0.004), abs=0.05)
