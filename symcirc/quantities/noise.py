@@ -302,7 +302,6 @@ def _details(setup: NoiseSetup, terms: list[NoiseTerm], values: list[float | Non
             "source_psd": _text(term.source.psd),
             "source_psd_latex": _latex(term.source.psd),
             "term": _text(term.psd),
-            "term_latex": _latex(term.psd),
             "psd": value,
             "density": None if value is None else value**0.5,
             "share": None if value is None or not total else value / total,
@@ -328,7 +327,7 @@ def _results(context: Context, setup: NoiseSetup, quantity: syntax.Quantity,
         said.append("No noise source reaches it: the density is 0.")
     elif FREQUENCY in psd.free_symbols:
         said.append("A function of the frequency f in Hz; give a frequency for a value, "
-                    f"e.g. {quantity.name}({', '.join(_texts(quantity))}, 1 kHz).")
+                    f"e.g. {_base(quantity)[:-1]}, 1 kHz).")
     clause = ", ".join(f"{a.symbol} -> {a.target}" for a in context.options.assumptions
                        if a.kind == "limit")
     plain = dataclasses.replace(quantity, attribute=None, text=_base(quantity))
@@ -346,11 +345,6 @@ def _results(context: Context, setup: NoiseSetup, quantity: syntax.Quantity,
         raise context.error(quantity, f"{quantity.name}(..) has no part `.{quantity.attribute}`"
                                       "; it has .density and .psd")
     return out
-
-
-def _texts(quantity: syntax.Quantity) -> list[str]:
-    inner = _base(quantity)
-    return [inner[len(quantity.name) + 1:-1]]
 
 
 def _base(quantity: syntax.Quantity) -> str:
