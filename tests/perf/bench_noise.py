@@ -46,13 +46,16 @@ port out (o, gnd)
 """
 
 
-def _best(run, runs: int = 3) -> float:
-    best = float("inf")
+def _best(run, runs: int = 3) -> tuple[float, float]:
+    """Best wall-clock and best processor time of `runs` runs (the second tells a busy
+    machine from a slow program)."""
+    wall = cpu = float("inf")
     for _ in range(runs):
-        start = time.perf_counter()
+        start, start_cpu = time.perf_counter(), time.process_time()
         run()
-        best = min(best, time.perf_counter() - start)
-    return best
+        wall = min(wall, time.perf_counter() - start)
+        cpu = min(cpu, time.process_time() - start_cpu)
+    return wall, cpu
 
 
 def density() -> None:
@@ -67,13 +70,14 @@ def main() -> None:
     density()  # warm: imports and the parser
     band()
     (result,) = symcirc.parse(BRIDGE_AMPLIFIER).derive("noise(out, 1 kHz).density")
-    seconds = _best(density)
+    seconds, cpu = _best(density)
     print(f"output noise density, 10-resistor bridge with an amplifier: {seconds:.3f} s "
-          f"(target < 0.5 s; {result.nominal * 1e9:.4g} nV/√Hz at 1 kHz)")
+          f"({cpu:.3f} s processor; target < 0.5 s; {result.nominal * 1e9:.4g} nV/√Hz at "
+          "1 kHz)")
     (rms,) = symcirc.parse(SECOND_ORDER).derive("noise_rms(out, 0.1 Hz, 100 Hz).rms")
-    seconds = _best(band)
+    seconds, cpu = _best(band)
     print(f"rms noise over 0.1 Hz … 100 Hz, second-order section: {seconds:.3f} s "
-          f"(target < 0.2 s; {rms.nominal * 1e9:.4g} nV rms)")
+          f"({cpu:.3f} s processor; target < 0.2 s; {rms.nominal * 1e9:.4g} nV rms)")
 
 
 if __name__ == "__main__":
