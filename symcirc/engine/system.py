@@ -7,8 +7,10 @@ source, and a test excitation `port:NAME` at every port: a test current driven i
 port's first node when the port is open, a test voltage when it is shorted.
 
 Passive networks are solved topologically (engine.topological: spanning-forest sums, no
-cancellation); everything else by elimination (engine.mna). Both give the same canonical
-functions; `path` forces one (for tests and benchmarks).
+cancellation), and so are networks whose only active elements are current sources
+controlled by voltages or by passive elements' currents (engine.controlled: the same sums
+grouped by the two-graph method); everything else by elimination (engine.mna). All give
+the same canonical functions; `path` forces one (for tests and benchmarks).
 """
 
 from __future__ import annotations
@@ -41,7 +43,8 @@ def solution(circuit: Circuit, shorted: Iterable[str] = (), path: Path | None = 
     shorted = frozenset(shorted)
     memo = memo if memo is not None else Memo()
     network = build_network(circuit, memo)
-    chosen = path or ("forest" if network.is_passive else "elimination")
+    chosen = path or ("forest" if network.is_passive or _controls(network) is not None
+                      else "elimination")
     key = ("solution", shorted, chosen)
     store = memo.of(circuit)
     cached = store.get(key)
@@ -59,9 +62,22 @@ def _solve(circuit: Circuit, network: Network, shorted: frozenset[str], path: Pa
         return Equations(network, short, tested).solve()
 
     if path == "forest":
-        if not network.is_passive:
-            raise ValueError("the spanning-forest path needs a passive network")
-        from .topological import ForestSolution
+        if network.is_passive:
+            from .topological import ForestSolution
 
-        return ForestSolution(network, short, tested, eliminate)
+            return ForestSolution(network, short, tested, eliminate)
+        controls = _controls(network)
+        if controls is None:
+            raise ValueError("the spanning-forest path needs a network without opamps, "
+                             "transformers, couplings or controlled voltage sources")
+        from .controlled import ControlledForestSolution
+
+        return ControlledForestSolution(network, short, tested, eliminate, controls)
     return eliminate()
+
+
+def _controls(network: Network):
+    """The controls of a network the forest sums can take (engine.controlled), or None."""
+    from .controlled import controls_of
+
+    return controls_of(network)

@@ -1,0 +1,385 @@
+"""Networks with controlled current sources solved by forest sums (the two-graph method).
+
+The nodal matrix of such a network is M = Y + Σ_j w_j·u_j·v_jᵀ: Y the admittance matrix
+of its passive part and, for each control j of a current source X (a, b) = g·V(c, d),
+u_j = e(a) − e(b), v_j = e(c) − e(d) and w_j = −g (the source drives g·V(c, d) into a).
+A current control g·I(E) of a passive element E is the voltage control g·y_E·V(E).
+
+det M is multilinear in the w_j, and the coefficient of Π_{j∈S} w_j is the bordered
+determinant det[[Y, U_S], [−V_Sᵀ, 0]]. By the all-minors matrix-tree theorem that is a
+sum over the spanning forests F of the passive graph (each tree holding a terminal) of
+weight(F)·det U_S(F)·det V_S(F), where U_S(F) is the incidence of the current pairs
+(a_j, b_j), j ∈ S, on F's trees (the reference's tree left out) and V_S(F) that of the
+voltage pairs: ±1 exactly when F with the current pairs of S, and F with the voltage
+pairs, are spanning trees, so that F ∪ S is a common spanning tree of the current graph
+and the voltage graph (the two-graph method: Mayeda, "Graph Theory", 1972, ch. 9; Chen,
+"Applied Graph Theory", 1976), and 0 otherwise. The forests come from the frontier walk
+of `forests.py`, grouped by how they split the terminals, and each group's coefficient is
+that small determinant, so no term is formed twice. (Terms of different groups could
+only meet when two weights share a variable, as a current control does with the
+element it reads; the polynomial sum then merges them.)
+
+A transfer is one more control: V(c, d) per unit current driven from a to b is the
+coefficient of x in det(M + x·u·vᵀ), u = e(a) − e(b), v = e(c) − e(d), over det M; per
+unit of a voltage source (p, n) it is that coefficient with u = e(p) − e(n) over the same
+with v = u, on the network without the source. Rational coefficients are multiplied
+through by their denominators, every group alike.
+"""
+
+from __future__ import annotations
+
+import heapq
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import dataclass
+
+from ..algebra.polynomials import Poly
+from ..algebra.rational import RationalFunction
+from ..model.circuit import REFERENCE
+from . import forests
+from .mna import Current, Measure, MnaSolution
+from .network import CurrentControl, Network, VoltageControl
+from .topological import ForestSolution
+
+MAX_CONTROLS = 8
+"""Most controls (terms of controlled sources) taken by forest sums: each adds a tree to
+the forests walked and a terminal to every state, so beyond this elimination is cheaper."""
+
+
+@dataclass(frozen=True)
+class Control:
+    """w·(V(c) − V(d)) driven into a and drawn from b, with w = numerator/denominator."""
+
+    a: str
+    b: str
+    c: str
+    d: str
+    numerator: Poly
+    denominator: Poly
+
+
+def controls_of(network: Network) -> list[Control] | None:
+    """The network's controls, or None when it has an element the forest sums cannot take
+    (an opamp, a transformer, a coupling, a controlled voltage source, a current control of
+    anything but a passive element, or more than MAX_CONTROLS controls)."""
+    if network.opamps or network.transformers or network.couplings:
+        return None
+    nodes = {REFERENCE, *network.nodes}
+    found: list[Control] = []
+    for source in network.sources.values():
+        if source.independent:
+            continue
+        if source.kind != "current":
+            return None
+        for control in source.controls:
+            g = control.coefficient
+            if isinstance(control, VoltageControl):
+                c, d = control.a, control.b
+                num, den = -g.numerator, g.denominator
+            elif isinstance(control, CurrentControl) and control.element in network.branches:
+                branch = network.branches[control.element]
+                c, d = branch.a, branch.b
+                num, den = -g.numerator * branch.inward, g.denominator * branch.outward
+            else:
+                return None
+            if not {c, d} <= nodes:
+                return None
+            found.append(Control(source.a, source.b, c, d, num, den))
+    return found if len(found) <= MAX_CONTROLS else None
+
+
+Weights = tuple[Poly, Poly]
+
+
+def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], ground: str,
+                      pairs: Sequence[tuple[tuple[str, str], tuple[str, str]]],
+                      apart: Sequence[tuple[str, str]], one: Poly
+                      ) -> dict[int, Poly]:
+    """Σ weight(F)·det U_S(F)·det V_S(F) over the spanning forests F, for every set S of
+    the `pairs` ((a, b) current pair, (c, d) voltage pair), keyed by S as a bit mask.
+
+    The walk is the frontier walk of `forests.py`, but a tree is not remembered when it
+    closes: its rows of U and V (its incidence on the pairs) are expanded into the two
+    determinants at once, column by column (Laplace), so a state keeps only the columns
+    used so far in each (S_U, S_V), and the partial forests that agree on them and on the
+    frontier merge. A tree without ground whose rows are zero ends its forests; at the
+    end only S_U = S_V is kept."""
+    names = sorted({x for ab, cd in pairs for x in (*ab, *cd)} | {ground})
+    bit = {t: 1 << i for i, t in enumerate(names)}
+    ground_bit = bit[ground]
+    apart_bits = tuple(bit[a] | bit[b] for a, b in apart)
+
+    def rows(mask: int, which: int) -> list[tuple[int, int]]:
+        out = []
+        for j, pair in enumerate(pairs):
+            a, b = pair[which]
+            entry = int(bool(mask & bit[a])) - int(bool(mask & bit[b]))
+            if entry:
+                out.append((j, entry))
+        return out
+
+    expansions: dict[int, list[tuple[int, int, int]]] = {}
+
+    def expand(mask: int) -> list[tuple[int, int, int]]:
+        """(column of U, column of V, sign) for a tree with these terminals."""
+        if mask not in expansions:
+            if mask & ground_bit:
+                expansions[mask] = [(-1, -1, 1)]
+            else:
+                expansions[mask] = [(ju, jv, su * sv) for ju, su in rows(mask, 0)
+                                    for jv, sv in rows(mask, 1)]
+        return expansions[mask]
+
+    def close(su: int, sv: int, mask: int, p: Poly, into: dict) -> None:
+        for ju, jv, sign in expand(mask):
+            if ju < 0:
+                key = (su, sv)
+                value = p
+            else:
+                if su >> ju & 1 or sv >> jv & 1:
+                    continue
+                # the row goes last: its sign is that of the columns it passes
+                flips = (su >> ju).bit_count() + (sv >> jv).bit_count()
+                key = (su | 1 << ju, sv | 1 << jv)
+                value = p if (sign > 0) == (flips % 2 == 0) else -p
+            into.setdefault(key, []).append(value)
+
+    order = forests._edge_order(nodes, [(u, v) for u, v, _, _ in edges])
+    loops = [e for e in edges if e[0] == e[1]]
+    edges = [edges[i] for i in order if edges[i][0] != edges[i][1]]
+    last = {}
+    for i, (u, v, _, _) in enumerate(edges):
+        last[u] = last[v] = i
+    start: dict[tuple[int, int], list[Poly]] = {(0, 0): [one]}
+    for node in nodes:
+        if node not in last:  # an isolated node is a tree of its own
+            ended: dict[tuple[int, int], list[Poly]] = {}
+            for (su, sv), values in start.items():
+                for p in values:
+                    close(su, sv, bit.get(node, 0), p, ended)
+            start = ended
+    # frontier (groups, masks) -> columns used (S_U, S_V) -> polynomial
+    states: dict[tuple, dict[tuple[int, int], Poly]] = {
+        ((), ()): {key: _sum(values) for key, values in start.items()}}
+    frontier: list[str] = []
+    for i, (u, v, inward, outward) in enumerate(edges):
+        for node in (u, v):
+            if node not in frontier:
+                frontier.append(node)
+                mask = bit.get(node, 0)
+                states = {((*groups, len(masks)), (*masks, mask)): inner
+                          for (groups, masks), inner in states.items()}
+        iu, iv = frontier.index(u), frontier.index(v)
+        outward_one, inward_one = outward == one, inward == one
+        collected: dict[tuple, dict[tuple[int, int], list[Poly]]] = {}
+        for front, inner in states.items():
+            target = collected.setdefault(front, {})
+            for key, p in inner.items():
+                target.setdefault(key, []).append(p if outward_one else p * outward)
+            joined = _join(front, iu, iv, apart_bits)
+            if joined is not None:
+                target = collected.setdefault(joined, {})
+                for key, p in inner.items():
+                    target.setdefault(key, []).append(p if inward_one else p * inward)
+        states = _summed(collected)
+        for node in [n for n in frontier if last[n] == i]:
+            k = frontier.index(node)
+            frontier.pop(k)
+            collected = {}
+            for (groups, masks), inner in states.items():
+                g = groups[k]
+                rest = groups[:k] + groups[k + 1:]
+                target = collected.setdefault(forests._canonical(rest, masks), {})
+                if g in rest:
+                    for key, p in inner.items():
+                        target.setdefault(key, []).append(p)
+                    continue
+                for (su, sv), p in inner.items():
+                    close(su, sv, masks[g], p, target)
+            states = {front: inner for front, inner in _summed(collected).items() if inner}
+    result: dict[int, Poly] = {}
+    for inner in states.values():
+        for (su, sv), p in inner.items():
+            if su == sv:
+                result[su] = result[su] + p if su in result else p
+    for _u, _v, _inward, outward in loops:
+        result = {key: p * outward for key, p in result.items()}
+    return result
+
+
+def _join(front: tuple, iu: int, iv: int, apart: Sequence[int]) -> tuple | None:
+    """The frontier after taking the edge between positions iu and iv (None when it closes
+    a cycle or joins a pair that must stay apart)."""
+    groups, masks = front
+    a, b = groups[iu], groups[iv]
+    if a == b:
+        return None
+    merged_mask = masks[a] | masks[b]
+    if apart and any(merged_mask & pair == pair for pair in apart):
+        return None
+    new_masks = list(masks)
+    new_masks[a] = merged_mask
+    return forests._canonical([a if g == b else g for g in groups], new_masks)
+
+
+def _summed(collected: dict) -> dict:
+    return {front: {key: _sum(values) for key, values in inner.items()}
+            for front, inner in collected.items()}
+
+
+def _sum(values: list[Poly]) -> Poly:
+    """The sum, smallest parts first (each addition costs the terms of both operands)."""
+    if len(values) == 1:
+        return values[0]
+    if len(values) == 2:
+        return values[0] + values[1]
+    heap = [(len(v), i, v) for i, v in enumerate(values)]
+    heapq.heapify(heap)
+    count = len(heap)
+    while len(heap) > 1:
+        _, _, a = heapq.heappop(heap)
+        _, _, b = heapq.heappop(heap)
+        total = a + b
+        heapq.heappush(heap, (len(total), count, total))
+        count += 1
+    return heap[0][2]
+
+
+class ControlledForestSolution(ForestSolution):
+    """Transfers of a network with controlled current sources (module docstring)."""
+
+    def __init__(self, network: Network, shorted: Mapping[str, tuple[str, str]],
+                 tested: Mapping[str, tuple[str, str]],
+                 fallback: Callable[[], MnaSolution], controls: list[Control]) -> None:
+        super().__init__(network, shorted, tested, fallback)
+        self.controls = controls
+        # a controlled source is an excitation only through its constant part
+        for name, source in network.sources.items():
+            if not source.independent and source.constant is None:
+                self.currents.pop(name, None)
+        self._determinants: dict[tuple, Poly] = {}
+
+    def check(self) -> None:
+        """Raise mna.SingularCircuit when det M is zero (elimination names the culprits)."""
+        if self.ring.is_zero(self._determinant(None, None)):
+            self._delegate().check()
+
+    # -- the expansion
+    def _determinant(self, without: str | None,
+                     extra: tuple[tuple[str, str], tuple[str, str]] | None) -> Poly:
+        """det M of the graph without `without` (times the weights' denominators) or, with
+        `extra` = ((a, b), (c, d)), its coefficient of x after adding x·u·vᵀ."""
+        key = (without, extra)
+        if key not in self._determinants:
+            self._determinants[key] = self._expand(without, extra)
+        return self._determinants[key]
+
+    def _expand(self, without: str | None,
+                extra: tuple[tuple[str, str], tuple[str, str]] | None) -> Poly:
+        ring = self.ring
+        merged, edges = self._graph(without)
+        find = merged.find
+        pairs = [((find(k.a), find(k.b)), (find(k.c), find(k.d)), k.numerator, k.denominator)
+                 for k in self.controls]
+        extra_pairs: list[tuple[str, str]] = []
+        if extra is not None:
+            (a, b), (c, d) = extra
+            extra_pairs = [(find(a), find(b)), (find(c), find(d))]
+            if any(x == y for x, y in extra_pairs):
+                return ring.zero
+            pairs.append((*extra_pairs, ring.one, ring.one))
+        ground = find(REFERENCE)
+        nodes = sorted({find(n) for n in self.nodes})
+        # x is in every term: its current pair, and its voltage pair, end in different trees
+        sums = signed_forest_sum(nodes, edges, ground, [(ab, cd) for ab, cd, _, _ in pairs],
+                                 extra_pairs, ring.one)
+        required = 1 << (len(pairs) - 1) if extra is not None else 0
+        parts = []
+        for chosen, value in sorted(sums.items()):
+            if chosen & required != required:
+                continue
+            factor = ring.one
+            for j, (_, _, num, den) in enumerate(pairs):
+                factor = factor * (num if chosen >> j & 1 else den)
+            parts.append(value * factor)
+        return _sum(parts) if parts else ring.zero
+
+    # -- transfers
+    def _voltage(self, c: str, d: str, excitation: str) -> RationalFunction | None:
+        if excitation in self.voltages:
+            p, n = self.voltages[excitation]
+            merged, _ = self._graph(excitation)
+            if merged.find(p) == merged.find(n):
+                return None  # a loop of voltage sources: let elimination explain it
+            if merged.find(c) == merged.find(d):
+                return self._zero()
+            den = self._determinant(excitation, ((p, n), (p, n)))
+            if self.ring.is_zero(den):
+                return None
+            num = self._determinant(excitation, ((p, n), (c, d)))
+            return RationalFunction(num, den, self.ring)
+        if excitation in self.currents:
+            a, b = self.currents[excitation]
+            merged, _ = self._graph(None)
+            if merged.find(a) == merged.find(b) or merged.find(c) == merged.find(d):
+                return self._zero()
+            den = self._determinant(None, None)
+            if self.ring.is_zero(den):
+                return None
+            num = self._determinant(None, ((a, b), (c, d)))
+            return RationalFunction(num, den, self.ring)
+        return self._zero()
+
+    def _transfer(self, measure: Measure, excitation: str) -> RationalFunction | None:
+        if isinstance(measure, Current):
+            source = self.network.sources.get(measure.element)
+            if source is not None and not source.independent:
+                return self._controlled_current(measure.element, excitation)
+        return super()._transfer(measure, excitation)
+
+    def _controlled_current(self, name: str, excitation: str) -> RationalFunction | None:
+        """I(X) of a controlled current source: minus its value (it drives it into a)."""
+        source = self.network.sources[name]
+        total = RationalFunction(-1, 1, self.ring) if name == excitation else self._zero()
+        for control in source.controls:
+            if isinstance(control, VoltageControl):
+                value = self._voltage(control.a, control.b, excitation)
+            else:
+                value = self._transfer(Current(control.element), excitation)
+            if value is None:
+                return None
+            total = total - control.coefficient * value
+        return total
+
+    def _source_current(self, name: str, excitation: str) -> RationalFunction | None:
+        """Current through a voltage-type excitation (from its first node to its second)."""
+        p, n = self.voltages[name]
+        if name == excitation:
+            merged, _ = self._graph(name)
+            if merged.find(p) == merged.find(n):
+                return None
+            den = self._determinant(name, ((p, n), (p, n)))
+            if self.ring.is_zero(den):
+                return None
+            return RationalFunction(-self._determinant(name, None), den, self.ring)
+        # the current balance at a terminal that no other voltage-type element touches
+        network = self.network
+        for node, sign in ((p, 1), (n, -1)):
+            if any(node in ab for other, ab in self.voltages.items() if other != name):
+                continue
+            total = self._zero()
+            if excitation in self.currents and excitation not in network.sources:
+                a, b = self.currents[excitation]  # a test current at a port
+                total = total + (int(node == a) - int(node == b))
+            elements = [(x.name, x.a, x.b) for x in network.branches.values()]
+            elements += [(x.name, x.a, x.b) for x in network.sources.values()
+                         if x.kind == "current"]
+            for element, a, b in elements:
+                if a == b or node not in (a, b):
+                    continue
+                current = self._transfer(Current(element), excitation)
+                if current is None:
+                    return None
+                total = total - current if node == a else total + current
+            return total if sign == 1 else -total
+        return None
+
