@@ -31,14 +31,19 @@ from __future__ import annotations
 import heapq
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
+from math import comb
 
-from ..algebra.polynomials import Poly
+from ..algebra.polynomials import Poly, TooLarge
 from ..algebra.rational import RationalFunction
 from ..model.circuit import REFERENCE
 from . import forests
 from .mna import Current, Measure, MnaSolution
 from .network import CurrentControl, Network, VoltageControl
-from .topological import ForestSolution
+from .topological import ForestSolution, _Contraction, spanning_trees
+
+MAX_COMMON_TREES = 20_000_000
+"""Largest bound on a determinant's terms (module docstring) derived: four times the
+largest result (`polynomials.MAX_TERMS`), as the bound counts trees of one graph only."""
 
 MAX_CONTROLS = 8
 """Most controls (terms of controlled sources) taken by forest sums: each adds a tree to
@@ -57,10 +62,10 @@ class Control:
     denominator: Poly
 
 
-def controls_of(network: Network) -> list[Control] | None:
+def controls_of(network: Network, limit: int | None = MAX_CONTROLS) -> list[Control] | None:
     """The network's controls, or None when it has an element the forest sums cannot take
     (an opamp, a transformer, a coupling, a controlled voltage source, a current control of
-    anything but a passive element, or more than MAX_CONTROLS controls)."""
+    anything but a passive element, or more than `limit` controls)."""
     if network.opamps or network.transformers or network.couplings:
         return None
     nodes = {REFERENCE, *network.nodes}
@@ -84,7 +89,45 @@ def controls_of(network: Network) -> list[Control] | None:
             if not {c, d} <= nodes:
                 return None
             found.append(Control(source.a, source.b, c, d, num, den))
-    return found if len(found) <= MAX_CONTROLS else None
+    return found if limit is None or len(found) <= limit else None
+
+
+def check_size(network: Network, shorted: Sequence[tuple[str, str]]) -> None:
+    """Refuse, before any work, a network with controlled current sources whose determinant
+    would have more than MAX_COMMON_TREES terms.
+
+    Its terms are the common spanning trees of the current and voltage graphs (module
+    docstring), each times a term of its sources' coefficients, so they number at most
+    the spanning trees of either graph (Kirchhoff's count, exact and cheap) times the
+    largest term count of each coefficient. Every transfer of the network has that
+    determinant, or one of its size, as denominator, whichever path derives it."""
+    controls = controls_of(network, limit=None)
+    if not controls:
+        return
+    joins = [(s.a, s.b) for s in network.sources.values() if s.kind == "voltage"]
+    merged = _Contraction((REFERENCE, *network.nodes), [*joins, *shorted])
+    find = merged.find
+    nodes = sorted({find(n) for n in (REFERENCE, *network.nodes)})
+    passive = [(find(b.a), find(b.b)) for b in network.branches.values()]
+    graphs = [passive + [(find(k.a), find(k.b)) for k in controls],
+              passive + [(find(k.c), find(k.d)) for k in controls]]
+    graphs = [[(u, v) for u, v in edges if u != v] for edges in graphs]
+    ring = network.ring
+    weight = 1
+    for k in controls:
+        weight *= max(ring.nterms(k.numerator), ring.nterms(k.denominator))
+    if min(comb(len(edges), len(nodes) - 1) for edges in graphs) * weight <= MAX_COMMON_TREES:
+        return
+    bound = min(spanning_trees(nodes, edges) for edges in graphs) * weight
+    if bound > MAX_COMMON_TREES:
+        from ..model.units import eng
+
+        raise TooLarge(
+            f"the exact derivation is too large: the circuit's determinant would have up to "
+            f"{eng(bound)} terms (its controlled sources' common spanning trees; the limit is "
+            f"{MAX_COMMON_TREES:,} terms); refused before any work",
+            notes=("derive the circuit in parts: a section at a time, each joined to the "
+                   "next through its Thevenin equivalent",))
 
 
 Weights = tuple[Poly, Poly]

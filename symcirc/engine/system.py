@@ -61,6 +61,10 @@ def _solve(circuit: Circuit, network: Network, shorted: frozenset[str], path: Pa
     def eliminate() -> MnaSolution:
         return Equations(network, short, tested).solve()
 
+    if not network.is_passive:
+        from .controlled import check_size
+
+        check_size(network, list(short.values()))
     if path == "forest":
         if network.is_passive:
             from .topological import ForestSolution
