@@ -38,12 +38,17 @@ from ..algebra.rational import RationalFunction
 from ..model.circuit import REFERENCE
 from . import forests
 from .mna import Current, Measure, MnaSolution
-from .network import CurrentControl, Network, VoltageControl
+from .network import Network, VoltageControl
 from .topological import ForestSolution, _Contraction, spanning_trees
 
 MAX_COMMON_TREES = 20_000_000
 """Largest bound on a determinant's terms (module docstring) derived: four times the
 largest result (`polynomials.MAX_TERMS`), as the bound counts trees of one graph only."""
+
+FOREST_FROM = 20_000
+"""Determinants of fewer terms than this (by `terms_bound`) are left to elimination: it
+solves every transfer of an unknown at once, where forest sums walk the graph once per
+transfer, so on small circuits asked many transfers it is the cheaper of the two."""
 
 MAX_CONTROLS = 8
 """Most controls (terms of controlled sources) taken by forest sums: each adds a tree to
@@ -52,7 +57,9 @@ the forests walked and a terminal to every state, so beyond this elimination is 
 
 @dataclass(frozen=True)
 class Control:
-    """w·(V(c) − V(d)) driven into a and drawn from b, with w = numerator/denominator."""
+    """w·(V(c) − V(d)) driven into a and drawn from b, with w = numerator/denominator.
+    A `nullor` is the limit of an infinite w: only the terms holding it count (an ideal
+    opamp: the nullator (c, d) holds V(c) = V(d), the norator (a, b) drives what it takes)."""
 
     a: str
     b: str
@@ -60,55 +67,107 @@ class Control:
     d: str
     numerator: Poly
     denominator: Poly
+    nullor: bool = False
 
 
-def controls_of(network: Network, limit: int | None = MAX_CONTROLS) -> list[Control] | None:
+@dataclass(frozen=True)
+class TwoGraph:
+    """A network's controls, with the internal nodes and unit conductances that turn a
+    finite gain into a current into a unit conductance read by a nullor."""
+
+    controls: tuple[Control, ...]
+    nodes: tuple[str, ...] = ()
+    edges: tuple[forests.Edge, ...] = ()
+
+
+def controls_of(network: Network, limit: int | None = MAX_CONTROLS) -> TwoGraph | None:
     """The network's controls, or None when it has an element the forest sums cannot take
-    (an opamp, a transformer, a coupling, a controlled voltage source, a current control of
-    anything but a passive element, or more than `limit` controls)."""
-    if network.opamps or network.transformers or network.couplings:
+    (a transformer, a coupling, a controlled source with a constant part, a current control
+    of anything but a passive element, or more than `limit` controls).
+
+    An ideal opamp is a nullor from its inputs to its output (referred to the reference
+    node). A gain A (a finite-gain opamp, a controlled voltage source) drives A·V(c, d)
+    into an internal node held by a unit conductance, whose voltage a nullor copies to
+    the output; a floating output (a, b) is read through one more such node."""
+    if network.transformers or network.couplings:
         return None
-    nodes = {REFERENCE, *network.nodes}
+    ring = network.ring
+    one = ring.one
+    known = {REFERENCE, *network.nodes}
     found: list[Control] = []
+    nodes: list[str] = []
+    edges: list[forests.Edge] = []
+
+    def internal(name: str) -> str:
+        nodes.append(name)  # `:` cannot occur in a circuit's node names
+        edges.append((name, REFERENCE, one, one))
+        return name
+
+    def linear(control) -> tuple[str, str, Poly, Poly] | None:
+        """(c, d, numerator, denominator) of a control's coefficient times its voltage."""
+        g = control.coefficient
+        if isinstance(control, VoltageControl):
+            return control.a, control.b, g.numerator, g.denominator
+        branch = network.branches.get(control.element)
+        if branch is None:
+            return None
+        return branch.a, branch.b, g.numerator * branch.inward, g.denominator * branch.outward
+
     for source in network.sources.values():
         if source.independent:
             continue
-        if source.kind != "current":
+        if source.constant is not None and source.kind == "voltage":
             return None
-        for control in source.controls:
-            g = control.coefficient
-            if isinstance(control, VoltageControl):
-                c, d = control.a, control.b
-                num, den = -g.numerator, g.denominator
-            elif isinstance(control, CurrentControl) and control.element in network.branches:
-                branch = network.branches[control.element]
-                c, d = branch.a, branch.b
-                num, den = -g.numerator * branch.inward, g.denominator * branch.outward
-            else:
-                return None
-            if not {c, d} <= nodes:
-                return None
-            found.append(Control(source.a, source.b, c, d, num, den))
-    return found if limit is None or len(found) <= limit else None
+        terms = [linear(control) for control in source.controls]
+        if any(t is None or not {t[0], t[1]} <= known for t in terms):
+            return None
+        if source.kind == "current":
+            found += [Control(source.a, source.b, c, d, -num, den) for c, d, num, den in terms]
+            continue
+        value = internal(f"{source.name}:value")
+        found += [Control(value, REFERENCE, c, d, -num, den) for c, d, num, den in terms]
+        if source.b == REFERENCE:
+            found.append(Control(source.a, source.b, value, source.a, -one, one, True))
+        else:
+            sense = internal(f"{source.name}:sense")
+            found.append(Control(sense, REFERENCE, source.a, source.b, -one, one))
+            found.append(Control(source.a, source.b, value, sense, -one, one, True))
+    for opamp in network.opamps.values():
+        if opamp.gain is None:
+            found.append(Control(opamp.out, REFERENCE, opamp.p, opamp.n, -one, one, True))
+            continue
+        value = internal(f"{opamp.name}:value")
+        found.append(Control(value, REFERENCE, opamp.p, opamp.n, -opamp.gain.numerator,
+                             opamp.gain.denominator))
+        found.append(Control(opamp.out, REFERENCE, value, opamp.out, -one, one, True))
+    if limit is not None and len(found) > limit:
+        return None
+    return TwoGraph(tuple(found), tuple(nodes), tuple(edges))
 
 
-def check_size(network: Network, shorted: Sequence[tuple[str, str]]) -> None:
-    """Refuse, before any work, a network with controlled current sources whose determinant
-    would have more than MAX_COMMON_TREES terms.
+def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | None:
+    """A bound on the terms of the network's determinant, known before any work (None
+    when the network has elements the two-graph form does not take); TooLarge when it
+    passes MAX_COMMON_TREES.
 
     Its terms are the common spanning trees of the current and voltage graphs (module
     docstring), each times a term of its sources' coefficients, so they number at most
     the spanning trees of either graph (Kirchhoff's count, exact and cheap) times the
     largest term count of each coefficient. Every transfer of the network has that
-    determinant, or one of its size, as denominator, whichever path derives it."""
-    controls = controls_of(network, limit=None)
-    if not controls:
-        return
-    joins = [(s.a, s.b) for s in network.sources.values() if s.kind == "voltage"]
-    merged = _Contraction((REFERENCE, *network.nodes), [*joins, *shorted])
+    determinant, or one of its size, as denominator, whichever path derives it. The count
+    is skipped when choosing the edges of a tree is already few enough."""
+    two_graph = controls_of(network, limit=None)
+    if two_graph is None or not two_graph.controls:
+        return None
+    controls = two_graph.controls
+    joins = [(s.a, s.b) for s in network.sources.values()
+             if s.kind == "voltage" and s.independent]
+    everything = (REFERENCE, *network.nodes, *two_graph.nodes)
+    merged = _Contraction(everything, [*joins, *shorted])
     find = merged.find
-    nodes = sorted({find(n) for n in (REFERENCE, *network.nodes)})
+    nodes = sorted({find(n) for n in everything})
     passive = [(find(b.a), find(b.b)) for b in network.branches.values()]
+    passive += [(find(u), find(v)) for u, v, _, _ in two_graph.edges]
     graphs = [passive + [(find(k.a), find(k.b)) for k in controls],
               passive + [(find(k.c), find(k.d)) for k in controls]]
     graphs = [[(u, v) for u, v in edges if u != v] for edges in graphs]
@@ -116,8 +175,9 @@ def check_size(network: Network, shorted: Sequence[tuple[str, str]]) -> None:
     weight = 1
     for k in controls:
         weight *= max(ring.nterms(k.numerator), ring.nterms(k.denominator))
-    if min(comb(len(edges), len(nodes) - 1) for edges in graphs) * weight <= MAX_COMMON_TREES:
-        return
+    bound = min(comb(len(edges), len(nodes) - 1) for edges in graphs) * weight
+    if bound <= FOREST_FROM:
+        return bound
     bound = min(spanning_trees(nodes, edges) for edges in graphs) * weight
     if bound > MAX_COMMON_TREES:
         from ..model.units import eng
@@ -128,6 +188,7 @@ def check_size(network: Network, shorted: Sequence[tuple[str, str]]) -> None:
             f"{MAX_COMMON_TREES:,} terms); refused before any work",
             notes=("derive the circuit in parts: a section at a time, each joined to the "
                    "next through its Thevenin equivalent",))
+    return bound
 
 
 Weights = tuple[Poly, Poly]
@@ -292,19 +353,33 @@ class ControlledForestSolution(ForestSolution):
 
     def __init__(self, network: Network, shorted: Mapping[str, tuple[str, str]],
                  tested: Mapping[str, tuple[str, str]],
-                 fallback: Callable[[], MnaSolution], controls: list[Control]) -> None:
+                 fallback: Callable[[], MnaSolution], two_graph: TwoGraph) -> None:
         super().__init__(network, shorted, tested, fallback)
-        self.controls = controls
-        # a controlled source is an excitation only through its constant part
+        self.controls = two_graph.controls
+        self.internal = two_graph
+        self.nodes = (*self.nodes, *two_graph.nodes)
+        # a controlled source is an excitation only through its constant part; a
+        # controlled voltage source is no excitation (its constant sends it to elimination)
         for name, source in network.sources.items():
             if not source.independent and source.constant is None:
                 self.currents.pop(name, None)
+                self.voltages.pop(name, None)
+        self.norators = {x for k in self.controls if k.nullor for x in (k.a, k.b)}
         self._determinants: dict[tuple, Poly] = {}
 
     def check(self) -> None:
         """Raise mna.SingularCircuit when det M is zero (elimination names the culprits)."""
         if self.ring.is_zero(self._determinant(None, None)):
             self._delegate().check()
+
+    def _graph(self, without: str | None) -> tuple[_Contraction, list]:
+        """The passive graph with the internal unit conductances."""
+        if without not in self._graphs:
+            merged, edges = super()._graph(without)
+            edges = edges + [(merged.find(u), merged.find(v), inward, outward)
+                             for u, v, inward, outward in self.internal.edges]
+            self._graphs[without] = (merged, edges)
+        return self._graphs[without]
 
     # -- the expansion
     def _determinant(self, without: str | None,
@@ -323,26 +398,29 @@ class ControlledForestSolution(ForestSolution):
         find = merged.find
         pairs = [((find(k.a), find(k.b)), (find(k.c), find(k.d)), k.numerator, k.denominator)
                  for k in self.controls]
-        extra_pairs: list[tuple[str, str]] = []
+        required = sum(1 << j for j, k in enumerate(self.controls) if k.nullor)
         if extra is not None:
             (a, b), (c, d) = extra
-            extra_pairs = [(find(a), find(b)), (find(c), find(d))]
-            if any(x == y for x, y in extra_pairs):
-                return ring.zero
-            pairs.append((*extra_pairs, ring.one, ring.one))
+            required |= 1 << len(pairs)
+            pairs.append(((find(a), find(b)), (find(c), find(d)), ring.one, ring.one))
+        # a pair in every term (x, the nullors) joins two trees in each graph: its two
+        # nodes end in different trees
+        apart = [pair for j, (ab, cd, _, _) in enumerate(pairs) if required >> j & 1
+                 for pair in (ab, cd)]
+        if any(x == y for x, y in apart):
+            return ring.zero
         ground = find(REFERENCE)
         nodes = sorted({find(n) for n in self.nodes})
-        # x is in every term: its current pair, and its voltage pair, end in different trees
         sums = signed_forest_sum(nodes, edges, ground, [(ab, cd) for ab, cd, _, _ in pairs],
-                                 extra_pairs, ring.one)
-        required = 1 << (len(pairs) - 1) if extra is not None else 0
+                                 apart, ring.one)
         parts = []
         for chosen, value in sorted(sums.items()):
             if chosen & required != required:
                 continue
             factor = ring.one
             for j, (_, _, num, den) in enumerate(pairs):
-                factor = factor * (num if chosen >> j & 1 else den)
+                if not required >> j & 1:  # a nullor's or x's weight is the same in all
+                    factor = factor * (num if chosen >> j & 1 else den)
             parts.append(value * factor)
         return _sum(parts) if parts else ring.zero
 
@@ -376,6 +454,8 @@ class ControlledForestSolution(ForestSolution):
         if isinstance(measure, Current):
             source = self.network.sources.get(measure.element)
             if source is not None and not source.independent:
+                if source.kind == "voltage":
+                    return None  # a nullor's current: elimination finds it
                 return self._controlled_current(measure.element, excitation)
         return super()._transfer(measure, excitation)
 
@@ -408,6 +488,8 @@ class ControlledForestSolution(ForestSolution):
         network = self.network
         for node, sign in ((p, 1), (n, -1)):
             if any(node in ab for other, ab in self.voltages.items() if other != name):
+                continue
+            if node in self.norators:  # an opamp's or a controlled voltage's output
                 continue
             total = self._zero()
             if excitation in self.currents and excitation not in network.sources:

@@ -20,6 +20,7 @@ from typing import Literal, Protocol
 
 from ..algebra.rational import RationalFunction
 from ..model.circuit import Circuit
+from . import controlled
 from .memo import Memo
 from .mna import Equations, Measure, MnaSolution
 from .network import Network, build_network
@@ -43,10 +44,17 @@ def solution(circuit: Circuit, shorted: Iterable[str] = (), path: Path | None = 
     shorted = frozenset(shorted)
     memo = memo if memo is not None else Memo()
     network = build_network(circuit, memo)
-    chosen = path or ("forest" if network.is_passive or _controls(network) is not None
-                      else "elimination")
-    key = ("solution", shorted, chosen)
     store = memo.of(circuit)
+    chosen = path
+    if not network.is_passive:  # refuses a network too large, before the work
+        bound = store.get(("terms bound", shorted))
+        if bound is None:
+            bound = store[("terms bound", shorted)] = _bound(circuit, network, shorted)
+        large = bound >= controlled.FOREST_FROM
+        if chosen is None:
+            chosen = "forest" if large and controlled.controls_of(network) else "elimination"
+    chosen = chosen or "forest"
+    key = ("solution", shorted, chosen)
     cached = store.get(key)
     if cached is None:
         cached = store[key] = _solve(circuit, network, shorted, chosen)
@@ -61,27 +69,22 @@ def _solve(circuit: Circuit, network: Network, shorted: frozenset[str], path: Pa
     def eliminate() -> MnaSolution:
         return Equations(network, short, tested).solve()
 
-    if not network.is_passive:
-        from .controlled import check_size
-
-        check_size(network, list(short.values()))
     if path == "forest":
         if network.is_passive:
             from .topological import ForestSolution
 
             return ForestSolution(network, short, tested, eliminate)
-        controls = _controls(network)
-        if controls is None:
-            raise ValueError("the spanning-forest path needs a network without opamps, "
-                             "transformers, couplings or controlled voltage sources")
-        from .controlled import ControlledForestSolution
-
-        return ControlledForestSolution(network, short, tested, eliminate, controls)
+        two_graph = controlled.controls_of(network)
+        if two_graph is None:
+            raise ValueError("the spanning-forest path needs a network without transformers, "
+                             "couplings or controlled voltage sources with a constant part")
+        return controlled.ControlledForestSolution(network, short, tested, eliminate,
+                                                   two_graph)
     return eliminate()
 
 
-def _controls(network: Network):
-    """The controls of a network the forest sums can take (engine.controlled), or None."""
-    from .controlled import controls_of
-
-    return controls_of(network)
+def _bound(circuit: Circuit, network: Network, shorted: frozenset[str]) -> int:
+    """engine.controlled.terms_bound with `shorted` ports (0 when it does not apply)."""
+    pairs = [(circuit.ports[p].positive, circuit.ports[p].negative) for p in sorted(shorted)]
+    bound = controlled.terms_bound(network, pairs)
+    return 0 if bound is None else bound
