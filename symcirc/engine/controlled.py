@@ -163,22 +163,27 @@ def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | N
     joins = [(s.a, s.b) for s in network.sources.values()
              if s.kind == "voltage" and s.independent]
     everything = (REFERENCE, *network.nodes, *two_graph.nodes)
-    merged = _Contraction(everything, [*joins, *shorted])
-    find = merged.find
-    nodes = sorted({find(n) for n in everything})
-    passive = [(find(b.a), find(b.b)) for b in network.branches.values()]
-    passive += [(find(u), find(v)) for u, v, _, _ in two_graph.edges]
-    graphs = [passive + [(find(k.a), find(k.b)) for k in controls],
-              passive + [(find(k.c), find(k.d)) for k in controls]]
-    graphs = [[(u, v) for u, v in edges if u != v] for edges in graphs]
+    passive = [(b.a, b.b) for b in network.branches.values()]
+    passive += [(u, v) for u, v, _, _ in two_graph.edges]
+    graphs = []
+    for side in (0, 1):  # the current graph, then the voltage graph
+        ends = [(k.a, k.b) if side == 0 else (k.c, k.d) for k in controls]
+        nullors = [ab for ab, k in zip(ends, controls, strict=True) if k.nullor]
+        others = [ab for ab, k in zip(ends, controls, strict=True) if not k.nullor]
+        # a nullor is in every tree: its pair is merged, as the sources are
+        merged = _Contraction(everything, [*joins, *shorted, *nullors])
+        edges = [(merged.find(u), merged.find(v)) for u, v in passive + others]
+        graphs.append((sorted({merged.find(n) for n in everything}),
+                       [(u, v) for u, v in edges if u != v]))
     ring = network.ring
     weight = 1
     for k in controls:
-        weight *= max(ring.nterms(k.numerator), ring.nterms(k.denominator))
-    bound = min(comb(len(edges), len(nodes) - 1) for edges in graphs) * weight
+        if not k.nullor:
+            weight *= max(ring.nterms(k.numerator), ring.nterms(k.denominator))
+    bound = min(comb(len(edges), max(len(nodes) - 1, 0)) for nodes, edges in graphs) * weight
     if bound <= FOREST_FROM:
         return bound
-    bound = min(spanning_trees(nodes, edges) for edges in graphs) * weight
+    bound = min(spanning_trees(nodes, edges) for nodes, edges in graphs) * weight
     if bound > MAX_COMMON_TREES:
         from ..model.units import eng
 

@@ -52,7 +52,7 @@ def solution(circuit: Circuit, shorted: Iterable[str] = (), path: Path | None = 
             bound = store[("terms bound", shorted)] = _bound(circuit, network, shorted)
         large = bound >= controlled.FOREST_FROM
         if chosen is None:
-            chosen = "forest" if large and controlled.controls_of(network) else "elimination"
+            chosen = "forest" if large and _forest_wins(network) else "elimination"
     chosen = chosen or "forest"
     key = ("solution", shorted, chosen)
     cached = store.get(key)
@@ -81,6 +81,14 @@ def _solve(circuit: Circuit, network: Network, shorted: frozenset[str], path: Pa
         return controlled.ControlledForestSolution(network, short, tested, eliminate,
                                                    two_graph)
     return eliminate()
+
+
+def _forest_wins(network: Network) -> bool:
+    """Controlled current sources only: with nullors (opamps, controlled voltage sources)
+    the forest walk carries two more columns per gain, and elimination, which solves an
+    opamp's output in one pivot, measured faster on every family tried."""
+    two_graph = controlled.controls_of(network)
+    return two_graph is not None and not any(k.nullor for k in two_graph.controls)
 
 
 def _bound(circuit: Circuit, network: Network, shorted: frozenset[str]) -> int:
