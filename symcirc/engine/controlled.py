@@ -201,7 +201,7 @@ Weights = tuple[Poly, Poly]
 
 def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], ground: str,
                       pairs: Sequence[tuple[tuple[str, str], tuple[str, str]]],
-                      apart: Sequence[tuple[str, str]], one: Poly
+                      apart: Sequence[tuple[str, str]], one: Poly, required: int = 0
                       ) -> dict[int, Poly]:
     """Σ weight(F)·det U_S(F)·det V_S(F) over the spanning forests F, for every set S of
     the `pairs` ((a, b) current pair, (c, d) voltage pair), keyed by S as a bit mask.
@@ -211,11 +211,32 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
     determinants at once, column by column (Laplace), so a state keeps only the columns
     used so far in each (S_U, S_V), and the partial forests that agree on them and on the
     frontier merge. A tree without ground whose rows are zero ends its forests; at the
-    end only S_U = S_V is kept."""
+    end only S_U = S_V is kept, with every pair of `required` (a bit mask) in it, so a
+    state is dropped as soon as a column it still needs in U or V can no longer come:
+    both nodes of its pair are in trees already closed."""
     names = sorted({x for ab, cd in pairs for x in (*ab, *cd)} | {ground})
     bit = {t: 1 << i for i, t in enumerate(names)}
     ground_bit = bit[ground]
     apart_bits = tuple(bit[a] | bit[b] for a, b in apart)
+    reach = [[(bit[a] | bit[b]) & ~ground_bit for a, b in (ab, cd)] for ab, cd in pairs]
+    pending = sum(bit.values()) & ~ground_bit  # terminals not yet on the frontier
+    verdicts: dict[tuple[int, int, int], bool] = {}
+
+    def feasible(su: int, sv: int, alive: int) -> bool:
+        """Every column still needed in U (S_V's and the required ones not in S_U) and in V
+        has a node of its pair in an open tree or not yet reached."""
+        key = (su, sv, alive)
+        if key not in verdicts:
+            ok = True
+            for side, missing in ((0, (sv | required) & ~su), (1, (su | required) & ~sv)):
+                j = 0
+                while missing and ok:
+                    if missing & 1 and not reach[j][side] & alive:
+                        ok = False
+                    missing >>= 1
+                    j += 1
+            verdicts[key] = ok
+        return verdicts[key]
 
     def rows(mask: int, which: int) -> list[tuple[int, int]]:
         out = []
@@ -275,6 +296,7 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
             if node not in frontier:
                 frontier.append(node)
                 mask = bit.get(node, 0)
+                pending &= ~mask
                 states = {((*groups, len(masks)), (*masks, mask)): inner
                           for (groups, masks), inner in states.items()}
         iu, iv = frontier.index(u), frontier.index(v)
@@ -304,7 +326,14 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
                     continue
                 for (su, sv), p in inner.items():
                     close(su, sv, masks[g], p, target)
-            states = {front: inner for front, inner in _summed(collected).items() if inner}
+            states = {}
+            for front, inner in _summed(collected).items():
+                alive = pending
+                for mask in front[1]:
+                    alive |= mask
+                kept = {key: p for key, p in inner.items() if feasible(*key, alive)}
+                if kept:
+                    states[front] = kept
     result: dict[int, Poly] = {}
     for inner in states.values():
         for (su, sv), p in inner.items():
@@ -417,7 +446,7 @@ class ControlledForestSolution(ForestSolution):
         ground = find(REFERENCE)
         nodes = sorted({find(n) for n in self.nodes})
         sums = signed_forest_sum(nodes, edges, ground, [(ab, cd) for ab, cd, _, _ in pairs],
-                                 apart, ring.one)
+                                 apart, ring.one, required)
         parts = []
         for chosen, value in sorted(sums.items()):
             if chosen & required != required:
