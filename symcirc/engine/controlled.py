@@ -50,16 +50,23 @@ FOREST_FROM = 20_000
 solves every transfer of an unknown at once, where forest sums walk the graph once per
 transfer, so on small circuits asked many transfers it is the cheaper of the two."""
 
-MAX_CONTROLS = 8
+MAX_CONTROLS = 12
 """Most controls (terms of controlled sources) taken by forest sums: each adds a tree to
 the forests walked and a terminal to every state, so beyond this elimination is cheaper."""
 
 
 @dataclass(frozen=True)
 class Control:
-    """w·(V(c) − V(d)) driven into a and drawn from b, with w = numerator/denominator.
-    A `nullor` is the limit of an infinite w: only the terms holding it count (an ideal
-    opamp: the nullator (c, d) holds V(c) = V(d), the norator (a, b) drives what it takes)."""
+    """A column of the two-graph determinant: current pair (a, b), voltage pair (c, d), and
+    its weight in a term that holds it (`numerator`) or does not (`denominator`).
+
+    A controlled current source's control is w·V(c, d) driven into a, w = numerator /
+    denominator. A `group` (a number) is a norator's: every term holds exactly one control
+    of each group (they share the current pair, so two would give a zero determinant), and
+    the group's alternatives are the terms of its output's equation: an ideal opamp
+    V(p) = V(n) is one control, (out, ref) with (p, n); a gain, V(a, b) = Σ k_i·V(c_i, d_i),
+    is (a, b) with (a, b) weighted by the common denominator D, and (a, b) with each
+    (c_i, d_i) weighted by −k_i·D (the determinant is linear in the equation's row)."""
 
     a: str
     b: str
@@ -67,41 +74,30 @@ class Control:
     d: str
     numerator: Poly
     denominator: Poly
-    nullor: bool = False
+    group: int | None = None
+
+    @property
+    def nullor(self) -> bool:
+        return self.group is not None
 
 
 @dataclass(frozen=True)
 class TwoGraph:
-    """A network's controls, with the internal nodes and unit conductances that turn a
-    finite gain into a current into a unit conductance read by a nullor."""
+    """A network's controls (see Control)."""
 
     controls: tuple[Control, ...]
-    nodes: tuple[str, ...] = ()
-    edges: tuple[forests.Edge, ...] = ()
 
 
 def controls_of(network: Network, limit: int | None = MAX_CONTROLS) -> TwoGraph | None:
     """The network's controls, or None when it has an element the forest sums cannot take
-    (a transformer, a coupling, a controlled source with a constant part, a current control
-    of anything but a passive element, or more than `limit` controls).
-
-    An ideal opamp is a nullor from its inputs to its output (referred to the reference
-    node). A gain A (a finite-gain opamp, a controlled voltage source) drives A·V(c, d)
-    into an internal node held by a unit conductance, whose voltage a nullor copies to
-    the output; a floating output (a, b) is read through one more such node."""
+    (a transformer, a coupling, a controlled voltage source with a constant part, a current
+    control of anything but a passive element, or more than `limit` controls)."""
     if network.transformers or network.couplings:
         return None
     ring = network.ring
     one = ring.one
     known = {REFERENCE, *network.nodes}
     found: list[Control] = []
-    nodes: list[str] = []
-    edges: list[forests.Edge] = []
-
-    def internal(name: str) -> str:
-        nodes.append(name)  # `:` cannot occur in a circuit's node names
-        edges.append((name, REFERENCE, one, one))
-        return name
 
     def linear(control) -> tuple[str, str, Poly, Poly] | None:
         """(c, d, numerator, denominator) of a control's coefficient times its voltage."""
@@ -113,6 +109,20 @@ def controls_of(network: Network, limit: int | None = MAX_CONTROLS) -> TwoGraph 
             return None
         return branch.a, branch.b, g.numerator * branch.inward, g.denominator * branch.outward
 
+    def output(a: str, b: str, terms: list[tuple[str, str, Poly, Poly]]) -> None:
+        """V(a, b) = Σ num_i/den_i·V(c_i, d_i) held by a norator across (a, b)."""
+        group = len({k.group for k in found if k.group is not None})
+        common = one
+        for *_, den in terms:
+            common = common * den
+        found.append(Control(a, b, a, b, common, one, group))
+        for i, (c, d, num, _) in enumerate(terms):
+            weight = -num
+            for m, (*_, den) in enumerate(terms):
+                if m != i:
+                    weight = weight * den
+            found.append(Control(a, b, c, d, weight, one, group))
+
     for source in network.sources.values():
         if source.independent:
             continue
@@ -123,26 +133,19 @@ def controls_of(network: Network, limit: int | None = MAX_CONTROLS) -> TwoGraph 
             return None
         if source.kind == "current":
             found += [Control(source.a, source.b, c, d, -num, den) for c, d, num, den in terms]
-            continue
-        value = internal(f"{source.name}:value")
-        found += [Control(value, REFERENCE, c, d, -num, den) for c, d, num, den in terms]
-        if source.b == REFERENCE:
-            found.append(Control(source.a, source.b, value, source.a, -one, one, True))
         else:
-            sense = internal(f"{source.name}:sense")
-            found.append(Control(sense, REFERENCE, source.a, source.b, -one, one))
-            found.append(Control(source.a, source.b, value, sense, -one, one, True))
+            output(source.a, source.b, terms)
     for opamp in network.opamps.values():
         if opamp.gain is None:
-            found.append(Control(opamp.out, REFERENCE, opamp.p, opamp.n, -one, one, True))
-            continue
-        value = internal(f"{opamp.name}:value")
-        found.append(Control(value, REFERENCE, opamp.p, opamp.n, -opamp.gain.numerator,
-                             opamp.gain.denominator))
-        found.append(Control(opamp.out, REFERENCE, value, opamp.out, -one, one, True))
+            group = len({k.group for k in found if k.group is not None})
+            found.append(Control(opamp.out, REFERENCE, opamp.p, opamp.n, one, one, group))
+        else:
+            gain = opamp.gain
+            output(opamp.out, REFERENCE,
+                   [(opamp.p, opamp.n, gain.numerator, gain.denominator)])
     if limit is not None and len(found) > limit:
         return None
-    return TwoGraph(tuple(found), tuple(nodes), tuple(edges))
+    return TwoGraph(tuple(found))
 
 
 def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | None:
@@ -162,24 +165,37 @@ def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | N
     controls = two_graph.controls
     joins = [(s.a, s.b) for s in network.sources.values()
              if s.kind == "voltage" and s.independent]
-    everything = (REFERENCE, *network.nodes, *two_graph.nodes)
+    everything = (REFERENCE, *network.nodes)
     passive = [(b.a, b.b) for b in network.branches.values()]
-    passive += [(u, v) for u, v, _, _ in two_graph.edges]
+    sizes: dict[int, int] = {}
+    for k in controls:
+        if k.group is not None:
+            sizes[k.group] = sizes.get(k.group, 0) + 1
     graphs = []
     for side in (0, 1):  # the current graph, then the voltage graph
-        ends = [(k.a, k.b) if side == 0 else (k.c, k.d) for k in controls]
-        nullors = [ab for ab, k in zip(ends, controls, strict=True) if k.nullor]
-        others = [ab for ab, k in zip(ends, controls, strict=True) if not k.nullor]
-        # a nullor is in every tree: its pair is merged, as the sources are
-        merged = _Contraction(everything, [*joins, *shorted, *nullors])
-        edges = [(merged.find(u), merged.find(v)) for u, v in passive + others]
+        merged_pairs, edges = [], list(passive)
+        for k in controls:
+            pair = (k.a, k.b) if side == 0 else (k.c, k.d)
+            # a pair in every tree is merged, as the sources are; a group's alternatives
+            # in the voltage graph are edges (a tree holds one of them)
+            if k.group is not None and (side == 0 or sizes[k.group] == 1):
+                merged_pairs.append(pair)
+            else:
+                edges.append(pair)
+        merged = _Contraction(everything, [*joins, *shorted, *merged_pairs])
+        edges = [(merged.find(u), merged.find(v)) for u, v in edges]
         graphs.append((sorted({merged.find(n) for n in everything}),
                        [(u, v) for u, v in edges if u != v]))
     ring = network.ring
     weight = 1
+    largest: dict[int, int] = {}
     for k in controls:
-        if not k.nullor:
+        if k.group is None:
             weight *= max(ring.nterms(k.numerator), ring.nterms(k.denominator))
+        else:
+            largest[k.group] = max(largest.get(k.group, 1), ring.nterms(k.numerator))
+    for terms in largest.values():
+        weight *= terms
     bound = min(comb(len(edges), max(len(nodes) - 1, 0)) for nodes, edges in graphs) * weight
     if bound <= FOREST_FROM:
         return bound
@@ -201,8 +217,8 @@ Weights = tuple[Poly, Poly]
 
 def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], ground: str,
                       pairs: Sequence[tuple[tuple[str, str], tuple[str, str]]],
-                      apart: Sequence[tuple[str, str]], one: Poly, required: int = 0
-                      ) -> dict[int, Poly]:
+                      apart: Sequence[tuple[str, str]], one: Poly,
+                      groups: Sequence[int] = ()) -> dict[int, Poly]:
     """Σ weight(F)·det U_S(F)·det V_S(F) over the spanning forests F, for every set S of
     the `pairs` ((a, b) current pair, (c, d) voltage pair), keyed by S as a bit mask.
 
@@ -211,32 +227,49 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
     determinants at once, column by column (Laplace), so a state keeps only the columns
     used so far in each (S_U, S_V), and the partial forests that agree on them and on the
     frontier merge. A tree without ground whose rows are zero ends its forests; at the
-    end only S_U = S_V is kept, with every pair of `required` (a bit mask) in it, so a
-    state is dropped as soon as a column it still needs in U or V can no longer come:
-    both nodes of its pair are in trees already closed."""
+    end only S_U = S_V is kept. `groups` are bit masks of pairs of which S holds exactly
+    one (a norator's alternatives, or a single pair that every term holds): a state is
+    dropped as soon as a column it still needs in U or V can no longer come (both nodes
+    of its pair are in trees already closed)."""
     names = sorted({x for ab, cd in pairs for x in (*ab, *cd)} | {ground})
     bit = {t: 1 << i for i, t in enumerate(names)}
     ground_bit = bit[ground]
     apart_bits = tuple(bit[a] | bit[b] for a, b in apart)
     reach = [[(bit[a] | bit[b]) & ~ground_bit for a, b in (ab, cd)] for ab, cd in pairs]
+    family = [1 << j for j in range(len(pairs))]  # the pairs of j's group, or j alone
+    wanted = []  # (group, its current pair's nodes, any of its voltage pairs' nodes)
+    for mask in groups:
+        js = [j for j in range(len(pairs)) if mask >> j & 1]
+        for j in js:
+            family[j] = mask
+        voltage = 0
+        for j in js:
+            voltage |= reach[j][1]
+        wanted.append((mask, reach[js[0]][0], voltage))
     pending = sum(bit.values()) & ~ground_bit  # terminals not yet on the frontier
     verdicts: dict[tuple[int, int, int], bool] = {}
 
     def feasible(su: int, sv: int, alive: int) -> bool:
-        """Every column still needed in U (S_V's and the required ones not in S_U) and in V
-        has a node of its pair in an open tree or not yet reached."""
+        """Can (S_U, S_V) still end equal, with one pair of every group? `alive`: the
+        terminals in open trees or not yet reached."""
         key = (su, sv, alive)
         if key not in verdicts:
-            ok = True
-            for side, missing in ((0, (sv | required) & ~su), (1, (su | required) & ~sv)):
-                j = 0
-                while missing and ok:
-                    if missing & 1 and not reach[j][side] & alive:
-                        ok = False
-                    missing >>= 1
-                    j += 1
-            verdicts[key] = ok
+            verdicts[key] = _feasible(su, sv, alive)
         return verdicts[key]
+
+    def _feasible(su: int, sv: int, alive: int) -> bool:
+        for side, missing, other in ((1, su & ~sv, sv), (0, sv & ~su, su)):
+            j = 0
+            while missing:
+                if missing & 1:
+                    if not reach[j][side] & alive or other & family[j] & ~(1 << j):
+                        return False
+                missing >>= 1
+                j += 1
+        for mask, current, voltage in wanted:
+            if not su & mask and not sv & mask and not (current & alive and voltage & alive):
+                return False
+        return True
 
     def rows(mask: int, which: int) -> list[tuple[int, int]]:
         out = []
@@ -265,8 +298,8 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
                 key = (su, sv)
                 value = p
             else:
-                if su >> ju & 1 or sv >> jv & 1:
-                    continue
+                if su & family[ju] or sv & family[jv]:
+                    continue  # a column (or another of its group) already used
                 # the row goes last: its sign is that of the columns it passes
                 flips = (su >> ju).bit_count() + (sv >> jv).bit_count()
                 key = (su | 1 << ju, sv | 1 << jv)
@@ -390,8 +423,6 @@ class ControlledForestSolution(ForestSolution):
                  fallback: Callable[[], MnaSolution], two_graph: TwoGraph) -> None:
         super().__init__(network, shorted, tested, fallback)
         self.controls = two_graph.controls
-        self.internal = two_graph
-        self.nodes = (*self.nodes, *two_graph.nodes)
         # a controlled source is an excitation only through its constant part; a
         # controlled voltage source is no excitation (its constant sends it to elimination)
         for name, source in network.sources.items():
@@ -405,15 +436,6 @@ class ControlledForestSolution(ForestSolution):
         """Raise mna.SingularCircuit when det M is zero (elimination names the culprits)."""
         if self.ring.is_zero(self._determinant(None, None)):
             self._delegate().check()
-
-    def _graph(self, without: str | None) -> tuple[_Contraction, list]:
-        """The passive graph with the internal unit conductances."""
-        if without not in self._graphs:
-            merged, edges = super()._graph(without)
-            edges = edges + [(merged.find(u), merged.find(v), inward, outward)
-                             for u, v, inward, outward in self.internal.edges]
-            self._graphs[without] = (merged, edges)
-        return self._graphs[without]
 
     # -- the expansion
     def _determinant(self, without: str | None,
@@ -432,29 +454,36 @@ class ControlledForestSolution(ForestSolution):
         find = merged.find
         pairs = [((find(k.a), find(k.b)), (find(k.c), find(k.d)), k.numerator, k.denominator)
                  for k in self.controls]
-        required = sum(1 << j for j, k in enumerate(self.controls) if k.nullor)
+        groups = [k.group for k in self.controls]
         if extra is not None:
             (a, b), (c, d) = extra
-            required |= 1 << len(pairs)
+            groups.append(max((g for g in groups if g is not None), default=-1) + 1)
             pairs.append(((find(a), find(b)), (find(c), find(d)), ring.one, ring.one))
-        # a pair in every term (x, the nullors) joins two trees in each graph: its two
-        # nodes end in different trees
-        apart = [pair for j, (ab, cd, _, _) in enumerate(pairs) if required >> j & 1
-                 for pair in (ab, cd)]
+        members: dict[int, list[int]] = {}
+        for j, g in enumerate(groups):
+            if g is not None:
+                members.setdefault(g, []).append(j)
+        # a group is in every term: its current pair (and a lone member's voltage pair)
+        # joins two trees, so its two nodes end in different trees
+        apart = []
+        for js in members.values():
+            apart.append(pairs[js[0]][0])
+            if len(js) == 1:
+                apart.append(pairs[js[0]][1])
         if any(x == y for x, y in apart):
             return ring.zero
+        masks = [sum(1 << j for j in js) for js in members.values()]
         ground = find(REFERENCE)
         nodes = sorted({find(n) for n in self.nodes})
         sums = signed_forest_sum(nodes, edges, ground, [(ab, cd) for ab, cd, _, _ in pairs],
-                                 apart, ring.one, required)
+                                 apart, ring.one, masks)
         parts = []
         for chosen, value in sorted(sums.items()):
-            if chosen & required != required:
+            if not all(chosen & mask for mask in masks):
                 continue
             factor = ring.one
             for j, (_, _, num, den) in enumerate(pairs):
-                if not required >> j & 1:  # a nullor's or x's weight is the same in all
-                    factor = factor * (num if chosen >> j & 1 else den)
+                factor = factor * (num if chosen >> j & 1 else den)
             parts.append(value * factor)
         return _sum(parts) if parts else ring.zero
 
