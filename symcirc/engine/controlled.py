@@ -249,15 +249,19 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
     pending = sum(bit.values()) & ~ground_bit  # terminals not yet on the frontier
     verdicts: dict[tuple[int, int, int], bool] = {}
 
-    def feasible(su: int, sv: int, alive: int) -> bool:
+    def feasible(su: int, sv: int, alive: int, closures: int) -> bool:
         """Can (S_U, S_V) still end equal, with one pair of every group? `alive`: the
-        terminals in open trees or not yet reached."""
-        key = (su, sv, alive)
+        terminals in open trees or not yet reached; `closures`: the most trees without
+        ground that can still close (each adds one column to U and one to V)."""
+        key = (su, sv, alive, closures)
         if key not in verdicts:
-            verdicts[key] = _feasible(su, sv, alive)
+            verdicts[key] = _feasible(su, sv, alive, closures)
         return verdicts[key]
 
-    def _feasible(su: int, sv: int, alive: int) -> bool:
+    def _feasible(su: int, sv: int, alive: int, closures: int) -> bool:
+        unmet = sum(1 for mask, _, _ in wanted if not (su | sv) & mask)
+        if max((su & ~sv).bit_count(), (sv & ~su).bit_count()) + unmet > closures:
+            return False
         for side, missing, other in ((1, su & ~sv, sv), (0, sv & ~su, su)):
             j = 0
             while missing:
@@ -362,9 +366,12 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
             states = {}
             for front, inner in _summed(collected).items():
                 alive = pending
+                closures = pending.bit_count()
                 for mask in front[1]:
                     alive |= mask
-                kept = {key: p for key, p in inner.items() if feasible(*key, alive)}
+                    closures += not mask & ground_bit
+                kept = {key: p for key, p in inner.items()
+                        if feasible(*key, alive, closures)}
                 if kept:
                     states[front] = kept
     result: dict[int, Poly] = {}
