@@ -90,9 +90,9 @@ class TwoGraph:
 
 def controls_of(network: Network, limit: int | None = MAX_CONTROLS) -> TwoGraph | None:
     """The network's controls, or None when it has an element the forest sums cannot take
-    (a transformer, a coupling, a controlled voltage source with a constant part, a current
-    control of anything but a passive element, or more than `limit` controls)."""
-    if network.transformers or network.couplings:
+    (a coupling, a controlled voltage source with a constant part, a current control of
+    anything but a passive element, or more than `limit` controls)."""
+    if network.couplings:
         return None
     ring = network.ring
     one = ring.one
@@ -143,6 +143,14 @@ def controls_of(network: Network, limit: int | None = MAX_CONTROLS) -> TwoGraph 
             gain = opamp.gain
             output(opamp.out, REFERENCE,
                    [(opamp.p, opamp.n, gain.numerator, gain.denominator)])
+    for t in network.transformers.values():
+        # V1 − N·V2 = 0 with the current I1 into p1 and −N·I1 into p2: the unknown's column
+        # and its row are both (p1, n1) − N·(p2, n2), so each term takes one of each
+        group = len({k.group for k in found if k.group is not None})
+        sides = (((t.p1, t.n1), one), ((t.p2, t.n2), -t.ratio))
+        for (a, b), u in sides:
+            for (c, d), v in sides:
+                found.append(Control(a, b, c, d, u * v, one, group))
     if limit is not None and len(found) > limit:
         return None
     return TwoGraph(tuple(found))
@@ -167,18 +175,19 @@ def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | N
              if s.kind == "voltage" and s.independent]
     everything = (REFERENCE, *network.nodes)
     passive = [(b.a, b.b) for b in network.branches.values()]
-    sizes: dict[int, int] = {}
+    shared: dict[tuple[int, int], set[tuple[str, str]]] = {}
     for k in controls:
         if k.group is not None:
-            sizes[k.group] = sizes.get(k.group, 0) + 1
+            shared.setdefault((k.group, 0), set()).add((k.a, k.b))
+            shared.setdefault((k.group, 1), set()).add((k.c, k.d))
     graphs = []
     for side in (0, 1):  # the current graph, then the voltage graph
         merged_pairs, edges = [], list(passive)
         for k in controls:
             pair = (k.a, k.b) if side == 0 else (k.c, k.d)
             # a pair in every tree is merged, as the sources are; a group's alternatives
-            # in the voltage graph are edges (a tree holds one of them)
-            if k.group is not None and (side == 0 or sizes[k.group] == 1):
+            # are edges (a tree holds one of them)
+            if k.group is not None and len(shared[k.group, side]) == 1:
                 merged_pairs.append(pair)
             else:
                 edges.append(pair)
@@ -237,15 +246,15 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
     apart_bits = tuple(bit[a] | bit[b] for a, b in apart)
     reach = [[(bit[a] | bit[b]) & ~ground_bit for a, b in (ab, cd)] for ab, cd in pairs]
     family = [1 << j for j in range(len(pairs))]  # the pairs of j's group, or j alone
-    wanted = []  # (group, its current pair's nodes, any of its voltage pairs' nodes)
+    wanted = []  # (group, any of its current pairs' nodes, any of its voltage pairs')
     for mask in groups:
         js = [j for j in range(len(pairs)) if mask >> j & 1]
+        current = voltage = 0
         for j in js:
             family[j] = mask
-        voltage = 0
-        for j in js:
+            current |= reach[j][0]
             voltage |= reach[j][1]
-        wanted.append((mask, reach[js[0]][0], voltage))
+        wanted.append((mask, current, voltage))
     pending = sum(bit.values()) & ~ground_bit  # terminals not yet on the frontier
     verdicts: dict[tuple[int, int, int], bool] = {}
 
@@ -470,13 +479,13 @@ class ControlledForestSolution(ForestSolution):
         for j, g in enumerate(groups):
             if g is not None:
                 members.setdefault(g, []).append(j)
-        # a group is in every term: its current pair (and a lone member's voltage pair)
-        # joins two trees, so its two nodes end in different trees
+        # a group is in every term: a pair all its members share joins two trees, so its
+        # two nodes end in different trees
         apart = []
         for js in members.values():
-            apart.append(pairs[js[0]][0])
-            if len(js) == 1:
-                apart.append(pairs[js[0]][1])
+            for side in (0, 1):
+                if len({pairs[j][side] for j in js}) == 1:
+                    apart.append(pairs[js[0]][side])
         if any(x == y for x, y in apart):
             return ring.zero
         masks = [sum(1 << j for j in js) for js in members.values()]

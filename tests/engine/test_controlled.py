@@ -258,14 +258,34 @@ def test_inverting_amplifier_is_minus_the_resistor_ratio_on_the_forest_path():
 
 
 def test_networks_beyond_the_forest_path_go_to_elimination():
-    transformer = symcirc.parse("voltage source U (a, gnd)\nresistor R1 (a, p)\n"
-                                "transformer T (p, gnd; q, gnd) = 3\nresistor R2 (q, gnd)\n")
-    assert controls_of(build_network(transformer)) is None
-    assert isinstance(solution(transformer), MnaSolution)
+    coupled = symcirc.parse("param k\nvoltage source U (a, gnd)\nresistor R1 (a, p)\n"
+                            "inductor L1 (p, gnd)\ninductor L2 (q, gnd)\n"
+                            "coupling k12 (L1, L2) = k\nresistor R2 (q, gnd)\n")
+    assert controls_of(build_network(coupled)) is None
+    assert isinstance(solution(coupled), MnaSolution)
     offset = symcirc.parse("param k\nvoltage source U (a, gnd)\nresistor R1 (a, gnd)\n"
                            "voltage source Uamp (o, gnd) = k*V(a) + 1 V\n"
                            "resistor R2 (o, gnd)\n")
     assert controls_of(build_network(offset)) is None
+
+
+@pytest.mark.parametrize("seed", range(8))
+def test_transformer_networks_agree_on_both_paths(seed):
+    """An ideal transformer is one group of columns: (p1, n1) − N·(p2, n2) on both sides."""
+    rng = random.Random(seed)
+    p1, n1 = rng.choice([("b", "gnd"), ("b", "d"), ("a", "b")])
+    p2, n2 = rng.choice([("c", "gnd"), ("d", "gnd"), ("c", "d")])
+    text = ("param N\nparam g\nvoltage source U1 (a, gnd)\nresistor R1 (a, b)\n"
+            "resistor R2 (c, gnd)\ncapacitor C1 (b, gnd)\nresistor R3 (d, c)\n"
+            f"transformer T1 ({p1}, {n1}; {p2}, {n2}) = N\n"
+            "current source Igm (d, gnd) = g*V(b)\nresistor R4 (d, gnd)\nport p (c, gnd)\n")
+    circuit = symcirc.parse(text)
+    forest = solution(circuit, path="forest")
+    eliminated = solution(circuit, path="elimination")
+    for excitation in ("U1", port_excitation("p")):
+        for measure in [*(Voltage(n, "gnd") for n in "abcd"), Current("R1"), Current("R4")]:
+            assert forest.transfer(measure, excitation) == eliminated.transfer(measure,
+                                                                               excitation)
 
 
 def test_small_active_networks_are_left_to_elimination_and_large_ones_are_not():
