@@ -24,6 +24,14 @@ coefficient of x in det(M + x·u·vᵀ), u = e(a) − e(b), v = e(c) − e(d), o
 unit of a voltage source (p, n) it is that coefficient with u = e(p) − e(n) over the same
 with v = u, on the network without the source. Rational coefficients are multiplied
 through by their denominators, every group alike.
+
+An element with an unknown current of its own borders M with a column (its current's
+incidence) and a row (its equation), and the bordered determinant is linear in both: an
+ideal opamp is a nullor, one control every term holds (norator (out, ref), nullator
+(p, n)); a gain's output V(a, b) = Σ k_i·V(c_i, d_i) (a finite-gain opamp, a controlled
+voltage source) is a group of controls on the current pair (a, b), one per term of its
+equation, of which every term holds exactly one; an ideal transformer's column and row
+are both (p1, n1) − N·(p2, n2), a group of four.
 """
 
 from __future__ import annotations
@@ -45,10 +53,9 @@ MAX_COMMON_TREES = 20_000_000
 """Largest bound on a determinant's terms (module docstring) derived: four times the
 largest result (`polynomials.MAX_TERMS`), as the bound counts trees of one graph only."""
 
-FOREST_FROM = 20_000
-"""Determinants of fewer terms than this (by `terms_bound`) are left to elimination: it
-solves every transfer of an unknown at once, where forest sums walk the graph once per
-transfer, so on small circuits asked many transfers it is the cheaper of the two."""
+EXACT_COUNT_FROM = 20_000
+"""Below this many terms by the cheap bound (the ways to choose a tree's edges), the
+spanning trees are not counted: the bound already says the determinant is small."""
 
 MAX_CONTROLS = 12
 """Most controls (terms of controlled sources) taken by forest sums: each adds a tree to
@@ -206,7 +213,7 @@ def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | N
     for terms in largest.values():
         weight *= terms
     bound = min(comb(len(edges), max(len(nodes) - 1, 0)) for nodes, edges in graphs) * weight
-    if bound <= FOREST_FROM:
+    if bound <= EXACT_COUNT_FROM:
         return bound
     bound = min(spanning_trees(nodes, edges) for nodes, edges in graphs) * weight
     if bound > MAX_COMMON_TREES:

@@ -288,13 +288,12 @@ def test_transformer_networks_agree_on_both_paths(seed):
                                                                                excitation)
 
 
-def test_small_active_networks_are_left_to_elimination_and_large_ones_are_not():
-    """Below FOREST_FROM terms elimination answers many transfers at once; above, the
-    forest sums' cost follows the answer."""
-    small = symcirc.parse(_ce_stages(1))
-    large = symcirc.parse(_ce_stages(4))
-    assert isinstance(solution(small), MnaSolution)
-    assert isinstance(solution(large), ControlledForestSolution)
+def test_controlled_current_sources_take_the_forest_path_and_opamps_elimination():
+    """The defaults measured fastest (engine.system._forest_wins)."""
+    assert isinstance(solution(symcirc.parse(_ce_stages(1))), ControlledForestSolution)
+    with_opamp = symcirc.parse("voltage source U (a, gnd)\nresistor R1 (a, n)\n"
+                               "resistor R2 (n, o)\nopamp X (gnd, n, o)\n")
+    assert isinstance(solution(with_opamp), MnaSolution)
 
 
 def _ce_stages(k: int) -> str:
