@@ -263,33 +263,36 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
             voltage |= reach[j][1]
         wanted.append((mask, current, voltage))
     pending = sum(bit.values()) & ~ground_bit  # terminals not yet on the frontier
-    verdicts: dict[tuple[int, int, int], bool] = {}
+    group_masks = [mask for mask in groups if mask & (mask - 1)]  # of two or more pairs
 
-    def feasible(su: int, sv: int, alive: int, closures: int) -> bool:
-        """Can (S_U, S_V) still end equal, with one pair of every group? `alive`: the
-        terminals in open trees or not yet reached; `closures`: the most trees without
-        ground that can still close (each adds one column to U and one to V)."""
-        key = (su, sv, alive, closures)
-        if key not in verdicts:
-            verdicts[key] = _feasible(su, sv, alive, closures)
-        return verdicts[key]
+    def feasible(alive: int, closures: int):
+        """A test of (S_U, S_V): can they still end equal, with one pair of every group?
+        `alive`: the terminals in open trees or not yet reached; `closures`: the most trees
+        without ground that can still close (each adds one column to U and one to V)."""
+        dead_u = dead_v = 0  # columns whose pair can no longer join a closing tree
+        for j, (current, voltage) in enumerate(reach):
+            if not current & alive:
+                dead_u |= 1 << j
+            if not voltage & alive:
+                dead_v |= 1 << j
+        lost = [mask for mask, current, voltage in wanted
+                if not (current & alive and voltage & alive)]
 
-    def _feasible(su: int, sv: int, alive: int, closures: int) -> bool:
-        unmet = sum(1 for mask, _, _ in wanted if not (su | sv) & mask)
-        if max((su & ~sv).bit_count(), (sv & ~su).bit_count()) + unmet > closures:
-            return False
-        for side, missing, other in ((1, su & ~sv, sv), (0, sv & ~su, su)):
-            j = 0
-            while missing:
-                if missing & 1:
-                    if not reach[j][side] & alive or other & family[j] & ~(1 << j):
-                        return False
-                missing >>= 1
-                j += 1
-        for mask, current, voltage in wanted:
-            if not su & mask and not sv & mask and not (current & alive and voltage & alive):
+        def test(key: tuple[int, int]) -> bool:
+            su, sv = key
+            missing_v, missing_u = su & ~sv, sv & ~su
+            if missing_v & dead_v or missing_u & dead_u:
                 return False
-        return True
+            unmet = sum(1 for mask, _, _ in wanted if not (su | sv) & mask)
+            if max(missing_v.bit_count(), missing_u.bit_count()) + unmet > closures:
+                return False
+            if any(not (su | sv) & mask for mask in lost):
+                return False
+            # one pair of a group in U and another in V can never match
+            return not any(su & mask and sv & mask and su & mask != sv & mask
+                           for mask in group_masks)
+
+        return test
 
     def rows(mask: int, which: int) -> list[tuple[int, int]]:
         out = []
@@ -300,31 +303,39 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
                 out.append((j, entry))
         return out
 
-    expansions: dict[int, list[tuple[int, int, int]]] = {}
+    expansions: dict[int, list[tuple[int, int, int, int, int, int, bool]] | None] = {}
 
-    def expand(mask: int) -> list[tuple[int, int, int]]:
-        """(column of U, column of V, sign) for a tree with these terminals."""
+    def expand(mask: int) -> list[tuple[int, int, int, int, int, int, bool]] | None:
+        """For a tree with these terminals, each (column of U, its group, the columns above
+        it; the same for V; whether the entries' product is positive), or None for the
+        ground's tree, which has no row."""
         if mask not in expansions:
             if mask & ground_bit:
-                expansions[mask] = [(-1, -1, 1)]
+                expansions[mask] = None
             else:
-                expansions[mask] = [(ju, jv, su * sv) for ju, su in rows(mask, 0)
-                                    for jv, sv in rows(mask, 1)]
+                expansions[mask] = [
+                    (1 << ju, family[ju], -1 << (ju + 1), 1 << jv, family[jv], -1 << (jv + 1),
+                     eu * ev > 0)
+                    for ju, eu in rows(mask, 0) for jv, ev in rows(mask, 1)]
         return expansions[mask]
 
     def close(su: int, sv: int, mask: int, p: Poly, into: dict) -> None:
-        for ju, jv, sign in expand(mask):
-            if ju < 0:
-                key = (su, sv)
+        choices = expand(mask)
+        if choices is None:
+            into.setdefault((su, sv), []).append(p)
+            return
+        negative = None
+        for bu, fu, above_u, bv, fv, above_v, positive in choices:
+            if su & fu or sv & fv:
+                continue  # a column (or another of its group) already used
+            # the row goes last: its sign is that of the columns it passes
+            flips = (su & above_u).bit_count() + (sv & above_v).bit_count()
+            if positive == (flips % 2 == 0):
                 value = p
             else:
-                if su & family[ju] or sv & family[jv]:
-                    continue  # a column (or another of its group) already used
-                # the row goes last: its sign is that of the columns it passes
-                flips = (su >> ju).bit_count() + (sv >> jv).bit_count()
-                key = (su | 1 << ju, sv | 1 << jv)
-                value = p if (sign > 0) == (flips % 2 == 0) else -p
-            into.setdefault(key, []).append(value)
+                negative = -p if negative is None else negative
+                value = negative
+            into.setdefault((su | bu, sv | bv), []).append(value)
 
     order = forests._edge_order(nodes, [(u, v) for u, v, _, _ in edges])
     loops = [e for e in edges if e[0] == e[1]]
@@ -386,8 +397,8 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
                 for mask in front[1]:
                     alive |= mask
                     closures += not mask & ground_bit
-                kept = {key: p for key, p in inner.items()
-                        if feasible(*key, alive, closures)}
+                test = feasible(alive, closures)
+                kept = {key: p for key, p in inner.items() if test(key)}
                 if kept:
                     states[front] = kept
     result: dict[int, Poly] = {}
