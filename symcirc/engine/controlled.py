@@ -12,12 +12,14 @@ weight(F)·det U_S(F)·det V_S(F), where U_S(F) is the incidence of the current 
 (a_j, b_j), j ∈ S, on F's trees (the reference's tree left out) and V_S(F) that of the
 voltage pairs: ±1 exactly when F with the current pairs of S, and F with the voltage
 pairs, are spanning trees, so that F ∪ S is a common spanning tree of the current graph
-and the voltage graph (the two-graph method: Mayeda, "Graph Theory", 1972, ch. 9; Chen,
-"Applied Graph Theory", 1976), and 0 otherwise. The forests come from the frontier walk
-of `forests.py`, grouped by how they split the terminals, and each group's coefficient is
-that small determinant, so no term is formed twice. (Terms of different groups could
-only meet when two weights share a variable, as a current control does with the
-element it reads; the polynomial sum then merges them.)
+and the voltage graph (the two-graph method: Mayeda, "Graph Theory", 1972; Chen, "Applied
+Graph Theory", 1976; from memory), and 0 otherwise. The forests come from the frontier
+walk of `forests.py`; as each tree closes, its rows of U and V are expanded into the two
+determinants (`signed_forest_sum`), so states keep only the columns used and still
+merge. Terms cancel only where a Laplace expansion of a zero determinant (a set S whose
+pairs close a cycle) pairs up with opposite signs, or where two weights share a
+variable (a current control and the element it reads); states that can no longer reach
+a common spanning tree are dropped as soon as that is certain.
 
 A transfer is one more control: V(c, d) per unit current driven from a to b is the
 coefficient of x in det(M + x·u·vᵀ), u = e(a) − e(b), v = e(c) − e(d), over det M; per
@@ -226,9 +228,6 @@ def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | N
             notes=("derive the circuit in parts: a section at a time, each joined to the "
                    "next through its Thevenin equivalent",))
     return bound
-
-
-Weights = tuple[Poly, Poly]
 
 
 def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], ground: str,
