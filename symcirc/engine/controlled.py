@@ -60,8 +60,9 @@ EXACT_COUNT_FROM = 20_000
 spanning trees are not counted: the bound already says the determinant is small."""
 
 MAX_CONTROLS = 12
-"""Most controls (terms of controlled sources) taken by forest sums: each adds a tree to
-the forests walked and a terminal to every state, so beyond this elimination is cheaper."""
+"""Most controls taken by forest sums: the walk's states are keyed by the columns used in
+U and in V, up to 4 to the power of the controls; at 12 (a ladder of 12 controlled
+sections, 358,390 terms) the walk took 3 s, where elimination refuses 9 sections."""
 
 
 @dataclass(frozen=True)
@@ -70,12 +71,13 @@ class Control:
     its weight in a term that holds it (`numerator`) or does not (`denominator`).
 
     A controlled current source's control is w·V(c, d) driven into a, w = numerator /
-    denominator. A `group` (a number) is a norator's: every term holds exactly one control
-    of each group (they share the current pair, so two would give a zero determinant), and
-    the group's alternatives are the terms of its output's equation: an ideal opamp
-    V(p) = V(n) is one control, (out, ref) with (p, n); a gain, V(a, b) = Σ k_i·V(c_i, d_i),
-    is (a, b) with (a, b) weighted by the common denominator D, and (a, b) with each
-    (c_i, d_i) weighted by −k_i·D (the determinant is linear in the equation's row)."""
+    denominator. A `group` (a number) is the column and row of an element with an unknown
+    current of its own (a norator's): every term holds exactly one control of each group,
+    the group's alternatives being the terms of its column and of its equation: an ideal
+    opamp V(p) = V(n) is one control, (out, ref) with (p, n); a gain, V(a, b) =
+    Σ k_i·V(c_i, d_i), is (a, b) with (a, b) weighted by the common denominator D, and
+    (a, b) with each (c_i, d_i) weighted by −k_i·D (the determinant is linear in the
+    column and in the row); a transformer's four are in `controls_of`."""
 
     a: str
     b: str
@@ -86,7 +88,8 @@ class Control:
     group: int | None = None
 
     @property
-    def nullor(self) -> bool:
+    def norator(self) -> bool:
+        """A column every term holds one of its group's (not a controlled current's)."""
         return self.group is not None
 
 
@@ -462,7 +465,7 @@ class ControlledForestSolution(ForestSolution):
             if not source.independent and source.constant is None:
                 self.currents.pop(name, None)
                 self.voltages.pop(name, None)
-        self.norators = {x for k in self.controls if k.nullor for x in (k.a, k.b)}
+        self.norators = {x for k in self.controls if k.norator for x in (k.a, k.b)}
         self._determinants: dict[tuple, Poly] = {}
 
     def check(self) -> None:

@@ -86,11 +86,11 @@ def _solve(circuit: Circuit, network: Network, shorted: frozenset[str], path: Pa
 def _forest_wins(network: Network) -> bool:
     """Controlled current sources only: there the forest sums were faster on every network
     measured, small or large, one transfer or all (elimination's entries swell: a ladder
-    of 8 controlled sections took it 2.2 s, the forest sums 0.1 s); with nullors (opamps,
+    of 8 controlled sections took it 2.2 s, the forest sums 0.1 s); with norators (opamps,
     controlled voltage sources, transformers) elimination, which solves an output in one
     pivot, measured faster on opamp chains."""
     two_graph = controlled.controls_of(network)
-    return two_graph is not None and not any(k.nullor for k in two_graph.controls)
+    return two_graph is not None and not any(k.norator for k in two_graph.controls)
 
 
 def _bound(circuit: Circuit, network: Network, shorted: frozenset[str]) -> int:
