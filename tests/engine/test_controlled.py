@@ -16,7 +16,7 @@ import pytest
 import sympy
 
 import symcirc
-from symcirc.engine.controlled import ControlledForestSolution, controls_of
+from symcirc.engine.controlled import ControlledForestSolution, controls_of, terms_bound
 from symcirc.engine.mna import Current, MnaSolution, Voltage, port_excitation
 from symcirc.engine.network import build_network
 from symcirc.engine.system import solution
@@ -318,3 +318,29 @@ def test_both_polynomial_backends_give_the_elimination_result(monkeypatch, backe
         a, b = forest.transfer(measure, "U1"), eliminated.transfer(measure, "U1")
         assert a.ring.backend == backend
         assert a.to_text() == b.to_text()
+
+
+@pytest.mark.parametrize("seed", range(12))
+def test_the_size_bound_is_never_below_a_denominator(seed):
+    """terms_bound counts spanning trees of one graph: an upper bound on the common trees,
+    hence on every transfer's denominator (the guard must never refuse below it)."""
+    active = seed % 2 == 1
+    text, _ = _random_active(random.Random(700 + seed), active)
+    circuit = symcirc.parse(text)
+    eliminated = solution(circuit, path="elimination")
+    if not _regular(eliminated):
+        return
+    bound = terms_bound(build_network(circuit), [])
+    for measure in _measures(circuit)[:4]:
+        transfer = eliminated.transfer(measure, "U1")
+        assert transfer.size()[1] <= bound
+
+
+def test_the_size_bound_follows_the_answer_on_ce_stages():
+    """Within a factor of 2 of the denominator on three and four stages (measured)."""
+    for k, terms in ((3, 11452), (4, 227836)):
+        circuit = symcirc.parse(_ce_stages(k))
+        bound = terms_bound(build_network(circuit), [])
+        assert terms <= bound <= 2 * terms
+        gain = solution(circuit).transfer(Voltage("c", "gnd"), "Uin")
+        assert gain.size()[1] == terms
