@@ -52,7 +52,9 @@ def solution(circuit: Circuit, shorted: Iterable[str] = (), path: Path | None = 
         if ("terms bound", shorted) not in store:
             store[("terms bound", shorted)] = _bound(circuit, network, shorted)
         if chosen is None:
-            chosen = "forest" if _forest_wins(network) else "elimination"
+            if "default path" not in store:
+                store["default path"] = "forest" if _forest_wins(network) else "elimination"
+            chosen = store["default path"]
     chosen = chosen or "forest"
     key = ("solution", shorted, chosen)
     cached = store.get(key)
@@ -76,8 +78,10 @@ def _solve(circuit: Circuit, network: Network, shorted: frozenset[str], path: Pa
             return ForestSolution(network, short, tested, eliminate)
         two_graph = controlled.controls_of(network)
         if two_graph is None:
-            raise ValueError("the spanning-forest path needs a network without transformers, "
-                             "couplings or controlled voltage sources with a constant part")
+            raise ValueError("the spanning-forest path needs a network without couplings, "
+                             "controlled voltage sources with a constant part, controls by "
+                             f"a source's current, or more than {controlled.MAX_CONTROLS} "
+                             "controls")
         return controlled.ControlledForestSolution(network, short, tested, eliminate,
                                                    two_graph)
     return eliminate()
