@@ -15,6 +15,11 @@ per output term, and the pipeline's overhead: the time through `symcirc.pipeline
 input check, requests, the per-circuit memo) minus the engine's alone (elaboration and the
 quantity handlers called directly), relative to the engine's. The same overhead is measured
 on a strain-gauge full bridge with lead resistances.
+
+A second table times the active families on both solution paths (the spanning-forest path
+with the two-graph method, and elimination), engine only, in µs per output term beside
+the passive ladder's at the nearest output size, with the default path marked; then the
+time the size guard takes to refuse the 20-section controlled-source ladder.
 """
 
 from __future__ import annotations
@@ -83,13 +88,38 @@ def ce_stages(k: int) -> tuple[str, list[str]]:
     return "\n".join(lines) + "\n", ["gain(Uin, out)"]
 
 
+def opamp_chain(k: int) -> tuple[str, list[str]]:
+    """k inverting stages, each a finite-gain opamp (gain A_i) with Rf_i ∥ Cf_i feedback and
+    a load Ro_i: the loading of each output makes every stage's terms multiply."""
+    lines = ["voltage source Uin (o0, gnd)"]
+    for i in range(1, k + 1):
+        lines += [f"param A{i}", f"resistor Ri{i} (o{i - 1}, n{i})",
+                  f"resistor Rf{i} (n{i}, o{i})", f"capacitor Cf{i} (n{i}, o{i})",
+                  f"resistor Ro{i} (o{i}, gnd)", f"opamp U{i} (gnd, n{i}, o{i}) = A{i}"]
+    lines.append(f"port out (o{k}, gnd)")
+    return "\n".join(lines) + "\n", ["gain(Uin, out)"]
+
+
+def controlled_ladder(n: int) -> tuple[str, list[str]]:
+    """n sections of series Rs_i and shunt C_i, each node also driven by gm_i·V(previous
+    node): the size guard's too-large active circuit at n = 20."""
+    lines = ["voltage source Uin (n0, gnd)"]
+    for i in range(1, n + 1):
+        lines += [f"param gm{i}", f"resistor Rs{i} (n{i - 1}, n{i})",
+                  f"capacitor C{i} (n{i}, gnd)",
+                  f"current source Ibeta{i} (n{i}, gnd) = gm{i}*V(n{i - 1})"]
+    lines.append(f"port out (n{n}, gnd)")
+    return "\n".join(lines) + "\n", ["gain(Uin, out)"]
+
+
 FAMILIES = {
     "ladder": (ladder, range(4, 15)),
     "grid": (grid, range(2, 5)),
     "rc_chain": (rc_chain, range(2, 9)),
     "ce": (ce_stages, range(1, 5)),
+    "opamp_chain": (opamp_chain, range(1, 7)),
 }
-WITHOUT_BASELINE = {"ce"}
+WITHOUT_BASELINE = {"ce", "opamp_chain"}
 """Families whose hand-written baseline is not written (sympy.solve would not finish)."""
 
 # ---------------------------------------------------------------- the baseline
@@ -330,7 +360,17 @@ def main() -> None:
     parser.add_argument("--peak", nargs=2, metavar=("FAMILY", "SIZE"), help=argparse.SUPPRESS)
     parser.add_argument("--cap", type=float, default=CAP, help="baseline time cap (s)")
     parser.add_argument("--quick", action="store_true", help="smallest sizes only")
+    parser.add_argument("--active", action="store_true",
+                        help="only the active families on both paths and the size guard")
     args = parser.parse_args()
+    if args.active:
+        rows = {"ladder": []}
+        for size in FAMILIES["ladder"][1]:
+            derived, printed, terms, _ = best_of(3 if size < 12 else 1, *ladder(size))
+            per_term = derived / max(sum(terms), 1) * 1e6
+            rows["ladder"].append((size, derived, printed, per_term, sum(terms)))
+        active_paths(rows, args.quick)
+        return
     if args.peak:
         peak_child(args.peak[0], int(args.peak[1]))
         return
@@ -379,7 +419,7 @@ def main() -> None:
             per_term = derived / max(sum(terms), 1) * 1e6
             engine, through = overhead(text, quantities, 3 if size < 12 else 1)
             extra = (through - engine) / engine * 100
-            rows.setdefault(family, []).append((size, derived, printed, per_term))
+            rows.setdefault(family, []).append((size, derived, printed, per_term, sum(terms)))
             print(f"{family:9} {size:>4} {f'{terms[0]}/{terms[1]}':>17} {derived:>10.4f} "
                   f"{printed:>9.4f} {steps_text:>12} {base_text:>11} {ratio_text:>9} "
                   f"{per_term:>8.2f} {extra:>10.1f}%  {check}", flush=True)
@@ -400,7 +440,64 @@ def main() -> None:
     if peak is not None:
         print(f"peak memory of deriving ce k = {largest}: {peak:.0f} MB above the process "
               "after imports and parsing")
-    print_targets(rows, ratios, cold, bridge, peak if largest == 4 else None)
+    guard = active_paths(rows, args.quick)
+    print_targets(rows, ratios, cold, bridge, peak if largest == 4 else None, guard)
+
+
+def active_paths(rows: dict, quick: bool) -> float:
+    """Both solution paths of the active families (engine.system.solution with `path`),
+    in µs per output term beside the passive ladder's at the nearest output size, and the
+    time the size guard takes to refuse the 20-section controlled-source ladder."""
+    import symcirc
+    from symcirc.engine.mna import Voltage
+    from symcirc.engine.system import solution
+
+    print("active circuits on both paths (engine only, best of 3; the default path marked *):")
+    print(f"{'family':12} {'size':>4} {'terms':>8} {'forest s':>9} {'µs/term':>8} "
+          f"{'elim. s':>9} {'µs/term':>8} {'passive µs/term (terms)':>24}")
+    families = {"ce": (ce_stages, "c", range(1, 3 if quick else 5)),
+                "opamp_chain": (opamp_chain, "o{k}", range(1, 3 if quick else 7)),
+                "ctl_ladder": (controlled_ladder, "n{k}", range(4, 6 if quick else 13))}
+    for family, (build, node, sizes) in families.items():
+        for size in sizes:
+            text, _ = build(size)
+            measure = Voltage(node.format(k=size), "gnd")
+            times = {}
+            for path in ("forest", "elimination"):
+                if family == "ctl_ladder" and path == "elimination" and size > 8:
+                    times[path] = float("nan")  # its entries pass the limit from 9 on
+                    continue
+                best = float("inf")
+                for _ in range(3 if size < 10 else 1):
+                    circuit = symcirc.parse(text)
+                    start = time.perf_counter()
+                    value = solution(circuit, path=path).transfer(measure, "Uin")
+                    best = min(best, time.perf_counter() - start)
+                times[path] = best
+            default = type(solution(symcirc.parse(text))).__name__
+            mark = {"forest": "*" if default != "MnaSolution" else " ",
+                    "elimination": "*" if default == "MnaSolution" else " "}
+            terms = sum(value.size())
+            passive = min(rows.get("ladder", []), key=lambda r: abs(r[4] - terms), default=None)
+            shown = f"{passive[3]:.2f} ({passive[4]})" if passive else "-"
+            print(f"{family:12} {size:>4} {terms:>8} {times['forest']:>8.4f}{mark['forest']} "
+                  f"{times['forest'] / terms * 1e6:>8.2f} "
+                  f"{times['elimination']:>8.4f}{mark['elimination']} "
+                  f"{times['elimination'] / terms * 1e6:>8.2f} {shown:>24}", flush=True)
+    text, quantities = controlled_ladder(20)
+    circuit = symcirc.parse(text)
+    start = time.perf_counter()
+    try:
+        solution(circuit)
+        refused = None
+    except SymcircError as error:
+        refused = time.perf_counter() - start
+        print(f"size guard on the 20-section controlled-source ladder: refused in "
+              f"{refused * 1000:.1f} ms ({str(error).splitlines()[0][:90]}...)")
+    if refused is None:
+        print("size guard on the 20-section controlled-source ladder: NOT refused")
+        return float("inf")
+    return refused
 
 
 def peak_memory(family: str, size: int) -> float | None:
@@ -431,7 +528,7 @@ def peak_child(family: str, size: int) -> None:
 
 
 def print_targets(rows: dict, ratios: dict, cold: float | None, bridge: float,
-                  ce_peak: float | None = None) -> None:
+                  ce_peak: float | None = None, guard: float | None = None) -> None:
     """The issue's targets, each with the measured figure and whether it is met."""
     def at(family: str, size: int):
         return next((r for r in rows.get(family, []) if r[0] == size), None)
@@ -451,6 +548,14 @@ def print_targets(rows: dict, ratios: dict, cold: float | None, bridge: float,
         checks.append((f"ce k = 4 derived in < 0.5 s ({ce4[1]:.4f} s)", ce4[1] < 0.5))
     if ce_peak is not None:
         checks.append((f"ce k = 4 in < 100 MB peak ({ce_peak:.0f} MB)", ce_peak < 100))
+    if guard is not None:
+        checks.append((f"size guard refuses the too-large active circuit in < 0.1 s "
+                       f"({guard:.4f} s)", guard < 0.1))
+    if ce4 and rows.get("ladder"):
+        nearest = min(rows["ladder"], key=lambda r: abs(r[4] - ce4[4]))
+        checks.append((f"ce k = 4 within 3x of the passive µs/term at a similar size "
+                       f"({ce4[3]:.2f} against ladder n = {nearest[0]}: {nearest[3]:.2f})",
+                       ce4[3] <= 3 * nearest[3]))
     grid4 = at("grid", 4)
     if grid4:
         checks.append((f"grid k = 4 derived in < 0.5 s ({grid4[1]:.4f} s)", grid4[1] < 0.5))
