@@ -335,17 +335,19 @@ def _second_order(response: Response, weight: str, sign: int) -> list[_Piece]:
     two_pi = 2 * sympy.pi
     a, b, c = (response.denominator[k] * two_pi**k for k in range(3))
     alpha, beta, gamma = (x * two_pi**k for k, x in enumerate(_padded(response.numerator, 3)))
-    a2, a1, a0 = (gamma / c) ** 2, (beta**2 - 2 * alpha * gamma) / c**2, (alpha / c) ** 2
-    p, q = (b**2 - 2 * a * c) / c**2, (a / c) ** 2
+    a2, a1, a0 = (_tidy((gamma / c) ** 2), _tidy((beta**2 - 2 * alpha * gamma) / c**2),
+                  _tidy((alpha / c) ** 2))
+    p, q = _tidy((b**2 - 2 * a * c) / c**2), _tidy((a / c) ** 2)
     zero, one = sympy.Integer(0), sympy.Integer(1)
     if weight == WHITE:
-        r1, r0 = a1 - a2 * p, a0 - a2 * q  # |H|² = A2 + (R1·f² + R0)/(f⁴ + p·f² + q)
+        # |H|² = A2 + (R1·f² + R0)/(f⁴ + p·f² + q)
+        r1, r0 = _tidy(a1 - a2 * p), _tidy(a0 - a2 * q)
         pieces = [_Piece(a2, lambda f: f, zero, None)]
         if sign < 0:  # f⁴ + p·f² + q = (f² + r·f + m)(f² − r·f + m), m = f0²
-            m = a / c
-            r = sympy.sqrt(2 * m - p)
-            g = sympy.sqrt(2 * m + p)  # = f0/Q
-            big_b = r0 / (2 * m)
+            m = _tidy(a / c)
+            r = sympy.sqrt(_tidy(4 * a * c - b**2)) / c
+            g = _tidy(b / c)  # f0/Q; its sign does not matter: (1/g)·atan(y/g) is even in g
+            big_b = _tidy(r0 / (2 * m))
             big_a = (big_b - r1 / 2) / r
             return pieces + [
                 _Piece(big_a / 2, lambda f: (f**2 + r * f + m) / (f**2 - r * f + m),
@@ -353,9 +355,10 @@ def _second_order(response: Response, weight: str, sign: int) -> list[_Piece]:
                 _Piece((2 * big_b + r1) / (2 * g),
                        lambda f: sympy.atan((2 * f + r) / g) + sympy.atan((2 * f - r) / g),
                        zero, sympy.pi)]
-        root = sympy.sqrt(p**2 - 4 * q)
+        # √(p² − 4q) up to a sign, which only swaps the two poles
+        root = b * sympy.sqrt(_tidy(b**2 - 4 * a * c)) / c**2
         if sign > 0:  # (f² + fa²)(f² + fb²): the two real poles fa, fb in Hz
-            u, v = (p - root) / 2, (p + root) / 2
+            u, v = _tidy((p - root) / 2), _tidy((p + root) / 2)
             fa, fb = sympy.sqrt(u), sympy.sqrt(v)
             return pieces + [
                 _Piece((r0 - r1 * u) / ((v - u) * fa), lambda f: sympy.atan(f / fa), zero,
@@ -372,21 +375,33 @@ def _second_order(response: Response, weight: str, sign: int) -> list[_Piece]:
     # with x = f²: ∫|H|²/f df = ½·∫ (A2·x² + A1·x + A0)/(x·(x² + p·x + q)) dx
     #   = ½·[(A0/2q)·ln(x²/(x² + p·x + q)) + (A2/2)·ln(x² + p·x + q) + K·J(x)]
     e, g = a2 - a0 / q, a1 - a0 * p / q
-    k = (g - e * p / 2) / 2
+    k = _tidy((g - e * p / 2) / 2)
     pieces = [
         _Piece(a0 / (4 * q), lambda f: f**4 / (f**4 + p * f**2 + q), None, one, True),
         _Piece(a2 / 4, lambda f: f**4 + p * f**2 + q, q, None, True)]
     if sign < 0:  # J = (2/√(4q − p²))·atan((2x + p)/√(4q − p²))
-        root = sympy.sqrt(4 * q - p**2)
+        root = sympy.sqrt(_tidy(4 * q - p**2))
         return pieces + [_Piece(2 * k / root, lambda f: sympy.atan((2 * f**2 + p) / root),
                                 sympy.atan(p / root), sympy.pi / 2)]
     if sign > 0:  # J = ln((x + u)/(x + v))/(v − u)
-        root = sympy.sqrt(p**2 - 4 * q)
-        u, v = (p - root) / 2, (p + root) / 2
+        root = b * sympy.sqrt(_tidy(b**2 - 4 * a * c)) / c**2
+        u, v = _tidy((p - root) / 2), _tidy((p + root) / 2)
         return pieces + [_Piece(k / (v - u), lambda f: (f**2 + u) / (f**2 + v), u / v, one,
                                 True)]
     u = p / 2  # J = −1/(x + u)
     return pieces + [_Piece(k, lambda f: -1 / (f**2 + u), -1 / u, zero)]
+
+
+TIDY_OPERATIONS = 400
+"""Intermediate closed forms up to this many operations are brought to one fraction."""
+
+
+def _tidy(expression: sympy.Expr) -> sympy.Expr:
+    """A small intermediate closed form as one fraction (a large one as it is: cancelling
+    costs more than it saves)."""
+    if sympy.count_ops(expression) > TIDY_OPERATIONS:
+        return expression
+    return sympy.cancel(expression)
 
 
 def _white_to_infinity(response: Response,
