@@ -23,6 +23,7 @@ from typing import Any
 import sympy
 
 from ..model.units import eng
+from ..quantities.stability import rhp_count
 from .response import Response, ResponseError
 from .values import rational
 
@@ -139,9 +140,11 @@ def gain_integral(h: Any, low: Endpoint, high: Endpoint, weight: str = WHITE,
     _check_convergence(response, f1, f2, weight)
     values = response.nominal(nominals)
     if values is not None:
-        words = response.stability(nominals)
-        if words and words.startswith("Unstable"):
-            raise ResponseError(words + " Its noise has no steady value.")
+        unstable, how = rhp_count(values[1])
+        if unstable:
+            raise ResponseError(f"Unstable: {unstable} pole{'s' if unstable > 1 else ''} in "
+                                f"the right half-plane at the nominal values ({how}); the "
+                                "circuit does not settle, so its noise has no steady value")
     found = _closed_form(response, f1, f2, weight, values)
     if found is not None:
         expression, method = found
