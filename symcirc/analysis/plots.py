@@ -415,6 +415,73 @@ def loading_figure(
     return figure
 
 
+DENSITY_PREFIXES = ((1e-15, "f"), (1e-12, "p"), (1e-9, "n"), (1e-6, "µ"), (1e-3, "m"),
+                    (1.0, ""))
+"""Prefixes of a noise density's axis, chosen so that the total's peak reads 1 … 1000."""
+
+MAJOR_CONTRIBUTIONS = 6
+"""Contributions drawn one by one in a density figure; the rest are drawn summed."""
+
+
+def density_scale(largest: float) -> tuple[float, str]:
+    """(factor, prefix) for an amplitude density whose largest value is `largest`."""
+    for factor, prefix in reversed(DENSITY_PREFIXES):
+        if largest >= factor:
+            return factor, prefix
+    return DENSITY_PREFIXES[0]
+
+
+@_styled
+def noise_density_figure(
+    frequencies: Sequence[float], contributions: Sequence[tuple[str, Sequence[float]]],
+    label: str, unit: str = "V", band: tuple[float, float] | None = None,
+):
+    """Amplitude noise density √S (nV/√Hz, pA/√Hz …) against frequency, log–log: the total
+    and each major contribution (`contributions`: (name, power density in unit²/Hz) over
+    `frequencies`), the largest first, the others summed; the legend beside the axes, clear
+    of the data; with `band` (f1, f2) the integration band shaded."""
+    import numpy as np
+
+    f = np.asarray(frequencies, dtype=float)
+    powers = [(name, np.asarray(p, dtype=float)) for name, p in contributions]
+    total = np.sum([p for _, p in powers], axis=0) if powers else np.zeros_like(f)
+    # rank by the power over the plotted range (a trapezoid sum in ln f is enough to rank)
+    weight = np.gradient(np.log(f)) * f
+    ranked = sorted(powers, key=lambda item: -float(np.sum(item[1] * weight)))
+    shown, rest = ranked[:MAJOR_CONTRIBUTIONS], ranked[MAJOR_CONTRIBUTIONS:]
+    if len(rest) == 1:
+        shown, rest = ranked, []
+    factor, prefix = density_scale(float(np.sqrt(np.max(total))) if total.size else 0.0)
+    figure, axes = _figure()
+    figure.set_size_inches(7.6, 4.2)
+    with np.errstate(divide="ignore"):
+        axes.loglog(f, np.sqrt(total) / factor, color="k", linewidth=1.8, label="total")
+        for k, (name, p) in enumerate(shown):
+            axes.loglog(f, np.sqrt(p) / factor, color=f"C{k}", linewidth=1.1, label=name)
+        if rest:
+            others = np.sum([p for _, p in rest], axis=0)
+            axes.loglog(f, np.sqrt(others) / factor, color="0.55", linewidth=1.0,
+                        linestyle="--", label=f"{len(rest)} others")
+    if band is not None:
+        low, high = band
+        from ..model.units import eng
+
+        axes.axvspan(max(low, float(f[0])), min(high, float(f[-1])), color="C0", alpha=0.07,
+                     linewidth=0, label=f"band {eng(low, 'Hz')} … {eng(high, 'Hz')}")
+    top = float(np.sqrt(np.max(total))) / factor if total.size else 1.0
+    axes.set_ylim(top / 1e4, top * 3)
+    density_unit = f"{prefix}{unit}/√Hz"
+    axes.set_ylabel(f"Noise density ({density_unit})")
+    axes.set_xlabel("Frequency (Hz)")
+    _eng_axis(axes.xaxis, "Hz")
+    from matplotlib.ticker import FuncFormatter
+
+    axes.yaxis.set_major_formatter(FuncFormatter(lambda value, _: f"{value:g}"))
+    axes.set_title(f"Noise density of {label}")
+    axes.legend(loc="upper left", bbox_to_anchor=(1.02, 1.0), borderaxespad=0.0, fontsize=7)
+    return figure
+
+
 # ---------------------------------------------------------------- from a circuit
 
 

@@ -339,3 +339,65 @@ def test_density_values_and_plot_range():
                                    rel=1e-9)
     low, high = nb.plot_range([h], VALUES, [100.0])
     assert low == 1.0 and high == 1e8
+
+
+# ---------------------------------------------------------------- the density figure
+
+
+def _density_figure():
+    from symcirc.analysis import plots
+
+    four_kt = 4 * BOLTZMANN * 300
+    sources = [("R1", FIRST_ORDER["low-pass"], nb.Density(sympy.Rational(four_kt * 1000))),
+               ("R2", FIRST_ORDER["low-pass"], nb.Density(sympy.Rational(four_kt * 330))),
+               ("U1.en", FIRST_ORDER["shelf"],
+                nb.Density(sympy.Rational(9, 10**18), sympy.Integer(100)))]
+    low, high = nb.plot_range([h for _, h, _ in sources], VALUES, [100.0])
+    f = np.logspace(math.log10(low), math.log10(high), 300)
+    contributions = [(name, nb.density_values(h, d, f, VALUES)) for name, h, d in sources]
+    return plots.noise_density_figure(f, contributions, "V(out)", "V", band=(10.0, 1e4)), \
+        contributions
+
+
+def test_density_figure_has_units_total_and_a_legend_clear_of_the_data(tmp_path):
+    import xml.etree.ElementTree as ET
+
+    from symcirc.analysis import plots
+
+    figure, contributions = _density_figure()
+    first, second = tmp_path / "a.svg", tmp_path / "b.svg"
+    plots.save(figure, first)
+    plots.save(_density_figure()[0], second)
+    assert first.read_bytes() == second.read_bytes()
+    root = ET.parse(first).getroot()
+    texts = ["".join(e.itertext()).strip() for e in root.iter("{http://www.w3.org/2000/svg}text")]
+    # 4kT·1 kΩ at 300 K is 4.07 nV/√Hz (Johnson–Nyquist): the axis reads in nV/√Hz
+    assert "Noise density (nV/√Hz)" in texts and "Frequency (Hz)" in texts
+    assert {"total", "R1", "R2", "U1.en", "band 10 Hz … 10 kHz"} <= set(texts)
+    axes = figure.axes[0]
+    legend = axes.get_legend()
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+
+    canvas = FigureCanvasAgg(figure)
+    canvas.draw()
+    renderer = canvas.get_renderer()
+    box, frame = legend.get_window_extent(renderer), axes.get_window_extent(renderer)
+    assert box.x0 >= frame.x1  # beside the axes, never over a curve
+    total = np.sqrt(np.sum([p for _, p in contributions], axis=0)) / 1e-9
+    drawn = axes.get_lines()[0].get_ydata()
+    assert drawn == pytest.approx(total, rel=1e-12)
+    r1 = next(line for line in axes.get_lines() if line.get_label() == "R1")
+    assert r1.get_ydata()[0] == pytest.approx(4.07, abs=0.01)
+    assert axes.get_xscale() == "log" and axes.get_yscale() == "log"
+
+
+def test_density_figure_sums_minor_contributions():
+    from symcirc.analysis import plots
+
+    f = np.logspace(0, 5, 50)
+    contributions = [(f"R{k}", np.full(50, 1e-18 * k)) for k in range(1, 10)]
+    figure = plots.noise_density_figure(f, contributions, "V(out)")
+    labels = [t.get_text() for t in figure.axes[0].get_legend().get_texts()]
+    assert labels[:4] == ["total", "R9", "R8", "R7"]
+    assert labels[-1] == "3 others"
+    assert plots.density_scale(4e-9) == (1e-9, "n") and plots.density_scale(2e-12) == (1e-12, "p")
