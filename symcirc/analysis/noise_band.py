@@ -22,6 +22,8 @@ from typing import Any
 
 import sympy
 
+from ..algebra.convert import atoms_of, restored, to_function
+from ..algebra.polynomials import PolynomialRing
 from ..model.units import eng
 from ..quantities.stability import rhp_count
 from .response import Response, ResponseError
@@ -404,7 +406,10 @@ def _tidy(expression: sympy.Expr) -> sympy.Expr:
     costs more than it saves)."""
     if sympy.count_ops(expression) > TIDY_OPERATIONS:
         return expression
-    return sympy.cancel(expression)
+    atoms = atoms_of(expression)
+    tidy = restored(to_function(expression, PolynomialRing(())), atoms)
+    # the algebra names its variables: give back the caller's symbols (and assumptions)
+    return tidy.xreplace({sympy.Symbol(x.name): x for x in expression.free_symbols})
 
 
 def _white_to_infinity(response: Response,
