@@ -15,7 +15,7 @@ from dataclasses import dataclass
 from typing import Literal
 
 Stamp = Literal["impedance", "voltage source", "current source", "opamp", "transformer",
-                "coupling"]
+                "coupling", "noise voltage", "noise current"]
 
 
 @dataclass(frozen=True)
@@ -60,6 +60,12 @@ class ElementKind:
     def source(self) -> bool:
         """An (independent or controlled) voltage or current source."""
         return self.stamp in ("voltage source", "current source")
+
+    @property
+    def noise(self) -> bool:
+        """An explicit noise source: no signal of its own (a short or an open), a density
+        in the noise analyses."""
+        return self.stamp in ("noise voltage", "noise current")
 
     @property
     def passive(self) -> bool:
@@ -117,13 +123,24 @@ ELEMENT_KINDS: dict[str, ElementKind] = {kind.keyword: kind for kind in (
         layout_note="the two coupled inductors",
         convention="A coupling (L1, L2) = k adds the mutual inductance M = k·√(L1·L2), dots "
                    "at the first terminals."),
+    ElementKind(
+        "noise voltage", _TWO, "V/√Hz", "noise voltage",
+        convention="A noise voltage X (p, n) = e_n is a short for signals and a noise voltage "
+                   "of density e_n (V/√Hz) in the noise analyses; `corner f_c` makes it "
+                   "e_n·√(1 + f_c/f)."),
+    ElementKind(
+        "noise current", _TWO, "A/√Hz", "noise current",
+        convention="A noise current X (p, n) = i_n is an open circuit for signals and a noise "
+                   "current of density i_n (A/√Hz) between p and n in the noise analyses; "
+                   "`corner f_c` makes it i_n·√(1 + f_c/f)."),
 )}
 """Every element kind of the language, by keyword, in the order the docs list them."""
 
 ELEMENT_WORDS = tuple(dict.fromkeys(kind.words[0] for kind in ELEMENT_KINDS.values()))
 """First words of the element keywords (`voltage` for `voltage source`)."""
 
-OTHER_STATEMENTS = ("title", "typeset", "param", "port", "block", "end", "derive", "claim")
+OTHER_STATEMENTS = ("title", "typeset", "param", "port", "block", "end", "derive", "claim",
+                    "temperature", "noiseless")
 """Statement keywords that are not element kinds."""
 STATEMENT_WORDS = (*OTHER_STATEMENTS[:3], *ELEMENT_WORDS, *OTHER_STATEMENTS[3:])
 """Every word that can open a statement."""
@@ -221,6 +238,14 @@ def _twoport_parts() -> tuple[Part, ...]:
                       (("A", ""), ("B", "Ω"), ("C", "S"), ("D", ""))))
 
 
+NOISE_CONVENTION = (
+    "Noise densities are one-sided: S(f) in V²/Hz (A²/Hz) and its square root in V/√Hz "
+    "(A/√Hz). Every resistor and conductance not marked `noiseless` is a thermal noise "
+    "current 4·k_B·T/R in parallel with it (Johnson–Nyquist), k_B = 1.380649×10⁻²³ J/K "
+    "exactly (SI, 2019), T the file's `temperature` (300 K when it gives none); sources are "
+    "uncorrelated, so their powers add: S_out = Σ|H_k(j2πf)|²·S_k.")
+"""The sign-free convention every noise result states."""
+
 QUANTITIES: dict[str, QuantityKind] = {q.name: q for q in (
     QuantityKind("V", ("node", "node"), 1, "symcirc.quantities.basic:voltage", "V",
                  "node or port voltage", parts=DESIGN_PARAMETERS, part_handler=_RESPONSE),
@@ -307,5 +332,22 @@ QUANTITIES: dict[str, QuantityKind] = {q.name: q for q in (
     QuantityKind("response", ("value",), 1, "symcirc.analysis.frequency:response_quantity",
                  "Q's unit", "Q with its magnitude and phase at chosen frequencies",
                  analysis=True),
+    QuantityKind(
+        "noise", ("measure", "value"), 1, "symcirc.quantities.noise:noise_quantity",
+        "V/√Hz and V²/Hz (A for a current)",
+        "output noise density Σ|H_k|²·S_k of every noise source, at f or as a function of f",
+        parts=(Part("density", None, "e"), Part("psd", None, "S")), tag="n", response=False,
+        convention=NOISE_CONVENTION),
+    QuantityKind(
+        "input_noise", ("source", "measure", "value"), 2,
+        "symcirc.quantities.noise:input_noise_quantity", "the source's unit per √Hz",
+        "noise(Q) referred to the input: divided by |gain(X, Q)|",
+        parts=(Part("density", None, "e"), Part("psd", None, "S")), tag="n",
+        response=False, convention=NOISE_CONVENTION),
+    QuantityKind(
+        "noise_contributions", ("measure", "value"), 1,
+        "symcirc.quantities.noise:contributions_quantity", "Q's unit per √Hz",
+        "each noise source's share of noise(Q) at f, largest first", analysis=True,
+        response=False, convention=NOISE_CONVENTION),
 )}
 """Every quantity of the language, by name, in the order the docs list them."""

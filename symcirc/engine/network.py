@@ -227,6 +227,8 @@ def _add(network: Network, element: Element, mutuals: dict[str, str]) -> None:
             constant = RationalFunction.symbol(name, ring)
         network.sources[name] = Source(name, "voltage" if stamp == "voltage source" else "current",
                                        nodes[0], nodes[1], tuple(controls), constant)
+    elif stamp == "noise voltage":  # a short for signals: a source of no value of its own
+        network.sources[name] = Source(name, "voltage", nodes[0], nodes[1], (), None)
     elif stamp == "opamp":
         if element.definition is not None:
             gain = to_function(element.definition, ring)
@@ -240,3 +242,4 @@ def _add(network: Network, element: Element, mutuals: dict[str, str]) -> None:
     elif stamp == "coupling":
         first, second = element.coupled
         network.couplings[name] = Coupling(name, first, second, mutuals[name])
+    # a noise current is an open circuit for signals: nothing to enter

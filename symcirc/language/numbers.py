@@ -25,6 +25,8 @@ L R K M G T for resistance (`6L8` = 6.8 mΩ), p n µ m F for capacitance (`4F7` 
 UNITS: dict[str, str] = {
     "Ω": "Ω", "\u2126": "Ω", "ohm": "Ω", "V": "V", "A": "A", "F": "F", "H": "H",
     "S": "S", "Hz": "Hz", "W": "W", "s": "s",
+    "V/√Hz": "V/√Hz", "V/rtHz": "V/√Hz", "A/√Hz": "A/√Hz", "A/rtHz": "A/√Hz",
+    "K": "K", "°C": "°C",
 }
 """Unit as written → normalised SI unit (the ohm sign U+2126 and `ohm` become Ω U+03A9)."""
 
@@ -42,7 +44,7 @@ _RKM = re.compile(
 )
 _SUFFIX = re.compile(f"(?P<prefix>{_PREFIX})?(?P<unit>{_UNIT})")
 
-UNIT_LIST = "Ω (or ohm), V, A, F, H, S, Hz, W, s"
+UNIT_LIST = "Ω (or ohm), V, A, F, H, S, Hz, W, s, V/√Hz (or V/rtHz), A/√Hz, K, °C"
 
 
 class Decoded(NamedTuple):

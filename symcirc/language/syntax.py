@@ -122,6 +122,8 @@ class Value(Node):
     """The value as written (without the `=` and the frequency), for tables."""
     frequency: Number | Name | None = None
     """`at 50 Hz` or `at f`: the frequency of a source given as a sinusoid's peak amplitude."""
+    corner: Number | Name | None = None
+    """`corner 10 Hz` or `corner fc`: the 1/f corner of a noise density."""
 
 
 # ---------------------------------------------------------------- quantities
@@ -255,9 +257,40 @@ class ClaimStatement(Node):
     """The claimed expression as written."""
 
 
+@dataclass(frozen=True)
+class Temperature(Node):
+    """`temperature 27 °C` or `temperature 300 K`: the temperature of thermal noise."""
+
+    value: Number
+
+
+@dataclass(frozen=True)
+class Noiseless(Node):
+    """`noiseless R1, R2`: parts left out of the noise analyses."""
+
+    names: tuple[Name, ...]
+
+
+@dataclass(frozen=True)
+class OpampDensity(Node):
+    """`en = 4 nV/√Hz corner 10 Hz` inside an opamp's noise statement."""
+
+    which: Name
+    """`en` (input voltage noise) or `in` (current noise of each input)."""
+    value: Value
+
+
+@dataclass(frozen=True)
+class OpampNoise(Node):
+    """`noise U1 en = 4 nV/√Hz corner 10 Hz, in = 1 pA/√Hz`."""
+
+    opamp: Name
+    densities: tuple[OpampDensity, ...]
+
+
 Statement = (
     Title | Param | ElementStatement | PortStatement | Instance | Block | DeriveStatement
-    | ClaimStatement | Typeset
+    | ClaimStatement | Typeset | Temperature | Noiseless | OpampNoise
 )
 
 

@@ -194,6 +194,9 @@ class TreeBuilder(Transformer):
         elif isinstance(node, st.Number) and node.unit == PERCENT:
             raise self._error_at(node, "a percentage belongs in a tolerance (`± 1 %`) or a "
                                        "quantity's argument, not in a value")
+        elif isinstance(node, st.Number) and node.unit == "°C":
+            raise self._error_at(node, "a temperature in °C is read only by the `temperature` "
+                                       "statement (`temperature 27 °C`); a value takes K")
 
     def _deeper(self, depth: int, where: Token) -> int:
         if depth >= MAX_DEPTH:
@@ -214,12 +217,13 @@ class TreeBuilder(Transformer):
     # ------------------------------------------------------------ values
 
     def value(self, _equal: Token, expression: st.Expr, tolerance: st.Tolerance | None,
-              frequency: st.Number | st.Name | None = None) -> st.Value:
+              frequency: st.Number | st.Name | None = None,
+              corner: st.Number | st.Name | None = None) -> st.Value:
         self._check_expression(expression)
         span = expression.span
         end = tolerance.span.end if tolerance is not None else span.end
         return st.Value(span.line, span.column, expression, tolerance,
-                        _as_written(self.source[span.start:end]), frequency)
+                        _as_written(self.source[span.start:end]), frequency, corner)
 
     def frequency(self, _at: Token, target: Token) -> st.Number | st.Name:
         """`at 50 Hz` or `at f`."""
@@ -227,6 +231,29 @@ class TreeBuilder(Transformer):
             return st.Name(target.line, target.column, target.value)
         value, unit = self._decode(target)
         return st.Number(target.line, target.column, value, unit, target.value)
+
+    def corner(self, _corner: Token, target: Token) -> st.Number | st.Name:
+        """`corner 10 Hz` or `corner fc`."""
+        return self.frequency(_corner, target)
+
+    # ------------------------------------------------------------ noise statements
+
+    def temperature(self, keyword: Token, number: Token) -> st.Temperature:
+        value, unit = self._decode(number)
+        return st.Temperature(keyword.line, keyword.column,
+                              st.Number(number.line, number.column, value, unit, number.value))
+
+    def noiseless(self, keyword: Token, *names: Token) -> st.Noiseless:
+        return st.Noiseless(keyword.line, keyword.column, tuple(_name(n) for n in names))
+
+    def opamp_density(self, which: Token, equal: Token, expression: st.Expr,
+                      corner: st.Number | st.Name | None) -> st.OpampDensity:
+        return st.OpampDensity(which.line, which.column, _name(which),
+                               self.value(equal, expression, None, None, corner))
+
+    def opamp_noise(self, keyword: Token, opamp: Token,
+                    *densities: st.OpampDensity) -> st.OpampNoise:
+        return st.OpampNoise(keyword.line, keyword.column, _name(opamp), densities)
 
     def tolerance(self, sign: Token, magnitude: Token | None = None) -> st.Tolerance:
         if magnitude is None:

@@ -25,6 +25,16 @@ REFERENCE = "gnd"
 LAPLACE = sympy.Symbol("s")
 """The Laplace variable (reserved name `s`)."""
 
+BOLTZMANN = Fraction(1380649, 10**29)
+"""Boltzmann's constant in J/K, exact since the SI redefinition of 2019."""
+BOLTZMANN_SYMBOL = sympy.Symbol("k_B")
+TEMPERATURE_SYMBOL = sympy.Symbol("T_amb")
+"""The thermal noise temperature in K (the file's `temperature`)."""
+DEFAULT_TEMPERATURE = Fraction(300)
+"""The temperature of thermal noise when a file gives none: 300 K (about 27 °C)."""
+NOISE_NAMES = (BOLTZMANN_SYMBOL.name, TEMPERATURE_SYMBOL.name)
+"""Names the noise analyses use for k_B and T (a file may not declare them)."""
+
 @dataclass(frozen=True)
 class Tolerance:
     """A tolerance as written: `± 1 %` (relative), `± 5 Ω` (absolute), `+80 % -20 %`.
@@ -110,6 +120,8 @@ class Element:
     frequency: sympy.Expr | None = None
     """For an independent source given `at 50 Hz` (or `at f`): its frequency in Hz, a number
     or a parameter's symbol; its value is then a sinusoid's peak amplitude. None: DC."""
+    corner: sympy.Expr | None = None
+    """For a noise source: the 1/f corner in Hz (density e_n·√(1 + f_c/f)); None: white."""
 
     @property
     def frequency_text(self) -> str | None:
@@ -152,6 +164,47 @@ class Element:
     @property
     def is_ideal_opamp(self) -> bool:
         return self.kind == "opamp" and self.definition is None and self.nominal is None
+
+
+@dataclass(frozen=True)
+class NoiseDensity:
+    """An opamp's input noise density: `en = 4 nV/√Hz corner 10 Hz`."""
+
+    symbol: sympy.Symbol
+    """Its symbol in formulas (`en_U1`)."""
+    value: sympy.Expr
+    nominal: Fraction | None
+    unit: str
+    """`V/√Hz` or `A/√Hz`."""
+    corner: sympy.Expr | None
+    written: str
+    location: Location
+
+
+@dataclass(frozen=True)
+class OpampNoise:
+    """The input noise of one opamp: a voltage density in series with its + input and a
+    current density from each input to gnd (uncorrelated)."""
+
+    opamp: str
+    voltage: NoiseDensity | None = None
+    current: NoiseDensity | None = None
+
+
+@dataclass(frozen=True)
+class Noise:
+    """What the noise analyses need beyond the elements."""
+
+    temperature: Fraction = DEFAULT_TEMPERATURE
+    """In K."""
+    temperature_written: str | None = None
+    """As the file wrote it (`27 °C`); None when the default holds."""
+    noiseless: frozenset[str] = frozenset()
+    """Parts marked `noiseless`."""
+    opamps: dict[str, OpampNoise] = field(default_factory=dict)
+
+    def densities(self) -> list[NoiseDensity]:
+        return [d for o in self.opamps.values() for d in (o.voltage, o.current) if d is not None]
 
 
 @dataclass(frozen=True)
@@ -234,6 +287,8 @@ class Circuit:
     """Other names of nodes: the user's name of a chosen reference node → `gnd`."""
     typeset: dict[str, str] = field(default_factory=dict)
     """Names' LaTeX forms given by the file's `typeset` statements (checked safe)."""
+    noise: Noise = field(default_factory=Noise)
+    """Temperature, noiseless parts and opamp noise densities (noise analyses)."""
 
     def symbol_nominals(self) -> dict[sympy.Symbol, Fraction]:
         """Nominal value of every element and parameter symbol that has one."""
@@ -244,6 +299,11 @@ class Circuit:
         for e in self.elements.values():
             if e.nominal is not None:
                 out[e.symbol] = e.nominal
+        for d in self.noise.densities():
+            if d.nominal is not None:
+                out[d.symbol] = d.nominal
+        out[BOLTZMANN_SYMBOL] = BOLTZMANN
+        out[TEMPERATURE_SYMBOL] = self.noise.temperature
         return out
 
     def definitions(self) -> dict[sympy.Symbol, sympy.Expr]:

@@ -25,6 +25,7 @@ from ..vocabulary import (
 from . import topology, typeset, units
 from .circuit import (
     LAPLACE,
+    NOISE_NAMES,
     REFERENCE,
     Assumption,
     Circuit,
@@ -32,7 +33,10 @@ from .circuit import (
     Control,
     Derive,
     Element,
+    Noise,
+    NoiseDensity,
     Notice,
+    OpampNoise,
     Parameter,
     Port,
     Tolerance,
@@ -154,6 +158,8 @@ class _Elaborator:
         """Nodes named by `derive` and `claim` quantities (never reported as dangling)."""
         self.dimensions: dict[str, units.Inferred] = {}
         self.draft_of: dict[str, _Draft] = {}
+        self.noise_statements: list[syntax.Temperature | syntax.Noiseless
+                                    | syntax.OpampNoise] = []
 
     # -------------------------------------------------------------- helpers
 
@@ -187,6 +193,7 @@ class _Elaborator:
         elements = {d.name: self.element(d, node_set) for d in self.elements}
         parameters, elements = self.resolve_nominals(parameters, elements)
         self.check_couplings(elements)
+        noise = self.noise(parameters, elements)
         nodes = [REFERENCE, *(self.node(n) for n in self.node_order if self.node(n) != REFERENCE)]
         circuit = Circuit(
             file=self.file,
@@ -202,7 +209,12 @@ class _Elaborator:
             nodes=tuple(nodes) if node_set else (),
             reference_chosen=bool(self.aliases),
             aliases=dict(self.aliases),
-            typeset=self.typeset_forms(),
+            typeset={**{str(d.symbol): rf"e_{{\mathrm{{n}},\mathrm{{{o}}}}}"
+                        if d.unit == "V/√Hz" else rf"i_{{\mathrm{{n}},\mathrm{{{o}}}}}"
+                        for o, on in noise.opamps.items()
+                        for d in (on.voltage, on.current) if d is not None},
+                     **self.typeset_forms()},
+            noise=noise,
         )
         circuit.derives, circuit.claims = self.directives_of(circuit)
         origins = {d.name: d.scope.trail for d in self.elements if d.scope.trail}
@@ -234,15 +246,20 @@ class _Elaborator:
             elif isinstance(statement, syntax.Instance):
                 self.expand(statement, scope)
             elif isinstance(statement, syntax.Title | syntax.DeriveStatement
-                            | syntax.ClaimStatement | syntax.Typeset):
+                            | syntax.ClaimStatement | syntax.Typeset | syntax.Temperature
+                            | syntax.Noiseless | syntax.OpampNoise):
                 self.top_level_statement(statement, scope)
 
     def top_level_statement(self, statement, scope: _Scope) -> None:
         keyword = {syntax.Title: "title", syntax.DeriveStatement: "derive",
-                   syntax.ClaimStatement: "claim", syntax.Typeset: "typeset"}[type(statement)]
+                   syntax.ClaimStatement: "claim", syntax.Typeset: "typeset",
+                   syntax.Temperature: "temperature", syntax.Noiseless: "noiseless",
+                   syntax.OpampNoise: "noise"}[type(statement)]
         if scope is not self.top:
             raise self.error(statement, f"`{keyword}` belongs at the top level, not inside a block")
-        if isinstance(statement, syntax.Title):
+        if isinstance(statement, syntax.Temperature | syntax.Noiseless | syntax.OpampNoise):
+            self.noise_statements.append(statement)
+        elif isinstance(statement, syntax.Title):
             if self.title_seen is not None:
                 raise self.error(
                     statement, "the title is given twice",
@@ -280,6 +297,10 @@ class _Elaborator:
             meaning = {"s": "the Laplace variable", "pi": "the number π",
                        "sqrt": "the square root", "oo": "infinity in `where` limits"}[local]
             raise self.error(name, f"`{local}` is reserved ({meaning}); choose another name")
+        if local in NOISE_NAMES:
+            meaning = "Boltzmann's constant" if local == "k_B" else "the noise temperature"
+            raise self.error(name, f"`{local}` is reserved ({meaning} in noise results); "
+                                   "choose another name")
         if local in scope.declared:
             first = scope.declared[local]
             raise self.error(
@@ -622,6 +643,18 @@ class _Elaborator:
         frequency = None
         if value is not None and value.frequency is not None:
             frequency = self.frequency(statement, value.frequency, bool(controls), scope)
+        corner = None
+        if ELEMENT_KINDS[kind].noise:
+            what = f"{kind} {draft.name}"
+            if value is None:
+                raise self.error(statement, f"{what} needs its density: `= 5 nV/√Hz`",
+                                 scope.trail)
+            self.check_density(value, nominal, what, scope)
+            if value.corner is not None:
+                corner = self.corner(value.corner, what, scope)
+        elif value is not None and value.corner is not None:
+            raise self.error(value.corner, f"`corner` gives the 1/f corner of a noise density; "
+                             f"{kind} {draft.name} takes none", scope.trail)
         coupled = None
         if ELEMENT_KINDS[kind].couples:
             coupled = tuple(self.coupled_element(kind, t, scope) for t in statement.terminals)
@@ -631,8 +664,115 @@ class _Elaborator:
             tolerance=tolerance, unit=unit, description=statement.description,
             location=self.at(statement), controls=controls, independent=independent,
             coupled=coupled, written=value.text if value is not None else None,  # type: ignore[arg-type]
-            frequency=frequency,
+            frequency=frequency, corner=corner,
         )
+
+    def check_density(self, value: syntax.Value, nominal: Fraction | None, what: str,
+                      scope: _Scope) -> None:
+        """A noise density is not negative and takes no `at`."""
+        if nominal is not None and nominal < 0:
+            raise self.error(value, f"the density of {what} is negative; a noise density is "
+                             "0 or more", scope.trail)
+
+    def corner(self, written: syntax.Number | syntax.Name, what: str,
+               scope: _Scope) -> sympy.Expr:
+        """`corner 10 Hz` or `corner fc`: the 1/f corner frequency of a noise density."""
+        if isinstance(written, syntax.Name):
+            return self.convert(written, scope)
+        if written.unit not in (None, "Hz"):
+            raise self.error(written, f"the 1/f corner of {what} is in Hz, not {written.unit}",
+                             scope.trail)
+        if written.value <= 0:
+            raise self.error(written, f"the 1/f corner of {what} must be above 0 Hz",
+                             scope.trail)
+        return sympy.Rational(written.value.numerator, written.value.denominator)
+
+    # -------------------------------------------------------------- noise
+
+    def noise(self, parameters: dict[str, Parameter], elements: dict[str, Element]) -> Noise:
+        """The file's temperature, noiseless parts and opamp noise densities, checked."""
+        temperature, written = Noise().temperature, None
+        noiseless: dict[str, None] = {}
+        opamps: dict[str, OpampNoise] = {}
+        seen: syntax.Temperature | None = None
+        values = {name: p.nominal for name, p in parameters.items()}
+        values.update({name: e.nominal for name, e in elements.items()})
+        for statement in self.noise_statements:
+            if isinstance(statement, syntax.Temperature):
+                if seen is not None:
+                    raise self.error(statement, "the temperature is given twice",
+                                     (f"the first is at line {seen.line}",))
+                seen = statement
+                temperature, written = self.kelvin(statement.value), statement.value.text
+            elif isinstance(statement, syntax.Noiseless):
+                for name in statement.names:
+                    element = elements.get(name.name)
+                    if element is None:
+                        raise self.error(name, self.unknown_element(name.name, elements))
+                    if not element.entry.resistive and element.kind not in (
+                            "impedance", "admittance"):
+                        raise self.error(name, f"{element.kind} {name.name} makes no thermal "
+                                         "noise; `noiseless` names resistors and conductances")
+                    noiseless[name.name] = None
+            else:
+                opamps[statement.opamp.name] = self.opamp_noise(statement, elements, opamps,
+                                                                values)
+        return Noise(temperature, written, frozenset(noiseless), opamps)
+
+    def unknown_element(self, name: str, elements: dict[str, Element]) -> str:
+        close = get_close_matches(name, list(elements), n=1)
+        return f"`{name}` is not an element of this circuit" + (
+            f"; did you mean `{close[0]}`?" if close else "")
+
+    def kelvin(self, number: syntax.Number) -> Fraction:
+        """`300 K` or `27 °C` in K (above absolute zero)."""
+        if number.unit == "K":
+            value = number.value
+        elif number.unit == "°C":
+            value = number.value + Fraction(27315, 100)
+        else:
+            raise self.error(number, "a temperature is in K or °C: `temperature 300 K`, "
+                                     "`temperature 27 °C`")
+        if value <= 0:
+            raise self.error(number, f"{number.text} is not above absolute zero")
+        return value
+
+    def opamp_noise(self, statement: syntax.OpampNoise, elements: dict[str, Element],
+                    done: dict[str, OpampNoise], values: dict) -> OpampNoise:
+        name = statement.opamp.name
+        element = elements.get(name)
+        if element is None:
+            raise self.error(statement.opamp, self.unknown_element(name, elements))
+        if element.kind != "opamp":
+            raise self.error(statement.opamp, f"{element.kind} {name} is not an opamp; "
+                             "`noise NAME en = .., in = ..` gives an opamp's input noise")
+        if name in done:
+            raise self.error(statement, f"the noise of opamp {name} is given twice")
+        found: dict[str, NoiseDensity] = {}
+        for density in statement.densities:
+            which = density.which.name
+            if which not in ("en", "in"):
+                raise self.error(density.which, f"`{which}` is not an opamp noise density: "
+                                 "write `en` (input voltage noise, V/√Hz) or `in` (current "
+                                 "noise of each input, A/√Hz)")
+            if which in found:
+                raise self.error(density.which, f"`{which}` of opamp {name} is given twice")
+            unit = "V/√Hz" if which == "en" else "A/√Hz"
+            what = f"the {'voltage' if which == 'en' else 'current'} noise of opamp {name}"
+            value = density.value
+            dimension = self.value_dimension(value, self.top)
+            if isinstance(dimension, tuple) and dimension != units.UNIT_DIMENSIONS[unit]:
+                literal = _literal(value.expression)
+                raise self.error(literal if literal is not None else value,
+                                 f"{what} is given in {units.describe(dimension)}, but it is "
+                                 f"in {unit}")
+            expression = self.convert(value.expression, self.top)
+            nominal = _nominal(expression, values)
+            self.check_density(value, nominal, what, self.top)
+            corner = self.corner(value.corner, what, self.top) if value.corner else None
+            found[which] = NoiseDensity(sympy.Symbol(f"{which}_{name}"), expression, nominal,
+                                        unit, corner, value.text, self.at(density))
+        return OpampNoise(name, found.get("en"), found.get("in"))
 
     def frequency(self, statement: syntax.ElementStatement, written: syntax.Number | syntax.Name,
                   controlled: bool, scope: _Scope) -> sympy.Expr:

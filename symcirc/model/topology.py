@@ -78,7 +78,7 @@ class _Checker:
         sets = UnionFind()
         placed: list[tuple[Element, str, str]] = []
         for element in self.circuit.elements.values():
-            if element.kind == "voltage source":
+            if element.kind in ("voltage source", "noise voltage"):
                 a, b = element.nodes
             elif element.kind == "opamp":
                 a, b = element.nodes[2], REFERENCE
@@ -233,7 +233,9 @@ class _Checker:
 def _conducting_pairs(element: Element, include_current_sources: bool):
     """Node pairs an element joins for the purpose of a path to the reference."""
     kind = element.kind
-    if element.entry.carries_current:  # the two-terminal kinds
+    if kind == "noise current":  # an open circuit for signals
+        return ()
+    if element.entry.carries_current or kind == "noise voltage":  # the two-terminal kinds
         if kind == "current source" and not include_current_sources:
             return ()
         return (element.nodes,)

@@ -36,6 +36,10 @@ UNIT_DIMENSIONS: dict[str, Dimension] = {
     "W": _dim(1, 2, -3, 0),
     "s": _dim(0, 0, 1, 0),
     "Hz": _dim(0, 0, -1, 0),
+    "V/√Hz": (Fraction(1), Fraction(2), Fraction(-5, 2), Fraction(-1)),
+    "A/√Hz": (Fraction(0), Fraction(0), Fraction(1, 2), Fraction(1)),
+    "V²/Hz": _dim(2, 4, -5, -2),
+    "A²/Hz": _dim(0, 0, 1, 2),
     "": DIMENSIONLESS,
 }
 """Dimension of every unit the language knows ('' is a pure number)."""
@@ -196,7 +200,7 @@ MINUS = "\u2212"
 DIGITS = 4
 """Significant digits of every displayed value."""
 
-UNPREFIXED = frozenset({"dB", "°", "%"})
+UNPREFIXED = frozenset({"dB", "°", "%", "V²/Hz", "A²/Hz"})
 """Units written without an SI prefix: levels, angles, percentages."""
 
 _SUPERSCRIPT = str.maketrans("0123456789-", "⁰¹²³⁴⁵⁶⁷⁸⁹⁻")
@@ -274,6 +278,7 @@ def number_latex(value: float | Fraction, unit: str = "", digits: int = DIGITS) 
 def unit_latex(unit: str) -> str:
     """A unit inside maths (`\\mathrm{k\\Omega}`), '' for a pure number."""
     mapped = unit.replace("Ω", r"\Omega ").replace("µ", r"\mu ").replace("%", r"\%")
+    mapped = mapped.replace("√Hz", r"\sqrt{\mathrm{Hz}}").replace("²", "^{2}")
     return r"\mathrm{" + mapped.strip() + "}" if unit else ""
 
 

@@ -237,9 +237,10 @@ class _Builder:
         lower, upper = (first, second) if flipped else (second, first)
         y0 = self.y(lower)
         centre = (x, y0 + GAP / 2)
-        half = 0.5 if not element.is_source else 0.32
+        source = element.is_source or element.entry.noise
+        half = 0.5 if not source else 0.32
         bottom, top = (x, centre[1] - half), (x, centre[1] + half)
-        width = 0.32 if element.is_source else 0.26
+        width = 0.32 if source else 0.26
         box = Box(x - width, bottom[1], x + width, top[1])
         terminals = (Terminal(first, bottom if flipped else top),
                      Terminal(second, top if flipped else bottom))

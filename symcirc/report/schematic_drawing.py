@@ -101,7 +101,7 @@ def _source(symbol: Symbol) -> list[Shape]:
     yc, radius = (y0 + y1) / 2, (y1 - y0) / 2
     up = 1 if not symbol.flipped else -1  # towards the first terminal
     shapes = [Shape("circle", ((x, yc),), fill="white", radius=radius)]
-    if symbol.kind == "voltage source":
+    if symbol.kind in ("voltage source", "noise voltage"):
         shapes += [Shape("line", ((x, y0), (x, y1))),
                    Shape("text", ((x - 0.16, yc + up * 0.14),), text="+", size=7,
                          centred=True)]
@@ -158,6 +158,7 @@ _SYMBOLS = {
     "resistor": _rectangle, "conductance": _rectangle, "impedance": _rectangle,
     "admittance": _rectangle, "capacitor": _capacitor, "inductor": _inductor,
     "voltage source": _source, "current source": _source, "opamp": _opamp,
+    "noise voltage": _source, "noise current": _source,
     "transformer": _transformer, "ground": _ground, "port": _port,
 }
 
