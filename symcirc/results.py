@@ -183,7 +183,10 @@ class Result:
             if value.is_Rational:
                 return Fraction(int(value.p), int(value.q))
             try:
-                return Fraction(float(value)).limit_denominator(10**15)
+                number = float(value)
+                if 0 < abs(number) < 1e-6:  # a noise power: keep its digits, not 10⁻¹⁵ steps
+                    return Fraction(number)
+                return Fraction(number).limit_denominator(10**15)
             except TypeError:  # a complex number: no real value to show
                 return None
         try:
