@@ -46,7 +46,7 @@ class NoiseSource:
     """One uncorrelated noise source of a circuit."""
 
     name: str
-    """As shown: `R1`, `Un1`, `U1.en`, `U1.in+`, `U1.in−`."""
+    """As shown: `R1`, `Un1`, `en_U1`, `in_U1_p` and `in_U1_n` (the + and − inputs)."""
     excitation: str
     """The independent source standing for it in the noise circuit."""
     kind: str
@@ -113,8 +113,7 @@ def _setup(circuit: Circuit) -> NoiseSetup:
     for e in circuit.elements.values():
         if e.entry.noise:
             kind = "voltage source" if e.kind == "noise voltage" else "current source"
-            elements[e.name] = dataclasses.replace(e, kind=kind, definition=None, nominal=None,
-                                                   tolerance=None, corner=None)
+            elements[e.name] = dataclasses.replace(e, kind=kind)
             sources.append(NoiseSource(e.name, e.name, kind.split()[0],
                                        e.symbol**2 * _shape(e.corner), kind[0].upper()))
             continue
@@ -135,17 +134,17 @@ def _setup(circuit: Circuit) -> NoiseSetup:
             elements[e.name] = dataclasses.replace(e, nodes=(inner, *e.nodes[1:]))
             name = fresh(f"n_{e.name}_en", taken)
             elements[name] = source(name, "voltage source", inner, p, e)
-            sources.append(NoiseSource(f"{e.name}.en", name, "voltage",
+            sources.append(NoiseSource(str(opamp.voltage.symbol), name, "voltage",
                                        opamp.voltage.symbol**2 * _shape(opamp.voltage.corner),
                                        "V"))
         if opamp.current is not None:
-            for node, sign in ((p, "+"), (n, "−")):
+            for node, which in ((p, "p"), (n, "n")):
                 if node == REFERENCE:
                     continue
-                name = fresh(f"n_{e.name}_in{'p' if sign == '+' else 'n'}", taken)
+                name = fresh(f"n_{e.name}_in{which}", taken)
                 elements[name] = source(name, "current source", node, REFERENCE, e)
                 sources.append(NoiseSource(
-                    f"{e.name}.in{sign}", name, "current",
+                    f"{opamp.current.symbol}_{which}", name, "current",
                     opamp.current.symbol**2 * _shape(opamp.current.corner), "A"))
     notes = ()
     if left_out:
@@ -400,14 +399,14 @@ def contributions_quantity(circuit: Circuit, quantity: syntax.Quantity,
     by_name = {t.source.name: t for t in terms}
     for rank, row in enumerate(details["terms"], start=1):
         term = by_name[row["source"]]
-        density = sympy.sqrt(term.psd)
+        density = sympy.powdenest(sympy.sqrt(term.psd), force=True)  # every factor is > 0
         if frequency is not None:
             density = density.xreplace({FREQUENCY: sympy.Rational(frequency.numerator,
                                                                   frequency.denominator)})
-        said = (heading,) if rank == 1 else ()
+        said = (heading,) if rank == 1 or quantity.attribute else ()
         said += (f"{row['source']} ({row['kind']}): {eng(row['density'], ROOT[unit])}, "
                  f"{100 * row['share']:.3g} % of the noise power.",)
-        if quantity.attribute not in (None, row["source"].replace(".", "_")):
+        if quantity.attribute not in (None, row["source"]):
             continue
         out.append(Result(f"{base}.{row['source']}", density, ROOT[unit], context.nominals,
                           said + setup.notes + notes, part=row["source"],
