@@ -349,5 +349,26 @@ QUANTITIES: dict[str, QuantityKind] = {q.name: q for q in (
         "symcirc.quantities.noise:contributions_quantity", "Q's unit per √Hz",
         "each noise source's share of noise(Q) at f, largest first", analysis=True,
         response=False, convention=NOISE_CONVENTION),
+    QuantityKind(
+        "noise_rms", ("measure", "value", "value"), 3,
+        "symcirc.analysis.noise_quantities:noise_rms_quantity", "Q's unit (rms) and its square",
+        "rms noise at Q over the band f1 … f2, closed form or numerical with the method stated",
+        parts=(Part("rms", None), Part("mean_square", None)), analysis=True, response=False,
+        convention=NOISE_CONVENTION),
+    QuantityKind(
+        "noise_bandwidth", ("value",), 1,
+        "symcirc.analysis.noise_quantities:noise_bandwidth_quantity", "Hz",
+        "equivalent noise bandwidth of a response in s", analysis=True, response=False),
+    QuantityKind(
+        "snr", ("value", "measure", "value", "value"), 4,
+        "symcirc.analysis.noise_quantities:snr_quantity", "dB",
+        "signal-to-noise ratio of a signal against the noise at Q over f1 … f2",
+        analysis=True, response=False, convention=NOISE_CONVENTION),
+    QuantityKind(
+        "noise_bits", ("measure", "value", "value", "value"), 4,
+        "symcirc.analysis.noise_quantities:noise_bits_quantity", "bits",
+        "noise-free and effective resolution in a full-scale range over f1 … f2",
+        parts=(Part("noise_free", ""), Part("effective", "")), analysis=True, response=False,
+        convention=NOISE_CONVENTION),
 )}
 """Every quantity of the language, by name, in the order the docs list them."""

@@ -200,7 +200,7 @@ MINUS = "\u2212"
 DIGITS = 4
 """Significant digits of every displayed value."""
 
-UNPREFIXED = frozenset({"dB", "°", "%", "V²/Hz", "A²/Hz"})
+UNPREFIXED = frozenset({"dB", "°", "%", "V²/Hz", "A²/Hz", "V²", "A²"})
 """Units written without an SI prefix: levels, angles, percentages."""
 
 _SUPERSCRIPT = str.maketrans("0123456789-", "⁰¹²³⁴⁵⁶⁷⁸⁹⁻")

@@ -51,10 +51,17 @@ class NoiseSource:
     """The independent source standing for it in the noise circuit."""
     kind: str
     """`thermal`, `voltage` or `current`."""
-    psd: sympy.Expr
-    """S_k(f): V²/Hz for a voltage, A²/Hz for a current."""
+    white: sympy.Expr
+    """S_k without its 1/f part: V²/Hz for a voltage, A²/Hz for a current."""
+    corner: sympy.Expr
+    """Its 1/f corner in Hz (0: white): S_k(f) = white·(1 + corner/f)."""
     unit: str
     """`V` or `A`: what the source is."""
+
+    @property
+    def psd(self) -> sympy.Expr:
+        """S_k(f)."""
+        return self.white if self.corner == 0 else self.white * (1 + self.corner / FREQUENCY)
 
 
 @dataclass(frozen=True)
@@ -114,15 +121,15 @@ def _setup(circuit: Circuit) -> NoiseSetup:
         if e.entry.noise:
             kind = "voltage source" if e.kind == "noise voltage" else "current source"
             elements[e.name] = dataclasses.replace(e, kind=kind)
-            sources.append(NoiseSource(e.name, e.name, kind.split()[0],
-                                       e.symbol**2 * _shape(e.corner), kind[0].upper()))
+            sources.append(NoiseSource(e.name, e.name, kind.split()[0], e.symbol**2,
+                                       _corner(e.corner), kind[0].upper()))
             continue
         elements[e.name] = e
         if e.entry.resistive and e.name not in circuit.noise.noiseless:
             name = fresh(f"n_{e.name}", taken)
             elements[name] = source(name, "current source", *e.nodes, e)
             psd = four_kt / e.symbol if e.law.value_power > 0 else four_kt * e.symbol
-            sources.append(NoiseSource(e.name, name, "thermal", psd, "A"))
+            sources.append(NoiseSource(e.name, name, "thermal", psd, sympy.Integer(0), "A"))
         elif e.kind in ("impedance", "admittance") and e.name not in circuit.noise.noiseless:
             left_out.append(e.name)
         opamp = circuit.noise.opamps.get(e.name)
@@ -135,7 +142,7 @@ def _setup(circuit: Circuit) -> NoiseSetup:
             name = fresh(f"n_{e.name}_en", taken)
             elements[name] = source(name, "voltage source", inner, p, e)
             sources.append(NoiseSource(str(opamp.voltage.symbol), name, "voltage",
-                                       opamp.voltage.symbol**2 * _shape(opamp.voltage.corner),
+                                       opamp.voltage.symbol**2, _corner(opamp.voltage.corner),
                                        "V"))
         if opamp.current is not None:
             for node, which in ((p, "p"), (n, "n")):
@@ -145,7 +152,7 @@ def _setup(circuit: Circuit) -> NoiseSetup:
                 elements[name] = source(name, "current source", node, REFERENCE, e)
                 sources.append(NoiseSource(
                     f"{opamp.current.symbol}_{which}", name, "current",
-                    opamp.current.symbol**2 * _shape(opamp.current.corner), "A"))
+                    opamp.current.symbol**2, _corner(opamp.current.corner), "A"))
     notes = ()
     if left_out:
         notes = (f"{', '.join(left_out)}: impedance and admittance elements are taken as "
@@ -156,9 +163,9 @@ def _setup(circuit: Circuit) -> NoiseSetup:
     return NoiseSetup(noisy, tuple(sources), notes)
 
 
-def _shape(corner: sympy.Expr | None) -> sympy.Expr:
-    """1, or (1 + f_c/f) for a density with a 1/f corner (its power grows as 1/f)."""
-    return sympy.Integer(1) if corner is None else 1 + corner / FREQUENCY
+def _corner(corner: sympy.Expr | None) -> sympy.Expr:
+    """A density's 1/f corner in Hz, 0 for white noise."""
+    return sympy.Integer(0) if corner is None else corner
 
 
 def magnitude_squared(transfer: sympy.Expr) -> sympy.Expr:
