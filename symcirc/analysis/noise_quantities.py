@@ -242,3 +242,71 @@ def noise_bits_quantity(circuit: Circuit, quantity: syntax.Quantity,
                Result(f"{base}.effective", noise_band.effective_bits(full_scale, rms), "",
                       nominals, said, part="effective")]
     return read.select(quantity, results)
+
+
+MEASURE_ARGUMENT = {"noise": 0, "noise_contributions": 0, "noise_rms": 0, "snr": 1,
+                    "noise_bits": 0, "input_noise": 1}
+"""Where each noise quantity names the measure whose density its figure shows."""
+BAND_ARGUMENTS = {"noise_rms": (1, 2), "snr": (2, 3), "noise_bits": (2, 3)}
+"""Where a band quantity names f1 and f2 (shaded in its figure)."""
+DENSITY_POINTS = 400
+"""Frequencies of a density figure (log-spaced)."""
+
+
+@dataclass(frozen=True)
+class DensityCurves:
+    """What a noise density figure shows: each source's power density over frequency."""
+
+    frequencies: object  # numpy array, Hz
+    contributions: tuple[tuple[str, object], ...]
+    """(source, |H_k|²·S_k in unit²/Hz at the frequencies), in the order of the sources."""
+    label: str
+    unit: str
+    band: tuple[float, float] | None
+
+
+def density_curves(circuit: Circuit, quantity: syntax.Quantity,
+                   options: DeriveOptions) -> DensityCurves:
+    """The noise density at the measure of a noise quantity (`noise(out)`,
+    `noise_rms(out, f1, f2)`, ...), per source, at the nominal values: over the poles,
+    zeros and 1/f corners of every source's transfer ± 2 decades, widened to the band."""
+    import numpy as np
+
+    read = Reader(circuit, options)
+    args = quantity.args
+    where = MEASURE_ARGUMENT[quantity.name]
+    if len(args) <= where:
+        raise read.error(quantity, f"{quantity.name}(..) needs a measure to plot its noise")
+    band = None
+    if quantity.name in BAND_ARGUMENTS and len(args) > max(BAND_ARGUMENTS[quantity.name]):
+        low, high = (_hertz(read, args[k], what) for k, what in
+                     zip(BAND_ARGUMENTS[quantity.name], ("f1", "f2"), strict=True))
+        band = (float(low), math.inf if high == sympy.oo else float(high))
+    setup = noise_setup(circuit, options.memo)
+    context = Context(setup.circuit, options)
+    measure, text, unit, _ = context.measure(args[where])
+    divide_by = None
+    if quantity.name == "input_noise":
+        divide_by = context.element(args[0]).name
+        unit = context.element(args[0]).unit
+        text = f"{text} referred to {divide_by}"
+    terms = noise_terms(context, setup, measure, quantity, divide_by=divide_by)
+    if not terms:
+        raise read.error(quantity, f"no noise source reaches {text}: nothing to plot")
+    nominals = setup.circuit.symbol_nominals()
+    corners = [float(value) for t in terms
+               if (value := noise_band.value_of(t.source.corner, nominals))]
+    if band is not None:
+        corners += [b for b in band if 0 < b < math.inf]
+    try:
+        low, high = noise_band.plot_range([t.transfer for t in terms], nominals, corners)
+        frequencies = np.logspace(math.log10(low), math.log10(high), DENSITY_POINTS)
+        contributions = tuple(
+            (t.source.name,
+             noise_band.density_values(t.transfer, noise_band.Density(t.source.white,
+                                                                      t.source.corner),
+                                       frequencies, nominals))
+            for t in terms)
+    except ResponseError as problem:
+        raise read.error(quantity, f"the noise density of {text}: {problem}") from None
+    return DensityCurves(frequencies, contributions, text, unit, band)

@@ -497,12 +497,14 @@ def plot(
 def figure_of(circuit: Circuit, quantity: syntax.Quantity, options: DeriveOptions):
     """The figure of a quantity of `circuit`, derived with `options` (the pipeline's).
 
-    `tolerance(Q)`: Monte Carlo histogram with the worst-case bounds; `sensitivities(Q)`:
+    `tolerance(Q)`: Monte Carlo histogram with the worst-case bounds; the noise quantities
+    (`noise(Q)`, `noise_rms(Q, f1, f2)`, ...): the density at Q per source; `sensitivities(Q)`:
     bars; `loading(port, Z)` and `minimum_load(port, error)`: loading error against load;
     a transfer function (a quantity in s): magnitude and phase against frequency, and for
     `response(Q)` their Monte Carlo band shaded.
     """
     from . import quantities as q
+    from .noise_quantities import MEASURE_ARGUMENT
 
     inner = quantity.args[0] if quantity.args else None
     if quantity.name == "tolerance" and getattr(inner, "name", None) in ("cmrr", "psrr"):
@@ -522,6 +524,12 @@ def figure_of(circuit: Circuit, quantity: syntax.Quantity, options: DeriveOption
                           "without a nominal value, or s)")
         unit = q.sensitivity_unit(circuit, result, table)
         figure = sensitivity_figure(table, result.quantity, unit)
+    elif quantity.name in MEASURE_ARGUMENT:
+        from .noise_quantities import density_curves
+
+        curves = density_curves(circuit, quantity, options)
+        figure = noise_density_figure(curves.frequencies, curves.contributions, curves.label,
+                                      curves.unit, curves.band)
     elif quantity.name in ("loading", "minimum_load"):
         case = q.loading_case(circuit, quantity, options)
         if not cmath.isfinite(case.source_impedance_value):

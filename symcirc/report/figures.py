@@ -1,6 +1,7 @@
 """Plots that go beside a note, in a folder named after it: the frequency response of each
 transfer function (not of sensitivities), the Monte Carlo histogram of each `tolerance(Q)`
-the file asks for, the loading curve of each loading analysis. Names are decided when the
+the file asks for, the loading curve of each loading analysis, the noise density (per
+source) at the measure of each noise quantity. Names are decided when the
 note is rendered (so the note's text does not depend on whether the files are written);
 drawing happens only when they are.
 
@@ -18,6 +19,7 @@ import re
 from collections.abc import Callable
 from dataclasses import dataclass, replace
 
+from ..analysis.noise_quantities import MEASURE_ARGUMENT
 from ..model.circuit import Circuit
 from ..pipeline import Request
 from ..vocabulary import QUANTITIES
@@ -113,11 +115,21 @@ def plan(circuit: Circuit, sections: list[Section], wanted: list[Request], stem:
         (view.figures if view else section.figures).append(figure)
         drawings.append(Drawing(figure, draw))
 
+    noise_shown: set[tuple] = set()  # one density figure per measure and band
     for section, request in zip(sections, wanted, strict=True):
         name = request.quantity.name
         if name in ("loading", "minimum_load") and not request.options.assumptions:
             add(None, section, "loading", f"Loading error of {request.text} against the load.",
                 _plotted(circuit, request, extension), f"{section.anchor}-loading")
+        if name in MEASURE_ARGUMENT and not request.options.assumptions:
+            curves = _noise_curves(circuit, request)
+            if curves is not None and (curves.label, curves.band) not in noise_shown:
+                noise_shown.add((curves.label, curves.band))
+                band = "" if curves.band is None else ", the band shaded"
+                add(None, section, "noise density",
+                    f"Noise density of {curves.label} at the nominal values: the total and "
+                    f"each major source{band}.", _noise_density(curves, extension),
+                    f"{section.anchor}-noise")
         for view in section.results:
             if view.is_transfer_function and _has_values(view) and _is_response(name):
                 spread = name == "response"  # asked for with its Monte Carlo band
@@ -138,6 +150,29 @@ def plan(circuit: Circuit, sections: list[Section], wanted: list[Request], stem:
                     "the tolerance box.", _plotted(circuit, request, extension),
                     f"{view.anchor}-histogram")
     return drawings
+
+
+def _noise_curves(circuit: Circuit, request: Request):
+    """The density curves of a noise quantity, or None where they have no numbers (a
+    symbol without a value): the note then shows no figure for it."""
+    from ..analysis.noise_quantities import density_curves
+    from ..errors import SymcircError
+
+    options = replace(request.options, steps=False)
+    try:
+        return density_curves(circuit, request.quantity, options)
+    except SymcircError:
+        return None
+
+
+def _noise_density(curves, extension: str) -> Callable[[], bytes]:
+    def draw() -> bytes:
+        from ..analysis import plots
+
+        return plots.image(plots.noise_density_figure(curves.frequencies, curves.contributions,
+                                                      curves.label, curves.unit, curves.band),
+                           extension[1:])
+    return draw
 
 
 def _is_response(name: str) -> bool:

@@ -401,3 +401,66 @@ def test_density_figure_sums_minor_contributions():
     assert labels[:4] == ["total", "R9", "R8", "R7"]
     assert labels[-1] == "3 others"
     assert plots.density_scale(4e-9) == (1e-9, "n") and plots.density_scale(2e-12) == (1e-12, "p")
+
+
+# ---------------------------------------------------------------- figures of a circuit
+
+PHOTODIODE = """
+title "Leak detector photodiode stage (invented)"
+temperature 27 °C
+current source Iph (gnd, n) = 1 uA
+resistor Rf (n, o) = 1 MΩ ± 1 %
+capacitor Cf (n, o) = 2p2
+opamp U1 (gnd, n, o)
+noise U1 en = 8 nV/√Hz corner 100 Hz, in = 1 fA/√Hz
+noise current Idark (n, gnd) = 2 fA/√Hz
+port out (o, gnd)
+"""
+
+
+def _texts(path):
+    import xml.etree.ElementTree as ET
+
+    root = ET.parse(path).getroot()
+    return ["".join(e.itertext()).strip() for e in root.iter("{http://www.w3.org/2000/svg}text")]
+
+
+def test_plot_command_draws_the_density_of_a_noise_quantity(cli, circuit_file, tmp_path):
+    path = circuit_file(PHOTODIODE)
+    out = tmp_path / "noise.svg"
+    status, _, err = cli("plot", path, "noise_rms(out, 1 Hz, 10 kHz)", "-o", out)
+    assert status == 0, err
+    texts = _texts(out)
+    assert {"total", "Rf", "en_U1", "Idark", "in_U1_n", "band 1 Hz … 10 kHz"} <= set(texts)
+    # 4kT·1 MΩ at 300.15 K is 128.7 nV/√Hz (Johnson–Nyquist): the axis is in nV/√Hz
+    assert "Noise density (nV/√Hz)" in texts and "Noise density of V(out)" in texts
+    referred = tmp_path / "referred.svg"
+    status, _, err = cli("plot", path, "input_noise(Iph, out)", "-o", referred)
+    assert status == 0, err
+    # referred to the photocurrent, en_U1 rises as en·2π·f·Cf: about 1 pA/√Hz at 10 MHz
+    assert "Noise density (pA/√Hz)" in _texts(referred)
+    assert "Noise density of V(out) referred to Iph" in _texts(referred)
+
+
+def test_a_note_shows_one_density_figure_per_measure_and_band(cli, circuit_file, tmp_path):
+    path = circuit_file(PHOTODIODE + "derive noise(out, 1 kHz), noise_contributions(out, "
+                                     "1 kHz), noise_rms(out, 1 Hz, 10 kHz)\n")
+    note = tmp_path / "stage.md"
+    status, _, err = cli("note", path, "-o", note)
+    assert status == 0, err
+    figures = sorted(p.name for p in (tmp_path / "stage_figures").iterdir())
+    assert [name for name in figures if "-noise-" in name] == [
+        next(n for n in figures if n.startswith("noise-out-1khz-noise-")),
+        next(n for n in figures if n.startswith("noise-rms-out-1hz-10khz-noise-"))]
+    text = note.read_text(encoding="utf-8")
+    assert "Noise density of V(out) at the nominal values: the total and each major source, " \
+           "the band shaded." in text
+
+
+def test_no_density_figure_without_values(cli, circuit_file, tmp_path):
+    path = circuit_file(PHOTODIODE.replace("= 2p2", "") + "derive noise(out, 1 kHz)\n")
+    status, _, err = cli("note", path, "-o", tmp_path / "stage.md")
+    assert status == 0, err
+    assert not any("-noise-" in p.name for p in (tmp_path / "stage_figures").iterdir())
+    status, _, err = cli("plot", path, "noise(out)", "-o", tmp_path / "noise.svg")
+    assert status == 2 and "needs a value for every symbol" in err
