@@ -150,7 +150,11 @@ def gain_integral(h: Any, low: Endpoint, high: Endpoint, weight: str = WHITE,
     found = _closed_form(response, f1, f2, weight, values)
     if found is not None:
         expression, method = found
-        return Integral(expression, _value(expression, nominals), 0.0, method)
+        value = None
+        if values is not None:  # the same closed form built from numbers: fast to evaluate
+            numeric = Response(*(tuple(rational(v) for v in part) for part in values))
+            value = _value(_closed_form(numeric, f1, f2, weight, values)[0], {})
+        return Integral(expression, value, 0.0, method)
     if values is None:
         missing = sorted(str(x) for c in (*response.numerator, *response.denominator)
                          for x in c.free_symbols - set(nominals))
@@ -164,6 +168,7 @@ def band_noise(h: Any, density: Density, low: Endpoint, high: Endpoint,
                nominals: Mapping[sympy.Symbol, Fraction] | None = None) -> BandNoise:
     """The mean-square noise S0·(∫|H|² df + fc·∫|H|²/f df) over `low` … `high` Hz."""
     nominals = nominals or {}
+    h = response_of(h)
     white = _number(density.white)
     corner = _number(density.corner)
     parts = [(sympy.Integer(1), gain_integral(h, low, high, WHITE, nominals))]
@@ -265,7 +270,9 @@ class _Piece:
         if self.coefficient == 0:
             return sympy.Integer(0)
         if self.logarithm:
-            return self.coefficient * sympy.log(self.at(f2) / self.at(f1))
+            ratio = self.at(f2) / self.at(f1)
+            # unevaluated where symbols are: sympy would try to simplify the argument
+            return self.coefficient * sympy.log(ratio, evaluate=ratio.is_number)
         return self.coefficient * (self.at(f2) - self.at(f1))
 
 
@@ -300,6 +307,11 @@ def _closed_form(response: Response, f1: sympy.Expr, f2: sympy.Expr, weight: str
     return total, method
 
 
+def _atan(x: sympy.Expr) -> sympy.Expr:
+    """atan(x), unevaluated where symbols are (sympy would try to simplify the argument)."""
+    return sympy.atan(x, evaluate=x.is_number)
+
+
 def _sign(value: Fraction) -> int:
     return (value > 0) - (value < 0)
 
@@ -325,7 +337,7 @@ def _first_order(response: Response, weight: str) -> list[_Piece]:
     if weight == WHITE:
         # ∫ fp²/(fp² + f²) df = fp·atan(f/fp)
         return [_Piece(hinf, lambda f: f, sympy.Integer(0), None),
-                _Piece((h0 - hinf) * fp, lambda f: sympy.atan(f / fp), sympy.Integer(0),
+                _Piece((h0 - hinf) * fp, lambda f: _atan(f / fp), sympy.Integer(0),
                        sympy.pi / 2)]
     # ∫ |H|²/f df = (H0²/2)·ln(f²/(fp² + f²)) + (H∞²/2)·ln(fp² + f²)
     return [_Piece(h0 / 2, lambda f: f**2 / (fp**2 + f**2), None, sympy.Integer(1), True),
@@ -358,7 +370,7 @@ def _second_order(response: Response, weight: str, sign: int) -> list[_Piece]:
                 _Piece(big_a / 2, lambda f: (f**2 + r * f + m) / (f**2 - r * f + m),
                        one, one, True),
                 _Piece((2 * big_b + r1) / (2 * g),
-                       lambda f: sympy.atan((2 * f + r) / g) + sympy.atan((2 * f - r) / g),
+                       lambda f: _atan((2 * f + r) / g) + _atan((2 * f - r) / g),
                        zero, sympy.pi)]
         # √(p² − 4q) up to a sign, which only swaps the two poles
         root = b * sympy.sqrt(_tidy(b**2 - 4 * a * c)) / c**2
@@ -366,16 +378,16 @@ def _second_order(response: Response, weight: str, sign: int) -> list[_Piece]:
             u, v = _tidy((p - root) / 2), _tidy((p + root) / 2)
             fa, fb = sympy.sqrt(u), sympy.sqrt(v)
             return pieces + [
-                _Piece((r0 - r1 * u) / ((v - u) * fa), lambda f: sympy.atan(f / fa), zero,
+                _Piece((r0 - r1 * u) / ((v - u) * fa), lambda f: _atan(f / fa), zero,
                        sympy.pi / 2),
-                _Piece((r1 * v - r0) / ((v - u) * fb), lambda f: sympy.atan(f / fb), zero,
+                _Piece((r1 * v - r0) / ((v - u) * fb), lambda f: _atan(f / fb), zero,
                        sympy.pi / 2)]
         u = p / 2  # a double pole at fa = √u
         fa = sympy.sqrt(u)
         return pieces + [
-            _Piece(r1 / fa, lambda f: sympy.atan(f / fa), zero, sympy.pi / 2),
+            _Piece(r1 / fa, lambda f: _atan(f / fa), zero, sympy.pi / 2),
             _Piece(r0 - r1 * u,
-                   lambda f: f / (2 * u * (f**2 + u)) + sympy.atan(f / fa) / (2 * u * fa),
+                   lambda f: f / (2 * u * (f**2 + u)) + _atan(f / fa) / (2 * u * fa),
                    zero, sympy.pi / (4 * u * fa))]
     # with x = f²: ∫|H|²/f df = ½·∫ (A2·x² + A1·x + A0)/(x·(x² + p·x + q)) dx
     #   = ½·[(A0/2q)·ln(x²/(x² + p·x + q)) + (A2/2)·ln(x² + p·x + q) + K·J(x)]
@@ -386,8 +398,8 @@ def _second_order(response: Response, weight: str, sign: int) -> list[_Piece]:
         _Piece(a2 / 4, lambda f: f**4 + p * f**2 + q, q, None, True)]
     if sign < 0:  # J = (2/√(4q − p²))·atan((2x + p)/√(4q − p²))
         root = sympy.sqrt(_tidy(4 * q - p**2))
-        return pieces + [_Piece(2 * k / root, lambda f: sympy.atan((2 * f**2 + p) / root),
-                                sympy.atan(p / root), sympy.pi / 2)]
+        return pieces + [_Piece(2 * k / root, lambda f: _atan((2 * f**2 + p) / root),
+                                _atan(p / root), sympy.pi / 2)]
     if sign > 0:  # J = ln((x + u)/(x + v))/(v − u)
         root = b * sympy.sqrt(_tidy(b**2 - 4 * a * c)) / c**2
         u, v = _tidy((p - root) / 2), _tidy((p + root) / 2)
@@ -404,7 +416,7 @@ TIDY_OPERATIONS = 400
 def _tidy(expression: sympy.Expr) -> sympy.Expr:
     """A small intermediate closed form as one fraction (a large one as it is: cancelling
     costs more than it saves)."""
-    if sympy.count_ops(expression) > TIDY_OPERATIONS:
+    if not expression.free_symbols or sympy.count_ops(expression) > TIDY_OPERATIONS:
         return expression
     atoms = atoms_of(expression)
     tidy = restored(to_function(expression, PolynomialRing(())), atoms)
