@@ -464,3 +464,27 @@ def test_no_density_figure_without_values(cli, circuit_file, tmp_path):
     assert not any("-noise-" in p.name for p in (tmp_path / "stage_figures").iterdir())
     status, _, err = cli("plot", path, "noise(out)", "-o", tmp_path / "noise.svg")
     assert status == 2 and "needs a value for every symbol" in err
+
+
+def test_a_response_without_poles_and_the_zero_response():
+    # |H|² = 9 is flat: 9·(f2 − f1) of white noise, 9·ln(f2/f1) of 1/f noise
+    white = nb.gain_integral(3 * R / R2, 10, 1000, nb.WHITE, VALUES)
+    assert white.expression == 990 * 9 * R**2 / R2**2
+    flicker = nb.gain_integral(sympy.Integer(3), 10, 1000, nb.FLICKER, VALUES)
+    assert flicker.expression == 9 * sympy.log(100)
+    assert flicker.value == pytest.approx(9 * math.log(100), rel=1e-15)
+    zero = nb.gain_integral(sympy.Integer(0), 0, sympy.oo, nb.WHITE, VALUES)
+    assert zero.value == 0 and zero.method == "exact: the response is zero"
+
+
+def test_a_numerical_band_with_a_one_over_f_corner_says_how_each_part_was_found():
+    h = 1 / ((1 + s * R * C) * (1 + s * R2 * C) * (1 + s * L / R))
+    density = nb.Density(4 * k_B * T * R2, sympy.Integer(50))
+    noise = nb.band_noise(h, density, 1, 10**5, VALUES)
+    assert noise.mean_square is None and noise.rms is None
+    assert noise.method.startswith("white part: numerical") and "; 1/f part: numerical" in \
+        noise.method
+    s0 = 4 * float(BOLTZMANN) * 300 * 330
+    expected = s0 * (reference(h, VALUES, 1, 1e5) + 50 * reference(h, VALUES, 1, 1e5, nb.FLICKER))
+    assert noise.mean_square_value == pytest.approx(expected, rel=1e-9)
+    assert 0 < noise.error < 1e-8 * noise.mean_square_value
