@@ -23,7 +23,10 @@ from .content import (
 )
 from .progress import Progress
 from .tables import (
+    contribution_table,
     detail_tables,
+    noise_band_table,
+    noise_table,
     response_table,
     sensitivity_table,
     spread,
@@ -66,7 +69,8 @@ def sections(pipeline: Pipeline, wanted: list[Request],
             results=[],
         )
         name = request.quantity.name
-        table = sensitivity_table(results, request.text) if name == "sensitivities" else None
+        table = sensitivity_table(results, request.text) if name == "sensitivities" else \
+            contribution_table(results, request.text) if name == "noise_contributions" else None
         if table is not None:
             section.tables.append(table)
         else:
@@ -93,6 +97,14 @@ def _attach_details(circuit: Circuit, view: ResultView, result: Result) -> None:
         if table is not None:
             view.tables.append(table)
             view.notes = [n for n in view.notes if not n.startswith(("At ", "Spreads "))]
+    if "noise" in details:
+        table = noise_table(details.pop("noise"))
+        if table is not None:
+            view.tables.append(table)
+    if "noise_band" in details:
+        table = noise_band_table(details.pop("noise_band"))
+        if table is not None:
+            view.tables.append(table)
     view.tables.extend(detail_tables(details))
 
 

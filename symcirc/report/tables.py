@@ -140,6 +140,69 @@ def response_table(details: dict[str, Any], unit: str) -> Table | None:
     return Table("Response at chosen frequencies", tuple(columns), tuple(out), caption)
 
 
+_ROOT_UNITS = {"V": "V/√Hz", "A": "A/√Hz"}
+
+
+def noise_table(details: dict[str, Any]) -> Table | None:
+    """The terms of a noise density, S_k·|H_k(j2πf)|² of each source, from
+    `details['noise']` of `noise(Q)` or `input_noise(X, Q)`: the source's own density, its
+    term as a formula, and at a frequency its density and share, largest first."""
+    terms = details.get("terms")
+    if not terms:
+        return None
+    root = _ROOT_UNITS.get(details.get("unit", ""), "")
+    rows = tuple((Cell(t["source"], _label_latex(t["source"])), Cell(t["kind"]),
+                  Cell(t["source_psd"], t["source_psd_latex"]),
+                  Cell(t["term"], t["term_latex"]),
+                  Cell(_number(t["density"], root)),
+                  Cell("—" if t["share"] is None else percent(t["share"])))
+                 for t in terms)
+    at = details.get("frequency")
+    caption = ("Each source's power density S_k and its term S_k·|H_k(j2πf)|² at the output; "
+               "uncorrelated sources, so the terms add. "
+               f"T = {eng(details['temperature'], 'K')}.")
+    if at is not None:
+        caption += f" Densities and shares at {eng(at, 'Hz')}."
+    return Table("Noise contributions", ("Source", "Kind", "S_k", "Term", "Density", "Share"),
+                 rows, caption)
+
+
+def noise_band_table(details: dict[str, Any]) -> Table | None:
+    """Each source's rms noise over a band and its share, from `details['noise_band']`."""
+    rows = details.get("contributions")
+    if not rows:
+        return None
+    unit = details.get("unit", "")
+    out = tuple((Cell(r["source"], _label_latex(r["source"])), Cell(r["kind"]),
+                 Cell(_number(r["rms"], unit)),
+                 Cell("—" if r["share"] is None else percent(r["share"])), Cell(r["method"]))
+                for r in rows)
+    caption = (f"Over {eng(details['low'], 'Hz')} … "
+               + ("∞" if details["high"] == float("inf") else eng(details["high"], "Hz"))
+               + ", at the nominal values.")
+    return Table("Noise over the band", ("Source", "Kind", "rms", "Share", "Method"), out,
+                 caption)
+
+
+def contribution_table(results: list[Any], quantity: str) -> Table | None:
+    """One table from the results of `noise_contributions(Q)` (one result per source)."""
+    rows = []
+    for result in results:
+        row = result.details.get("noise_contribution")
+        if row is None:
+            continue
+        rows.append((Cell(row["source"], _label_latex(row["source"])), Cell(row["kind"]),
+                     Cell(result.text(), result.latex()),
+                     Cell(_number(row["density"], result.unit)),
+                     Cell(percent(row["share"]) if row["share"] is not None else "—")))
+    if not rows:
+        return None
+    caption = results[0].notes[0] if results[0].notes else None
+    return Table(f"Noise contributions to {quantity}",
+                 ("Source", "Kind", "Density", "At nominal", "Share of the power"),
+                 tuple(rows), caption)
+
+
 def tolerance_notes(notes: list[str]) -> list[str]:
     """The notes of a tolerance result that its tables do not already show (warnings)."""
     return [n for n in notes if not n.startswith(_STANDARD_TOLERANCE_NOTES)]
