@@ -43,6 +43,7 @@ def run(args: argparse.Namespace) -> int:
     results = _results(pipeline, args)
     units = {e.name: e.unit for e in circuit.elements.values()}
     units.update({p.name: p.unit for p in circuit.parameters.values()})
+    units.update(circuit.noise_units())
     units["s"] = "1/s"
     title = circuit.title or Path(args.file).stem
     cautions = assess(circuit, pipeline.memo).lines()

@@ -306,6 +306,14 @@ class Circuit:
         out[TEMPERATURE_SYMBOL] = self.noise.temperature
         return out
 
+    def noise_units(self) -> dict[str, str]:
+        """The units of the symbols noise results add: k_B, T_amb, f and opamp densities."""
+        units = {BOLTZMANN_SYMBOL.name: "J/K", TEMPERATURE_SYMBOL.name: "K"}
+        if "f" not in self.parameters and "f" not in self.elements:
+            units["f"] = "Hz"
+        units.update({str(d.symbol): d.unit for d in self.noise.densities()})
+        return units
+
     def definitions(self) -> dict[sympy.Symbol, sympy.Expr]:
         """Element symbols that are defined by an expression of parameters (for --substitute)."""
         return {

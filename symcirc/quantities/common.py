@@ -401,7 +401,9 @@ def unit_of_symbol(circuit: Circuit, name: str) -> str:
     if element is not None:
         return element.unit
     parameter = circuit.parameters.get(name)
-    return parameter.unit if parameter is not None else ""
+    if parameter is not None:
+        return parameter.unit
+    return circuit.noise_units().get(name, "")
 
 
 def handler(raw: Callable[..., Iterable[Raw]], **fixed: Any

@@ -28,7 +28,7 @@ from ..model.circuit import (
     Circuit,
     Element,
 )
-from ..model.typeset import latex_of
+from ..model.typeset import symbol_latex
 from ..model.units import eng
 from ..results import Result
 from .common import Context, Raw, _with_part
@@ -257,6 +257,18 @@ def _numbers(terms: list[NoiseTerm], nominals: dict[str, Fraction],
     return out
 
 
+def _text(expression: sympy.Expr) -> str:
+    """A term as text, its factors in sympy's own order (sorting them costs more than the
+    derivation)."""
+    return sympy.sstr(expression, order="none")
+
+
+def _latex(expression: sympy.Expr) -> str:
+    names = {s: symbol_latex(s.name) for s in expression.free_symbols
+             if isinstance(s, sympy.Symbol)}
+    return sympy.latex(expression, symbol_names=names, order="none")
+
+
 def temperature_text(circuit: Circuit) -> str:
     """`T = 300 K (the default)` or `T = 300.1 K (27 °C)`, as every noise result says."""
     kelvin = eng(circuit.noise.temperature, "K")
@@ -275,11 +287,10 @@ def _details(setup: NoiseSetup, terms: list[NoiseTerm], values: list[float | Non
         rows.append({
             "source": term.source.name,
             "kind": term.source.kind,
-            "source_psd": sympy.sstr(term.source.psd),
-            "source_psd_latex": latex_of(term.source.psd),
-            "transfer": sympy.sstr(term.transfer),
-            "term": sympy.sstr(term.psd),
-            "term_latex": latex_of(term.psd),
+            "source_psd": _text(term.source.psd),
+            "source_psd_latex": _latex(term.source.psd),
+            "term": _text(term.psd),
+            "term_latex": _latex(term.psd),
             "psd": value,
             "density": None if value is None else value**0.5,
             "share": None if value is None or not total else value / total,
