@@ -99,6 +99,9 @@ def as_text(circuit: Circuit) -> str:
         reference += f", was {chosen[0]})" if chosen else ")"
         others = [n for n in circuit.nodes if n != REFERENCE]
         parts.append("Nodes\n  " + ", ".join([reference, *others]))
+    noise = circuit.noise
+    if noise.temperature_written or noise.noiseless or noise.opamps:
+        parts.append("Noise\n" + "\n".join(f"  {line}" for line in _noise_lines(circuit)))
     if circuit.typeset:
         parts.append("Typeset\n" + "\n".join(
             f"  {name}  {form}" for name, form in circuit.typeset.items()))
@@ -176,6 +179,38 @@ def _section(title: str, header: list[str], rows: list[list[str]]) -> str:
 # ---------------------------------------------------------------- JSON
 
 
+def _noise_lines(circuit: Circuit) -> list[str]:
+    """The noise analyses' temperature, the parts left out and each opamp's densities."""
+    from ..model.units import engineering
+
+    noise = circuit.noise
+    written = noise.temperature_written
+    lines = [f"temperature {engineering(noise.temperature, 'K')}"
+             + (f" ({written})" if written else " (the default)")]
+    if noise.noiseless:
+        lines.append("noiseless " + ", ".join(sorted(noise.noiseless)))
+    for opamp in noise.opamps.values():
+        densities = [f"{d.symbol} = {d.written}" + (f" corner {d.corner} Hz" if d.corner else "")
+                     for d in (opamp.voltage, opamp.current) if d is not None]
+        lines.append(f"opamp {opamp.opamp}: " + ", ".join(densities))
+    return lines
+
+
+def _noise_json(circuit: Circuit) -> dict[str, Any]:
+    noise = circuit.noise
+    return {
+        "temperature": float(noise.temperature),
+        "temperature_written": noise.temperature_written,
+        "noiseless": sorted(noise.noiseless),
+        "opamps": [{"opamp": o.opamp, **{which: {"symbol": str(d.symbol), "written": d.written,
+                                                   "corner": _sstr(d.corner) if d.corner
+                                                   is not None else None}
+                                          for which, d in (("en", o.voltage), ("in", o.current))
+                                          if d is not None}}
+                   for o in noise.opamps.values()],
+    }
+
+
 def as_json(circuit: Circuit) -> dict[str, Any]:
     """The same content as the text, as one JSON-ready object."""
     from ..model.circuit import REFERENCE
@@ -195,6 +230,7 @@ def as_json(circuit: Circuit) -> dict[str, Any]:
         "reference_chosen": circuit.reference_chosen,
         "typeset": dict(circuit.typeset),
         "aliases": dict(circuit.aliases),
+        "noise": _noise_json(circuit),
         "derives": [
             {"quantities": list(d.texts),
              "where": [{"kind": a.kind, "symbol": a.symbol, "target": a.target}

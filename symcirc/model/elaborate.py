@@ -209,11 +209,7 @@ class _Elaborator:
             nodes=tuple(nodes) if node_set else (),
             reference_chosen=bool(self.aliases),
             aliases=dict(self.aliases),
-            typeset={**{str(d.symbol): rf"e_{{\mathrm{{n}},\mathrm{{{o}}}}}"
-                        if d.unit == "V/√Hz" else rf"i_{{\mathrm{{n}},\mathrm{{{o}}}}}"
-                        for o, on in noise.opamps.items()
-                        for d in (on.voltage, on.current) if d is not None},
-                     **self.typeset_forms()},
+            typeset=self.typeset_forms(),
             noise=noise,
         )
         circuit.derives, circuit.claims = self.directives_of(circuit)
