@@ -136,6 +136,19 @@ class Circuit(model.Circuit):
     def twoport(self, port1: str, port2: str, **options: Any) -> TwoPort:
         return TwoPort.of(self.derive(f"twoport({port1}, {port2})", **options))
 
+    def noise_density(self, measure: str, frequency: str | None = None,
+                      **options: Any) -> Result:
+        """`noise(measure[, frequency]).density` in V/√Hz (A/√Hz); its `details['noise']`
+        hold each source's term."""
+        at = f", {frequency}" if frequency is not None else ""
+        (result,) = self.derive(f"noise({measure}{at}).density", **options)
+        return result
+
+    def noise_rms(self, measure: str, low: str, high: str, **options: Any) -> Result:
+        """`noise_rms(measure, low, high).rms`: the rms noise over a band, method stated."""
+        (result,) = self.derive(f"noise_rms({measure}, {low}, {high}).rms", **options)
+        return result
+
 
 def _api(circuit: model.Circuit) -> Circuit:
     made = Circuit(**{f.name: getattr(circuit, f.name) for f in dataclasses.fields(circuit)})

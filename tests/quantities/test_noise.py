@@ -316,3 +316,11 @@ def test_a_noise_quantity_that_cannot_be_answered_says_why():
     with pytest.raises(SymcircError, match="does not depend on"):
         symcirc.parse(DIVIDER + "voltage source Ux (z, gnd)\nresistor Rz (z, gnd)\n") \
             .derive("input_noise(Ux, out)")
+
+
+def test_the_python_api_gives_what_derive_gives():
+    circuit = symcirc.parse(DIVIDER)
+    (derived,) = circuit.derive("noise(out, 1 kHz).density")
+    assert circuit.noise_density("out", "1 kHz").nominal == derived.nominal
+    (band,) = circuit.derive("noise_rms(out, 0, 1 kHz).rms")
+    assert circuit.noise_rms("out", "0", "1 kHz").nominal == band.nominal
