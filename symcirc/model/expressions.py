@@ -90,10 +90,11 @@ def expression_in(
 ) -> sympy.Expr:
     """An expression written against a finished circuit (claims, command-line values).
 
-    Names must be parameters or elements of the circuit (or `s`, `pi`); errors point into
-    `source` as file `filename`.
+    Names must be parameters or elements of the circuit (or `s`, `pi`), or a symbol of the
+    noise results (`k_B`, `T_amb`, `f`, `en_U1`); errors point into `source` as file
+    `filename`.
     """
-    known = set(circuit.parameters) | set(circuit.elements)
+    known = set(circuit.parameters) | set(circuit.elements) | set(circuit.noise_units())
 
     def resolve(name: syntax.Name) -> sympy.Expr:
         if name.name in known:

@@ -324,3 +324,10 @@ def test_the_python_api_gives_what_derive_gives():
     assert circuit.noise_density("out", "1 kHz").nominal == derived.nominal
     (band,) = circuit.derive("noise_rms(out, 0, 1 kHz).rms")
     assert circuit.noise_rms("out", "0", "1 kHz").nominal == band.nominal
+
+
+def test_a_hand_derived_noise_formula_is_checked_as_a_claim():
+    # the divider's 4kT·(R1 ∥ R2) written by hand, in the symbols noise results use
+    circuit = symcirc.parse(DIVIDER + "claim noise(out).psd = 4*k_B*T_amb*R1*R2/(R1 + R2)\n"
+                            "claim noise(out).psd = 4*k_B*T_amb*R1\n")
+    assert [o.status for o in circuit.check()] == ["holds", "does not hold"]
