@@ -144,26 +144,25 @@ _ROOT_UNITS = {"V": "V/√Hz", "A": "A/√Hz"}
 
 
 def noise_table(details: dict[str, Any]) -> Table | None:
-    """The terms of a noise density, S_k·|H_k(j2πf)|² of each source, from
-    `details['noise']` of `noise(Q)` or `input_noise(X, Q)`: the source's own density, its
-    term as a formula, and at a frequency its density and share, largest first."""
+    """The sources of a noise density from `details['noise']` of `noise(Q)` or
+    `input_noise(X, Q)`: each source's own power density, and at a frequency its density
+    at the measure and its share, largest first."""
     terms = details.get("terms")
     if not terms:
         return None
     root = _ROOT_UNITS.get(details.get("unit", ""), "")
     rows = tuple((Cell(t["source"], _label_latex(t["source"])), Cell(t["kind"]),
                   Cell(t["source_psd"], t["source_psd_latex"]),
-                  Cell(t["term"], t["term_latex"]),
                   Cell(_number(t["density"], root)),
                   Cell("—" if t["share"] is None else percent(t["share"])))
                  for t in terms)
     at = details.get("frequency")
-    caption = ("Each source's power density S_k and its term S_k·|H_k(j2πf)|² at the output; "
-               "uncorrelated sources, so the terms add. "
+    caption = ("Each source's power density S_k; its term S_k·|H_k(j2πf)|² is the matching "
+               "term of the formula above (uncorrelated sources, so the terms add). "
                f"T = {eng(details['temperature'], 'K')}.")
     if at is not None:
         caption += f" Densities and shares at {eng(at, 'Hz')}."
-    return Table("Noise contributions", ("Source", "Kind", "S_k", "Term", "Density", "Share"),
+    return Table("Noise contributions", ("Source", "Kind", "S_k", "Density", "Share"),
                  rows, caption)
 
 
