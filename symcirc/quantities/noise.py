@@ -125,7 +125,7 @@ def _setup(circuit: Circuit) -> NoiseSetup:
                                        _corner(e.corner), kind[0].upper()))
             continue
         elements[e.name] = e
-        if e.entry.resistive and e.name not in circuit.noise.noiseless:
+        if _real(e) and e.name not in circuit.noise.noiseless:
             name = fresh(f"n_{e.name}", taken)
             elements[name] = source(name, "current source", *e.nodes, e)
             psd = four_kt / e.symbol if e.law.value_power > 0 else four_kt * e.symbol
@@ -155,12 +155,24 @@ def _setup(circuit: Circuit) -> NoiseSetup:
                     opamp.current.symbol**2, _corner(opamp.current.corner), "A"))
     notes = ()
     if left_out:
-        notes = (f"{', '.join(left_out)}: impedance and admittance elements are taken as "
-                 "noiseless; write a resistive part as a resistor to count its thermal "
-                 "noise.",)
+        notes = (f"{', '.join(left_out)}: an impedance or admittance that depends on s (or "
+                 "has no value) is taken as noiseless; write its resistive part as a resistor "
+                 "to count its thermal noise.",)
     noisy = dataclasses.replace(circuit, elements=elements, nodes=tuple(nodes), derives=(),
                                 claims=())
     return NoiseSetup(noisy, tuple(sources), notes)
+
+
+def _real(element: Element) -> bool:
+    """A resistor or conductance, or an impedance or admittance with a real value (a number
+    or an expression without s): a thermal noise source."""
+    if element.entry.resistive:
+        return True
+    if element.kind not in ("impedance", "admittance"):
+        return False
+    if element.definition is not None:
+        return LAPLACE not in element.definition.free_symbols
+    return element.nominal is not None
 
 
 def _corner(corner: sympy.Expr | None) -> sympy.Expr:

@@ -331,3 +331,15 @@ def test_a_hand_derived_noise_formula_is_checked_as_a_claim():
     circuit = symcirc.parse(DIVIDER + "claim noise(out).psd = 4*k_B*T_amb*R1*R2/(R1 + R2)\n"
                             "claim noise(out).psd = 4*k_B*T_amb*R1\n")
     assert [o.status for o in circuit.check()] == ["holds", "does not hold"]
+
+
+def test_a_real_impedance_is_thermal_noise_and_a_reactive_one_is_left_out_with_a_note():
+    # Nyquist 1928: a passive two-terminal element's noise is 4kT·Re(Z); a real impedance
+    # element is a resistance
+    text = "impedance Z1 (a, gnd) = 2 kΩ\nimpedance Z2 (a, gnd) = 1/(s*C2)\n" \
+           "param C2 = 1 nF\nport P (a, gnd)\n"
+    (psd,) = symcirc.parse(text.replace("impedance Z2 (a, gnd) = 1/(s*C2)\nparam C2 = 1 nF\n",
+                                        "")).derive("noise(P).psd")
+    assert same(psd.expression, 4 * kB * T * sym("Z1"))
+    (psd,) = symcirc.parse(text).derive("noise(P, 1 kHz).psd")
+    assert any("Z2: an impedance or admittance that depends on s" in n for n in psd.notes)
