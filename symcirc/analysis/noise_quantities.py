@@ -149,10 +149,13 @@ def noise_rms_quantity(circuit: Circuit, quantity: syntax.Quantity,
                               "method": band.methods, "unit": band.unit,
                               "contributions": rows}}
     base = base_text(quantity)
+    letter = "U" if band.unit == "V" else "I"
     results = [Result(f"{base}.rms", sympy.sqrt(mean_square), band.unit, nominals,
-                      tuple(said), part="rms", details=details),
+                      tuple(said), part="rms", details=details,
+                      name_latex=rf"{letter}_{{\mathrm{{n,rms}}}}"),
                Result(f"{base}.mean_square", mean_square, f"{band.unit}²", nominals,
-                      tuple(said), part="mean_square", details=details)]
+                      tuple(said), part="mean_square", details=details,
+                      name_latex=rf"{letter}_{{\mathrm{{n,rms}}}}^{{2}}")]
     return read.select(quantity, results)
 
 
@@ -173,7 +176,8 @@ def noise_bandwidth_quantity(circuit: Circuit, quantity: syntax.Quantity,
     return [Result(base_text(quantity), value, "Hz", {str(k): v for k, v in nominals.items()},
                    said, details={"noise_bandwidth": {"reference": found.reference,
                                                       "method": found.method,
-                                                      "value": found.value}})]
+                                                      "value": found.value}},
+                   name_latex=r"B_{\mathrm{n}}")]
 
 
 def snr_quantity(circuit: Circuit, quantity: syntax.Quantity,
@@ -198,8 +202,9 @@ def snr_quantity(circuit: Circuit, quantity: syntax.Quantity,
             f"{temperature_text(circuit)}.", f"Method: {band.methods}.", *band.notes)
     return [Result(base_text(quantity), value, "dB", nominals, said,
                    details={"noise_band": {"low": float(band.low), "high": float(band.high),
-                                           "method": band.methods,
-                                           "contributions": _contributions(band)}})]
+                                           "method": band.methods, "unit": band.unit,
+                                           "contributions": _contributions(band)}},
+                   name_latex=r"\mathrm{SNR}")]
 
 
 def _signal(read: Reader, arg) -> Result:
@@ -238,9 +243,9 @@ def noise_bits_quantity(circuit: Circuit, quantity: syntax.Quantity,
             *band.notes)
     base = base_text(quantity)
     results = [Result(f"{base}.noise_free", noise_band.noise_free_bits(full_scale, rms), "",
-                      nominals, said, part="noise_free"),
+                      nominals, said, part="noise_free", name_latex=r"N_{\mathrm{noise-free}}"),
                Result(f"{base}.effective", noise_band.effective_bits(full_scale, rms), "",
-                      nominals, said, part="effective")]
+                      nominals, said, part="effective", name_latex=r"N_{\mathrm{eff}}")]
     return read.select(quantity, results)
 
 

@@ -405,6 +405,8 @@ def quantity_symbol(result: Any) -> str:
     its `where` limits (`Rin -> oo`) as a subscript bar."""
     quantity, condition = result.parsed, result.condition
     symbol = _symbol(quantity) if quantity is not None else None
+    if symbol is None and result.name_latex and not condition:
+        return result.name_latex  # a symbol of the trade the analysis names (B_n, SNR)
     if symbol is None:
         return latex_text(result.quantity)
     return symbol + (r"\big|_{" + _condition_latex(condition) + "}" if condition else "")

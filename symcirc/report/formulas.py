@@ -110,7 +110,7 @@ def break_lines(head: str, rhs: str, width: float = WIDTH) -> list[str]:
     lines: list[str] = []
     current = head
     current_width = visible_width(head)
-    for piece, depth in _pieces(_open_wide_fractions(rhs, width)):
+    for piece, depth in _pieces(_open_wide_fractions(_open_wide_roots(rhs, width), width)):
         piece_width = visible_width(piece)
         if current_width + piece_width > width and current.strip() and current != head:
             lines.append(current.rstrip() + " \\right." * depth)
@@ -170,6 +170,33 @@ def _pieces(tex: str) -> list[tuple[str, int]]:
         i += 1
     pieces.append((tex[start:], start_groups))
     return [(p, g) for p, g in pieces if p.strip()]
+
+
+def _open_wide_roots(tex: str, width: float) -> str:
+    """Each `\\sqrt{A}` outside braces whose radicand is too wide for a line but could be
+    broken (a noise density's sum of terms), written `\\left(A\\right)^{\\frac{1}{2}}` (the
+    same value) so that A breaks."""
+    out = []
+    i = 0
+    braces = 0
+    while i < len(tex):
+        if tex.startswith("\\sqrt{", i) and braces == 0:
+            end = _group_end(tex, i + len("\\sqrt"))
+            if end is not None:
+                radicand = tex[i + len("\\sqrt") + 1:end]
+                if visible_width(radicand) > width * 0.8 and len(_pieces(radicand)) > 1:
+                    out.append(f"\\left({radicand}\\right)^{{\\frac{{1}}{{2}}}}")
+                    i = end + 1
+                    continue
+        c = tex[i]
+        if c == "\\":
+            out.append(tex[i:i + 2])
+            i += 2
+            continue
+        braces += 1 if c == "{" else -1 if c == "}" else 0
+        out.append(c)
+        i += 1
+    return "".join(out)
 
 
 def _open_wide_fractions(tex: str, width: float) -> str:
