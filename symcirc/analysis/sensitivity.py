@@ -20,6 +20,10 @@ from .tidy import tidy
 from .values import exact_value, expand_definitions
 
 SIMPLIFY_TERMS = 60
+SIMPLIFY_OPERATIONS = 100
+"""A closed form that is no rational function (a square root, an arc tangent) has its
+derivatives simplified only up to this many operations: beyond, simplifying costs minutes
+(the rms noise of a second-order stage over a band) and the raw derivative is shown."""
 """Up to this many terms (numerator and denominator), closed forms are cancelled and factored."""
 
 
@@ -62,7 +66,10 @@ class _Derivatives:
             self.form: RationalForm | None = RationalForm(expression, self.symbols)
         except ValueError:  # not a rational function (a square root), or a constant
             self.form = None
-        self.small = self.form is None or self.form.size <= SIMPLIFY_TERMS
+        if self.form is None:
+            self.small = sympy.count_ops(expression) <= SIMPLIFY_OPERATIONS
+        else:
+            self.small = self.form.size <= SIMPLIFY_TERMS
         self.values: dict[sympy.Symbol, Fraction] | None = None
         if self.symbols and all(x in nominals for x in self.symbols):
             point = {x: nominals[x] for x in self.symbols}
@@ -77,7 +84,7 @@ class _Derivatives:
 
     def closed(self, x: sympy.Symbol) -> sympy.Expr:
         """∂Q/∂x (not yet simplified when small: the caller tidies the final form)."""
-        if self.small:
+        if self.small or self.form is None:
             return sympy.diff(self.expression, x)
         return self.form.derivative_expression(self.symbols.index(x))
 
@@ -130,7 +137,7 @@ def sensitivities(
             relative = relative.xreplace(substitution)
         if d.small:
             derivative, relative = _tidy(derivative), _tidy(relative)
-        elif x not in via and reference is None:
+        elif x not in via and reference is None and d.form is not None:
             relative = d.relative(x)
         value = None
         if d.values is not None:

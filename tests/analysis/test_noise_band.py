@@ -488,3 +488,25 @@ def test_a_numerical_band_with_a_one_over_f_corner_says_how_each_part_was_found(
     expected = s0 * (reference(h, VALUES, 1, 1e5) + 50 * reference(h, VALUES, 1, 1e5, nb.FLICKER))
     assert noise.mean_square_value == pytest.approx(expected, rel=1e-9)
     assert 0 < noise.error < 1e-8 * noise.mean_square_value
+
+
+def test_sensitivities_of_a_band_noise_against_differences_of_quad():
+    # which part to change: (x/U)·∂U/∂x of the rms thermal noise of R2 through a
+    # second-order response over 10 Hz … 100 kHz, against central differences of the rms
+    # computed by scipy quad at x·(1 ± 10⁻⁴)
+    from symcirc.analysis.sensitivity import sensitivities
+
+    h = SECOND_ORDER["general"]
+    rms = nb.band_noise(h, nb.Density(4 * k_B * T * R2), 10, 10**5, VALUES).rms
+    rows = {r.symbol: r for r in sensitivities(rms, VALUES).rows}
+    assert float(rows[T].relative_value) == pytest.approx(0.5, rel=1e-12)  # U ∝ √T
+    step = Fraction(1, 10**4)
+
+    def log_rms(values):
+        return 0.5 * math.log(float(values[R2]) * reference(h, values, 10, 1e5))
+
+    for x in (R, C, L, R2):
+        up = log_rms({**VALUES, x: VALUES[x] * (1 + step)})
+        down = log_rms({**VALUES, x: VALUES[x] * (1 - step)})
+        assert float(rows[x].relative_value) == pytest.approx((up - down) / (2 * float(step)),
+                                                              rel=1e-5, abs=1e-7)
