@@ -360,3 +360,35 @@ def test_concurrent_runs_both_succeed(rc, tmp_path):
     assert [run.returncode for run in runs] == [0, 0]
     assert all(b"Traceback" not in err for _, err in results)
     assert b"def " in target.read_bytes() and _hidden(tmp_path) == []
+
+
+def test_the_parser_cache_appears_whole_under_its_name(tmp_path, monkeypatch):
+    # lark writes its cache file in place: a second process starting meanwhile would read
+    # half a parser. The file is written under a name of this process and renamed.
+    import lark
+
+    from symcirc.language import parser
+
+    seen = []
+    build = lark.Lark
+
+    def spy(*args, **options):
+        cache = options["cache"]
+        seen.append((cache, os.path.exists(cache)))
+        return build(*args, **options)
+
+    (tmp_path / "cache").mkdir(mode=0o700)
+    monkeypatch.setenv("XDG_CACHE_HOME", str(tmp_path / "cache"))
+    monkeypatch.setattr(lark, "Lark", spy)
+    parser._parser.cache_clear()
+    try:
+        parser._parser()
+        parser._parser.cache_clear()
+        parser._parser()
+    finally:
+        parser._parser.cache_clear()
+    folder = tmp_path / "cache" / "symcirc"
+    (final,) = folder.iterdir()
+    (first, existed), (second, found) = seen
+    assert first != str(final) and not existed and first.endswith(".tmp")
+    assert second == str(final) and found

@@ -38,8 +38,17 @@ def _parser():
     grammar = files("symcirc.grammar").joinpath("circuit.lark").read_text(encoding="utf-8")
     grammar += element_rules()
     builder = TreeBuilder()
+    cache = _cache_file(grammar)
+    # lark writes its cache in place; a process starting meanwhile would read half a file,
+    # so a missing cache is written under a name of this process and then renamed
+    written = f"{cache}.{os.getpid()}.tmp" if cache and not os.path.exists(cache) else None
     parser = Lark(grammar, parser="lalr", lexer="contextual", start=_STARTS,
-                  transformer=builder, maybe_placeholders=True, cache=_cache_file(grammar))
+                  transformer=builder, maybe_placeholders=True, cache=written or cache)
+    if written:
+        try:
+            os.replace(written, cache)
+        except OSError:
+            pass
     return parser, builder
 
 
