@@ -9,8 +9,10 @@ method stated); the sources are uncorrelated, so their mean squares add.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from fractions import Fraction
+from typing import Any
 
 import sympy
 
@@ -46,6 +48,31 @@ class Band:
     high: sympy.Expr
     sources: tuple[SourceBand, ...]
     notes: tuple[str, ...]
+    integrands: tuple[tuple[Any, noise_band.Density], ...] = ()
+    """Each source's transfer and density, to integrate again at other values."""
+
+    @property
+    def symbols(self) -> frozenset[sympy.Symbol]:
+        """The symbols the band's noise depends on (its transfers and densities)."""
+        found: set[sympy.Symbol] = set()
+        for transfer, density in self.integrands:
+            response = noise_band.response_of(transfer)
+            for c in (*response.numerator, *response.denominator):
+                found |= sympy.sympify(c).free_symbols
+            found |= sympy.sympify(density.white).free_symbols
+            found |= sympy.sympify(density.corner).free_symbols
+        return frozenset(found - {sympy.Symbol("s")})
+
+    def mean_square_at(self, point: Mapping[sympy.Symbol, Fraction]) -> float:
+        """The band's mean square with the symbols at `point` (integrated again)."""
+        return float(sum(noise_band.band_noise(transfer, density, self.low, self.high,
+                                               point).mean_square_value
+                         for transfer, density in self.integrands))
+
+    @property
+    def error(self) -> float:
+        """The estimated absolute error of the numerical integration (0 when closed)."""
+        return float(sum(s.band.error for s in self.sources))
 
     @property
     def mean_square(self) -> sympy.Expr | None:
@@ -87,6 +114,7 @@ def band_of(circuit: Circuit, quantity: syntax.Quantity, options: DeriveOptions,
     measure, text, unit, notes = context.measure(measure_arg)
     nominals = setup.circuit.symbol_nominals()
     sources = []
+    integrands = []
     for term in noise_terms(context, setup, measure, quantity):
         source = term.source
         try:
@@ -97,7 +125,8 @@ def band_of(circuit: Circuit, quantity: syntax.Quantity, options: DeriveOptions,
             raise read.error(quantity, f"the noise of {source.name} at {text}: "
                                        f"{problem}") from None
         sources.append(SourceBand(source.name, source.kind, band))
-    return Band(text, unit, low, high, tuple(sources), setup.notes + notes)
+        integrands.append((term.transfer, noise_band.Density(source.white, source.corner)))
+    return Band(text, unit, low, high, tuple(sources), setup.notes + notes, tuple(integrands))
 
 
 def _band_text(band: Band) -> str:
@@ -111,6 +140,40 @@ def _hz(value: sympy.Expr) -> str:
 def _number(value: float) -> sympy.Expr:
     """A value found numerically, as an exact number (it stands for itself)."""
     return sympy.Rational(Fraction(value)) if value else sympy.Integer(0)
+
+
+def _shown(value: float) -> sympy.Expr:
+    """A value found by numerical integration, as the decimal number it is (4 digits)."""
+    return sympy.Float(value, 4) if value else sympy.Integer(0)
+
+
+def _error_text(band: Band) -> str:
+    value = band.value or 0.0
+    return f"{band.error / value:.1e} relative" if value else f"{band.error:.1e}"
+
+
+def numeric_band(circuit: Circuit, quantity: syntax.Quantity, options: DeriveOptions,
+                 result: Result) -> tuple[frozenset[sympy.Symbol],
+                                          Callable[[Mapping[sympy.Symbol, Fraction]], float],
+                                          float] | None:
+    """For a result integrated numerically: (the symbols it depends on, its value at other
+    values of them, its estimated relative error); None for a closed form. Only
+    `noise_rms(..).rms` and `.mean_square` are re-integrated; snr and noise_bits of a
+    numerical band are refused at `quantity`."""
+    band_info = result.details.get("noise_band")
+    if band_info is None or band_info.get("exact", True):
+        return None
+    read = Reader(circuit, options)
+    if quantity.name != "noise_rms" or result.part not in ("rms", "mean_square"):
+        raise read.error(quantity, f"{result.quantity} has no closed form (its band is "
+                                   "integrated numerically); ask for the sensitivities or the "
+                                   "tolerance of noise_rms(..) over the same band instead")
+    args = read.arguments(quantity, 3, 3, "a port, V(..) or I(..) and a band", parts=True)
+    band = band_of(circuit, quantity, options, *args)
+    relative = band.error / band.value if band.value else 0.0
+    if result.part == "rms":
+        return band.symbols, lambda point: math.sqrt(band.mean_square_at(point)), relative / 2
+    return band.symbols, band.mean_square_at, relative
 
 
 def _contributions(band: Band) -> list[dict]:
@@ -135,8 +198,9 @@ def noise_rms_quantity(circuit: Circuit, quantity: syntax.Quantity,
     nominals = {str(k): v for k, v in noise_setup(circuit, options.memo).circuit
                 .symbol_nominals().items()}
     mean_square = band.mean_square
-    if mean_square is None:
-        mean_square = _number(band.value or 0.0)
+    numeric = mean_square is None
+    if numeric:
+        mean_square = _shown(band.value or 0.0)
     rows = _contributions(band)
     said = [f"Noise of {band.text} over {_band_text(band)}, √(Σ ∫ |H_k(j2πf)|²·S_k(f) df) "
             f"over every noise source k; {temperature_text(circuit)}.",
@@ -147,10 +211,17 @@ def noise_rms_quantity(circuit: Circuit, quantity: syntax.Quantity,
             for r in rows[:3]) + ".")
     details = {"noise_band": {"low": float(band.low), "high": float(band.high),
                               "method": band.methods, "unit": band.unit,
-                              "contributions": rows}}
+                              "exact": not numeric, "contributions": rows}}
+    rms = sympy.sqrt(mean_square)
+    if numeric:
+        said.insert(1, f"No closed form: U_n,rms = {eng(math.sqrt(band.value or 0.0), band.unit)}"
+                       f" is a numerical value (estimated error {_error_text(band)}), shown "
+                       "to 4 significant digits.")
+        rms = _shown(math.sqrt(band.value or 0.0))
+        details["noise_band"] |= {"value": band.value, "error": band.error}
     base = base_text(quantity)
     letter = "U" if band.unit == "V" else "I"
-    results = [Result(f"{base}.rms", sympy.sqrt(mean_square), band.unit, nominals,
+    results = [Result(f"{base}.rms", rms, band.unit, nominals,
                       tuple(said), part="rms", details=details,
                       name_latex=rf"{letter}_{{\mathrm{{n,rms}}}}"),
                Result(f"{base}.mean_square", mean_square, f"{band.unit}²", nominals,
