@@ -12,7 +12,6 @@ import math
 from collections.abc import Callable, Mapping
 from dataclasses import dataclass
 from fractions import Fraction
-from typing import Any
 
 import sympy
 
@@ -25,7 +24,7 @@ from ..quantities.registry import DeriveOptions
 from ..results import Result
 from . import noise_band
 from .quantities import Reader, base_text
-from .response import ResponseError
+from .response import Response, ResponseError
 
 
 @dataclass(frozen=True)
@@ -48,16 +47,16 @@ class Band:
     high: sympy.Expr
     sources: tuple[SourceBand, ...]
     notes: tuple[str, ...]
-    integrands: tuple[tuple[Any, noise_band.Density], ...] = ()
-    """Each source's transfer and density, to integrate again at other values."""
+    integrands: tuple[tuple[Response, noise_band.Density], ...] = ()
+    """Each source's transfer (coefficients in s) and density, to integrate again at other
+    values."""
 
     @property
     def symbols(self) -> frozenset[sympy.Symbol]:
         """The symbols the band's noise depends on (its transfers and densities)."""
         found: set[sympy.Symbol] = set()
         for transfer, density in self.integrands:
-            response = noise_band.response_of(transfer)
-            for c in (*response.numerator, *response.denominator):
+            for c in (*transfer.numerator, *transfer.denominator):
                 found |= sympy.sympify(c).free_symbols
             found |= sympy.sympify(density.white).free_symbols
             found |= sympy.sympify(density.corner).free_symbols
@@ -125,7 +124,8 @@ def band_of(circuit: Circuit, quantity: syntax.Quantity, options: DeriveOptions,
             raise read.error(quantity, f"the noise of {source.name} at {text}: "
                                        f"{problem}") from None
         sources.append(SourceBand(source.name, source.kind, band))
-        integrands.append((term.transfer, noise_band.Density(source.white, source.corner)))
+        integrands.append((noise_band.response_of(term.transfer),
+                           noise_band.Density(source.white, source.corner)))
     return Band(text, unit, low, high, tuple(sources), setup.notes + notes, tuple(integrands))
 
 

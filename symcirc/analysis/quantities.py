@@ -26,7 +26,7 @@ from ..model.units import percent_text as percent
 from ..quantities import nearzero
 from ..quantities.registry import DeriveOptions
 from ..results import Result
-from . import components, loading, sensitivity, tolerance
+from . import components, loading, numeric_spread, sensitivity, tolerance
 from .values import exact_value
 
 # ---------------------------------------------------------------- reading arguments
@@ -197,6 +197,16 @@ def sensitivity_tables(circuit: Circuit, quantity: syntax.Quantity, options: Der
     nominals = circuit.symbol_nominals()
     out = []
     for result in read.derive(args[0]):
+        numeric = _numeric(circuit, args[0], options, result)
+        if numeric is not None:
+            symbols, evaluate, error = numeric
+            if named is not None:
+                raise read.error(args[1], f"{result.quantity} is integrated numerically: its "
+                                          "sensitivities are relative to itself, with no "
+                                          "reference")
+            out.append((result, numeric_spread.sensitivities(evaluate, symbols, nominals,
+                                                             error)))
+            continue
         expression = result.expression
         rows = len(expression.free_symbols & (set(nominals) | set(definitions(circuit))))
         size = rows * _terms(result)
@@ -216,6 +226,15 @@ def sensitivity_tables(circuit: Circuit, quantity: syntax.Quantity, options: Der
                                               reference)
         out.append((result, table))
     return out
+
+
+def _numeric(circuit: Circuit, arg, options: DeriveOptions, result: Result):
+    """(symbols, evaluate, relative error) of a result known only numerically, else None."""
+    if not isinstance(arg, syntax.Quantity) or "noise_band" not in result.details:
+        return None
+    from .noise_quantities import numeric_band
+
+    return numeric_band(circuit, arg, options, result)
 
 
 def is_near_zero(circuit: Circuit, table) -> bool:
@@ -291,6 +310,8 @@ def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
             said = []
             if rank == 1 or quantity.attribute == str(row.symbol):  # a row named alone
                 said.append(heading[0].upper() + heading[1:])
+                if table.method:
+                    said.append(table.method)
             at = "" if row.derivative_value is None else \
                 f" = {eng(row.derivative_value, derivative_unit)} at the nominal values"
             via = f" (through {', '.join(map(str, row.via))})" if row.via else ""
@@ -334,7 +355,14 @@ def tolerance_analyses(circuit: Circuit, quantity: syntax.Quantity, options: Der
         distribution = args[1].name
     out = []
     for result in read.derive(args[0]):
+        numeric = _numeric(circuit, args[0], options, result)
         try:
+            if numeric is not None:
+                symbols, evaluate, _ = numeric
+                out.append((result, numeric_spread.analyse(
+                    evaluate, symbols, circuit.symbol_nominals(), tolerances(circuit),
+                    distribution, options.seed)))
+                continue
             analysis = tolerance.analyse(
                 result.expression, circuit.symbol_nominals(), tolerances(circuit),
                 definitions(circuit), distribution=distribution, seed=options.seed)

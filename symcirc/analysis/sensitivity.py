@@ -49,6 +49,8 @@ class SensitivityTable:
     reference: sympy.Expr | None
     """R in (x/R)·∂Q/∂x; None when the table is relative to Q itself."""
     rows: tuple[Sensitivity, ...]
+    method: str = ""
+    """How the rows were found, when not by differentiating a closed form."""
 
 
 def _tidy(expression: sympy.Expr) -> sympy.Expr:

@@ -38,6 +38,10 @@ def raw_quantity(context: Context, arg) -> list[Raw]:
     if arg.name in ("sensitivity", "relative_sensitivity"):
         return raw_sensitivity(context, arg, arg.name == "relative_sensitivity")
     produce = RAW.get(arg.name)
+    if produce is None and arg.name in ("noise_rms", "snr", "noise_bits", "noise_bandwidth"):
+        raise context.error(arg, f"the sensitivity of {arg.name}(..) to one symbol is not "
+                                 f"defined; sensitivities({arg.text}) gives every one "
+                                 "(numerically where the band has no closed form)")
     if produce is None:
         raise context.error(arg, f"the sensitivity of {arg.name}(..) is not defined; use a "
                                  "quantity such as V(..), I(..), gain(..), Z(..) or "
