@@ -137,14 +137,16 @@ def _hz(value: sympy.Expr) -> str:
     return "∞" if value == sympy.oo else eng(Fraction(int(value.p), int(value.q)), "Hz")
 
 
-def _number(value: float) -> sympy.Expr:
-    """A value found numerically, as an exact number (it stands for itself)."""
-    return sympy.Rational(Fraction(value)) if value else sympy.Integer(0)
-
-
 def _shown(value: float) -> sympy.Expr:
     """A value found by numerical integration, as the decimal number it is (4 digits)."""
     return sympy.Float(value, 4) if value else sympy.Integer(0)
+
+
+def _decimal(value: sympy.Expr, band: Band) -> sympy.Expr:
+    """A figure built on a numerically integrated band, as one decimal number."""
+    if band.mean_square is None and value.is_number:
+        return _shown(float(value))
+    return value
 
 
 def _error_text(band: Band) -> str:
@@ -241,7 +243,7 @@ def noise_bandwidth_quantity(circuit: Circuit, quantity: syntax.Quantity,
         found = noise_band.noise_bandwidth(inner.expression, nominals)
     except ResponseError as problem:
         raise read.error(quantity, f"{inner.quantity}: {problem}") from None
-    value = found.expression if found.expression is not None else _number(found.value or 0.0)
+    value = found.expression if found.expression is not None else _shown(found.value or 0.0)
     said = (f"Equivalent noise bandwidth of {inner.quantity}: ∫0^∞ |H(j2πf)|² df / "
             f"|H_ref|², the reference being {found.reference}.", f"Method: {found.method}.")
     return [Result(base_text(quantity), value, "Hz", {str(k): v for k, v in nominals.items()},
@@ -262,10 +264,10 @@ def snr_quantity(circuit: Circuit, quantity: syntax.Quantity,
     signal = _signal(read, signal_arg)
     band = band_of(circuit, quantity, options, *band_args)
     mean_square = band.mean_square if band.mean_square is not None \
-        else _number(band.value or 0.0)
+        else _shown(band.value or 0.0)
     if mean_square == 0:
         raise read.error(quantity, f"no noise reaches {band.text}: the ratio is infinite")
-    value = noise_band.signal_to_noise(signal.expression, mean_square)
+    value = _decimal(noise_band.signal_to_noise(signal.expression, mean_square), band)
     nominals = {str(k): v for k, v in noise_setup(circuit, options.memo).circuit
                 .symbol_nominals().items()}
     said = (f"Signal-to-noise ratio of {signal.quantity} (taken as an rms or DC value) against "
@@ -274,6 +276,7 @@ def snr_quantity(circuit: Circuit, quantity: syntax.Quantity,
     return [Result(base_text(quantity), value, "dB", nominals, said,
                    details={"noise_band": {"low": float(band.low), "high": float(band.high),
                                            "method": band.methods, "unit": band.unit,
+                                           "exact": band.mean_square is not None,
                                            "contributions": _contributions(band)}},
                    name_latex=r"\mathrm{SNR}")]
 
@@ -301,7 +304,7 @@ def noise_bits_quantity(circuit: Circuit, quantity: syntax.Quantity,
     full_scale = read.expression(range_arg)
     band = band_of(circuit, quantity, options, measure_arg, *band_args)
     rms = band.mean_square
-    rms = sympy.sqrt(rms) if rms is not None else _number(math.sqrt(band.value or 0.0))
+    rms = sympy.sqrt(rms) if rms is not None else _shown(math.sqrt(band.value or 0.0))
     if rms == 0:
         raise read.error(quantity, f"no noise reaches {band.text}: the resolution is unbounded")
     nominals = {str(k): v for k, v in noise_setup(circuit, options.memo).circuit
@@ -313,10 +316,15 @@ def noise_bits_quantity(circuit: Circuit, quantity: syntax.Quantity,
             f"log2(FSR/U_n,rms); {temperature_text(circuit)}.", f"Method: {band.methods}.",
             *band.notes)
     base = base_text(quantity)
-    results = [Result(f"{base}.noise_free", noise_band.noise_free_bits(full_scale, rms), "",
-                      nominals, said, part="noise_free", name_latex=r"N_{\mathrm{noise-free}}"),
-               Result(f"{base}.effective", noise_band.effective_bits(full_scale, rms), "",
-                      nominals, said, part="effective", name_latex=r"N_{\mathrm{eff}}")]
+    details = {"noise_band": {"low": float(band.low), "high": float(band.high),
+                              "method": band.methods, "unit": band.unit,
+                              "exact": band.mean_square is not None}}
+    results = [Result(f"{base}.noise_free", _decimal(noise_band.noise_free_bits(full_scale, rms), band), "",
+                      nominals, said, part="noise_free", details=details,
+                      name_latex=r"N_{\mathrm{noise-free}}"),
+               Result(f"{base}.effective", _decimal(noise_band.effective_bits(full_scale, rms), band), "",
+                      nominals, said, part="effective", details=details,
+                      name_latex=r"N_{\mathrm{eff}}")]
     return read.select(quantity, results)
 
 
