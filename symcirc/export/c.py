@@ -3,6 +3,8 @@
 
 from __future__ import annotations
 
+import textwrap
+
 from collections.abc import Sequence
 
 import sympy
@@ -83,6 +85,7 @@ def _function_text(title: str, function: Function) -> str:
     unit = f", in {function.unit}" if function.unit else ""
     doc = [f"/* {_comment(function.quantity)} of {_comment(title)}{unit}."]
     doc += [f" *   {_comment(line)}" for line in argument_lines(function, _engineering)]
+    doc += [f" *   {_comment(line)}" for line in textwrap.wrap(function.remark, 80)]
     doc[-1] += " */"
     arguments = ", ".join(f"double {a.name}" for a in function.arguments) or "void"
     body = []

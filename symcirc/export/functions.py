@@ -53,6 +53,8 @@ class Function:
     value: sympy.Expr
     is_complex: bool
     """True when the value is complex (a frequency response)."""
+    remark: str = ""
+    """Said in the function's comment: why a value is a bare number, when it is."""
 
 
 def natural_key(name: str) -> tuple:
@@ -93,6 +95,12 @@ def functions(
 def _function(result, name: str, units: dict[str, str], nominals: dict[str, Fraction],
               frequency: bool, reserved: set[str]) -> Function:
     expression = result.expression
+    remark = ""
+    if not result.details.get("noise_band", {}).get("exact", True):
+        remark = ("A constant: the noise band has no closed form and was integrated "
+                  "numerically at the nominal values, so it does not follow the parts' "
+                  "values; derive it again after a change.")
+        expression = sympy.Float(float(result.nominal), 17)
     is_complex = False
     omega = OMEGA
     while sympy.Symbol(omega) in expression.free_symbols:
@@ -121,7 +129,7 @@ def _function(result, name: str, units: dict[str, str], nominals: dict[str, Frac
     temporaries = (sympy.Symbol(f"t{i}") for i in range(10**6) if f"t{i}" not in used)
     steps, (value,) = sympy.cse([expression], symbols=temporaries, order="none")
     return Function(name, result.quantity, result.unit, tuple(arguments), tuple(steps), value,
-                    is_complex)
+                    is_complex, remark)
 
 
 def argument_lines(function: Function, engineering) -> list[str]:

@@ -7,6 +7,7 @@ position, so no two can be exchanged by mistake.
 from __future__ import annotations
 
 import keyword
+import textwrap
 from collections.abc import Sequence
 
 import sympy
@@ -68,6 +69,8 @@ def _function_text(title: str, function: Function, printer) -> str:
     unit = f", in {function.unit}" if function.unit else ""
     doc = [f'    """{_quoted(function.quantity)} of {_quoted(title)}{unit}.']
     lines = argument_lines(function, _engineering)
+    if function.remark:
+        lines += textwrap.wrap(function.remark, 84)
     if lines:
         doc.append("")
         doc += [f"    {_quoted(line)}" for line in lines]
