@@ -319,10 +319,12 @@ def noise_bits_quantity(circuit: Circuit, quantity: syntax.Quantity,
     details = {"noise_band": {"low": float(band.low), "high": float(band.high),
                               "method": band.methods, "unit": band.unit,
                               "exact": band.mean_square is not None}}
-    results = [Result(f"{base}.noise_free", _decimal(noise_band.noise_free_bits(full_scale, rms), band), "",
+    noise_free = _decimal(noise_band.noise_free_bits(full_scale, rms), band)
+    effective = _decimal(noise_band.effective_bits(full_scale, rms), band)
+    results = [Result(f"{base}.noise_free", noise_free, "",
                       nominals, said, part="noise_free", details=details,
                       name_latex=r"N_{\mathrm{noise-free}}"),
-               Result(f"{base}.effective", _decimal(noise_band.effective_bits(full_scale, rms), band), "",
+               Result(f"{base}.effective", effective, "",
                       nominals, said, part="effective", details=details,
                       name_latex=r"N_{\mathrm{eff}}")]
     return read.select(quantity, results)

@@ -4,7 +4,6 @@
 from __future__ import annotations
 
 import textwrap
-
 from collections.abc import Sequence
 
 import sympy
