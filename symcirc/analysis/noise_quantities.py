@@ -138,8 +138,9 @@ def _hz(value: sympy.Expr) -> str:
 
 
 def _shown(value: float) -> sympy.Expr:
-    """A value found by numerical integration, as the decimal number it is (4 digits)."""
-    return sympy.Float(value, 4) if value else sympy.Integer(0)
+    """A value found by numerical integration, as the decimal number it is (every digit of
+    the double kept: 4 digits would move the nominal value by up to 1e-4)."""
+    return sympy.Float(value, 15) if value else sympy.Integer(0)
 
 
 def _decimal(value: sympy.Expr, band: Band) -> sympy.Expr:
@@ -217,8 +218,7 @@ def noise_rms_quantity(circuit: Circuit, quantity: syntax.Quantity,
     rms = sympy.sqrt(mean_square)
     if numeric:
         said.insert(1, f"No closed form: U_n,rms = {eng(math.sqrt(band.value or 0.0), band.unit)}"
-                       f" is a numerical value (estimated error {_error_text(band)}), shown "
-                       "to 4 significant digits.")
+                       f" is a numerical value (estimated error {_error_text(band)}).")
         rms = _shown(math.sqrt(band.value or 0.0))
         details["noise_band"] |= {"value": band.value, "error": band.error}
     base = base_text(quantity)

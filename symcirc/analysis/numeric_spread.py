@@ -57,8 +57,8 @@ def sensitivities(evaluate: Evaluate, symbols: Collection[sympy.Symbol],
     rows = []
     for x, slope in derivatives(evaluate, valued, point).items():
         relative = float(point[x]) * slope / nominal if nominal else None
-        rows.append(Sensitivity(x, sympy.Float(slope, 4),
-                                sympy.Float(relative, 4) if relative is not None
+        rows.append(Sensitivity(x, sympy.Float(slope, 15),
+                                sympy.Float(relative, 15) if relative is not None
                                 else sympy.nan,
                                 Fraction(slope), None if relative is None
                                 else Fraction(relative)))
@@ -68,7 +68,7 @@ def sensitivities(evaluate: Evaluate, symbols: Collection[sympy.Symbol],
               f"(Q(x·(1+h)) − Q(x·(1−h)))/(2h·x) with h = {float(STEP):g}, Q integrated "
               f"numerically each time (its estimated error {relative_error:.1e} relative, "
               f"the differences' about {relative_error / float(STEP) + float(STEP) ** 2:.0e}).")
-    return SensitivityTable(sympy.Float(nominal, 4), Fraction(nominal), None, tuple(rows),
+    return SensitivityTable(sympy.Float(nominal, 15), Fraction(nominal), None, tuple(rows),
                             method)
 
 
@@ -126,7 +126,7 @@ def analyse(evaluate: Evaluate, symbols: Collection[sympy.Symbol],
     warnings.append(f"The Monte Carlo has {SAMPLES} samples only (each one integrates the "
                     "band again): its 0.1 % and 99.9 % quantiles are rough.")
     return tolerance.ToleranceAnalysis(
-        expression=sympy.Float(float(nominal), 4), nominal=nominal,
+        expression=sympy.Float(float(nominal), 15), nominal=nominal,
         variables=tuple(variables), contributions=tuple(contributions),
         linear_low=linear_low, linear_high=linear_high, rss=rss, extremes=extremes,
         monte_carlo=sampled, warnings=tuple(warnings))
