@@ -309,9 +309,8 @@ def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
             derivative_unit = _per(inner.unit, _unit_of(circuit, row.symbol))
             said = []
             if rank == 1 or quantity.attribute == str(row.symbol):  # a row named alone
-                said.append(heading[0].upper() + heading[1:])
-                if table.method:
-                    said.append(table.method)
+                said.append(heading[0].upper() + heading[1:]
+                            + (f" {table.method}" if table.method else ""))
             at = "" if row.derivative_value is None else \
                 f" = {eng(row.derivative_value, derivative_unit)} at the nominal values"
             via = f" (through {', '.join(map(str, row.via))})" if row.via else ""
