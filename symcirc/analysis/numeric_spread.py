@@ -15,6 +15,7 @@ import sympy
 from ..model.circuit import Tolerance
 from . import tolerance
 from .sensitivity import Sensitivity, SensitivityTable
+from .values import exact_value, expand_definitions
 
 Evaluate = Callable[[Mapping[sympy.Symbol, Fraction]], float]
 
@@ -70,6 +71,33 @@ def sensitivities(evaluate: Evaluate, symbols: Collection[sympy.Symbol],
               f"the differences' about {relative_error / float(STEP) + float(STEP) ** 2:.0e}).")
     return SensitivityTable(sympy.Float(nominal, 15), Fraction(nominal), None, tuple(rows),
                             method)
+
+
+def through_definitions(evaluate: Evaluate, symbols: Collection[sympy.Symbol],
+                        definitions: Mapping[sympy.Symbol, sympy.Expr],
+                        nominals: Mapping[sympy.Symbol, Fraction],
+                        ) -> tuple[frozenset[sympy.Symbol], Evaluate]:
+    """Q over its symbols and the symbols they are defined by (R1 = R0·(1 + α·Tc) adds R0, α
+    and Tc), as the closed forms' tolerance and sensitivities read them: a defined symbol
+    takes its own value times the ratio its definition moved by, so it can move itself (its
+    own tolerance) and through what defines it."""
+    expanded = {x: expand_definitions(x, definitions) for x in symbols if x in definitions}
+    roots = frozenset().union(*(e.free_symbols for e in expanded.values())) if expanded \
+        else frozenset()
+    at_nominal = {x: exact_value(e, nominals) for x, e in expanded.items()}
+    moving = {x: e for x, e in expanded.items() if at_nominal[x]}
+    if not moving:
+        return frozenset(symbols), evaluate
+
+    def through(point: Mapping[sympy.Symbol, Fraction]) -> float:
+        values = dict(point)
+        for x, e in moving.items():
+            now = exact_value(e, {**nominals, **point})
+            if now is not None and x in values:
+                values[x] = values[x] * now / at_nominal[x]
+        return evaluate(values)
+
+    return frozenset(symbols) | roots, through
 
 
 class _Sampled:

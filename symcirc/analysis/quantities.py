@@ -234,7 +234,12 @@ def _numeric(circuit: Circuit, arg, options: DeriveOptions, result: Result):
         return None
     from .noise_quantities import numeric_band
 
-    return numeric_band(circuit, arg, options, result)
+    found = numeric_band(circuit, arg, options, result)
+    if found is None:
+        return None
+    symbols, evaluate, error = found
+    return (*numeric_spread.through_definitions(evaluate, symbols, definitions(circuit),
+                                                circuit.symbol_nominals()), error)
 
 
 def is_near_zero(circuit: Circuit, table) -> bool:

@@ -167,3 +167,31 @@ def test_a_closed_form_band_keeps_its_closed_form_and_exact_sensitivities():
     low, high = (spread.details["tolerance"]["extremes"][k] for k in ("low", "high"))
     assert low == pytest.approx(math.sqrt(K_B * 300 / 1.05e-9), rel=1e-9)
     assert high == pytest.approx(math.sqrt(K_B * 300 / 0.95e-9), rel=1e-9)
+
+
+def test_a_tolerance_on_what_defines_a_part_reaches_a_numeric_band():
+    # R1 = R0·(1 + α·Tc) with the tolerance on R0: the band moves with R0 through R1, as the
+    # closed forms' tolerance reads definitions; R0's tolerance is the only one on R1.
+    text = LADDER.replace("resistor R1 (in, a) = 1k ± 1 %",
+                          "param R0 = 1k ± 1 %\nparam alpha = 0.004\nparam Tc = 25\n"
+                          "resistor R1 (in, a) = R0*(1 + alpha*Tc)")
+    circuit = symcirc.parse(text)
+    rows = {r.part: r for r in circuit.derive(f"sensitivities({RMS})")}
+    r1 = 1e3 * 1.1
+    nominal = {**NOMINAL, "R1": r1}
+    h = 1e-4
+    expected = (rms({**nominal, "R1": r1 * (1 + h)}) - rms({**nominal, "R1": r1 * (1 - h)}))
+    expected /= 2 * h * rms(nominal)
+    assert rows["R0"].nominal == pytest.approx(expected, rel=1e-4)
+    assert rows["R1"].nominal == pytest.approx(expected, rel=1e-4)
+    # α·Tc/(1 + α·Tc) of R1's share goes through each of α and Tc
+    assert rows["Tc"].nominal == pytest.approx(expected * 0.1 / 1.1, rel=1e-4)
+    (result,) = circuit.derive(f"tolerance({RMS})")
+    spread = result.details["tolerance"]
+    tolerance = {**TOLERANCE, "R1": 0.01}
+    names = sorted(tolerance)
+    corners = [rms({**nominal, **{n: nominal[n] * (1 + sign * tolerance[n])
+                                  for n, sign in zip(names, signs, strict=True)}})
+               for signs in itertools.product((-1, 1), repeat=len(names))]
+    assert spread["extremes"]["low"] == pytest.approx(min(corners), rel=1e-8)
+    assert spread["extremes"]["high"] == pytest.approx(max(corners), rel=1e-8)
