@@ -136,7 +136,9 @@ def _unit_of(circuit: Circuit, symbol: sympy.Symbol) -> str:
     if name in circuit.elements:
         return circuit.elements[name].unit
     parameter = circuit.parameters.get(name)
-    return parameter.unit if parameter is not None else ""
+    if parameter is not None:
+        return parameter.unit
+    return circuit.noise_units().get(name, "")
 
 
 def _names(nominals: dict[sympy.Symbol, Fraction]) -> dict[str, Fraction]:

@@ -331,6 +331,8 @@ def per(numerator: str, denominator: str) -> str:
         return ""
     if not numerator and denominator in _RECIPROCAL:
         return _RECIPROCAL[denominator]
+    if denominator and any(c in denominator for c in "/·"):
+        denominator = f"({denominator})"
     return f"{numerator or '1'}/{denominator}" if denominator else numerator
 
 

@@ -195,3 +195,9 @@ def test_a_tolerance_on_what_defines_a_part_reaches_a_numeric_band():
                for signs in itertools.product((-1, 1), repeat=len(names))]
     assert spread["extremes"]["low"] == pytest.approx(min(corners), rel=1e-8)
     assert spread["extremes"]["high"] == pytest.approx(max(corners), rel=1e-8)
+
+
+def test_derivatives_by_temperature_and_boltzmann_carry_their_units(circuit):
+    notes = [n for r in circuit.derive(f"sensitivities({RMS})") for n in r.notes]
+    assert any("∂T_amb" in n and "V/K" in n for n in notes)
+    assert any("∂k_B" in n and "V/(J/K)" in n for n in notes)

@@ -98,6 +98,8 @@ def test_tolerances_use_the_minus_sign():
     ("Ω", "Ω", ""),       # relative: dimensionless
     ("V", "", "V"),
     ("", "F", "1/F"),
+    ("V", "J/K", "V/(J/K)"),  # a compound unit below the bar keeps its own bar apart
+    ("V", "K", "V/K"),
 ])
 def test_units_of_derivatives(quantity, symbol, unit):
     assert per(quantity, symbol) == unit
