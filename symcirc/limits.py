@@ -41,7 +41,7 @@ MAX_EXPANSION_TERMS = 1_000_000
 """Largest polynomial (terms) expanding written expressions may give: a claim as it is
 decided, or a result with definitions substituted into it (`--substitute`)."""
 
-MAX_TABLE_TERMS = 10_000
+MAX_TABLE_TERMS = 1_000_000
 """Largest sensitivity table: rows times the terms of the result they differentiate (each
 row prints a closed-form derivative of the whole result)."""
 

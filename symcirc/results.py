@@ -8,7 +8,7 @@ turning a large polynomial into a sympy expression costs far more than deriving 
 from __future__ import annotations
 
 import dataclasses
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from dataclasses import KW_ONLY, dataclass, field
 from fractions import Fraction
 from functools import cached_property
@@ -37,6 +37,29 @@ class ExactValue(Protocol):
     def symbol_names(self) -> tuple[str, ...]: ...
 
     def evaluate(self, values: dict[str, Fraction]) -> Fraction: ...
+
+
+class Deferred:
+    """A detail computed only when shown: the LaTeX of a large closed form costs seconds,
+    and text output never shows it (`Result.to_json` computes it)."""
+
+    def __init__(self, compute: Callable[[], Any]) -> None:
+        self._compute = compute
+
+    @cached_property
+    def value(self) -> Any:
+        return self._compute()
+
+
+def shown(value: Any) -> Any:
+    """`value` with every Deferred in it computed (mappings and sequences walked)."""
+    if isinstance(value, Deferred):
+        return value.value
+    if isinstance(value, dict):
+        return {k: shown(v) for k, v in value.items()}
+    if isinstance(value, list | tuple):
+        return type(value)(shown(v) for v in value)
+    return value
 
 
 @dataclass(frozen=True)
@@ -267,7 +290,7 @@ class Result:
         if self.steps:
             out["steps"] = [s.to_json() for s in self.steps]
         for key, value in self.details.items():
-            out.setdefault(key, value)
+            out.setdefault(key, shown(value))
         return out
 
 

@@ -221,17 +221,8 @@ class RationalFunction:
         if name not in a.symbol_names():
             return a
         ring = a.ring
-        num_coeffs = ring.coefficients(a.numerator, name)
-        den_coeffs = ring.coefficients(a.denominator, name)
-        dn, dd = max(num_coeffs), max(den_coeffs)
-        p, q = v.numerator, v.denominator
-        # N(p/q) * q**dn and D(p/q) * q**dd, by Horner's rule
-        num = _homogeneous_horner(num_coeffs, dn, p, q, ring)
-        den = _homogeneous_horner(den_coeffs, dd, p, q, ring)
-        if dd > dn:
-            num = num * q ** (dd - dn)
-        elif dn > dd:
-            den = den * q ** (dn - dd)
+        num, den = substitute_quotient(a.numerator, a.denominator, name, v.numerator,
+                                       v.denominator, ring)
         if ring.is_zero(den):
             raise UndefinedValue(f"substituting {name} = {v.to_text()} makes the denominator zero")
         return RationalFunction(num, den, ring)
@@ -322,6 +313,24 @@ def _normalise_sign_and_content(num: Poly, den: Poly, ring: PolynomialRing) -> t
     if c != 1:
         num, den = ring.exquo(num, c), ring.exquo(den, c)
     return num, den
+
+
+def substitute_quotient(num: Poly, den: Poly, name: str, p: Poly, q: Poly,
+                        ring: PolynomialRing) -> tuple[Poly, Poly]:
+    """num/den with `name` replaced by p/q, as two polynomials and without cancelling:
+    N(p/q)·q**dn over D(p/q)·q**dd (Horner's rule), the larger power of q on both sides."""
+    num_coeffs = ring.coefficients(num, name)
+    den_coeffs = ring.coefficients(den, name)
+    if not num_coeffs:
+        return num, den
+    dn, dd = max(num_coeffs), max(den_coeffs)
+    top = _homogeneous_horner(num_coeffs, dn, p, q, ring)
+    bottom = _homogeneous_horner(den_coeffs, dd, p, q, ring)
+    if dd > dn:
+        top = top * q ** (dd - dn)
+    elif dn > dd:
+        bottom = bottom * q ** (dn - dd)
+    return top, bottom
 
 
 def _homogeneous_horner(coeffs: dict[int, Poly], degree: int, p: Poly, q: Poly,
@@ -532,6 +541,18 @@ class _FlintText:
         if not single_factor:
             den_text = "(" + den_text + ")"
         return ("-" if negated else "") + num_text + "/" + den_text
+
+
+def polynomial_text(ring: PolynomialRing, p: Poly) -> tuple[str, int]:
+    """A polynomial as `to_text` writes it: (text, number of top-level summands)."""
+    if ring.backend == "flint":
+        return _FlintText(ring).polynomial(p)
+    return _Printer(ring, _TEXT).polynomial(p)
+
+
+def polynomial_latex(ring: PolynomialRing, p: Poly) -> tuple[str, int]:
+    """A polynomial as `to_latex` writes it: (LaTeX, number of top-level summands)."""
+    return _Printer(ring, _LATEX).polynomial(p)
 
 
 def _flint_str(p: Poly) -> str:

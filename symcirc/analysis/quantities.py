@@ -12,9 +12,11 @@ from __future__ import annotations
 import dataclasses
 from dataclasses import dataclass
 from fractions import Fraction
+from functools import partial
 
 import sympy
 
+from ..algebra.unexpanded import Unexpanded
 from ..errors import Location, SymcircError
 from ..language import syntax
 from ..limits import MAX_TABLE_TERMS
@@ -25,7 +27,7 @@ from ..model.units import per as _per
 from ..model.units import percent_text as percent
 from ..quantities import nearzero
 from ..quantities.registry import DeriveOptions
-from ..results import Result
+from ..results import Deferred, Result
 from . import components, loading, numeric_spread, sensitivity, tolerance
 from .values import exact_value
 
@@ -164,22 +166,30 @@ def _float(value: Fraction | None) -> float | None:
     return None if value is None else float(value)
 
 
-def _text(expression: sympy.Expr) -> str:
+def _text(expression: sympy.Expr | Unexpanded) -> str:
+    if isinstance(expression, Unexpanded):
+        return expression.to_text()
     return sympy.sstr(expression)
+
+
+def _latex(expression: sympy.Expr | Unexpanded) -> str:
+    if isinstance(expression, Unexpanded):
+        return expression.to_latex()
+    return latex_of(expression)
 
 
 # ---------------------------------------------------------------- sensitivities
 
 
-def _excitation(circuit: Circuit, expression: sympy.Expr) -> sympy.Symbol | None:
-    """The one independent source with a nonzero value that Q depends on, if exactly one."""
+def _excitation(circuit: Circuit, names: set[str]) -> sympy.Symbol | None:
+    """The one independent source with a nonzero value that Q (using `names`) depends on,
+    if exactly one."""
     nominals = circuit.symbol_nominals()
     found = [e.symbol for e in circuit.elements.values()
-             if e.is_source and not e.controls and nominals.get(e.symbol)
-             and e.symbol in expression.free_symbols]
+             if e.is_source and not e.controls and nominals.get(e.symbol) and e.name in names]
     if not found:  # a source defined by a parameter (`= Ub`): Q may carry the parameter
         found = [p.symbol for p in circuit.parameters.values()
-                 if nominals.get(p.symbol) and p.symbol in expression.free_symbols
+                 if nominals.get(p.symbol) and p.symbol.name in names
                  and any(e.is_source and e.definition == p.symbol
                          for e in circuit.elements.values())]
     return found[0] if len(found) == 1 else None
@@ -198,6 +208,7 @@ def sensitivity_tables(circuit: Circuit, quantity: syntax.Quantity, options: Der
                                   "(..)) for its worst case over the tolerances")
     nominals = circuit.symbol_nominals()
     out = []
+    valued = {x.name for x in (*nominals, *definitions(circuit))}
     for result in read.derive(args[0]):
         numeric = _numeric(circuit, args[0], options, result)
         if numeric is not None:
@@ -209,8 +220,7 @@ def sensitivity_tables(circuit: Circuit, quantity: syntax.Quantity, options: Der
             out.append((result, numeric_spread.sensitivities(evaluate, symbols, nominals,
                                                              error)))
             continue
-        expression = result.expression
-        rows = len(expression.free_symbols & (set(nominals) | set(definitions(circuit))))
+        rows = len(set(result.symbols) & valued)
         size = rows * _terms(result)
         if size > MAX_TABLE_TERMS:
             one = f"sensitivity({result.quantity}, x) for one symbol x"
@@ -220,12 +230,12 @@ def sensitivity_tables(circuit: Circuit, quantity: syntax.Quantity, options: Der
                              f"{MAX_TABLE_TERMS:,}); ask for " + (
                                  f"it without --substitute, or {one}" if options.substitute
                                  else one))
-        table = sensitivity.sensitivities(expression, nominals, definitions(circuit), named)
+        value = result.exact if result.exact is not None else result.expression
+        table = sensitivity.sensitivities(value, nominals, definitions(circuit), named)
         if named is None and nearzero.near_zero(
                 table.nominal, nearzero.swings(table.rows, tolerances(circuit), nominals)):
-            reference = _excitation(circuit, expression) or sympy.Integer(1)
-            table = sensitivity.sensitivities(expression, nominals, definitions(circuit),
-                                              reference)
+            reference = _excitation(circuit, set(result.symbols)) or sympy.Integer(1)
+            table = sensitivity.sensitivities(value, nominals, definitions(circuit), reference)
         out.append((result, table))
     return out
 
@@ -304,7 +314,7 @@ def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
         q = inner.quantity
         largest = max((abs(r.relative_value) for r in table.rows
                        if r.relative_value is not None), default=0)
-        source = _excitation(circuit, inner.expression)
+        source = _excitation(circuit, set(inner.symbols))
         if table.reference is None and largest > 10 and source is not None:
             heading += (f" Relative sensitivities up to {eng(largest)} mean {q} is near "
                         f"balance: sensitivities({q}, {source}) refers them to the excitation.")
@@ -321,14 +331,15 @@ def sensitivities_quantity(circuit: Circuit, quantity: syntax.Quantity,
             at = "" if row.derivative_value is None else \
                 f" = {eng(row.derivative_value, derivative_unit)} at the nominal values"
             via = f" (through {', '.join(map(str, row.via))})" if row.via else ""
-            said.append(f"∂({q})/∂{row.symbol}{via} = {_text(row.derivative)}{at}.")
+            derivative = _text(row.derivative)
+            said.append(f"∂({q})/∂{row.symbol}{via} = {derivative}{at}.")
             details = {
                 "symbol": str(row.symbol),
                 "rank": rank,
                 "relative_to": relative_to,
                 "referred": table.reference is not None,
-                "derivative": _text(row.derivative),
-                "derivative_latex": latex_of(row.derivative),
+                "derivative": derivative,
+                "derivative_latex": Deferred(partial(_latex, row.derivative)),
                 "derivative_unit": derivative_unit,
                 "derivative_nominal": _float(row.derivative_value),
                 "relative_nominal": _float(row.relative_value),

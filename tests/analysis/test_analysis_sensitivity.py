@@ -94,8 +94,46 @@ def test_large_results_keep_their_structure_with_the_same_values(monkeypatch):
     for a, b in zip(small.rows, large.rows, strict=True):
         assert (a.symbol, a.derivative_value, a.relative_value) == \
             (b.symbol, b.derivative_value, b.relative_value)
-        assert sympy.simplify(a.relative - b.relative) == 0
-        assert sympy.simplify(a.derivative - b.derivative) == 0
+        assert sympy.simplify(a.relative - b.relative.to_sympy()) == 0
+        assert sympy.simplify(a.derivative - b.derivative.to_sympy()) == 0
+        # the text is the same expression, written from the polynomials without sympy
+        assert sympy.simplify(sympy.sympify(b.relative.to_text()) - a.relative) == 0
+        assert sympy.simplify(sympy.sympify(b.derivative.to_text()) - a.derivative) == 0
+
+
+def test_large_forms_against_sympy_diff_on_an_engine_result(monkeypatch):
+    """The unexpanded quotient rule from the engine's polynomials against sympy.diff of the
+    same result (an independent library computation), values and closed forms, with and
+    without a reference."""
+    import symcirc
+    from symcirc.analysis import sensitivity as module
+
+    circuit = symcirc.parse(
+        "voltage source U (n0, gnd) = 2 V\n"
+        "resistor Rs1 (n0, n1) = 1k\nresistor Rp1 (n1, gnd) = 3k\n"
+        "resistor Rs2 (n1, n2) = 2k\nresistor Rp2 (n2, gnd) = 5k\n"
+        "capacitor C (n2, gnd)\nport out (n2, gnd)\n")
+    (result,) = circuit.derive("V(out) where C -> 0")
+    monkeypatch.setattr(module, "SIMPLIFY_TERMS", 0)
+    nominals = {sympy.Symbol(k): v for k, v in result.nominals.items()}
+    q = result.expression
+    for reference in (None, sympy.Symbol("U"), sympy.Integer(1)):
+        table = sensitivities(result.exact, nominals, reference=reference)
+        assert {row.symbol.name for row in table.rows} == {"U", "Rs1", "Rp1", "Rs2", "Rp2"}
+        for row in table.rows:
+            expected = sympy.diff(q, row.symbol)
+            assert sympy.cancel(row.derivative.to_sympy() - expected) == 0
+            assert sympy.cancel(sympy.sympify(row.derivative.to_text()) - expected) == 0
+            scale = q if reference is None else reference
+            relative = row.symbol * expected / scale
+            assert sympy.cancel(sympy.sympify(row.relative.to_text()) - relative) == 0
+            at = {x: sympy.Rational(v.numerator, v.denominator) for x, v in nominals.items()}
+            assert row.derivative_value == expected.subs(at)
+            assert row.derivative.evaluate(result.nominals) == row.derivative_value
+            latex = row.relative.to_latex()
+            assert "**" not in latex
+            assert (latex == "1") if (row.symbol.name, reference) == ("U", None) \
+                else "\\frac{" in latex
 
 
 def test_tidy_cancels_and_factors_like_sympy():
@@ -117,3 +155,30 @@ def test_tidy_cancels_and_factors_like_sympy():
         assert sympy.gcd(sympy.expand(numerator), sympy.expand(denominator)).is_number
     assert tidy(sympy.sqrt(R1) * R1 / R1**2) == sympy.factor(sympy.cancel(sympy.sqrt(R1) / R1))
     assert tidy(R1 - R1) == 0
+
+
+def test_large_forms_through_definitions_against_sympy_diff(monkeypatch):
+    """A large result whose symbols are defined by others: the row of R0 differentiates Q
+    with Rt = R0*(1 + alpha*T) substituted in its polynomials; sympy.diff of the expanded
+    expression checks it (an independent library computation)."""
+    from symcirc.analysis import sensitivity as module
+
+    R0, alpha, T, Rt = sympy.symbols("R0 alpha T Rt")
+    definition = R0 * (1 + alpha * T)
+    q = Ub * R2 / (Rt + R2) - Ub * R4 / (R3 + R4)
+    nominals = {R0: Fraction(100), alpha: Fraction(385, 100000), T: Fraction(25),
+                R2: Fraction(100), R3: Fraction(100), R4: Fraction(100), Ub: Fraction(5)}
+    nominals[Rt] = nominals[R0] * (1 + nominals[alpha] * nominals[T])
+    small = {row.symbol: row for row in sensitivities(q, nominals, {Rt: definition}).rows}
+    monkeypatch.setattr(module, "SIMPLIFY_TERMS", 0)
+    table = sensitivities(q, nominals, {Rt: definition})
+    expanded = q.subs(Rt, definition)
+    for row in table.rows:
+        assert (row.derivative_value, row.relative_value) == \
+            (small[row.symbol].derivative_value, small[row.symbol].relative_value)
+        if row.symbol in (R0, alpha, T):
+            assert row.via == (Rt,)
+            expected = sympy.diff(expanded, row.symbol)
+            assert sympy.cancel(sympy.sympify(row.derivative.to_text()) - expected) == 0
+            relative = row.symbol * expected / expanded
+            assert sympy.cancel(sympy.sympify(row.relative.to_text()) - relative) == 0
