@@ -195,14 +195,18 @@ class Unexpanded:
 
 def _product(sign: int, factors: Sequence[tuple[Poly, int]],
              ring: PolynomialRing) -> Product:
-    """sign · Π factor**power, the one-term factors multiplied together into one (first)."""
+    """sign · Π factor**power, the one-term factors and the term content of the others
+    (`R7*(R1 + R2)`, not `(R1*R7 + R2*R7)`) multiplied together into one, written first."""
     single = ring.one
     rest: list[tuple[Poly, int]] = []
     for f, power in factors:
         if len(f) == 1:
             single = single * f**power
-        else:
-            rest.append((f, power))
+            continue
+        content = ring.term_content(f)
+        if not ring.is_constant(content) or ring.constant_value(content) != 1:
+            single, f = single * content**power, ring.exquo(f, content)
+        rest.append((f, power))
     if ring.leading_coefficient(single) < 0:
         sign, single = -sign, -single
     if not (ring.is_constant(single) and ring.constant_value(single) == 1):

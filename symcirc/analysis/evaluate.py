@@ -1,13 +1,15 @@
 """Fast evaluation of a closed form in many symbols: exact at single points, vectorised
 (numpy) over many points and over every corner of a tolerance box.
 
-A rational function is held as numerator and denominator polynomials (sympy's sparse
-polynomials over QQ), so derivatives are exact polynomial operations. For vectorised work
-the variables are split in two halves: each term's value is the product of one monomial of
-each half, and the halves have few distinct monomials, so a term costs about one
-multiplication per point; all 2**n corners of a box come from two small corner tables and
-one matrix product. Closed forms that are no rational function (a square root) fall back
-to sympy's lambdify.
+A rational function is held as numerator N and denominator D, polynomials of the algebra
+package (python-flint), so exact values and derivatives are polynomial operations in C.
+For numbers at many points, N and D become one shared Horner diagram: a polynomial in the
+variables x1 … xn is Σ_j x1^j·P_j with each P_j a polynomial in x2 … xn, and equal P_j are
+one node, so a ladder's 10,946-term denominator is a few dozen nodes in a good variable
+order. A point costs one multiplication per edge of the diagram instead of one per term
+and variable, and every partial derivative comes from one backward pass (reverse-mode
+differentiation) at the cost of another evaluation. Closed forms that are no rational
+function (a square root) fall back to sympy's lambdify.
 """
 
 from __future__ import annotations
@@ -19,199 +21,359 @@ from typing import Any
 
 import sympy
 
-CHUNK_POINTS = 16384
-"""Points evaluated at once (bounds the memory of the monomial tables)."""
-DENSE_CORNER_LIMIT = 2**24
-"""Largest dense coefficient table (monomials of one half × the other) for corner products."""
+from ..algebra.polynomials import PolynomialRing
+from ..algebra.rational import RationalFunction, substitute_quotient
+
+CHUNK_CELLS = 2**22
+"""Node values held at once (nodes × points of one chunk): bounds the working memory."""
 
 
-class _Monomials:
-    """The distinct monomials of some variables, evaluated by repeated multiplication: each
-    monomial is a smaller one (possibly added for the purpose) times one variable."""
+class _Diagram:
+    """N and D as one shared Horner diagram over the variables in `order` (see the module
+    docstring). Node ids are topological: leaves (coefficients) first, parents after their
+    children; a node in which a level's variable does not occur is its child itself."""
 
-    def __init__(self, exponents) -> None:
+    def __init__(self, polynomials: Sequence[tuple[Any, Any]], width: int,
+                 order: Sequence[int]) -> None:
         import numpy as np
 
-        rows = [tuple(int(e) for e in row) for row in exponents]
-        width = exponents.shape[1]
-        known: dict[tuple[int, ...], int] = {(0,) * width: 0}
-        self.steps: list[tuple[int, int]] = []  # (parent row, variable)
-        for row in sorted(set(rows), key=sum):
-            self._add(row, known)
-        self.count = len(known)
-        self.index = np.array([known[row] for row in rows], dtype=np.int64)
-        self.exponents = np.zeros((self.count, width), dtype=np.int64)
-        for row, k in known.items():
-            self.exponents[k] = row
+        # a first column tells the polynomials apart: the top node is Σ_k w^k·P_k
+        exponents = np.concatenate([
+            np.column_stack([np.full(len(e), k, dtype=np.int64), e.reshape(-1, width)])
+            for k, (e, _) in enumerate(polynomials)])
+        coefficients = np.concatenate([c for _, c in polynomials])
+        columns = [0, *(1 + j for j in order)]
+        exponents = exponents[:, columns]
+        self.variables = list(order)
+        leaf_values, ids = np.unique(coefficients, return_inverse=True)
+        self.leaves = leaf_values
+        count = len(leaf_values)
+        # prefix groups, top down: terms agreeing in their first k exponents share group k
+        groups = [np.zeros(len(ids), dtype=np.int64)]
+        for k in range(exponents.shape[1] - 1):
+            key = groups[-1] * (int(exponents[:, k].max()) + 1) + exponents[:, k]
+            groups.append(np.unique(key, return_inverse=True)[1].reshape(-1))
+        self.levels: list[tuple[int, int, Any, Any, Any]] = []  # (level, first id, parents,
+        # powers, children), bottom level first
+        self.starts: dict[int, Any] = {}  # each level's first edge of every parent
+        for k in range(exponents.shape[1] - 1, -1, -1):
+            powers = exponents[:, k]
+            span, width = int(powers.max()) + 1, count
+            key = (groups[k] * span + powers) * width + ids
+            edges = np.unique(key)
+            edges = np.column_stack([edges // (span * width), edges // width % span,
+                                     edges % width])
+            starts = np.flatnonzero(np.diff(edges[:, 0], prepend=-1))
+            ends = np.append(starts[1:], len(edges))
+            memo: dict[bytes, int] = {}
+            node_of_group = np.empty(len(starts), dtype=np.int64)
+            parents, new_powers, children = [], [], []
+            first = count
+            for g, (a, b) in enumerate(zip(starts, ends, strict=True)):
+                if b - a == 1 and edges[a, 1] == 0:  # the variable does not occur here
+                    node_of_group[g] = edges[a, 2]
+                    continue
+                signature = edges[a:b, 1:].tobytes()
+                node = memo.get(signature)
+                if node is None:
+                    node = memo[signature] = count
+                    count += 1
+                    parents.append(np.full(b - a, node - first, dtype=np.int64))
+                    new_powers.append(edges[a:b, 1])
+                    children.append(edges[a:b, 2])
+                node_of_group[g] = node
+            ids = node_of_group[groups[k]]
+            if parents:
+                parents = np.concatenate(parents)
+                self.levels.append((k, first, parents, np.concatenate(new_powers),
+                                    np.concatenate(children)))
+                self.starts[k] = np.flatnonzero(np.diff(parents, prepend=-1))
+        self.count = count
+        self.levels.reverse()  # top level first
+        top = int(ids[0])
+        self.roots = self._roots(top, len(polynomials))
 
-    def _add(self, row: tuple[int, ...], known: dict[tuple[int, ...], int]) -> int:
-        if row in known:
-            return known[row]
-        j = max(k for k, e in enumerate(row) if e)
-        parent = self._add(row[:j] + (row[j] - 1,) + row[j + 1:], known)
-        known[row] = len(known)
-        self.steps.append((parent, j))
-        return known[row]
+    def _roots(self, top: int, how_many: int) -> list[int | None]:
+        """The node of each polynomial under the top node (None for a zero polynomial)."""
+        roots: list[int | None] = [None] * how_many
+        level = self.levels[0] if self.levels else None
+        if level is None or level[0] != 0:  # one polynomial alone: the top node is its root
+            roots[0] = top
+            return roots
+        _, first, parents, powers, children = level
+        for parent, power, child in zip(parents, powers, children, strict=True):
+            if parent + first == top:
+                roots[int(power)] = int(child)
+        return roots
 
-    def table(self, columns: Sequence[Any], size: int, out: Any = None):
-        """Monomials × points (row 0 is the constant 1), into `out` when given (reused
-        between chunks: fresh large arrays cost page faults)."""
+    @property
+    def size(self) -> int:
+        """Edges: the multiplications per point."""
+        return sum(len(level[2]) for level in self.levels)
+
+    def _powers(self, column, degree: int):
         import numpy as np
 
-        out = np.empty((self.count, size)) if out is None else out[:, :size]
+        out = np.empty((degree + 1, len(column)))
         out[0] = 1.0
-        for row, (parent, j) in enumerate(self.steps, start=1):
-            np.multiply(out[parent], columns[j], out=out[row])
+        for j in range(1, degree + 1):
+            np.multiply(out[j - 1], column, out=out[j])
         return out
 
-
-class _Vectorised:
-    """Polynomials in the same variables evaluated by numpy, sharing their monomial tables:
-    values and gradients over many points, and values at every corner of a box.
-
-    Terms are grouped by their first-half monomial A_α: P = Σ_α A_α·(Σ_β c_αβ·B_β), and,
-    for gradients, also by their second-half monomial B_β."""
-
-    def __init__(self, polys: Sequence[Any], n: int) -> None:
+    def forward(self, columns: Sequence[Any]):
+        """Every node's value at the points (nodes × points) and the powers of each level."""
         import numpy as np
 
-        self.n = n
-        self.half = n // 2
-        exponents = [np.array(list(p.keys()), dtype=np.int64).reshape(-1, n) for p in polys]
-        self.coefficients = [np.array([float(c) for c in p.values()]) for p in polys]
-        every = np.concatenate(exponents)
-        self.a = _Monomials(every[:, :self.half])
-        self.b = _Monomials(every[:, self.half:])
-        bounds = np.cumsum([0, *(len(e) for e in exponents)])
-        self.a_index = [self.a.index[s:e] for s, e in zip(bounds, bounds[1:], strict=False)]
-        self.b_index = [self.b.index[s:e] for s, e in zip(bounds, bounds[1:], strict=False)]
-        self.by_a = [_groups(a, b, c) for a, b, c in
-                     zip(self.a_index, self.b_index, self.coefficients, strict=True)]
-        self.by_b = [_groups(b, a, c) for a, b, c in
-                     zip(self.a_index, self.b_index, self.coefficients, strict=True)]
+        size = len(columns[0]) if columns else 1
+        values = np.empty((self.count, size))
+        values[:len(self.leaves)] = self.leaves[:, None]
+        powers = {}
+        for k, first, _, level_powers, children in reversed(self.levels):
+            if k == 0:
+                continue  # the top node only joins the polynomials
+            column = np.asarray(columns[self.variables[k - 1]], dtype=float)
+            table = powers[k] = self._powers(column, int(level_powers.max()))
+            terms = values[children] * table[level_powers]
+            starts = self.starts[k]
+            values[first:first + len(starts)] = np.add.reduceat(terms, starts, axis=0)
+        return values, powers
 
-    def _chunks(self, columns: Sequence[Any], size: int):
-        """(start, a table, b table, points) for consecutive chunks of the points."""
+    def backward(self, values, powers, seeds: Mapping[int, Any], n: int):
+        """Points × variables: Σ_root seed·∂root/∂x_j (reverse-mode differentiation)."""
         import numpy as np
 
-        width = min(CHUNK_POINTS, size)
-        a_buffer, b_buffer = np.empty((self.a.count, width)), np.empty((self.b.count, width))
-        for start in range(0, size, CHUNK_POINTS):
-            part = [np.asarray(c, dtype=float)[start:start + CHUNK_POINTS] for c in columns]
-            m = min(CHUNK_POINTS, size - start)
-            yield (start, self.a.table(part[:self.half], m, a_buffer),
-                   self.b.table(part[self.half:], m, b_buffer), m)
-
-    def values(self, columns: Sequence[Any], size: int):
-        """Polynomials × points."""
-        import numpy as np
-
-        out = np.empty((len(self.by_a), size))
-        scratch = _Scratch()
-        for start, a, b, m in self._chunks(columns, size):
-            for k, groups in enumerate(self.by_a):
-                inner = _inner(groups, b, len(a), scratch)
-                out[k, start:start + m] = np.einsum("ij,ij->j", a, inner)
-        return out
-
-    def weighted(self, columns: Sequence[Any], size: int):
-        """Polynomials × points × variables: Σ_t c_t·e_tk·m_t, which is x_k·∂P/∂x_k."""
-        import numpy as np
-
-        out = np.empty((len(self.by_a), size, self.n))
-        scratch = _Scratch()
-        for start, a, b, m in self._chunks(columns, size):
-            for k in range(len(self.by_a)):
-                first = self.a.exponents.T @ (a * _inner(self.by_a[k], b, len(a), scratch))
-                second = self.b.exponents.T @ (b * _inner(self.by_b[k], a, len(b), scratch))
-                out[k, start:start + m] = np.vstack([first, second]).T
-        return out
-
-    def _corner_tables(self, lows: Sequence[float], highs: Sequence[float]):
-        half = self.half
-        a = self.a.table(_corner_columns(lows[:half], highs[:half]), 2**half)
-        b = self.b.table(_corner_columns(lows[half:], highs[half:]), 2 ** (self.n - half))
-        return a, b
-
-    def _dense(self, k: int):
-        import numpy as np
-
-        table = np.zeros((self.a.count, self.b.count))
-        np.add.at(table, (self.a_index[k], self.b_index[k]), self.coefficients[k])
-        return table
-
-    def _small(self) -> bool:
-        return self.a.count * self.b.count <= DENSE_CORNER_LIMIT
-
-    def corners(self, lows: Sequence[float], highs: Sequence[float]):
-        """Polynomials × corners (2**n); bit j of a corner's index: variable j high."""
-        import numpy as np
-
-        if not self._small():
-            return self.values(_corner_columns(lows, highs), 2**self.n)
-        a, b = self._corner_tables(lows, highs)
-        # corner a of the first half × corner b of the second; index a + b·2**half
-        return np.array([(a.T @ self._dense(k) @ b).T.ravel() for k in range(len(self.by_a))])
-
-    def corner_weighted(self, lows: Sequence[float], highs: Sequence[float]):
-        """Polynomials × corners × variables: x_k·∂P/∂x_k at every corner."""
-        import numpy as np
-
-        if not self._small():
-            return self.weighted(_corner_columns(lows, highs), 2**self.n)
-        a, b = self._corner_tables(lows, highs)
-        out = np.empty((len(self.by_a), 2**self.n, self.n))
-        for k in range(len(self.by_a)):
-            dense = self._dense(k)
-            left, right = a.T @ dense, dense @ b
-            # only the monomials that contain x_j contribute to x_j·∂P/∂x_j
-            for j, powers in enumerate(self.a.exponents.T):
-                used = np.flatnonzero(powers)
-                out[k, :, j] = ((a.T[:, used] * powers[used]) @ right[used]).T.ravel()
-            for j, powers in enumerate(self.b.exponents.T):
-                used = np.flatnonzero(powers)
-                weighted = b[used] * powers[used, None]
-                out[k, :, self.half + j] = (left[:, used] @ weighted).T.ravel()
-        return out
+        size = values.shape[1]
+        adjoint = np.zeros_like(values)
+        for node, seed in seeds.items():
+            adjoint[node] += seed
+        gradient = np.zeros((size, n))
+        for k, first, parents, level_powers, children in self.levels:
+            if k == 0:
+                continue
+            table = powers[k]
+            upstream = adjoint[parents + first]
+            np.add.at(adjoint, children, upstream * table[level_powers])
+            used = level_powers > 0
+            if used.any():
+                slope = level_powers[used][:, None] * table[level_powers[used] - 1]
+                gradient[:, self.variables[k - 1]] = np.einsum(
+                    "ij,ij,ij->j", upstream[used], values[children[used]], slope)
+        return gradient
 
 
-def _groups(outer, inner, coefficients) -> list[tuple[int, Any, Any]]:
-    """Terms grouped by their `outer` monomial: (outer row, inner rows, coefficients)."""
+def _exponent_arrays(ring: PolynomialRing, p, positions: Sequence[int]):
+    """(exponents restricted to `positions` (terms × variables), float coefficients)."""
     import numpy as np
 
-    if len(outer) == 0:  # a zero polynomial (a derivative of what does not use x)
-        return []
-    order = np.argsort(outer, kind="stable")
-    starts = np.flatnonzero(np.diff(outer[order], prepend=-1))
-    ends = [*starts[1:], len(order)]
-    return [(int(outer[order[s]]), inner[order[s:e]], coefficients[order[s:e]])
-            for s, e in zip(starts, ends, strict=True)]
+    terms = ring.terms(p)
+    if not terms:
+        return np.zeros((0, len(positions)), dtype=np.int64), np.zeros(0)
+    exponents = np.array([m for m, _ in terms], dtype=np.int64).reshape(len(terms), -1)
+    return exponents[:, positions], np.array([float(c) for _, c in terms])
 
 
-class _Scratch:
-    """Work arrays kept between the chunks of one evaluation, grown when too small."""
+class RationalForm:
+    """A closed form as numerator/denominator polynomials in `symbols` (exact and numpy);
+    the symbols in `fixed` are set to their values once, in the polynomials. `order`, names
+    in an order that follows the circuit, is tried for the Horner diagram beside the
+    symbols' own order (the smaller diagram is kept)."""
 
-    def __init__(self) -> None:
-        self.arrays: dict[str, Any] = {}
+    def __init__(self, expression: sympy.Expr | RationalFunction,
+                 symbols: Sequence[sympy.Symbol],
+                 fixed: Mapping[sympy.Symbol, Fraction] | None = None,
+                 order: Sequence[str] = ()) -> None:
+        fixed = dict(fixed or {})
+        self.symbols = list(symbols)
+        if not self.symbols:
+            raise ValueError("no variables")
+        function = _function(expression, [*self.symbols, *fixed])
+        ring = function.ring
+        top, bottom = function.numerator, function.denominator
+        for x, v in fixed.items():
+            if str(x) in ring.names:
+                top, bottom = substitute_quotient(top, bottom, str(x),
+                                                  ring.constant(v.numerator),
+                                                  ring.constant(v.denominator), ring)
+        self.ring, self.numerator, self.denominator = ring, top, bottom
+        self.names = [str(x) for x in self.symbols]  # as algebra.convert names them
+        self.order = list(order)
+        self._derivatives: dict[int, tuple[Any, Any]] = {}
 
-    def get(self, name: str, rows: int, columns: int):
+    @property
+    def size(self) -> int:
+        """Terms of numerator and denominator together."""
+        return len(self.numerator) + len(self.denominator)
+
+    @cached_property
+    def _used(self) -> list[int]:
+        """Positions (in `symbols`) of the variables N or D use."""
+        return [k for k, n in enumerate(self.names) if n in self.ring.names]
+
+    @cached_property
+    def _arrays(self) -> list[tuple[Any, Any]]:
+        """(exponents in the order of `symbols`, float coefficients) of N and of D."""
+        ring, used = self.ring, self._used
+        positions = [ring.index(self.names[k]) for k in used]
+        return [(_widen(e, used, len(self.names)), c) for e, c in
+                (_exponent_arrays(ring, p, positions) for p in (self.numerator, self.denominator))]
+
+    @cached_property
+    def _diagram(self) -> _Diagram:
+        used, polynomials = self._used, self._arrays
+        candidates = [used]
+        hinted = [self.names.index(n) for n in self.order if n in self.names]
+        hinted = [k for k in hinted if k in used]
+        hinted += [k for k in used if k not in hinted]
+        if hinted != used:
+            candidates.append(hinted)
+        diagrams = [_Diagram(polynomials, len(self.names), order) for order in candidates]
+        return min(diagrams, key=lambda d: d.size)
+
+    # -- exact
+    def _values(self, point: Mapping[sympy.Symbol, Fraction]) -> dict[str, Fraction]:
+        return {str(x): Fraction(point[x]) for x in self.symbols}
+
+    def exact(self, point: Mapping[sympy.Symbol, Fraction]) -> Fraction | None:
+        """The value at `point`, exactly; None at a pole."""
+        values = self._values(point)
+        denominator = self.ring.evaluate(self.denominator, values)
+        if denominator == 0:
+            return None
+        return self.ring.evaluate(self.numerator, values) / denominator
+
+    def exact_gradient(self, point: Mapping[sympy.Symbol, Fraction]) -> list[Fraction] | None:
+        """Every ∂Q/∂x_k at `point`, exactly (quotient rule); None at a pole."""
+        ring, values = self.ring, self._values(point)
+        n, d = ring.evaluate(self.numerator, values), ring.evaluate(self.denominator, values)
+        if d == 0:
+            return None
+        out = []
+        for k in range(len(self.symbols)):
+            dn, dd = (ring.evaluate(p, values) for p in self._derivative(k))
+            out.append((dn * d - n * dd) / (d * d))
+        return out
+
+    def _derivative(self, k: int):
+        if k not in self._derivatives:
+            name = self.names[k]
+            self._derivatives[k] = (self.ring.derivative(self.numerator, name),
+                                    self.ring.derivative(self.denominator, name))
+        return self._derivatives[k]
+
+    # -- vectorised
+    def _chunks(self, columns: Sequence[Any], size: int):
+        """(start, stop, the columns' slices) of chunks that bound the working memory."""
         import numpy as np
 
-        array = self.arrays.get(name)
-        if array is None or array.shape[0] < rows or array.shape[1] < columns:
-            array = self.arrays[name] = np.empty((max(rows, 1), columns))
-        return array[:rows, :columns]
+        step = max(256, min(16384, CHUNK_CELLS // max(self._diagram.count, 1)))
+        arrays = [np.asarray(c, dtype=float) for c in columns]
+        arrays = [a if a.shape == (size,) else np.broadcast_to(a, (size,)) for a in arrays]
+        for start in range(0, size, step):
+            stop = min(size, start + step)
+            yield start, stop, [a[start:stop] for a in arrays]
+
+    def _parts(self, columns: Sequence[Any], size: int):
+        """N and D at the points."""
+        import numpy as np
+
+        diagram = self._diagram
+        out = np.zeros((2, size))
+        for start, stop, part in self._chunks(columns, size):
+            values, _ = diagram.forward(part)
+            for k, root in enumerate(diagram.roots):
+                if root is not None:
+                    out[k, start:stop] = values[root]
+        return out
+
+    def values(self, columns: Sequence[Any], size: int):
+        import numpy as np
+
+        numerator, denominator = self._parts(columns, size)
+        with np.errstate(all="ignore"):
+            return numerator / denominator
+
+    def partials(self, columns: Sequence[Any], size: int):
+        """Points × variables: every ∂Q/∂x_k, by one backward pass seeded with ∂Q/∂N = 1/D
+        and ∂Q/∂D = −N/D²."""
+        import numpy as np
+
+        diagram = self._diagram
+        out = np.zeros((size, len(self.symbols)))
+        for start, stop, part in self._chunks(columns, size):
+            values, powers = diagram.forward(part)
+            n_root, d_root = diagram.roots
+            n = values[n_root] if n_root is not None else np.zeros(stop - start)
+            d = values[d_root]
+            seeds = {d_root: -n / (d * d)} if n_root is None else \
+                {n_root: 1.0 / d, d_root: -n / (d * d)}
+            with np.errstate(all="ignore"):
+                if n_root == d_root:
+                    seeds = {d_root: 1.0 / d - n / (d * d)}
+                out[start:stop] = diagram.backward(values, powers, seeds, len(self.symbols))
+        return out
+
+    def corner_partials(self, lows: Sequence[float], highs: Sequence[float]):
+        """Corners × variables: every ∂Q/∂x_k at every corner (index as in `corners`)."""
+        return self.partials(_corner_columns(lows, highs), 2 ** len(lows))
+
+    def denominator_corners(self, lows: Sequence[float], highs: Sequence[float]):
+        """The denominator at every corner of the box (index as in `corners`)."""
+        return self._parts(_corner_columns(lows, highs), 2 ** len(lows))[1]
+
+    def denominator_values(self, columns: Sequence[Any], size: int):
+        return self._parts(columns, size)[1]
+
+    def denominator_sign(self, point: Mapping[sympy.Symbol, Fraction]) -> int:
+        """The sign of the denominator at `point`, exactly."""
+        value = self.ring.evaluate(self.denominator, self._values(point))
+        return (value > 0) - (value < 0)
+
+    def denominator_is_constant(self) -> bool:
+        return self.ring.is_constant(self.denominator)
+
+    def denominator_names(self) -> tuple[str, ...]:
+        """The variables the denominator uses."""
+        return self.ring.variables(self.denominator)
+
+    def denominator_degree(self) -> int:
+        """The highest power of any one variable in the denominator."""
+        return max(self.ring.degrees(self.denominator), default=0)
+
+    def denominator_terms(self) -> tuple[Any, Any]:
+        """(exponents in the order of `symbols` (terms × variables), float coefficients) of
+        the denominator."""
+        return self._arrays[1]
+
+    def corners(self, lows: Sequence[float], highs: Sequence[float]):
+        return self.values(_corner_columns(lows, highs), 2 ** len(lows))
 
 
-def _inner(groups, table, count: int, scratch: _Scratch | None = None):
-    """For every outer monomial, Σ c·(inner monomial) over its terms (rows × points)."""
-    scratch = scratch or _Scratch()
-    size = table.shape[1]
-    out = scratch.get(f"inner{count}", count, size)
-    out[...] = 0.0
-    for row, rows, coefficients in groups:
-        out[row] = coefficients @ table[rows]
+def _widen(exponents, used: list[int], width: int):
+    """Exponent columns of the `used` variables placed among `width` (zeros elsewhere)."""
+    import numpy as np
+
+    out = np.zeros((len(exponents), width), dtype=np.int64)
+    out[:, used] = exponents
     return out
+
+
+def _function(expression: sympy.Expr | RationalFunction,
+              symbols: Sequence[sympy.Symbol]) -> RationalFunction:
+    """`expression` as the engine's rational function; ValueError when it is none."""
+    if isinstance(expression, RationalFunction):
+        return expression
+    from ..algebra.convert import to_function
+    from ..algebra.polynomials import AlgebraError
+
+    used = sorted(expression.free_symbols, key=str)
+    numerator, denominator = sympy.fraction(sympy.together(expression))
+    if not (numerator.is_polynomial(*used) and denominator.is_polynomial(*used)):
+        raise ValueError("not a rational function of its symbols")
+    names = [str(x) for x in (*symbols, *used)]
+    try:
+        return to_function(expression, PolynomialRing(names))
+    except AlgebraError as problem:
+        raise ValueError(str(problem)) from None
 
 
 def _corner_columns(lows: Sequence[float], highs: Sequence[float]):
@@ -221,174 +383,6 @@ def _corner_columns(lows: Sequence[float], highs: Sequence[float]):
     n = len(lows)
     bits = (np.arange(2**n)[:, None] >> np.arange(n)) & 1
     return [np.where(bits[:, j] == 1, highs[j], lows[j]) for j in range(n)]
-
-
-class RationalForm:
-    """A closed form as numerator/denominator polynomials in `symbols` (exact and numpy);
-    the symbols in `fixed` are set to their values once, in the polynomials."""
-
-    def __init__(self, expression: sympy.Expr, symbols: Sequence[sympy.Symbol],
-                 fixed: Mapping[sympy.Symbol, Fraction] | None = None) -> None:
-        from sympy import QQ
-        from sympy.polys.rings import ring
-
-        fixed = dict(fixed or {})
-        self.symbols = list(symbols)
-        if not self.symbols:
-            raise ValueError("no variables")
-        everything, *generators = ring([*self.symbols, *fixed], QQ)
-        try:  # a result from the engine is already a ratio of expanded polynomials
-            parts = [everything.from_expr(p) for p in sympy.fraction(expression)]
-        except ValueError:
-            parts = [everything.from_expr(p)
-                     for p in sympy.fraction(sympy.together(expression))]
-        values = [(g, QQ(v.numerator, v.denominator))
-                  for g, v in zip(generators[len(self.symbols):], fixed.values(), strict=True)]
-        if values:
-            parts = [p.evaluate(values) for p in parts]
-        self.numerator, self.denominator = parts
-        self.generators = list(self.numerator.ring.gens)
-        self._derivatives: dict[Any, tuple[Any, Any]] = {}
-
-    @cached_property
-    def _numeric(self) -> _Vectorised:
-        return _Vectorised([self.numerator, self.denominator], len(self.symbols))
-
-    @property
-    def size(self) -> int:
-        """Terms of numerator and denominator together."""
-        return len(self.numerator) + len(self.denominator)
-
-    @cached_property
-    def _expressions(self) -> tuple[sympy.Expr, sympy.Expr]:
-        return self.numerator.as_expr(), self.denominator.as_expr()
-
-    def _derivative_expressions(self, k: int) -> tuple[sympy.Expr, sympy.Expr]:
-        key = ("expressions", k)
-        if key not in self._derivatives:
-            self._derivatives[key] = tuple(p.as_expr() for p in self._derivative(k))
-        return self._derivatives[key]
-
-    def derivative_expression(self, k: int) -> sympy.Expr:
-        """∂Q/∂x_k as (N'·D − N·D')/D², the polynomials kept as they are (not multiplied out)."""
-        dn, dd = self._derivative_expressions(k)
-        n, d = self._expressions
-        return (dn * d - n * dd) / d**2
-
-    def relative_expression(self, k: int) -> sympy.Expr:
-        """(x_k/Q)·∂Q/∂x_k as x_k·N'/N − x_k·D'/D (the logarithmic derivative)."""
-        dn, dd = self._derivative_expressions(k)
-        n, d = self._expressions
-        x = self.symbols[k]
-        return x * dn / n - x * dd / d
-
-    # -- exact
-    def _terms(self, poly, point: Mapping[sympy.Symbol, Fraction]):
-        """P and every x_k·∂P/∂x_k at `point`, exactly, from one pass over the terms."""
-        from sympy import QQ
-
-        x = [QQ(point[s].numerator, point[s].denominator) for s in self.symbols]
-        total, weighted = QQ(0), [QQ(0)] * len(x)
-        for monomial, coefficient in poly.items():
-            term = coefficient
-            for value, power in zip(x, monomial, strict=True):
-                if power:
-                    term *= value**power
-            total += term
-            for k, power in enumerate(monomial):
-                if power:
-                    weighted[k] += power * term
-        return total, weighted
-
-    @staticmethod
-    def _fraction(value) -> Fraction:
-        return Fraction(int(value.numerator), int(value.denominator))
-
-    def exact(self, point: Mapping[sympy.Symbol, Fraction]) -> Fraction | None:
-        """The value at `point`, exactly; None at a pole."""
-        denominator = self._terms(self.denominator, point)[0]
-        if denominator == 0:
-            return None
-        return self._fraction(self._terms(self.numerator, point)[0] / denominator)
-
-    def exact_gradient(self, point: Mapping[sympy.Symbol, Fraction]) -> list[Fraction] | None:
-        """Every ∂Q/∂x_k at `point`, exactly (quotient rule); None at a pole."""
-        from sympy import QQ
-
-        n, xn = self._terms(self.numerator, point)
-        d, xd = self._terms(self.denominator, point)
-        if d == 0:
-            return None
-        out = []
-        for k, symbol in enumerate(self.symbols):
-            x = point[symbol]
-            if x != 0:
-                value = (xn[k] * d - n * xd[k]) / (QQ(x.numerator, x.denominator) * d * d)
-            else:  # x·∂P/∂x says nothing at x = 0: use the derivative polynomials
-                dn, dd = self._derivative(k)
-                value = (self._terms(dn, point)[0] * d - n * self._terms(dd, point)[0]) / (d * d)
-            out.append(self._fraction(value))
-        return out
-
-    def _derivative(self, k: int):
-        if k not in self._derivatives:
-            g = self.generators[k]
-            self._derivatives[k] = (self.numerator.diff(g), self.denominator.diff(g))
-        return self._derivatives[k]
-
-    # -- vectorised
-    def values(self, columns: Sequence[Any], size: int):
-        import numpy as np
-
-        numerator, denominator = self._numeric.values(columns, size)
-        with np.errstate(all="ignore"):
-            return numerator / denominator
-
-    def partials(self, columns: Sequence[Any], size: int):
-        """Points × variables: every ∂Q/∂x_k."""
-        n, d = self._numeric.values(columns, size)
-        xn, xd = self._numeric.weighted(columns, size)
-        return self._quotient(columns, size, n, d, xn, xd)
-
-    def corner_partials(self, lows: Sequence[float], highs: Sequence[float]):
-        """Corners × variables: every ∂Q/∂x_k at every corner (index as in `corners`)."""
-        n, d = self._numeric.corners(lows, highs)
-        xn, xd = self._numeric.corner_weighted(lows, highs)
-        columns = _corner_columns(lows, highs)
-        return self._quotient(columns, 2 ** len(lows), n, d, xn, xd)
-
-    def _quotient(self, columns, size, n, d, xn, xd):
-        """∂Q/∂x_k from x_k·∂P/∂x_k divided by x_k (where a coordinate is zero, from the
-        derivative polynomials instead)."""
-        import numpy as np
-
-        x = np.column_stack([np.asarray(c, dtype=float) for c in columns])
-        with np.errstate(all="ignore"):
-            out = (xn * d[:, None] - n[:, None] * xd) / (x * (d * d)[:, None])
-            for k in np.flatnonzero((x == 0).any(axis=0)):
-                derivatives = _Vectorised(self._derivative(int(k)), len(self.symbols))
-                dn, dd = derivatives.values(columns, size)
-                out[:, k] = (dn * d - n * dd) / (d * d)
-        return out
-
-    def denominator_corners(self, lows: Sequence[float], highs: Sequence[float]):
-        """The denominator at every corner of the box (index as in `corners`)."""
-        return self._numeric.corners(lows, highs)[1]
-
-    def denominator_values(self, columns: Sequence[Any], size: int):
-        return self._numeric.values(columns, size)[1]
-
-    def denominator_sign(self, point: Mapping[sympy.Symbol, Fraction]) -> int:
-        """The sign of the denominator at `point`, exactly."""
-        value = self._terms(self.denominator, point)[0]
-        return (value > 0) - (value < 0)
-
-    def corners(self, lows: Sequence[float], highs: Sequence[float]):
-        import numpy as np
-
-        numerator, denominator = self._numeric.corners(lows, highs)
-        with np.errstate(all="ignore"):
-            return numerator / denominator
 
 
 class LambdifiedForm:
@@ -442,11 +436,11 @@ class LambdifiedForm:
         return self.partials(_corner_columns(lows, highs), 2 ** len(lows))
 
 
-def closed_form(expression: sympy.Expr, symbols: Sequence[sympy.Symbol],
-                fixed: Mapping[sympy.Symbol, Fraction] | None = None):
+def closed_form(expression: sympy.Expr | RationalFunction, symbols: Sequence[sympy.Symbol],
+                fixed: Mapping[sympy.Symbol, Fraction] | None = None, order: Sequence[str] = ()):
     """The fastest evaluator that can hold `expression` (variables `symbols`, the symbols of
-    `fixed` at their values)."""
+    `fixed` at their values; `order` see RationalForm)."""
     try:
-        return RationalForm(expression, symbols, fixed)
+        return RationalForm(expression, symbols, fixed, order)
     except ValueError:
         return LambdifiedForm(expression, symbols, fixed)

@@ -380,9 +380,11 @@ def tolerance_analyses(circuit: Circuit, quantity: syntax.Quantity, options: Der
                     evaluate, symbols, circuit.symbol_nominals(), tolerances(circuit),
                     distribution, options.seed)))
                 continue
+            value = result.exact if result.exact is not None else result.expression
             analysis = tolerance.analyse(
-                result.expression, circuit.symbol_nominals(), tolerances(circuit),
-                definitions(circuit), distribution=distribution, seed=options.seed)
+                value, circuit.symbol_nominals(), tolerances(circuit), definitions(circuit),
+                distribution=distribution, seed=options.seed,
+                order=[*circuit.elements, *circuit.parameters])
         except tolerance.PoleInBox as problem:
             raise _at_tolerance(read, args[0], result, problem) from None
         except tolerance.ToleranceInputError as problem:

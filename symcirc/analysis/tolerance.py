@@ -10,15 +10,16 @@ term (absolute tolerance) for it.
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from fractions import Fraction
 from typing import Any, Literal
 
 import sympy
 
+from ..algebra.rational import RationalFunction, UndefinedValue
 from ..model.circuit import LAPLACE, Tolerance
-from .evaluate import closed_form
+from .evaluate import RationalForm, closed_form
 from .values import exact_value, expand_definitions
 
 MAX_CORNER_SYMBOLS = 16
@@ -111,7 +112,7 @@ class MonteCarlo:
 
 @dataclass(frozen=True)
 class ToleranceAnalysis:
-    expression: sympy.Expr
+    expression: sympy.Expr | RationalFunction
     """Q in the independent symbols (definitions expanded; untoleranced ones not set)."""
     nominal: Fraction
     variables: tuple[Variable, ...]
@@ -127,12 +128,14 @@ class ToleranceAnalysis:
 
 
 def independent(
-    expression: sympy.Expr,
+    expression: sympy.Expr | RationalFunction,
     nominals: Mapping[sympy.Symbol, Fraction],
     tolerances: Mapping[sympy.Symbol, Tolerance],
     definitions: Mapping[sympy.Symbol, sympy.Expr],
-) -> tuple[sympy.Expr, list[Variable], dict[sympy.Symbol, Fraction]]:
-    """Q with definitions expanded, its toleranced variables, and the values of the others."""
+) -> tuple[sympy.Expr | RationalFunction, list[Variable], dict[sympy.Symbol, Fraction]]:
+    """Q with definitions expanded, its toleranced variables, and the values of the others.
+
+    The engine's rational function stays one (no sympy) when no definition reaches it."""
     own: dict[sympy.Symbol, sympy.Expr] = {}
     variables: list[Variable] = []
     for x, tol in tolerances.items():
@@ -142,8 +145,15 @@ def independent(
             own[x] = definitions[x] * k if tol.relative else definitions[x] + k
             low, high = base - tol.minus, base + tol.plus
             variables.append(Variable(k, f"{x.name} (own tolerance)", base, low, high, tol))
-    expanded = expand_definitions(expression, _reaching(definitions, own, nominals, tolerances))
-    used = expanded.free_symbols
+    reaching = _reaching(definitions, own, nominals, tolerances)
+    if isinstance(expression, RationalFunction):
+        used = {sympy.Symbol(n) for n in expression.symbol_names()}
+        expanded = expression
+        if used & set(reaching):
+            expression = expression.to_sympy()
+    if not isinstance(expression, RationalFunction):
+        expanded = expand_definitions(expression, reaching)
+        used = expanded.free_symbols
     if LAPLACE in used:
         raise ToleranceInputError(
             "the quantity depends on s (a transfer function); ask at a frequency, e.g. "
@@ -187,15 +197,17 @@ def _reaching(
 
 
 def analyse(
-    expression: sympy.Expr,
+    expression: sympy.Expr | RationalFunction,
     nominals: Mapping[sympy.Symbol, Fraction],
     tolerances: Mapping[sympy.Symbol, Tolerance],
     definitions: Mapping[sympy.Symbol, sympy.Expr] | None = None,
     distribution: Distribution = "uniform",
     samples: int = DEFAULT_SAMPLES,
     seed: int | None = None,
+    order: Sequence[str] = (),
 ) -> ToleranceAnalysis:
-    """The tolerance analysis of `expression` (see the module docstring for the methods)."""
+    """The tolerance analysis of `expression` (see the module docstring for the methods);
+    `order`: the circuit's names in the order they were written (for the evaluator)."""
     import numpy as np
 
     seed = DEFAULT_SEED if seed is None else seed
@@ -205,7 +217,7 @@ def analyse(
     at_nominal = {v.symbol: v.nominal for v in variables}
     if not variables:
         return _fixed(q, fixed, distribution, samples, seed)
-    form = closed_form(q, [v.symbol for v in variables], fixed)
+    form = closed_form(q, [v.symbol for v in variables], fixed, order)
     nominal = form.exact(at_nominal)
     if nominal is None:
         raise ToleranceInputError("the quantity has no finite value at the nominal point")
@@ -261,10 +273,9 @@ def _check_denominator(form, variables: list[Variable]) -> list[str]:
     a pole inside the box was not ruled out."""
     import numpy as np
 
-    denominator = getattr(form, "denominator", None)
-    if denominator is None:  # no rational function (a square root): sampled only
+    if not isinstance(form, RationalForm):  # no rational function (a square root): sampled
         return []
-    if denominator.is_ground:
+    if form.denominator_is_constant():
         return []
     n = len(variables)
     lows = [float(v.low) for v in variables]
@@ -285,8 +296,9 @@ def _check_denominator(form, variables: list[Variable]) -> list[str]:
                      if abs(values[i]) <= 1e-9 * scale else int(np.sign(values[i]))
                      for i in indices}
         if len(signs) > 1 or 0 in signs:
+            used = form.denominator_names()
             blamed = next((v for v in variables if _reaches_zero(v)
-                           and v.symbol in denominator.as_expr().free_symbols), None)
+                           and v.symbol.name in used), None)
             what = ("its denominator is zero or changes sign between corners of the tolerance "
                     "box, so the quantity has a pole inside the box")
             if blamed is not None:
@@ -294,29 +306,33 @@ def _check_denominator(form, variables: list[Variable]) -> list[str]:
                          f"{_number(blamed.high)}) reaches zero, where no extreme exists; "
                          "narrow the band so that it stays on one side of zero")
             raise PoleInBox(what, blamed.symbol if blamed is not None else None)
-    if n <= MAX_CORNER_SYMBOLS and max(max(m) for m in denominator.monoms()) <= 1:
+    if n <= MAX_CORNER_SYMBOLS and form.denominator_degree() <= 1:
         return []
-    if _interval_excludes_zero(denominator, lows, highs):
+    if _interval_excludes_zero(form.denominator_terms(), lows, highs):
         return []
     return ["A pole inside the tolerance box was not ruled out: the denominator keeps its "
             "sign at the corners checked, but is not of degree one in each toleranced symbol "
             "and interval arithmetic over the box does not keep it away from zero."]
 
 
-def _interval_excludes_zero(poly, lows: list[float], highs: list[float]) -> bool:
-    """Interval arithmetic: is the polynomial kept away from zero over the box?"""
-    low_sum, high_sum = 0.0, 0.0
-    for monomial, coefficient in poly.items():
-        low, high = float(coefficient), float(coefficient)
-        for power, a, b in zip(monomial, lows, highs, strict=True):
-            if power:
-                ends = (a**power, b**power)
-                p_low = 0.0 if power % 2 == 0 and a < 0 < b else min(ends)
-                p_high = max(ends)
-                products = (low * p_low, low * p_high, high * p_low, high * p_high)
-                low, high = min(products), max(products)
-        low_sum += low
-        high_sum += high
+def _interval_excludes_zero(terms, lows: list[float], highs: list[float]) -> bool:
+    """Interval arithmetic: is the polynomial of these terms (exponents as terms ×
+    variables, coefficients) kept away from zero over the box?"""
+    import numpy as np
+
+    exponents, coefficients = terms
+    low, high = coefficients.astype(float), coefficients.astype(float)
+    for j, (a, b) in enumerate(zip(lows, highs, strict=True)):
+        power = exponents[:, j]
+        if not power.any():
+            continue
+        ends = np.vstack([np.float64(a) ** power, np.float64(b) ** power])
+        p_low = np.where((power % 2 == 0) & (a < 0 < b), 0.0, ends.min(axis=0))
+        p_low = np.where(power == 0, 1.0, p_low)
+        p_high = np.where(power == 0, 1.0, ends.max(axis=0))
+        products = np.vstack([low * p_low, low * p_high, high * p_low, high * p_high])
+        low, high = products.min(axis=0), products.max(axis=0)
+    low_sum, high_sum = float(low.sum()), float(high.sum())
     margin = 1e-9 * max(abs(low_sum), abs(high_sum), 1e-300)
     return low_sum > margin or high_sum < -margin
 
@@ -326,7 +342,7 @@ def _fixed(q: sympy.Expr, fixed: dict[sympy.Symbol, Fraction], distribution: Dis
     """The analysis of a quantity no tolerance reaches: every figure is the nominal value."""
     import numpy as np
 
-    nominal = exact_value(q, fixed)
+    nominal = _value(q, fixed)
     if nominal is None:
         raise ToleranceInputError("the quantity has no finite value at the nominal point")
     x = float(nominal)
@@ -338,6 +354,17 @@ def _fixed(q: sympy.Expr, fixed: dict[sympy.Symbol, Fraction], distribution: Dis
         monte_carlo=MonteCarlo(distribution, samples, seed, x, 0.0, x, x, x, x,
                                np.full(samples, x)),
     )
+
+
+def _value(q: sympy.Expr | RationalFunction,
+           values: Mapping[sympy.Symbol, Fraction]) -> Fraction | None:
+    """q at `values` exactly; None at a pole."""
+    if not isinstance(q, RationalFunction):
+        return exact_value(q, values)
+    try:
+        return q.evaluate({x.name: v for x, v in values.items()})
+    except UndefinedValue:
+        return None
 
 
 def _random_corners(variables: list[Variable], rng, count: int):
