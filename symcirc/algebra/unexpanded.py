@@ -42,7 +42,7 @@ class Texts:
     the same denominator): each written once. Keeps the polynomials, so ids stay unique."""
 
     def __init__(self, ring: PolynomialRing) -> None:
-        self.ring = ring
+        self.polynomial_ring = ring
         self._memo: dict[tuple[int, bool], tuple[Poly, str, int]] = {}
 
     def of(self, p: Poly, latex: bool) -> tuple[str, int]:
@@ -50,7 +50,7 @@ class Texts:
         key = (id(p), latex)
         if key not in self._memo:
             write = polynomial_latex if latex else polynomial_text
-            self._memo[key] = (p, *write(self.ring, p))
+            self._memo[key] = (p, *write(self.polynomial_ring, p))
         _, text, summands = self._memo[key]
         return text, summands
 
@@ -60,7 +60,7 @@ class Unexpanded:
 
     def __init__(self, quotients: Sequence[Quotient], ring: PolynomialRing,
                  texts: Texts | None = None) -> None:
-        self.ring = ring
+        self.polynomial_ring = ring
         self.quotients = tuple(q for q in quotients if q.numerator)
         self.texts = texts or Texts(ring)
 
@@ -86,18 +86,18 @@ class Unexpanded:
 
     def times(self, top: Poly, bottom: Poly) -> Unexpanded:
         """The form times top/bottom (one-term polynomials: a symbol over a reference)."""
-        ring = self.ring
+        ring = self.polynomial_ring
         return Unexpanded([Quotient(
             tuple(_product(p.sign, [(top, 1), *p.factors], ring) for p in q.numerator),
             _product(q.denominator.sign, [(bottom, 1), *q.denominator.factors], ring))
             for q in self.quotients], ring, self.texts)
 
     def __add__(self, other: Unexpanded) -> Unexpanded:
-        return Unexpanded(self.quotients + other.quotients, self.ring, self.texts)
+        return Unexpanded(self.quotients + other.quotients, self.polynomial_ring, self.texts)
 
     def __neg__(self) -> Unexpanded:
         return Unexpanded([Quotient(tuple(Product(-p.sign, p.factors) for p in q.numerator),
-                                    q.denominator) for q in self.quotients], self.ring,
+                                    q.denominator) for q in self.quotients], self.polynomial_ring,
                           self.texts)
 
     def __sub__(self, other: Unexpanded) -> Unexpanded:
@@ -126,8 +126,8 @@ class Unexpanded:
     def symbol_names(self) -> tuple[str, ...]:
         used: set[str] = set()
         for f in self._polynomials():
-            used.update(self.ring.variables(f))
-        return tuple(n for n in self.ring.names if n in used)
+            used.update(self.polynomial_ring.variables(f))
+        return tuple(n for n in self.polynomial_ring.names if n in used)
 
     def _polynomials(self):
         for q in self.quotients:
@@ -145,7 +145,7 @@ class Unexpanded:
             out = Fraction(p.sign)
             for f, power in p.factors:
                 if id(f) not in memo:
-                    memo[id(f)] = self.ring.evaluate(f, values)
+                    memo[id(f)] = self.polynomial_ring.evaluate(f, values)
                 out *= memo[id(f)] ** power
             return out
 
@@ -179,7 +179,7 @@ class Unexpanded:
 
         def poly(f: Poly) -> sympy.Expr:
             if id(f) not in memo:
-                memo[id(f)] = self.ring.to_sympy(f)
+                memo[id(f)] = self.polynomial_ring.to_sympy(f)
             return memo[id(f)]
 
         def product(p: Product) -> sympy.Expr:
@@ -239,7 +239,7 @@ class _Writer:
 
     def __init__(self, texts: Texts, latex: bool) -> None:
         self.texts = texts
-        self.ring = texts.ring
+        self.polynomial_ring = texts.polynomial_ring
         self.latex = latex
 
     def _polynomial(self, f: Poly) -> tuple[str, int]:
@@ -248,7 +248,7 @@ class _Writer:
     def _factor(self, f: Poly, power: int) -> str:
         text, summands = self._polynomial(f)
         if summands > 1 or text.startswith("-") or (power > 1 and len(f) == 1
-                                                    and not self.ring.is_constant(f)):
+                                                    and not self.polynomial_ring.is_constant(f)):
             text = (r"\left(" + text + r"\right)") if self.latex else "(" + text + ")"
         if power == 1:
             return text

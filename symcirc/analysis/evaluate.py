@@ -371,9 +371,12 @@ def _function(expression: sympy.Expr | RationalFunction,
         raise ValueError("not a rational function of its symbols")
     names = [str(x) for x in (*symbols, *used)]
     try:
-        return to_function(expression, PolynomialRing(names))
+        function = to_function(expression, PolynomialRing(names))
     except AlgebraError as problem:
         raise ValueError(str(problem)) from None
+    if set(function.symbol_names()) - set(names):  # an atom such as pi
+        raise ValueError("not a rational function of its symbols")
+    return function
 
 
 def _corner_columns(lows: Sequence[float], highs: Sequence[float]):

@@ -428,10 +428,34 @@ def tolerance_quantity(circuit: Circuit, quantity: syntax.Quantity,
         return rejection.tolerance_quantity(circuit, quantity, inner, options, distribution)
     out = []
     for inner, a in tolerance_analyses(circuit, quantity, options):
-        out.append(Result(f"tolerance({inner.quantity})", inner.expression, inner.unit,
+        value = inner.expression if inner.exact is None else _WrittenBySympy(inner)
+        out.append(Result(f"tolerance({inner.quantity})", value, inner.unit,
                           _names(circuit.symbol_nominals()), tuple(_tolerance_sentences(inner, a)),
                           details={"tolerance": _tolerance_details(a)}))
     return out
+
+
+class _WrittenBySympy:
+    """The value of an engine result, written as sympy writes it (as `tolerance(Q)` always
+    has been) but turned into sympy only when shown: a note reads only the analysis."""
+
+    def __init__(self, inner: Result) -> None:
+        self.inner = inner
+
+    def to_sympy(self) -> sympy.Expr:
+        return self.inner.expression
+
+    def to_text(self) -> str:
+        return sympy.sstr(self.inner.expression)
+
+    def to_latex(self) -> str:
+        return latex_of(self.inner.expression)
+
+    def symbol_names(self) -> tuple[str, ...]:
+        return self.inner.symbols
+
+    def evaluate(self, values: dict[str, Fraction]) -> Fraction:
+        return self.inner.exact.evaluate(values)
 
 
 def _tolerance_sentences(inner: Result, a: tolerance.ToleranceAnalysis) -> list[str]:

@@ -76,10 +76,12 @@ def as_function(expression: sympy.Expr | RationalFunction) -> RationalFunction |
     numerator, denominator = sympy.fraction(sympy.together(expression))
     if not (numerator.is_polynomial(*symbols) and denominator.is_polynomial(*symbols)):
         return None
+    names = [str(x) for x in symbols]
     try:
-        return to_function(expression, PolynomialRing([str(x) for x in symbols]))
+        function = to_function(expression, PolynomialRing(names))
     except (ValueError, AlgebraError):
         return None
+    return None if set(function.symbol_names()) - set(names) else function  # pi: no
 
 
 class _Quotient:

@@ -78,3 +78,42 @@ def test_square_roots_fall_back_to_lambdify():
     assert isinstance(form, LambdifiedForm)
     assert form.exact({x: Fraction(4), y: Fraction(3)}) == 6
     assert form.values([np.array([9.0]), np.array([2.0])], 1)[0] == pytest.approx(6.0)
+
+
+def test_an_atom_such_as_pi_falls_back_to_lambdify():
+    form = closed_form(sympy.pi * x / (1 + y), [x, y])
+    assert isinstance(form, LambdifiedForm)
+
+
+def test_horner_diagram_against_exact_evaluation_of_an_engine_result():
+    """A six-section ladder's output (the engine's rational function, 233 denominator
+    terms): numbers at random points and corners against exact rational evaluation, and
+    the circuit's order of parts giving the smaller diagram (Rs1, Rp1, Rs2, ... follows the
+    ladder; the names' order does not)."""
+    import symcirc
+
+    lines = ["voltage source U (n0, gnd) = 1 V"]
+    for i in range(1, 7):
+        lines += [f"resistor Rs{i} (n{i - 1}, n{i}) = 1k", f"resistor Rp{i} (n{i}, gnd) = 3k"]
+    circuit = symcirc.parse("\n".join([*lines, "port out (n6, gnd)"]) + "\n")
+    (result,) = circuit.derive("V(out)")
+    names = list(result.exact.symbol_names())
+    symbols = [sympy.Symbol(n) for n in names]
+    plain = RationalForm(result.exact, symbols)
+    hinted = RationalForm(result.exact, symbols, order=list(circuit.elements))
+    assert hinted._diagram.size < plain._diagram.size / 3
+    rng = np.random.default_rng(5)
+    points = [rng.integers(1, 20, 50).astype(float) for _ in symbols]
+    for form in (plain, hinted):
+        values = form.values(points, 50)
+        partials = form.partials(points, 50)
+        for i in range(50):
+            point = {s: Fraction(int(c[i])) for s, c in zip(symbols, points, strict=True)}
+            assert values[i] == pytest.approx(float(form.exact(point)), rel=1e-13)
+            exact = form.exact_gradient(point)
+            assert partials[i] == pytest.approx([float(g) for g in exact], rel=1e-12)
+    lows, highs = [1.0] * len(symbols), [2.0] * len(symbols)
+    corners = hinted.corners(lows, highs)
+    for i in (0, 1, 2**len(symbols) - 1, 4321):
+        point = {s: Fraction(2 if i >> j & 1 else 1) for j, s in enumerate(symbols)}
+        assert corners[i] == pytest.approx(float(hinted.exact(point)), rel=1e-13)
