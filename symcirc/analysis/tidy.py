@@ -1,5 +1,5 @@
 """Readable closed forms of rational functions, fast: cancelled by the exact polynomial gcd
-and factored, through the engine's integer polynomial rings (python-flint when present).
+and factored, through the algebra package (python-flint when present).
 
 sympy's own factor(cancel(..)) does the same at the expression level and takes tens of
 seconds on the derivatives of a mid-sized bridge result; this takes milliseconds.
@@ -19,64 +19,41 @@ def tidy(expression: sympy.Expr) -> sympy.Expr:
     symbols = sorted(expression.free_symbols, key=str)
     if not symbols:
         return sympy.cancel(expression)
-    parts = _integer_parts(expression, symbols)
-    if parts is None:
+    function = _function(expression, symbols)
+    if function is None:
         return sympy.factor(sympy.cancel(expression))
-    scale, numerator, denominator = parts
-    return _factored(scale, numerator, denominator, symbols)
-
-
-def _integer_parts(expression: sympy.Expr, symbols: list[sympy.Symbol]):
-    """(rational scale, integer numerator terms, integer denominator terms) or None."""
-    from sympy import QQ
-    from sympy.polys.polyerrors import CoercionFailed, PolynomialError
-    from sympy.polys.rings import ring
-
-    everything = ring(symbols, QQ)[0]
-    try:
-        numerator, denominator = (everything.from_expr(p)
-                                  for p in sympy.fraction(sympy.together(expression)))
-    except (ValueError, CoercionFailed, PolynomialError):
-        return None
-    if not denominator:
-        return None
-    n_scale, numerator = numerator.clear_denoms()
-    d_scale, denominator = denominator.clear_denoms()
-    scale = sympy.Rational(d_scale) / sympy.Rational(n_scale)
-    return (scale, [(m, int(c)) for m, c in numerator.terms()],
-            [(m, int(c)) for m, c in denominator.terms()])
-
-
-def _factored(scale, numerator, denominator, symbols) -> sympy.Expr:
-    from ..algebra.polynomials import PolynomialRing
-
-    names = [str(x) for x in symbols]
-    ring = PolynomialRing(names)
-    order = [ring.index(n) for n in names]
-
-    def poly(terms):
-        moved = []
-        for monomial, coefficient in terms:
-            exponents = [0] * len(order)
-            for position, e in zip(order, monomial, strict=True):
-                exponents[position] = e
-            moved.append((tuple(exponents), coefficient))
-        return ring.from_terms(moved)
-
-    top, bottom = poly(numerator), poly(denominator)
-    if ring.is_zero(top):
+    if function.is_zero():
         return sympy.Integer(0)
-    common = ring.gcd(top, bottom)
-    top, bottom = ring.exquo(top, common), ring.exquo(bottom, common)
-    if ring.leading_coefficient(bottom) < 0:
-        top, bottom = -top, -bottom
-    constant = sympy.Rational(scale)
+    ring = function.ring
+    constant = sympy.Integer(1)
     factors: list[sympy.Expr] = []
-    for p, sign in ((top, 1), (bottom, -1)):
+    for p, sign in ((function.numerator, 1), (function.denominator, -1)):
         content, pieces = _factor(ring, p)
         constant *= sympy.Integer(content) ** sign
         factors += [ring.to_sympy(f) ** (sign * e) for f, e in pieces]
     return sympy.Mul(constant, *factors)
+
+
+def _function(expression: sympy.Expr, symbols: list[sympy.Symbol]):
+    """The expression as the algebra's rational function in lowest terms (a float taken as
+    the simple rational it stands for), or None when it is none."""
+    from ..algebra.convert import to_function
+    from ..algebra.polynomials import AlgebraError, PolynomialRing
+
+    floats = expression.atoms(sympy.Float)
+    if floats:
+        from sympy.polys.domains import RR
+
+        expression = expression.xreplace(
+            {f: sympy.Rational(*RR.to_rational(RR.from_sympy(f))) for f in floats})
+    names = [str(x) for x in symbols]
+    try:
+        function = to_function(expression, PolynomialRing(names))
+    except (ValueError, AlgebraError):
+        return None
+    if set(function.symbol_names()) - set(names):  # an atom: a square root, pi
+        return None
+    return function
 
 
 def _factor(ring, p) -> tuple[int, list[tuple[object, int]]]:
