@@ -182,3 +182,26 @@ def test_large_forms_through_definitions_against_sympy_diff(monkeypatch):
             assert sympy.cancel(sympy.sympify(row.derivative.to_text()) - expected) == 0
             relative = row.symbol * expected / expanded
             assert sympy.cancel(sympy.sympify(row.relative.to_text()) - relative) == 0
+
+
+def test_text_output_of_a_large_table_builds_no_latex(cli, circuit_file, monkeypatch):
+    """A five-section ladder's table (89-term results: the unexpanded forms): `derive`
+    prints it without writing any LaTeX; JSON carries the LaTeX of every derivative."""
+    import json
+
+    from symcirc.algebra.unexpanded import Unexpanded
+
+    lines = ["voltage source U (n0, gnd) = 1 V"]
+    for i in range(1, 6):
+        lines += [f"resistor Rs{i} (n{i - 1}, n{i}) = 1k", f"resistor Rp{i} (n{i}, gnd) = 2k"]
+    path = circuit_file("\n".join([*lines, "port out (n5, gnd)"]) + "\n")
+    built = []
+    latex = Unexpanded.to_latex
+    monkeypatch.setattr(Unexpanded, "to_latex", lambda self: built.append(1) or latex(self))
+    status, out, _ = cli("derive", path, "sensitivities(V(out))")
+    assert status == 0 and out.count("sensitivities(V(out)).") == 11 and not built
+    status, out, _ = cli("derive", path, "sensitivities(V(out))", "--format", "json")
+    rows = json.loads(out)["results"]
+    assert status == 0 and built
+    assert all(r["sensitivity"]["derivative_latex"].startswith(("\\frac{", "- \\frac{"))
+               for r in rows if r["sensitivity"]["symbol"] != "U")
