@@ -58,17 +58,24 @@ def command(*args: str) -> None:
         raise SystemExit(f"symcirc {' '.join(args)} failed with status {status}")
 
 
+NOTE = ("import resource, sys\n"
+        "from symcirc.cli import main\n"
+        "status = main(sys.argv[1:])\n"
+        "print(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss, file=sys.stderr)\n"
+        "sys.exit(status)\n")
+"""`symcirc note` in a fresh interpreter that reports its own peak resident size (kB)."""
+
+
 def note_in_child(path: Path, out: Path) -> tuple[float, float, float]:
     """(wall, CPU, peak MB) of `symcirc note` in a fresh process."""
     before = resource.getrusage(resource.RUSAGE_CHILDREN)
     start = time.perf_counter()
-    subprocess.run([sys.executable, "-c", "import sys; from symcirc.cli import main; "
-                    "sys.exit(main(sys.argv[1:]))", "note", str(path), "-o", str(out)],
-                   check=True, capture_output=True)
+    done = subprocess.run([sys.executable, "-c", NOTE, "note", str(path), "-o", str(out)],
+                          check=True, capture_output=True, text=True)
     wall = time.perf_counter() - start
     after = resource.getrusage(resource.RUSAGE_CHILDREN)
     cpu = (after.ru_utime + after.ru_stime) - (before.ru_utime + before.ru_stime)
-    return wall, cpu, after.ru_maxrss / 1024
+    return wall, cpu, int(done.stderr.split()[-1]) / 1024
 
 
 def main() -> int:
