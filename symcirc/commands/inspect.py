@@ -15,11 +15,11 @@ from typing import TYPE_CHECKING, Any
 
 from ..errors import Location, SymcircError
 from ..language import syntax
+from ..model.formula import Formula
 from ..model.units import as_float, engineering, tolerance_text
 
 if TYPE_CHECKING:
     from ..model.circuit import Circuit, Element, Notice, Parameter, Tolerance
-    from ..model.formula import Formula
 # The model is imported only once a file is read: `inspect --help` starts fast. Reading and
 # checking a circuit needs no sympy; it is imported only to show a value written as an
 # expression in sympy's text (a parameter's, and the JSON's definitions and claims).
@@ -309,9 +309,13 @@ def _tolerance_json(tolerance: Tolerance | None, unit: str) -> dict[str, Any] | 
             "relative": tolerance.relative, "text": _tolerance(tolerance, unit)}
 
 
-def _sstr(value: Formula) -> str:
-    """sympy's plain text of a value: a number or a name as it is, anything else through
-    sympy (imported for it)."""
+def _sstr(value: Formula | Any) -> str:
+    """sympy's plain text of a value (a formula of the model, or a sympy expression such
+    as a noise density's): a number or a name as it is, anything else through sympy."""
+    if not isinstance(value, Formula):
+        import sympy
+
+        return sympy.sstr(value)
     number = value.rational() if value.plain else None
     if number is not None:
         return str(number)
