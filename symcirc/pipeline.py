@@ -19,21 +19,23 @@ from __future__ import annotations
 from collections.abc import Sequence
 from dataclasses import dataclass, replace
 from pathlib import Path
-from typing import Any, Literal
+from typing import TYPE_CHECKING, Any, Literal
 
-import sympy
-
-from .check.claims import Verdict, decide
 from .check.dimensions import check_assumption, check_circuit, claim_problem, symbol_dimensions
 from .engine.memo import Memo
 from .errors import Location, SymcircError
 from .language import syntax
 from .model import typeset
 from .model.circuit import Assumption, Circuit, Claim
-from .quantities import check_assumptions, derive_quantity, options_from, read_quantity
-from .quantities.common import expanded_definitions
-from .quantities.registry import DeriveOptions
-from .results import Result
+
+if TYPE_CHECKING:  # pragma: no cover
+    import sympy
+
+    from .check.claims import Verdict
+    from .quantities.registry import DeriveOptions
+    from .results import Result
+# Deriving and deciding (and sympy with them) are imported on first use: reading and
+# checking a circuit (`symcirc inspect`) needs neither.
 
 COMMAND_LINE = "<command line>"
 """File name shown in errors about a quantity given on the command line (Python's are
@@ -100,6 +102,8 @@ class Pipeline:
         with a quantity); `fields` as `quantities.options_from` takes them (DeriveOptions
         fields, `limits={"A": "oo"}`, `where="Rid -> oo"`). Every clause is checked: it names
         a part of the circuit and `big >> small` compares like with like."""
+        from .quantities import check_assumptions, options_from
+
         options = options_from(None, memo=self.memo, **fields)
         if clauses:
             options = replace(options, assumptions=(*options.assumptions, *clauses))
@@ -112,6 +116,8 @@ class Pipeline:
                  ) -> tuple[syntax.Quantity, list[Assumption]]:
         """A quantity written as text with optional `where` clauses (`V(out) where A -> oo`),
         read by the grammar (errors name `origin`)."""
+        from .quantities import read_quantity
+
         return read_quantity(text, origin)
 
     def request(self, text: str, *, origin: str = COMMAND_LINE, **fields: Any) -> Request:
@@ -144,13 +150,15 @@ class Pipeline:
         return [result.replace(typeset=self.circuit.typeset) for result in results]
 
     def _derive(self, request: Request) -> list[Result]:
-        from .forms import finish
-        from .forms.dividers import Unsupported
+        from .quantities import derive_quantity
 
         results = derive_quantity(self.circuit, request.quantity, request.options)
         approximations = [a for a in request.options.assumptions if a.kind == "much_greater"]
         if not approximations and not request.options.steps:
             return results
+        from .forms import finish
+        from .forms.dividers import Unsupported
+
         try:
             results = finish(self.circuit, request.quantity, results, request.options)
         except Unsupported as problem:
@@ -176,15 +184,18 @@ class Pipeline:
     def claim(self, text: str, name: str) -> Claim:
         """A claim `QUANTITY = EXPRESSION` given outside the file (errors name `name`)."""
         from .language.parser import parse_claim
-        from .model.expressions import expression_in
+        from .model.expressions import formula_in
 
         quantity, written, expression_text = parse_claim(text, name)
-        expression = expression_in(self.circuit, written, name, text)
+        expression = formula_in(self.circuit, written, name, text)
         return Claim(quantity, quantity.text, expression, expression_text,
                      Location(name, 1, 1), written, (name, text))
 
     def decide(self, claim: Claim) -> ClaimOutcome:
         """Decide one claim exactly against its derived quantity, in common symbols."""
+        from .check.claims import decide
+        from .quantities import derive_quantity
+
         found = self._outcomes.get(id(claim))
         if found is not None and found.claim is claim:
             return found
@@ -215,6 +226,10 @@ class Pipeline:
         """Derived and claimed in the same symbols: where they use different ones (a claim
         in `R0`, `alpha` for `Rt = R0*(1 + alpha*T)`, or in a transformer's name for its
         ratio), both get every definition, which holds by the circuit's own statements."""
+        import sympy
+
+        from .quantities.common import expanded_definitions
+
         if claimed.free_symbols == derived.free_symbols:
             return derived, claimed
         memo = self.memo.of(self.circuit)

@@ -8,16 +8,25 @@ turning a large polynomial into a sympy expression costs far more than deriving 
 from __future__ import annotations
 
 import dataclasses
+import sys
 from collections.abc import Callable, Mapping
 from dataclasses import KW_ONLY, dataclass, field
 from fractions import Fraction
 from functools import cached_property
 from types import MappingProxyType
-from typing import Any, Protocol
-
-import sympy
+from typing import TYPE_CHECKING, Any, Protocol
 
 from .errors import Location, SymcircError
+
+if TYPE_CHECKING:  # pragma: no cover
+    import sympy
+
+
+def symbolic(value: object) -> bool:
+    """Whether a value is a sympy expression (none exists before sympy is imported, so
+    asking imports nothing)."""
+    sympy = sys.modules.get("sympy")
+    return sympy is not None and isinstance(value, sympy.Basic)
 
 
 def markdown_text(text: str) -> str:
@@ -166,18 +175,18 @@ class Result:
     @property
     def exact(self) -> ExactValue | None:
         """The engine's rational function, when the result came from the engine."""
-        return None if isinstance(self.value, sympy.Basic) else self.value
+        return None if symbolic(self.value) else self.value
 
     @cached_property
     def expression(self) -> sympy.Expr:
-        if isinstance(self.value, sympy.Basic):
+        if symbolic(self.value):
             return self.value
         return self.value.to_sympy()
 
     @cached_property
     def symbols(self) -> tuple[str, ...]:
         """Every name the expression uses, sorted."""
-        if isinstance(self.value, sympy.Basic):
+        if symbolic(self.value):
             return tuple(sorted(str(x) for x in self.value.free_symbols))
         return tuple(sorted(self.value.symbol_names()))
 
@@ -191,7 +200,9 @@ class Result:
         """Exact value at the nominal values, or None when a symbol has no value."""
         if self.missing:
             return None
-        if isinstance(self.value, sympy.Basic):
+        if symbolic(self.value):
+            import sympy
+
             subs = {sympy.Symbol(n): sympy.Rational(v.numerator, v.denominator)
                     for n, v in self.nominals.items()}
             value = self.value
@@ -235,7 +246,9 @@ class Result:
 
     # -- showing it
     def text(self) -> str:
-        if isinstance(self.value, sympy.Basic):
+        if symbolic(self.value):
+            import sympy
+
             return sympy.sstr(self.value)
         return self.value.to_text()
 
@@ -245,9 +258,9 @@ class Result:
         with names(self.typeset):
             # the engine writes LaTeX straight from its terms: far faster than sympy for
             # big results
-            if not isinstance(self.value, sympy.Basic) and hasattr(self.value, "to_latex"):
+            if not symbolic(self.value) and hasattr(self.value, "to_latex"):
                 return self.value.to_latex()
-            if isinstance(self.value, sympy.Float):  # a value found numerically
+            if symbolic(self.value) and self.value.is_Float:  # a value found numerically
                 from .model.units import number_latex
 
                 return number_latex(float(self.value), self.unit)

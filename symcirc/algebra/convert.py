@@ -14,12 +14,14 @@ from __future__ import annotations
 from collections.abc import Callable, Iterable, Mapping
 from fractions import Fraction
 from functools import cached_property
-
-import sympy
+from typing import TYPE_CHECKING
 
 from ..model.typeset import latex_of
 from .polynomials import PolynomialRing
 from .rational import RationalFunction
+
+if TYPE_CHECKING:  # pragma: no cover
+    import sympy
 
 ATOM_DIGITS = 40
 """Decimal digits kept when an atom (π, a square root) is evaluated at rational values."""
@@ -30,6 +32,8 @@ Operators = Mapping[type, Callable[[list[RationalFunction]], RationalFunction]]
 
 def atom_name(expr: sympy.Expr) -> str:
     """The ring variable standing for an irrational piece: `pi`, `sqrt(L1*L2)`, `(x**(1/3))`."""
+    import sympy
+
     if expr is sympy.pi:
         return "pi"
     text = sympy.sstr(expr)
@@ -49,6 +53,8 @@ def _balanced(text: str) -> bool:
 
 def _root(power: sympy.Pow) -> sympy.Expr | None:
     """`b^(1/q)` for a rational power `b^(p/q)` (not an integer one); None otherwise."""
+    import sympy
+
     exponent = power.exp
     if exponent.is_Rational and not exponent.is_Integer:
         return sympy.Pow(power.base, sympy.Rational(1, int(exponent.q)))
@@ -57,12 +63,15 @@ def _root(power: sympy.Pow) -> sympy.Expr | None:
 
 def atoms_of(expr: sympy.Expr, operators: Operators | None = None) -> dict[str, sympy.Expr]:
     """The atoms an expression needs, by ring name."""
+
     found: dict[str, sympy.Expr] = {}
     _collect(expr, found, operators or {})
     return found
 
 
 def _collect(expr: sympy.Expr, found: dict[str, sympy.Expr], operators: Operators) -> None:
+    import sympy
+
     if expr is sympy.pi:
         found["pi"] = expr
     elif isinstance(expr, sympy.Pow) and not expr.exp.is_Integer:
@@ -80,6 +89,8 @@ def _collect(expr: sympy.Expr, found: dict[str, sympy.Expr], operators: Operator
 
 def names_of(expr: sympy.Expr, operators: Operators | None = None) -> set[str]:
     """Ring variables an expression needs: its symbols outside atoms, and its atoms."""
+    import sympy
+
     atoms = atoms_of(expr, operators)
     if not atoms:
         return {str(x) for x in expr.free_symbols}
@@ -93,6 +104,8 @@ def to_function(expr: sympy.Expr, ring: PolynomialRing,
 
     Raises ValueError for what no rational function holds (a float, an infinity), and
     `rational.UndefinedValue` for a division by zero."""
+    import sympy
+
     if isinstance(expr, int):
         expr = sympy.Integer(expr)
     missing = names_of(expr, operators) - set(ring.names)
@@ -105,6 +118,7 @@ class _Converter:
     """One walk over an expression tree, sharing the work of repeated subexpressions."""
 
     def __init__(self, ring: PolynomialRing, operators: Operators) -> None:
+
         self.ring = ring
         self.operators = operators
         self.memo: dict[sympy.Expr, RationalFunction] = {}
@@ -117,6 +131,8 @@ class _Converter:
         return done
 
     def _convert(self, expr: sympy.Expr) -> RationalFunction:
+        import sympy
+
         ring = self.ring
         if expr.is_Rational:
             return RationalFunction.constant(Fraction(int(expr.p), int(expr.q)), ring)
@@ -181,6 +197,8 @@ class _Converter:
 
 def restored(function: RationalFunction, atoms: Mapping[str, sympy.Expr]) -> sympy.Expr:
     """`function` as a sympy expression with its atoms put back."""
+    import sympy
+
     expr = function.to_sympy()
     used = set(function.symbol_names())
     back = {sympy.Symbol(n): e for n, e in atoms.items() if n in used}
@@ -191,6 +209,7 @@ def sympy_ring(function: RationalFunction, atoms: Mapping[str, sympy.Expr],
                extra: Iterable[sympy.Symbol] = ()):
     """(numerator, denominator) of `function` as polynomials of a sympy ring over QQ whose
     generators are its symbols and atoms (and `extra`), in sympy's default order."""
+    import sympy
     from sympy.polys.rings import ring as sympy_poly_ring
 
     names = function.symbol_names()
@@ -217,6 +236,8 @@ def sympy_ring(function: RationalFunction, atoms: Mapping[str, sympy.Expr],
 
 def atom_value(expr: sympy.Expr, values: Mapping[str, Fraction]) -> Fraction:
     """An atom at rational values of its symbols, to ATOM_DIGITS digits."""
+    import sympy
+
     point = {x: sympy.Rational(values[str(x)].numerator, values[str(x)].denominator)
              for x in expr.free_symbols}
     number = sympy.N(expr.xreplace(point), ATOM_DIGITS)
@@ -243,6 +264,8 @@ class AtomicValue:
 
     @cached_property
     def _sympy(self) -> sympy.Expr:
+        import sympy
+
         return self.function.to_sympy().xreplace(
             {sympy.Symbol(n): e for n, e in self.atoms.items()})
 

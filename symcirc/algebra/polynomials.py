@@ -15,11 +15,14 @@ import re
 from collections.abc import Iterable, Mapping, Sequence
 from fractions import Fraction
 from math import factorial, gcd
-from typing import Any
-
-import sympy
+from typing import TYPE_CHECKING, Any
 
 from ..errors import SymcircError
+
+if TYPE_CHECKING:  # pragma: no cover
+    import sympy
+# sympy is imported where its backend or its expressions are asked for: python-flint's
+# polynomials need none of it.
 
 LAPLACE_NAME = "s"
 BACKENDS = ("flint", "sympy")
@@ -115,6 +118,7 @@ class PolynomialRing:
             self._qctx = None
             self._width = max(len(self.names), 1)
         else:
+            import sympy
             from sympy.polys.domains import ZZ
             from sympy.polys.orderings import grlex, lex
             from sympy.polys.rings import PolyRing
@@ -507,6 +511,8 @@ class PolynomialRing:
     # -- showing
     def to_sympy(self, p: Poly) -> sympy.Expr:
         """The polynomial as an expanded sympy expression."""
+        import sympy
+
         symbols = [sympy.Symbol(n) for n in self.names]
         out = []
         for monom, coeff in self.terms(p):

@@ -13,13 +13,14 @@ from collections.abc import Mapping
 from fractions import Fraction
 from functools import cached_property
 from math import gcd
-from typing import Any
-
-import sympy
+from typing import TYPE_CHECKING, Any
 
 from ..model.typeset import given_forms, symbol_latex
 from . import polynomials as polys
 from .polynomials import LAPLACE_NAME, AlgebraError, Poly, PolynomialRing
+
+if TYPE_CHECKING:  # pragma: no cover
+    import sympy
 
 Operand = Any
 """A RationalFunction, a polynomial of the same ring, an int or a Fraction."""
@@ -570,6 +571,8 @@ class _SympyBuilder:
     """Builds the sympy expression that parsing `to_text` gives (same layout, same tree)."""
 
     def __init__(self, ring: PolynomialRing) -> None:
+        import sympy
+
         self.ring = ring
         self.symbols = [sympy.Symbol(n) for n in ring.names]
         self.s_index = ring.index(LAPLACE_NAME) if LAPLACE_NAME in ring.names else None
@@ -582,6 +585,8 @@ class _SympyBuilder:
         return factors
 
     def polynomial(self, p: Poly) -> sympy.Expr:
+        import sympy
+
         summands = []
         for kind, data in _layout(self.ring, p):
             if kind == "term":

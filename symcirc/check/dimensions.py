@@ -22,14 +22,17 @@ import re
 from collections.abc import Mapping
 from dataclasses import dataclass
 from fractions import Fraction
-
-import sympy
+from typing import TYPE_CHECKING
 
 from ..errors import Location, SymcircError
 from ..language import syntax
 from ..language.syntax import expression_text
 from ..model.circuit import Assumption, Circuit, Claim
+from ..model.formula import Formula
 from ..model.units import UNIT_DIMENSIONS
+
+if TYPE_CHECKING:  # pragma: no cover
+    import sympy
 
 BASE_UNITS = ("kg", "m", "s", "A")
 
@@ -147,26 +150,111 @@ def symbol_dimensions(circuit: Circuit) -> dict[str, Dimension | None]:
     while changed:
         changed = False
         for param in circuit.parameters.values():
-            if dims[param.name] is None and param.value is not None and param.value.free_symbols:
-                found = _quiet_dimension(param.value, dims)
+            value = param.value_formula
+            if dims[param.name] is None and value is not None and _has_symbols(value):
+                found = _quiet_dimension(value, dims)
                 if found is not None:
                     dims[param.name] = found
                     changed = True
         for element in circuit.elements.values():
             for control in element.controls:
-                name = str(control.coefficient)
-                if control.coefficient.is_Symbol and dims.get(name, DIMENSIONLESS) is None:
+                name = _symbol_name(control.coefficient_formula)
+                if name is not None and dims.get(name, DIMENSIONLESS) is None:
                     wanted = UNITS[element.unit]
                     dims[name] = wanted / (VOLT if control.kind == "voltage" else AMPERE)
                     changed = True
     return dims
 
 
-def _quiet_dimension(expr: sympy.Expr, dims: Dimensions) -> Dimension | None:
+def _has_symbols(value: Formula) -> bool:
+    if value.plain:
+        return bool(value.names) or value.laplace
+    return bool(value.to_sympy().free_symbols)
+
+
+def _symbol_name(value: Formula) -> str | None:
+    """The name when the formula is one symbol as sympy folds it (`gm`, `1*gm`, `s`)."""
+    if value.plain:
+        term = _term(value)
+        return term[1] if term is not None and term[0] == 1 and term[1] else None
+    expression = value.to_sympy()
+    return expression.name if expression.is_Symbol else None
+
+
+def _term(value: Formula) -> tuple[Fraction, str] | None:
+    """(c, name) for a plain formula that is c·name once numbers are folded, (c, '') for a
+    number; None for anything else."""
+    if value.number is not None:
+        return value.number, ""
+    op, args = value.op, value.args
+    if op in ("name", "s"):
+        return Fraction(1), args[0] if op == "name" else "s"
+    if op == "neg" or op == "scale":
+        inner = _term(args[-1])
+        sign = -1 if op == "neg" else args[0]
+        return None if inner is None else (sign * inner[0], inner[1])
+    if op == "^":
+        return _term(args[0]) if args[1].number == 1 else None
+    if op not in "+-*/":
+        return None
+    left, right = _term(args[0]), _term(args[1])
+    if left is None or right is None or (left[1] and right[1]):
+        return None
+    name = left[1] or right[1]
+    if op == "*":
+        return left[0] * right[0], name
+    if op == "/":
+        return (left[0] / right[0], name) if not right[1] else None
+    constant = right if left[1] else left  # a name plus a number: a name only plus 0
+    return (left[0] if left[1] else (right[0] if op == "+" else -right[0]), name) \
+        if constant[0] == 0 else None
+
+
+def _quiet_dimension(value: Formula, dims: Dimensions) -> Dimension | None:
     try:
-        return sympy_dimension(expr, dims)
+        return formula_dimension(value, dims)
     except DimensionMismatch:
         return None
+
+
+def formula_dimension(value: Formula, dims: Dimensions) -> Dimension | None:
+    """`sympy_dimension` of the formula's sympy expression, found on the formula itself
+    when it is plain and its sums fit (sympy is asked for anything else, and for the
+    message of a mismatch)."""
+    if value.plain:
+        try:
+            return _plain_dimension(value, dims)
+        except DimensionMismatch:
+            pass
+    return sympy_dimension(value.to_sympy(), dims)
+
+
+def _plain_dimension(value: Formula, dims: Dimensions) -> Dimension | None:
+    if value.number is not None:
+        return DIMENSIONLESS
+    op, args = value.op, value.args
+    if op == "name":
+        return dims.get(args[0])
+    if op == "s":
+        return dims.get("s")
+    if op == "neg":
+        return _plain_dimension(args[0], dims)
+    if op == "scale":
+        return _plain_dimension(args[1], dims)
+    if op == "sqrt":
+        inner = _plain_dimension(args[0], dims)
+        return None if inner is None else inner ** Fraction(1, 2)
+    if op in "+-":
+        terms = [_Term(None if a.number is not None else _plain_dimension(a, dims), "")
+                 for a in args]
+        return _check_sum(terms)
+    left = _plain_dimension(args[0], dims)
+    if op == "^":
+        return None if left is None else left ** args[1].number
+    right = _plain_dimension(args[1], dims)
+    if left is None or right is None:
+        return None
+    return left * right if op == "*" else left / right
 
 
 # ---------------------------------------------------------------- expressions
@@ -234,6 +322,8 @@ def _in(dim: Dimension | None) -> str:
 
 def sympy_dimension(expr: sympy.Expr, dims: Dimensions) -> Dimension | None:
     """Dimension of a sympy expression (None when it involves a free symbol)."""
+    import sympy
+
     if expr.is_Number or expr is sympy.pi:
         return DIMENSIONLESS
     if expr.is_Symbol:
@@ -381,7 +471,7 @@ def _has_names_or_units(expr: syntax.Expr) -> bool:
 
 def check_expression(
     circuit: Circuit,
-    expr: syntax.Expr | sympy.Expr,
+    expr: syntax.Expr | Formula | sympy.Expr,
     expected_unit: str | Dimension | None,
     location: Location | None,
     source: str | None = None,
@@ -390,15 +480,29 @@ def check_expression(
     """Check a user expression: its sums add like to like and it has the expected unit.
 
     `expr` is a syntax-tree expression (numbers keep their units, the error points at the
-    offending term) or a sympy expression (the error points at `location`). `source` is the
+    offending term), or a formula of the model or a sympy expression (the error points at
+    `location`; a formula is read as its sympy expression would be). `source` is the
     text `location` refers to (the circuit's source by default). Returns the dimension found
     (None when it involves a free symbol); raises SymcircError on a mismatch.
     """
     dims = symbol_dimensions(circuit)
     expected = parse_unit(expected_unit) if isinstance(expected_unit, str) else expected_unit
     text = circuit.source if source is None else source
+    if isinstance(expr, Formula):
+        if expr.plain and expr.number is not None and expected is not None:
+            return expected
+        if expr.plain:
+            try:
+                found = _plain_dimension(expr, dims)
+                if expected is None or found is None or found == expected:
+                    return found
+            except DimensionMismatch:
+                pass
+        expr = expr.to_sympy()  # sympy's reading says what does not fit, and how
     try:
-        if isinstance(expr, sympy.Basic):
+        if not isinstance(expr, syntax.Node):
+            import sympy
+
             if expr.is_Number and expected is not None:
                 return expected  # a plain number takes the unit its place implies
             found = sympy_dimension(expr, dims)
@@ -448,13 +552,13 @@ def check_circuit(circuit: Circuit) -> None:
             what = (f"the coefficient of {'V' if per == VOLT else 'I'}(..) in "
                     f"{element.kind} {element.name}")
             try:
-                check_expression(circuit, control.coefficient, wanted, element.location,
-                                 what=what)
+                check_expression(circuit, control.coefficient_formula, wanted,
+                                 element.location, what=what)
             except SymcircError:
                 at = _value_location(circuit, element)
                 if at is None:
                     raise
-                check_expression(circuit, control.coefficient, wanted, at, what=what)
+                check_expression(circuit, control.coefficient_formula, wanted, at, what=what)
     for derive in circuit.derives:
         for assumption in derive.assumptions:
             check_assumption(circuit, assumption)

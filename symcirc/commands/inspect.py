@@ -15,11 +15,14 @@ from typing import TYPE_CHECKING, Any
 
 from ..errors import Location, SymcircError
 from ..language import syntax
+from ..model.formula import Formula
 from ..model.units import as_float, engineering, tolerance_text
 
 if TYPE_CHECKING:
     from ..model.circuit import Circuit, Element, Notice, Parameter, Tolerance
-# The model (and sympy with it) is imported only once a file is read: `inspect --help` starts fast.
+# The model is imported only once a file is read: `inspect --help` starts fast. Reading and
+# checking a circuit needs no sympy; it is imported only to show a value written as an
+# expression in sympy's text (a parameter's, and the JSON's definitions and claims).
 
 
 def add_arguments(parser: argparse.ArgumentParser) -> None:
@@ -29,9 +32,9 @@ def add_arguments(parser: argparse.ArgumentParser) -> None:
 
 
 def run(args: argparse.Namespace) -> int:
-    from .. import load
+    from ..pipeline import Pipeline
 
-    circuit = load(args.file)
+    circuit = Pipeline.load(args.file).circuit
     circuit.notices = (*circuit.notices, *unknown_quantities(circuit))
     for notice in circuit.notices:
         print(notice_text(notice, circuit), file=sys.stderr)
@@ -46,7 +49,7 @@ def unknown_quantities(circuit: Circuit) -> list[Notice]:
     """Warnings for quantity names no handler derives (`thevnin(out)`): `derive` and
     `check` would stop there, so the first look at the file says so already."""
     from ..model.circuit import Notice
-    from ..quantities.registry import HANDLERS
+    from ..vocabulary import QUANTITIES
 
     notices = []
     pending = [q for d in circuit.derives for q in d.quantities]
@@ -55,8 +58,8 @@ def unknown_quantities(circuit: Circuit) -> list[Notice]:
         quantity = pending.pop()
         pending.extend(a for a in quantity.args if isinstance(a, syntax.Quantity))
         pending.extend(a.left for a in quantity.args if isinstance(a, syntax.Equation))
-        if quantity.name not in HANDLERS:
-            close = get_close_matches(quantity.name, list(HANDLERS), n=1)
+        if quantity.name not in QUANTITIES:
+            close = get_close_matches(quantity.name, list(QUANTITIES), n=1)
             hint = f"; did you mean `{close[0]}`?" if close else ""
             where = Location(circuit.file, quantity.line, quantity.column)
             notices.append(Notice("warning", f"unknown quantity `{quantity.name}`{hint}", where))
@@ -125,7 +128,8 @@ def as_text(circuit: Circuit) -> str:
 
 
 def _parameter_row(p: Parameter) -> list[str]:
-    value = "" if p.value is None or p.value.is_Rational else _sstr(p.value)
+    value = p.value_formula
+    value = "" if value is None or value.rational() is not None else _sstr(value)
     return [p.name, value, _nominal(p.nominal, p.unit), _tolerance(p.tolerance, p.unit),
             p.description or ""]
 
@@ -239,7 +243,7 @@ def as_json(circuit: Circuit) -> dict[str, Any]:
             for d in circuit.derives
         ],
         "claims": [
-            {"quantity": c.quantity_text, "expression": _sstr(c.expression),
+            {"quantity": c.quantity_text, "expression": _sstr(c.expression_formula),
              "written": c.expression_text, "line": c.location.line}
             for c in circuit.claims
         ],
@@ -255,7 +259,7 @@ def as_json(circuit: Circuit) -> dict[str, Any]:
 def _parameter_json(p: Parameter) -> dict[str, Any]:
     return {
         "name": p.name,
-        "value": None if p.value is None else _sstr(p.value),
+        "value": None if p.value_formula is None else _sstr(p.value_formula),
         "nominal": None if p.nominal is None else as_float(p.nominal),
         "nominal_text": _nominal(p.nominal, p.unit) or None,
         "unit": p.unit,
@@ -271,7 +275,7 @@ def _element_json(e: Element) -> dict[str, Any]:
         "kind": e.kind,
         "nodes": list(e.nodes),
         "value": e.written,
-        "definition": None if e.definition is None else _sstr(e.definition),
+        "definition": None if e.definition_formula is None else _sstr(e.definition_formula),
         "nominal": None if e.nominal is None else as_float(e.nominal),
         "nominal_text": _nominal(e.nominal, e.unit) or None,
         "unit": e.unit,
@@ -281,13 +285,16 @@ def _element_json(e: Element) -> dict[str, Any]:
     }
     if e.controls:
         out["controls"] = [
-            {"kind": c.kind, "coefficient": _sstr(c.coefficient),
+            {"kind": c.kind, "coefficient": _sstr(c.coefficient_formula),
              **({"nodes": list(c.nodes)} if c.kind == "voltage" else {"element": c.element})}
             for c in e.controls
         ]
-        out["independent"] = None if e.independent is None else _sstr(e.independent)
-    if e.frequency is not None:
-        out["frequency"] = as_float(e.frequency) if e.frequency.is_Rational else str(e.frequency)
+        out["independent"] = (None if e.independent_formula is None
+                              else _sstr(e.independent_formula))
+    frequency = e.frequency_formula
+    if frequency is not None:
+        number = frequency.rational()
+        out["frequency"] = as_float(number) if number is not None else _sstr(frequency)
     if e.coupled:
         out["coupled"] = list(e.coupled)
     if e.kind == "opamp":
@@ -302,8 +309,16 @@ def _tolerance_json(tolerance: Tolerance | None, unit: str) -> dict[str, Any] | 
             "relative": tolerance.relative, "text": _tolerance(tolerance, unit)}
 
 
-def _sstr(expression: Any) -> str:
-    """sympy's plain text of an expression (sympy is imported once a circuit is loaded)."""
-    import sympy
+def _sstr(value: Formula | Any) -> str:
+    """sympy's plain text of a value (a formula of the model, or a sympy expression such
+    as a noise density's): a number or a name as it is, anything else through sympy."""
+    if not isinstance(value, Formula):
+        import sympy
 
-    return sympy.sstr(expression)
+        return sympy.sstr(value)
+    number = value.rational() if value.plain else None
+    if number is not None:
+        return str(number)
+    if value.plain and value.op == "name":
+        return value.args[0]
+    return str(value)

@@ -20,16 +20,19 @@ Conventions fixed here (and stated in the results that depend on them):
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Literal
+from typing import TYPE_CHECKING, Literal
 
-import sympy
-
-from ..algebra.convert import atoms_of, names_of, to_function
+from ..algebra.formulas import atoms_in, function_of, names_in
 from ..algebra.polynomials import LAPLACE_NAME, Poly, PolynomialRing
 from ..algebra.rational import RationalFunction
 from ..model.circuit import REFERENCE, Circuit, Element
 from ..vocabulary import ImpedanceLaw
 from .memo import Memo
+
+if TYPE_CHECKING:  # pragma: no cover
+    import sympy
+
+    from ..model.formula import Formula
 
 
 @dataclass(frozen=True)
@@ -164,13 +167,14 @@ def _build(circuit: Circuit) -> Network:
     names: set[str] = {LAPLACE_NAME, *mutuals.values()}
     atoms: dict[str, sympy.Expr] = {}
     for element in circuit.elements.values():
-        for expr in _expressions(element):
-            names |= names_of(expr)
-            atoms.update(atoms_of(expr))
+        for value in _formulas(element):
+            names |= names_in(value)
+            atoms.update(atoms_in(value))
         if element.law is not None or element.kind == "transformer" or (
                 element.is_source and not element.controls):
             names.add(element.name)
-        if element.kind == "opamp" and element.definition is None and element.nominal is not None:
+        if (element.kind == "opamp" and element.definition_formula is None
+                and element.nominal is not None):
             names.add(element.name)
     ring = PolynomialRing(sorted(names))
     used = {n for e in circuit.elements.values() for n in e.nodes}
@@ -194,13 +198,13 @@ def _admittance(ring: PolynomialRing, name: str, law: ImpedanceLaw) -> tuple[Pol
     return numerator, denominator
 
 
-def _expressions(element: Element) -> list[sympy.Expr]:
-    """The model expressions the engine uses directly for this element."""
-    out = [c.coefficient for c in element.controls]
-    if element.controls and element.independent is not None:
-        out.append(element.independent)
-    if element.kind == "opamp" and element.definition is not None:
-        out.append(element.definition)
+def _formulas(element: Element) -> list[Formula]:
+    """The model's values the engine uses directly for this element."""
+    out = [c.coefficient_formula for c in element.controls]
+    if element.controls and element.independent_formula is not None:
+        out.append(element.independent_formula)
+    if element.kind == "opamp" and element.definition_formula is not None:
+        out.append(element.definition_formula)
     return out
 
 
@@ -215,14 +219,14 @@ def _add(network: Network, element: Element, mutuals: dict[str, str]) -> None:
     elif stamp in ("voltage source", "current source"):
         controls: list[VoltageControl | CurrentControl] = []
         for control in element.controls:
-            coefficient = to_function(control.coefficient, ring)
+            coefficient = function_of(control.coefficient_formula, ring)
             if control.kind == "voltage":
                 controls.append(VoltageControl(coefficient, *control.nodes))
             else:
                 controls.append(CurrentControl(coefficient, control.element))
         if element.controls:
-            constant = (to_function(element.independent, ring)
-                        if element.independent is not None else None)
+            constant = (function_of(element.independent_formula, ring)
+                        if element.independent_formula is not None else None)
         else:
             constant = RationalFunction.symbol(name, ring)
         network.sources[name] = Source(name, "voltage" if stamp == "voltage source" else "current",
@@ -230,8 +234,8 @@ def _add(network: Network, element: Element, mutuals: dict[str, str]) -> None:
     elif stamp == "noise voltage":  # a short for signals: a source of no value of its own
         network.sources[name] = Source(name, "voltage", nodes[0], nodes[1], (), None)
     elif stamp == "opamp":
-        if element.definition is not None:
-            gain = to_function(element.definition, ring)
+        if element.definition_formula is not None:
+            gain = function_of(element.definition_formula, ring)
         elif element.nominal is not None:
             gain = RationalFunction.symbol(name, ring)
         else:

@@ -2,37 +2,59 @@
 
 Built by `symcirc.model.elaborate` from the syntax tree; never built from text directly.
 Names are final (blocks expanded), the reference node is called `gnd`, every value is a
-sympy expression built by the transformer (never by evaluating text).
+formula of the model's own (`formula.py`, built from the syntax tree, never by evaluating
+text); the sympy expressions later stages read (`value`, `definition`, `coefficient` ...)
+are built from it on first use, so reading a circuit needs no computer algebra.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field
 from fractions import Fraction
-from typing import TYPE_CHECKING, Literal
-
-import sympy
+from functools import cached_property
+from typing import TYPE_CHECKING, Any, Literal
 
 from ..errors import Location
 from ..vocabulary import ELEMENT_KINDS, ElementKind, ImpedanceLaw
+from .formula import Formula
 
 if TYPE_CHECKING:  # pragma: no cover
+    import sympy
+
     from ..language.syntax import Expr, Quantity
 
 REFERENCE = "gnd"
 """Name of the reference node in the model (`gnd` and `0` in a file both mean it)."""
 
-LAPLACE = sympy.Symbol("s")
-"""The Laplace variable (reserved name `s`)."""
+
+def __getattr__(name: str) -> Any:
+    """The sympy symbols of the model (`LAPLACE`, `BOLTZMANN_SYMBOL`, `TEMPERATURE_SYMBOL`),
+    made on first use: reading a circuit needs no sympy."""
+    names = {"LAPLACE": "s", "BOLTZMANN_SYMBOL": BOLTZMANN_NAME,
+             "TEMPERATURE_SYMBOL": TEMPERATURE_NAME}
+    if name in names:
+        return _symbol(names[name])
+    raise AttributeError(name)
+
+
+def _sympy(formula: Formula | None) -> sympy.Expr | None:
+    return None if formula is None else formula.to_sympy()
+
+
+def _symbol(name: str) -> sympy.Symbol:
+    import sympy
+
+    return sympy.Symbol(name)
 
 BOLTZMANN = Fraction(1380649, 10**29)
 """Boltzmann's constant in J/K, exact since the SI redefinition of 2019."""
-BOLTZMANN_SYMBOL = sympy.Symbol("k_B")
-TEMPERATURE_SYMBOL = sympy.Symbol("T_amb")
-"""The thermal noise temperature in K (the file's `temperature`)."""
+BOLTZMANN_NAME = "k_B"
+"""The name of Boltzmann's constant in noise results (`BOLTZMANN_SYMBOL` its sympy symbol)."""
+TEMPERATURE_NAME = "T_amb"
+"""The thermal noise temperature in K (the file's `temperature`; `TEMPERATURE_SYMBOL`)."""
 DEFAULT_TEMPERATURE = Fraction(300)
 """The temperature of thermal noise when a file gives none: 300 K (about 27 °C)."""
-NOISE_NAMES = (BOLTZMANN_SYMBOL.name, TEMPERATURE_SYMBOL.name)
+NOISE_NAMES = (BOLTZMANN_NAME, TEMPERATURE_NAME)
 """Names the noise analyses use for k_B and T (a file may not declare them)."""
 
 @dataclass(frozen=True)
@@ -63,8 +85,7 @@ class Parameter:
     """`param NAME [= VALUE] ["description"]`."""
 
     name: str
-    symbol: sympy.Symbol
-    value: sympy.Expr | None
+    value_formula: Formula | None
     """As written: a number, an expression of other parameters, or None (free symbol)."""
     nominal: Fraction | None
     """The numeric value when it can be computed from numbers alone; else None."""
@@ -74,15 +95,28 @@ class Parameter:
     description: str | None
     location: Location
 
+    @cached_property
+    def symbol(self) -> sympy.Symbol:
+        return _symbol(self.name)
+
+    @cached_property
+    def value(self) -> sympy.Expr | None:
+        """`value_formula` as a sympy expression."""
+        return _sympy(self.value_formula)
+
 
 @dataclass(frozen=True)
 class Control:
     """One term `coefficient * V(positive, negative)` or `coefficient * I(element)`."""
 
-    coefficient: sympy.Expr
+    coefficient_formula: Formula
     kind: Literal["voltage", "current"]
     nodes: tuple[str, str] = ()  # type: ignore[assignment]
     element: str | None = None
+
+    @cached_property
+    def coefficient(self) -> sympy.Expr:
+        return self.coefficient_formula.to_sympy()
 
 
 @dataclass(frozen=True)
@@ -98,9 +132,7 @@ class Element:
     kind: str
     """Its keyword in the vocabulary (`resistor`, `voltage source`)."""
     nodes: tuple[str, ...]
-    symbol: sympy.Symbol
-    """The element's own symbol (`R1`); results use it by default."""
-    definition: sympy.Expr | None
+    definition_formula: Formula | None
     """Defining expression in parameters (`R0*(1 + alpha*T)`), or None when the value is a
     number or absent. For an opamp: its open-loop gain (may use `s`); None = ideal."""
     nominal: Fraction | None
@@ -111,28 +143,47 @@ class Element:
     location: Location
     controls: tuple[Control, ...] = ()
     """For a controlled source: its terms in V(..) and I(..)."""
-    independent: sympy.Expr | None = None
+    independent_formula: Formula | None = None
     """For a controlled source: a part of its value that names no V(..) or I(..) (rare)."""
     coupled: tuple[str, str] | None = None
     """For a coupling: the two inductors it couples."""
     written: str | None = None
     """The value as the user wrote it (for tables in notes)."""
-    frequency: sympy.Expr | None = None
+    frequency_formula: Formula | None = None
     """For an independent source given `at 50 Hz` (or `at f`): its frequency in Hz, a number
     or a parameter's symbol; its value is then a sinusoid's peak amplitude. None: DC."""
     corner: sympy.Expr | None = None
     """For a noise source: the 1/f corner in Hz (density e_n·√(1 + f_c/f)); None: white."""
 
+    @cached_property
+    def symbol(self) -> sympy.Symbol:
+        """The element's own symbol (`R1`); results use it by default."""
+        return _symbol(self.name)
+
+    @cached_property
+    def definition(self) -> sympy.Expr | None:
+        """`definition_formula` as a sympy expression."""
+        return _sympy(self.definition_formula)
+
+    @cached_property
+    def independent(self) -> sympy.Expr | None:
+        return _sympy(self.independent_formula)
+
+    @cached_property
+    def frequency(self) -> sympy.Expr | None:
+        return _sympy(self.frequency_formula)
+
     @property
     def frequency_text(self) -> str | None:
         """`50 Hz` or the parameter's name, as a source's frequency is shown; None for DC."""
-        if self.frequency is None:
+        written = self.frequency_formula
+        if written is None:
             return None
-        if self.frequency.is_Rational:
+        if written.number is not None:
             from .units import engineering
 
-            return engineering(Fraction(int(self.frequency.p), int(self.frequency.q)), "Hz")
-        return str(self.frequency)
+            return engineering(written.number, "Hz")
+        return written.args[0] if written.op == "name" else str(written)
 
     @property
     def is_controlled(self) -> bool:
@@ -159,11 +210,12 @@ class Element:
         law = self.law
         if law is None:
             raise TypeError(f"{self.kind} {self.name} has no impedance law")
-        return self.symbol**law.value_power * LAPLACE**law.s_power
+        return self.symbol**law.value_power * _symbol("s")**law.s_power
 
     @property
     def is_ideal_opamp(self) -> bool:
-        return self.kind == "opamp" and self.definition is None and self.nominal is None
+        return (self.kind == "opamp" and self.definition_formula is None
+                and self.nominal is None)
 
 
 @dataclass(frozen=True)
@@ -247,7 +299,7 @@ class Claim:
 
     quantity: Quantity
     quantity_text: str
-    expression: sympy.Expr
+    expression_formula: Formula
     expression_text: str
     location: Location
     written: Expr | None = None
@@ -255,6 +307,11 @@ class Claim:
     origin: tuple[str, str] | None = None
     """(name, text) of a claim given outside the file, for error positions; None: the
     circuit's own file."""
+
+    @cached_property
+    def expression(self) -> sympy.Expr:
+        """The claimed expression as a sympy expression."""
+        return self.expression_formula.to_sympy()
 
 
 @dataclass(frozen=True)
@@ -290,6 +347,16 @@ class Circuit:
     noise: Noise = field(default_factory=Noise)
     """Temperature, noiseless parts and opamp noise densities (noise analyses)."""
 
+    def name_nominals(self) -> dict[str, Fraction]:
+        """`symbol_nominals` by name (no sympy symbols made)."""
+        out = {p.name: p.nominal for p in self.parameters.values() if p.nominal is not None}
+        out.update((e.name, e.nominal) for e in self.elements.values() if e.nominal is not None)
+        out.update((str(d.symbol), d.nominal) for d in self.noise.densities()
+                   if d.nominal is not None)
+        out[BOLTZMANN_NAME] = BOLTZMANN
+        out[TEMPERATURE_NAME] = self.noise.temperature
+        return out
+
     def symbol_nominals(self) -> dict[sympy.Symbol, Fraction]:
         """Nominal value of every element and parameter symbol that has one."""
         out: dict[sympy.Symbol, Fraction] = {}
@@ -302,13 +369,13 @@ class Circuit:
         for d in self.noise.densities():
             if d.nominal is not None:
                 out[d.symbol] = d.nominal
-        out[BOLTZMANN_SYMBOL] = BOLTZMANN
-        out[TEMPERATURE_SYMBOL] = self.noise.temperature
+        out[_symbol(BOLTZMANN_NAME)] = BOLTZMANN
+        out[_symbol(TEMPERATURE_NAME)] = self.noise.temperature
         return out
 
     def noise_units(self) -> dict[str, str]:
         """The units of the symbols noise results add: k_B, T_amb, f and opamp densities."""
-        units = {BOLTZMANN_SYMBOL.name: "J/K", TEMPERATURE_SYMBOL.name: "K"}
+        units = {BOLTZMANN_NAME: "J/K", TEMPERATURE_NAME: "K"}
         if "f" not in self.parameters and "f" not in self.elements:
             units["f"] = "Hz"
         units.update({str(d.symbol): d.unit for d in self.noise.densities()})

@@ -11,8 +11,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field, replace
 from difflib import get_close_matches
 from fractions import Fraction
-
-import sympy
+from typing import TYPE_CHECKING
 
 from ..errors import Location, SymcircError
 from ..language import syntax
@@ -22,9 +21,8 @@ from ..vocabulary import (
     QUANTITIES,
     STATEMENT_KEYWORDS,
 )
-from . import topology, typeset, units
+from . import formula, topology, typeset, units
 from .circuit import (
-    LAPLACE,
     NOISE_NAMES,
     REFERENCE,
     Assumption,
@@ -44,12 +42,16 @@ from .circuit import (
 from .expressions import (
     MAX_POWER_BITS,
     ExpressionProblem,
-    expression_in,
+    formula_in,
     linear_form,
     mentions_control,
-    to_sympy,
+    to_formula,
     unknown_name_message,
 )
+from .formula import Formula, Inexact
+
+if TYPE_CHECKING:  # pragma: no cover
+    import sympy
 
 RESERVED = ("s", "pi", "sqrt", "oo")
 """Names with a fixed meaning in expressions; nothing may be declared with them."""
@@ -535,7 +537,7 @@ class _Elaborator:
     # -------------------------------------------------------------- pass 2: values
 
     def resolver(self, scope: _Scope):
-        def resolve(name: syntax.Name) -> sympy.Expr:
+        def resolve(name: syntax.Name) -> Formula:
             final = scope.lookup(name.name)
             if final is None:
                 raise ExpressionProblem(
@@ -548,7 +550,7 @@ class _Elaborator:
                     name, f"`{name.name}` is a {what}, not a parameter or element{hint}",
                     scope.trail,
                 )
-            return sympy.Symbol(final)
+            return formula.name(final)
 
         return resolve
 
@@ -596,8 +598,7 @@ class _Elaborator:
                 raise self.error(value.frequency, f"`at` gives the frequency of a source; "
                                  f"parameter {draft.name} takes none", draft.scope.trail)
             expression = self.convert(value.expression, draft.scope)
-            if expression.is_Rational:
-                nominal = Fraction(int(expression.p), int(expression.q))
+            nominal = expression.rational()
             literal = _literal(value.expression)
             if literal is not None and literal.unit:
                 unit = literal.unit
@@ -607,7 +608,7 @@ class _Elaborator:
                     unit = units.unit_of(dimension) or ""
             tolerance = self.tolerance(value, unit, f"parameter {draft.name}", draft.scope)
         return Parameter(
-            name=draft.name, symbol=sympy.Symbol(draft.name), value=expression, nominal=nominal,
+            name=draft.name, value_formula=expression, nominal=nominal,
             unit=unit, tolerance=tolerance, description=statement.description,
             location=self.at(statement),
         )
@@ -623,7 +624,7 @@ class _Elaborator:
             if ELEMENT_KINDS[kind].source and mentions_control(value.expression):
                 constant, controls = self.controlled(value, scope, node_set)
                 if controls:
-                    independent = constant if constant != 0 else None
+                    independent = None if constant.is_zero() else constant
                 else:  # every V(..)/I(..) term cancelled: the value is what is left
                     expression = constant
             else:
@@ -631,8 +632,9 @@ class _Elaborator:
                 if nominal is None:
                     expression = self.convert(value.expression, scope)
                 self.check_unit(statement, value, scope)
-            if expression is not None and expression.is_Rational:
-                nominal = Fraction(int(expression.p), int(expression.q))
+            number = None if expression is None else expression.rational()
+            if number is not None:
+                nominal = number
             elif expression is not None:
                 definition = expression
             tolerance = self.tolerance(value, unit, f"{kind} {draft.name}", scope)
@@ -656,11 +658,11 @@ class _Elaborator:
             coupled = tuple(self.coupled_element(kind, t, scope) for t in statement.terminals)
         return Element(
             name=draft.name, kind=kind, nodes=tuple(self.node(n) for n in draft.nodes),  # type: ignore[arg-type]
-            symbol=sympy.Symbol(draft.name), definition=definition, nominal=nominal,
+            definition_formula=definition, nominal=nominal,
             tolerance=tolerance, unit=unit, description=statement.description,
-            location=self.at(statement), controls=controls, independent=independent,
+            location=self.at(statement), controls=controls, independent_formula=independent,
             coupled=coupled, written=value.text if value is not None else None,  # type: ignore[arg-type]
-            frequency=frequency, corner=corner,
+            frequency_formula=frequency, corner=corner,
         )
 
     def check_density(self, value: syntax.Value, nominal: Fraction | None, what: str,
@@ -673,8 +675,10 @@ class _Elaborator:
     def corner(self, written: syntax.Number | syntax.Name, what: str,
                scope: _Scope) -> sympy.Expr:
         """`corner 10 Hz` or `corner fc`: the 1/f corner frequency of a noise density."""
+        import sympy  # noise densities are held as sympy expressions
+
         if isinstance(written, syntax.Name):
-            return self.convert(written, scope)
+            return self.convert(written, scope).to_sympy()
         if written.unit not in (None, "Hz"):
             raise self.error(written, f"the 1/f corner of {what} is in Hz, not {written.unit}",
                              scope.trail)
@@ -766,12 +770,14 @@ class _Elaborator:
             nominal = _nominal(expression, values)
             self.check_density(value, nominal, what, self.top)
             corner = self.corner(value.corner, what, self.top) if value.corner else None
-            found[which] = NoiseDensity(sympy.Symbol(f"{which}_{name}"), expression, nominal,
-                                        unit, corner, value.text, self.at(density))
+            import sympy  # noise densities are held as sympy expressions
+
+            found[which] = NoiseDensity(sympy.Symbol(f"{which}_{name}"), expression.to_sympy(),
+                                        nominal, unit, corner, value.text, self.at(density))
         return OpampNoise(name, found.get("en"), found.get("in"))
 
     def frequency(self, statement: syntax.ElementStatement, written: syntax.Number | syntax.Name,
-                  controlled: bool, scope: _Scope) -> sympy.Expr:
+                  controlled: bool, scope: _Scope) -> Formula:
         """`at 50 Hz` or `at f`: only an independent source has a frequency of its own."""
         what = f"{statement.kind} {statement.name.name}"
         if not ELEMENT_KINDS[statement.kind].source or controlled:
@@ -784,11 +790,11 @@ class _Elaborator:
                              scope.trail)
         if written.value <= 0:
             raise self.error(written, f"the frequency of {what} must be above 0 Hz", scope.trail)
-        return sympy.Rational(written.value.numerator, written.value.denominator)
+        return formula.constant(written.value)
 
-    def convert(self, expression: syntax.Expr, scope: _Scope) -> sympy.Expr:
+    def convert(self, expression: syntax.Expr, scope: _Scope) -> Formula:
         try:
-            return to_sympy(expression, self.resolver(scope))
+            return to_formula(expression, self.resolver(scope))
         except ExpressionProblem as problem:
             raise self.located(problem, scope) from None
 
@@ -831,7 +837,7 @@ class _Elaborator:
         return Tolerance(plus, minus, relative=False)
 
     def controlled(self, value: syntax.Value, scope: _Scope,
-                   node_set: set[str]) -> tuple[sympy.Expr, tuple[Control, ...]]:
+                   node_set: set[str]) -> tuple[Formula, tuple[Control, ...]]:
         """The part free of V/I and the control terms of a source value."""
         def key(term: syntax.Voltage | syntax.Current):
             if isinstance(term, syntax.Current):
@@ -928,16 +934,16 @@ class _Elaborator:
 
     def resolve_nominals(self, parameters: dict[str, Parameter], elements: dict[str, Element]):
         """Fill in nominal values computed from definitions; reports circular definitions."""
-        definitions: dict[str, sympy.Expr] = {}
+        definitions: dict[str, Formula] = {}
         known: dict[str, Fraction | None] = {}
         for p in parameters.values():
-            if p.value is not None and p.nominal is None:
-                definitions[p.name] = p.value
+            if p.value_formula is not None and p.nominal is None:
+                definitions[p.name] = p.value_formula
             else:
                 known[p.name] = p.nominal
         for e in elements.values():
-            if e.definition is not None:
-                definitions[e.name] = e.definition
+            if e.definition_formula is not None:
+                definitions[e.name] = e.definition_formula
             else:
                 known[e.name] = e.nominal
         values = _evaluate_all(definitions, known, self.cycle_error)
@@ -977,8 +983,8 @@ class _Elaborator:
                 claims.append(Claim(
                     quantity=statement.quantity,
                     quantity_text=statement.quantity.text,
-                    expression=expression_in(circuit, statement.expression, self.file,
-                                             self.source),
+                    expression_formula=formula_in(circuit, statement.expression, self.file,
+                                                  self.source),
                     expression_text=statement.text,
                     location=self.at(statement),
                     written=statement.expression,
@@ -986,7 +992,7 @@ class _Elaborator:
         return tuple(derives), tuple(claims)
 
     def assumption(self, written: syntax.Assumption, circuit: Circuit) -> Assumption:
-        if not (written.kind == "limit" and written.symbol.name == LAPLACE.name):
+        if not (written.kind == "limit" and written.symbol.name == "s"):
             self.expect(written.symbol, "symbol", circuit)  # `s -> 0`: DC, `s -> oo`: HF
         target: str | None
         if written.kind == "limit":
@@ -1162,14 +1168,20 @@ def _expansion_sizes(statements: tuple[syntax.Statement, ...]) -> dict[int, tupl
     return sizes
 
 
-def _evaluate_all(definitions: dict[str, sympy.Expr], known: dict[str, Fraction | None],
+def _evaluate_all(definitions: dict[str, Formula], known: dict[str, Fraction | None],
                   cycle_error) -> dict[str, Fraction | None]:
     """Nominal value of every defined symbol, in dependency order (no recursion)."""
+    try:  # the names each is written with: the symbols it depends on, or a few more
+        return _in_order(definitions, known, cycle_error,
+                         {name: sorted(expr.names) for name, expr in definitions.items()})
+    except SymcircError:  # a cycle, unless through names whose terms cancel (`x - x`)
+        return _in_order(definitions, known, cycle_error,
+                         {name: sorted(expr.free_names()) for name, expr in definitions.items()})
+
+
+def _in_order(definitions: dict[str, Formula], known: dict[str, Fraction | None],
+              cycle_error, dependencies: dict[str, list[str]]) -> dict[str, Fraction | None]:
     values = dict(known)
-    dependencies = {
-        name: [s.name for s in expr.free_symbols if s != LAPLACE]
-        for name, expr in definitions.items()
-    }
     for start in definitions:
         if start in values:
             continue
@@ -1190,12 +1202,39 @@ def _evaluate_all(definitions: dict[str, sympy.Expr], known: dict[str, Fraction 
     return values
 
 
-def _nominal(expression: sympy.Expr, values: dict[str, Fraction | None]) -> Fraction | None:
-    """The value of an expression at nominal values; None when a symbol has none (or `s`)."""
+def _nominal(expression: Formula, values: dict[str, Fraction | None]) -> Fraction | None:
+    """The value of a formula at nominal values; None when a symbol has none (or `s`).
+    Exact with fractions; sympy says what an irrational value, a division by zero at the
+    nominal values or a formula whose terms may cancel comes to."""
+    if not expression.laplace:  # (a plain formula with `s` has no value; others: sympy says)
+        known: dict[str, Fraction] = {}
+        bits = 0
+        for name in expression.names:
+            value = values.get(name)
+            if value is None:
+                return None if expression.plain else _sympy_nominal(expression.to_sympy(),
+                                                                    values)
+            known[name] = value
+            bits += value.numerator.bit_length() + value.denominator.bit_length()
+        if bits * expression.largest_exponent() > MAX_POWER_BITS:
+            # an exact value this size helps nobody; the symbol stays without one
+            return None if expression.plain else _sympy_nominal(expression.to_sympy(), values)
+        try:
+            return expression.value_at(known)
+        except (Inexact, ZeroDivisionError):
+            pass
+    elif expression.plain:
+        return None
+    return _sympy_nominal(expression.to_sympy(), values)
+
+
+def _sympy_nominal(expression, values: dict[str, Fraction | None]) -> Fraction | None:
+    import sympy
+
     substitutions = {}
     bits = 0
     for symbol in expression.free_symbols:
-        value = values.get(symbol.name) if symbol != LAPLACE else None
+        value = values.get(symbol.name) if symbol.name != "s" else None
         if value is None:
             return None
         substitutions[symbol] = sympy.Rational(value.numerator, value.denominator)

@@ -1,9 +1,10 @@
-"""Syntax-tree expressions → sympy expressions, built node by node (never by evaluating text).
+"""Syntax-tree expressions → the model's formulas, built node by node (never by evaluating text).
 
 Names are turned into symbols by a `resolve` callback supplied by the caller (elaboration
 resolves against block scopes, later stages against the finished circuit); `s` is the
 Laplace variable, `pi` is π and `sqrt` is the square root. Problems are raised as
 `ExpressionProblem` (a node and a message); callers attach the file with `located`.
+Formulas (`formula.py`) become sympy expressions only when a later stage asks.
 """
 
 from __future__ import annotations
@@ -11,18 +12,20 @@ from __future__ import annotations
 import re
 from collections.abc import Callable, Hashable
 from difflib import get_close_matches
+from fractions import Fraction
 from typing import TYPE_CHECKING
-
-import sympy
 
 from ..errors import Location, SymcircError
 from ..language import syntax
-from .circuit import LAPLACE
+from . import formula
+from .formula import Formula
 
 if TYPE_CHECKING:  # pragma: no cover
+    import sympy
+
     from .circuit import Circuit
 
-Resolve = Callable[[syntax.Name], sympy.Expr]
+Resolve = Callable[[syntax.Name], Formula]
 """Turns a name (other than `s` and `pi`) into its symbol, or raises ExpressionProblem."""
 
 MAX_EXPONENT = 1000
@@ -47,8 +50,8 @@ class ExpressionProblem(Exception):
         return SymcircError.at(where, self.message, source, self.notes)
 
 
-def to_sympy(expr: syntax.Expr, resolve: Resolve) -> sympy.Expr:
-    """The sympy expression of a syntax expression without `V(..)` or `I(..)`."""
+def to_formula(expr: syntax.Expr, resolve: Resolve) -> Formula:
+    """The formula of a syntax expression without `V(..)` or `I(..)`."""
     try:
         return _convert(expr, resolve)
     except RecursionError:
@@ -59,7 +62,7 @@ def linear_form(
     expr: syntax.Expr,
     resolve: Resolve,
     control: Callable[[syntax.Voltage | syntax.Current], Hashable],
-) -> tuple[sympy.Expr, dict[Hashable, sympy.Expr]]:
+) -> tuple[Formula, dict[Hashable, Formula]]:
     """Split a source value into a part free of V/I and coefficients of each V/I term.
 
     `control` maps a `V(..)`/`I(..)` node to a key (equal keys are merged). Raises
@@ -69,7 +72,7 @@ def linear_form(
         constant, terms = _linear(expr, resolve, control)
     except RecursionError:
         raise ExpressionProblem(expr, "expression too deeply nested to read") from None
-    return constant, {k: c for k, c in terms.items() if sympy.expand(c) != 0}
+    return constant, {k: c for k, c in terms.items() if not c.is_zero_expanded()}
 
 
 def mentions_control(expr: syntax.Expr) -> bool:
@@ -94,15 +97,21 @@ def expression_in(
     noise results (`k_B`, `T_amb`, `f`, `en_U1`); errors point into `source` as file
     `filename`.
     """
+    return formula_in(circuit, expr, filename, source).to_sympy()
+
+
+def formula_in(circuit: Circuit, expr: syntax.Expr, filename: str, source: str | None
+               ) -> Formula:
+    """`expression_in` as the model's formula (sympy only when asked)."""
     known = set(circuit.parameters) | set(circuit.elements) | set(circuit.noise_units())
 
-    def resolve(name: syntax.Name) -> sympy.Expr:
+    def resolve(name: syntax.Name) -> Formula:
         if name.name in known:
-            return sympy.Symbol(name.name)
+            return formula.name(name.name)
         raise ExpressionProblem(name, unknown_name_message(name.name, known, circuit.ports))
 
     try:
-        return to_sympy(expr, resolve)
+        return to_formula(expr, resolve)
     except ExpressionProblem as problem:
         raise problem.located(filename, source) from None
 
@@ -128,14 +137,14 @@ _LETTER_FIRST_CODE = re.compile(r"[LRKMGTpnumF][0-9]+")
 # ---------------------------------------------------------------- the conversion
 
 
-def _convert(expr: syntax.Expr, resolve: Resolve) -> sympy.Expr:
+def _convert(expr: syntax.Expr, resolve: Resolve) -> Formula:
     if isinstance(expr, syntax.Number):
-        return sympy.Rational(expr.value.numerator, expr.value.denominator)
+        return formula.constant(expr.value)
     if isinstance(expr, syntax.Name):
         if expr.name == "s":
-            return LAPLACE
+            return formula.laplace()
         if expr.name == "pi":
-            return sympy.pi
+            return formula.pi()
         return resolve(expr)
     if isinstance(expr, syntax.Unary):
         operand = _convert(expr.operand, resolve)
@@ -143,7 +152,7 @@ def _convert(expr: syntax.Expr, resolve: Resolve) -> sympy.Expr:
     if isinstance(expr, syntax.Function):
         if expr.name != "sqrt":
             raise ExpressionProblem(expr, f"unknown function `{expr.name}`; only sqrt(x) exists")
-        return sympy.sqrt(_convert(expr.argument, resolve))
+        return _convert(expr.argument, resolve).sqrt()
     if isinstance(expr, syntax.Binary):
         left = _convert(expr.left, resolve)
         right = _convert(expr.right, resolve)
@@ -156,7 +165,7 @@ def _convert(expr: syntax.Expr, resolve: Resolve) -> sympy.Expr:
     raise ExpressionProblem(expr, "not an expression")
 
 
-def _combine(node: syntax.Binary, left: sympy.Expr, right: sympy.Expr) -> sympy.Expr:
+def _combine(node: syntax.Binary, left: Formula, right: Formula) -> Formula:
     op = node.op
     if op == "+":
         return left + right
@@ -165,31 +174,33 @@ def _combine(node: syntax.Binary, left: sympy.Expr, right: sympy.Expr) -> sympy.
     if op == "*":
         return left * right
     if op == "/":
-        if right == 0:
+        if right.is_zero():
             raise ExpressionProblem(node.right, "division by zero")
         return left / right
     if op in ("^", "**"):
-        if not right.is_Rational:
+        exponent = right.rational()
+        if exponent is None:
             raise ExpressionProblem(node.right, "an exponent must be a number (such as 2 or 1/2)")
-        if abs(right.p) > MAX_EXPONENT or right.q > MAX_EXPONENT:
-            raise ExpressionProblem(node.right, f"exponent {right} is too large")
-        if left == 0 and right < 0:
+        if abs(exponent.numerator) > MAX_EXPONENT or exponent.denominator > MAX_EXPONENT:
+            raise ExpressionProblem(node.right, f"exponent {exponent} is too large")
+        if exponent < 0 and left.is_zero():
             raise ExpressionProblem(node, "division by zero")
-        if left.is_Rational and _bits(left) * abs(right.p) > MAX_POWER_BITS:
+        base = left.number if left.plain else left.rational()
+        if base is not None and _bits(base) * abs(exponent.numerator) > MAX_POWER_BITS:
             raise ExpressionProblem(node, "this power is too large a number to work with")
         return left**right
     raise ExpressionProblem(node, f"unknown operator `{op}`")
 
 
-def _bits(number: sympy.Rational) -> int:
-    return int(number.p).bit_length() + int(number.q).bit_length()
+def _bits(number: Fraction) -> int:
+    return number.numerator.bit_length() + number.denominator.bit_length()
 
 
 def _linear(expr, resolve, control):
     if not mentions_control(expr):
         return _convert(expr, resolve), {}
     if isinstance(expr, syntax.Voltage | syntax.Current):
-        return sympy.S.Zero, {control(expr): sympy.S.One}
+        return formula.constant(0), {control(expr): formula.constant(1)}
     if isinstance(expr, syntax.Unary):
         constant, terms = _linear(expr.operand, resolve, control)
         if expr.op == "-":
@@ -202,8 +213,8 @@ def _linear(expr, resolve, control):
             c2, t2 = _linear(expr.right, resolve, control)
             terms = dict(t1)
             for key, coefficient in t2.items():
-                terms[key] = terms.get(key, sympy.S.Zero) + sign * coefficient
-            return c1 + sign * c2, terms
+                terms[key] = terms.get(key, formula.constant(0)) + coefficient.scaled(sign)
+            return c1 + c2.scaled(sign), terms
         if expr.op == "*":
             if mentions_control(expr.left) and mentions_control(expr.right):
                 raise _nonlinear(expr, "a product of two V(..)/I(..) terms")
@@ -215,7 +226,7 @@ def _linear(expr, resolve, control):
             return constant * factor, {k: c * factor for k, c in terms.items()}
         if expr.op == "/" and not mentions_control(expr.right):
             divisor = _convert(expr.right, resolve)
-            if divisor == 0:
+            if divisor.is_zero():
                 raise ExpressionProblem(expr.right, "division by zero")
             constant, terms = _linear(expr.left, resolve, control)
             return constant / divisor, {k: c / divisor for k, c in terms.items()}

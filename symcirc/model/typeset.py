@@ -23,8 +23,10 @@ from contextlib import contextmanager
 from contextvars import ContextVar
 from functools import lru_cache
 from types import MappingProxyType
+from typing import TYPE_CHECKING
 
-import sympy
+if TYPE_CHECKING:  # pragma: no cover
+    import sympy
 
 GREEK: dict[str, str] = {
     "alpha": r"\alpha", "beta": r"\beta", "gamma": r"\gamma", "delta": r"\delta",
@@ -76,6 +78,8 @@ def symbol_latex(name: str) -> str:
 
 @lru_cache(maxsize=4096)
 def _rule_latex(name: str) -> str:
+    import sympy  # only what typesets needs it: reading a circuit does not
+
     head, *rest = name.split("_")
     if name == "oo" or not head or not all(_PART.fullmatch(p) for p in rest):
         return sympy.latex(sympy.Symbol(name))
@@ -119,6 +123,8 @@ def _subscript(word: str) -> str:
 
 def latex_of(expr: sympy.Basic) -> str:
     """sympy's LaTeX of an expression, with its symbols typeset by `symbol_latex`."""
+    import sympy
+
     names_ = {s: symbol_latex(s.name) for s in getattr(expr, "free_symbols", ())
               if isinstance(s, sympy.Symbol)}
     return sympy.latex(expr, symbol_names=names_)

@@ -14,9 +14,7 @@ from contextlib import contextmanager
 from dataclasses import dataclass
 from difflib import get_close_matches
 from fractions import Fraction
-from typing import Any
-
-import sympy
+from typing import TYPE_CHECKING, Any
 
 from ..algebra.convert import (
     atom_name,
@@ -38,6 +36,9 @@ from ..limits import MAX_EXPANSION_TERMS, power_terms
 from ..model.circuit import REFERENCE, Circuit, Element
 from ..results import Result
 from .registry import RESPONSE_PARTS, RESPONSE_QUANTITIES, DeriveOptions
+
+if TYPE_CHECKING:  # pragma: no cover
+    import sympy
 
 
 @dataclass(frozen=True)
@@ -69,6 +70,7 @@ class Context:
     """One derivation: the circuit, the options, and where the quantity text came from."""
 
     def __init__(self, circuit: Circuit, options: DeriveOptions) -> None:
+
         self.circuit = circuit
         self.options = options
         origin = getattr(options, "origin", None)
@@ -272,6 +274,8 @@ class Context:
         for coupling in self.network.couplings.values():
             if coupling.mutual not in function.symbol_names():
                 continue
+            import sympy
+
             root = sympy.sqrt(sympy.Symbol(coupling.first) * sympy.Symbol(coupling.second))
             name = atom_name(root)
             self.atoms[name] = root
@@ -282,7 +286,8 @@ class Context:
             function = substitute_root(function.in_ring(ring), coupling.mutual, factor,
                                        radicand, name)
         for element in self.circuit.elements.values():
-            if element.kind in ("transformer", "coupling") and element.definition is not None \
+            if element.kind in ("transformer", "coupling") \
+                    and element.definition_formula is not None \
                     and element.name in function.symbol_names():
                 function = self.substitute(function, element.name,
                                            self.definitions[element.name])
@@ -308,9 +313,11 @@ class Context:
         """Nominal value of every symbol that has one (mutual inductances to 40 digits)."""
         cached = self.memo.get("nominals")
         if cached is None:
-            cached = {str(k): v for k, v in self.circuit.symbol_nominals().items()}
+            cached = self.circuit.name_nominals()
             for c in self.network.couplings.values():
                 if all(n in cached for n in (c.name, c.first, c.second)):
+                    import sympy
+
                     m = sympy.Symbol(c.name) * sympy.sqrt(sympy.Symbol(c.first)
                                                           * sympy.Symbol(c.second))
                     cached[c.mutual] = atom_value(m, cached)
@@ -360,6 +367,8 @@ class Context:
 def expanded_definitions(circuit: Circuit) -> dict[str, sympy.Expr]:
     """Every element and parameter defined by an expression, expanded down to symbols
     without a definition (`Rt` → `R0*(T*alpha + 1)`)."""
+    import sympy
+
     raw: dict[str, sympy.Expr] = {str(k): v for k, v in circuit.definitions().items()}
     for p in circuit.parameters.values():
         if p.value is not None and p.value.free_symbols:
@@ -435,6 +444,7 @@ def _expanded_terms(expr: sympy.Expr) -> int:
     """A bound on the terms of numerator plus denominator of `expr` once multiplied out,
     from its tree alone (a sum over a common denominator, products of the parts, powers by
     the binomial count); radicals and `pi` count as single variables."""
+
 
     def bound(e: sympy.Expr) -> tuple[int, int]:
         if e.is_Add:

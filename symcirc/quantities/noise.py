@@ -110,7 +110,7 @@ def _setup(circuit: Circuit) -> NoiseSetup:
         return name
 
     def source(name: str, kind: str, a: str, b: str, like: Element) -> Element:
-        return Element(name, kind, (a, b), sympy.Symbol(name), None, None, None,
+        return Element(name, kind, (a, b), None, None, None,
                        "V" if kind == "voltage source" else "A", None, like.location)
 
     four_kt = 4 * BOLTZMANN_SYMBOL * TEMPERATURE_SYMBOL

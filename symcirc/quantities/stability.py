@@ -18,17 +18,19 @@ import dataclasses
 from fractions import Fraction
 from math import gcd, lcm
 
-import sympy
-
 from ..algebra.polynomials import LAPLACE_NAME, AlgebraError, PolynomialRing
 from ..engine import eliminate
 from ..engine.memo import Memo
 from ..engine.mna import Equations
 from ..engine.network import build_network
-from ..model.circuit import LAPLACE, Circuit
+from ..model import formula
+from ..model.circuit import Circuit
+from ..model.formula import Formula
 from ..results import Result
 
-OPAMP_GAIN = sympy.Integer(100_000) / (1 + LAPLACE / 100)
+POLE = formula.constant(1) + formula.laplace() / formula.constant(100)
+"""1 + s/(100 rad/s): the one pole given to every opamp in the check."""
+OPAMP_GAIN = formula.constant(100_000) / POLE
 """The finite-gain model of an ideal opamp for the positive-feedback check."""
 MAX_EQUATIONS = 400
 """Largest system the opamp check takes (its determinant is of polynomials in s alone)."""
@@ -153,17 +155,16 @@ def opamp_notes(circuit: Circuit, memo: Memo | None = None) -> tuple[str, ...]:
     return cached
 
 
-def _model_gain(element) -> sympy.Expr | None:
+def _model_gain(element) -> Formula | None:
     """The gain the check gives an opamp: OPAMP_GAIN for an ideal one, a flat gain A given
     the same pole (A/(1 + s/100 rad/s)); None when the gain already has dynamics (its
     results carry the right-half-plane check themselves)."""
     if element.is_ideal_opamp:
         return OPAMP_GAIN
     if element.definition is None:
-        value = element.nominal
-        return sympy.Rational(value.numerator, value.denominator) / (1 + LAPLACE / 100)
-    if LAPLACE not in element.definition.free_symbols:
-        return element.definition / (1 + LAPLACE / 100)
+        return formula.constant(element.nominal) / POLE
+    if not element.definition_formula.has_laplace():
+        return element.definition_formula / POLE
     return None
 
 
@@ -172,7 +173,7 @@ def _opamp_notes(circuit: Circuit) -> tuple[str, ...]:
     modelled = [(e, g) for e in opamps if (g := _model_gain(e)) is not None]
     if not modelled:
         return ()
-    nominals = {str(k): v for k, v in circuit.symbol_nominals().items()}
+    nominals = circuit.name_nominals()
     if len(modelled) > 1:  # every opamp at once first: the usual answer, in one determinant
         count, method = _with_finite_gain(circuit, dict(modelled), nominals)
         if not count:
@@ -212,7 +213,8 @@ def _with_finite_gain(circuit: Circuit, gains: dict, nominals: dict[str, Fractio
     first, so the determinant is one of polynomials in s alone."""
     elements = dict(circuit.elements)
     for opamp, gain in gains.items():
-        elements[opamp.name] = dataclasses.replace(opamp, definition=gain, nominal=None)
+        elements[opamp.name] = dataclasses.replace(
+            opamp, definition_formula=gain, nominal=None)
     model = dataclasses.replace(circuit, elements=elements, derives=(), claims=())
     try:
         network = build_network(model)
@@ -274,7 +276,7 @@ def add_warnings(circuit: Circuit, results: list[Result],
         extra = list(loop)
         if result.exact is not None:
             if nominals is None:
-                nominals = {str(k): v for k, v in circuit.symbol_nominals().items()}
+                nominals = circuit.name_nominals()
             extra += response_notes(result, nominals)
         out.append(result.with_new_notes(*extra))
     return out

@@ -11,6 +11,7 @@ from pathlib import Path
 import sympy
 
 from symcirc.errors import Location
+from symcirc.model import formula
 from symcirc.model.circuit import Circuit, Element, Parameter, Port, Tolerance
 from symcirc.report.content import Section, parameters, parts, ports, result_view
 from symcirc.report.note import Note, marker_json
@@ -24,8 +25,8 @@ _AT = Location("hand.circuit", 1, 1)
 
 def _element(name, kind, nodes, nominal, unit, tolerance=None, description=None,
              written=None):
-    return Element(name, kind, nodes, sympy.Symbol(name), None, nominal, tolerance, unit,
-                   description, _AT, written=written)
+    return Element(name, kind, nodes, None, nominal, tolerance, unit, description, _AT,
+                   written=written)
 
 
 def hand_note(fmt: str, title: str = HOSTILE) -> Note:
@@ -33,8 +34,7 @@ def hand_note(fmt: str, title: str = HOSTILE) -> Note:
     one_percent = Tolerance(Fraction(1, 100), Fraction(1, 100), True)
     circuit = Circuit(
         "hand.circuit", "", title,
-        {"Ub": Parameter("Ub", sympy.Symbol("Ub"), sympy.Integer(5), Fraction(5), "V", None,
-                         title, _AT)},
+        {"Ub": Parameter("Ub", formula.constant(5), Fraction(5), "V", None, title, _AT)},
         {"U": _element("U", "voltage source", ("in", "gnd"), Fraction(5), "V"),
          "R1": _element("R1", "resistor", ("in", "out"), Fraction(1000), "Ω", one_percent,
                         title, "1k"),
