@@ -42,12 +42,14 @@ def equations(lhs: str, rhs: str, expression: sympy.Expr | None = None,
         return [Equation((f"{lhs} = {rhs}",))]
     if expression is not None and expression.is_Mul:
         numerator, denominator = sympy.fraction(expression)
-        if denominator != 1 and max(_too_wide(numerator, width), _too_wide(denominator, width)):
-            return [
-                Equation((f"{lhs} = \\frac{{{NUMERATOR}}}{{{DENOMINATOR}}}",)),
-                *equations(NUMERATOR, latex_of(numerator), None, width),
-                *equations(DENOMINATOR, latex_of(denominator), None, width),
-            ]
+        if denominator != 1:
+            numerator_tex, denominator_tex = latex_of(numerator), latex_of(denominator)
+            if max(visible_width(numerator_tex), visible_width(denominator_tex)) > width * 0.8:
+                return [
+                    Equation((f"{lhs} = \\frac{{{NUMERATOR}}}{{{DENOMINATOR}}}",)),
+                    *equations(NUMERATOR, numerator_tex, None, width),
+                    *equations(DENOMINATOR, denominator_tex, None, width),
+                ]
     elif expression is None and (parts := fraction_parts(rhs)) is not None:
         sign, numerator_tex, denominator_tex = parts
         if max(visible_width(numerator_tex), visible_width(denominator_tex)) > width * 0.8:
@@ -57,10 +59,6 @@ def equations(lhs: str, rhs: str, expression: sympy.Expr | None = None,
                 *equations(DENOMINATOR, denominator_tex, None, width),
             ]
     return [Equation(tuple(break_lines(f"{lhs} = ", rhs, width)))]
-
-
-def _too_wide(expression: sympy.Expr, width: float) -> bool:
-    return visible_width(latex_of(expression)) > width * 0.8
 
 
 def fraction_parts(tex: str) -> tuple[str, str, str] | None:
