@@ -273,8 +273,27 @@ class ResultView:
 
     @property
     def formula(self) -> str:
-        """The formula on one line (sheets): the design form where present, else canonical."""
-        return f"{self.symbol} = {self.design_latex or self.canonical_latex}"
+        """The formula on one line (sheets): the shorter of the design form and the
+        canonical result (the design form on a tie)."""
+        return f"{self.symbol} = {self.shortest_latex}"
+
+    @property
+    def shortest_latex(self) -> str:
+        """The right side of `formula`."""
+        from .formulas import visible_width
+
+        if self.design_latex and (visible_width(self.design_latex)
+                                  <= visible_width(self.canonical_latex)):
+            return self.design_latex
+        return self.canonical_latex
+
+    @property
+    def summary(self) -> tuple[str, ...]:
+        """`formula` broken before `+`/`−` into lines that fit the summary's formula column
+        (each line balanced, so each can be set on its own): the summary always shows it."""
+        from .formulas import SUMMARY_WIDTH, break_lines
+
+        return tuple(break_lines(f"{self.symbol} = ", self.shortest_latex, SUMMARY_WIDTH))
 
 
 @dataclass

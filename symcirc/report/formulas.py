@@ -18,6 +18,10 @@ from ..model.typeset import latex_of
 WIDTH = 58.0
 """Characters of maths that fit on one line of an A4 page at 10 pt (estimated)."""
 
+SUMMARY_WIDTH = 30.0
+"""Characters of maths that fit a line of the summary's formula column (0.45 of the line, in
+text style)."""
+
 NUMERATOR = r"\mathcal{N}"
 DENOMINATOR = r"\mathcal{D}"
 
