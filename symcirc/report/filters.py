@@ -197,19 +197,29 @@ def width(latex: Any) -> float:
     return visible_width(str(latex))
 
 
-def layout(latex: Any, lhs: str = "") -> list:
-    """Equations of `lhs = latex` laid out for a page (a list of `formulas.Equation`); with no
-    `lhs`, the formula alone."""
-    from .formulas import Equation, equations
+def layout(latex: Any, lhs: str = "", width: float | None = None) -> list:
+    """Equations of `lhs = latex` laid out for a page, or for `width` characters of maths (a
+    list of `formulas.Equation`); with no `lhs`, the formula alone."""
+    from .formulas import WIDTH, Equation, equations
 
+    width = WIDTH if width is None else width
     if lhs:
-        return equations(lhs, str(latex))
-    laid = equations("\\square", str(latex))
+        return equations(lhs, str(latex), width=width)
+    laid = equations("\\square", str(latex), width=width)
     first = laid[0].lines[0].replace("\\square = ", "", 1)
     return [Equation((first, *laid[0].lines[1:])), *laid[1:]]
 
 
+def cell_lines(latex: Any) -> list[str]:
+    """A formula for a table cell as lines that fit one (a long fraction as 𝒩/𝒟 with its
+    numerator and denominator on the lines below, each broken at its signs)."""
+    from .content import LONG_CELL
+
+    return [line for equation in layout(latex, width=LONG_CELL) for line in equation.lines]
+
+
 FILTERS = {
+    "cell_lines": cell_lines,
     "width": width,
     "layout": layout,
     "escape_tex": escape_tex,
