@@ -290,10 +290,17 @@ class ResultView:
     @property
     def summary(self) -> tuple[str, ...]:
         """`formula` broken before `+`/`−` into lines that fit the summary's formula column
-        (each line balanced, so each can be set on its own): the summary always shows it."""
-        from .formulas import SUMMARY_WIDTH, break_lines
+        (a fraction too wide for it as 𝒩/𝒟 with numerator and denominator below; each line
+        balanced, so each can be set on its own): the summary always shows it."""
+        from .formulas import SUMMARY_WIDTH
 
-        return tuple(break_lines(f"{self.symbol} = ", self.shortest_latex, SUMMARY_WIDTH))
+        return summary_lines(self.symbol, self.shortest_latex, SUMMARY_WIDTH)
+
+
+def summary_lines(lhs: str, rhs: str, width: float) -> tuple[str, ...]:
+    """`lhs = rhs` as the lines of a narrow column of `width` characters of maths."""
+    return tuple(line for equation in equations(lhs, rhs, None, width)
+                 for line in equation.lines)
 
 
 @dataclass

@@ -218,8 +218,18 @@ def cell_lines(latex: Any) -> list[str]:
     return [line for equation in layout(latex, width=LONG_CELL) for line in equation.lines]
 
 
+def column_lines(rhs: Any, lhs: str, width: float | None = None) -> tuple[str, ...]:
+    """`lhs = rhs` as lines for the formula column of a summary or sheet (`width` characters
+    of maths, by default the summary's)."""
+    from .content import summary_lines
+    from .formulas import SUMMARY_WIDTH
+
+    return summary_lines(lhs, str(rhs), SUMMARY_WIDTH if width is None else width)
+
+
 FILTERS = {
     "cell_lines": cell_lines,
+    "column_lines": column_lines,
     "width": width,
     "layout": layout,
     "escape_tex": escape_tex,
