@@ -13,7 +13,7 @@ from pathlib import Path
 
 import html5lib
 import pytest
-from notes_support import HOSTILE, last_page, pdf_pages, pdf_text, pdflatex
+from notes_support import HOSTILE, fits_the_page, last_page, pdf_pages, pdf_text, pdflatex
 
 from symcirc.cli import main
 from symcirc.report.filters import escape_md, escape_tex, escape_tex_code
@@ -76,23 +76,10 @@ def test_latex_note_compiles(notes, example):
     assert pdf_pages(pdf) == last_page(pdf) > 0
     words = " ".join(pdf_text(pdf).split())
     assert "Sign conventions" in words and "SHA-256" in words
-    _fits_the_page(pdf)
+    fits_the_page(pdf)
 
 
-def _fits_the_page(pdf: Path) -> None:
-    """Long formulas are broken, never left running off the page: TeX's own measure, an
-    overfull box, says by how much a line sticks out, and none does by more than 10 pt. A
-    formula or table wider than its line is scaled down, but only a little: long ones are
-    broken across lines instead, so none shrinks below 80 % (the log of \\fitmath)."""
-    log = pdf.with_suffix(".log").read_text(errors="replace")
-    overfull = [float(x) for x in re.findall(r"Overfull \\hbox \(([\d.]+)pt too wide", log)]
-    assert max(overfull, default=0) <= 10, overfull
-    scaled = [float(natural) / float(line) for natural, line in
-              re.findall(r"symcirc-fit: scaled ([\d.]+)pt to ([\d.]+)pt", log)]
-    assert max(scaled, default=1) <= 1.25, scaled
-
-
-def test_full_bridge_note_fits_the_page(tmp_path):
+def test_full_bridge_notefits_the_page(tmp_path):
     """The strain-gauge full bridge with lead resistances: its design form is the bridge's
     (no star–delta transform), the summary gives it, and the LaTeX note fits the page."""
     circuit = tmp_path / "strain_bridge.circuit"
@@ -103,7 +90,7 @@ def test_full_bridge_note_fits_the_page(tmp_path):
     summary = text.split("section*{Summary}", 1)[1].split("section*{Circuit}", 1)[0]
     assert r"\parallel" in summary and "see below" not in summary
     assert "Kennelly" not in text
-    _fits_the_page(pdflatex(note))
+    fits_the_page(pdflatex(note))
 
 
 @pytest.mark.parametrize("example", [e.stem for e in EXAMPLES])

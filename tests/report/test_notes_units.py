@@ -248,3 +248,17 @@ def test_hand_note_renders_in_every_format():
     for fmt in ("markdown", "latex", "html"):
         text = render_note(hand_note(fmt))
         assert "SHA-256" in text and "symcirc-note" in text
+
+
+def test_a_product_breaks_before_the_fraction_it_multiplies():
+    """`U·(a/b − c/d)·Z/(Z + Rs)` with a long factor: the line breaks between the factors and
+    the new one starts with `·` (a product carried over, as written by hand)."""
+    x = sympy.symbols("x0:8")
+    difference = sympy.latex(x[0] / (x[0] + x[1]) - x[2] / (x[2] + x[3]))
+    rhs = rf"U \left({difference}\right) \frac{{x_{{4}} + x_{{5}}}}{{x_{{4}} + x_{{5}} + x_{{6}}}}"
+    lines = break_lines("V = ", rhs, width=visible_width("V = " + rhs) - 5)
+    assert len(lines) == 2 and lines[1].startswith(r"\cdot \frac{")
+    assert _unbroken(lines).replace(r"\cdot", "") == "".join(("V = " + rhs).split())
+    # no break after an operator: `a \parallel \frac{…}` stays whole
+    parallel = r"a \parallel \frac{b + c}{d + e}"
+    assert break_lines("Z = ", parallel, width=8) == ["Z = " + parallel]
