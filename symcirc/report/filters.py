@@ -210,12 +210,14 @@ def layout(latex: Any, lhs: str = "", width: float | None = None) -> list:
     return [Equation((first, *laid[0].lines[1:])), *laid[1:]]
 
 
-def cell_lines(latex: Any) -> list[str]:
+def cell_lines(latex: Any) -> list[tuple[str, bool]]:
     """A formula for a table cell as lines that fit one (a long fraction as 𝒩/𝒟 with its
-    numerator and denominator on the lines below, each broken at its signs)."""
+    numerator and denominator on the lines below, each broken at its signs): (LaTeX, whether
+    the line continues the one before)."""
     from .content import LONG_CELL
 
-    return [line for equation in layout(latex, width=LONG_CELL) for line in equation.lines]
+    return [(line, i > 0) for equation in layout(latex, width=LONG_CELL)
+            for i, line in enumerate(equation.lines)]
 
 
 def column_lines(rhs: Any, lhs: str, width: float | None = None) -> tuple[str, ...]:
