@@ -231,10 +231,11 @@ def bridge_corners(net: Network, p: str, n: str, a: str, b: str) -> tuple[str, s
     """The corners (top, bottom) of a bridge whose output is a–b, or None.
 
     A bridge here is two dividers across the same pair of nodes: a and b are their taps,
-    each joined to nothing but one impedance to each corner. When the corners are the
-    source's own terminals the dividers of each node against n already read as a bridge, so
-    that case is left to them. `top` is the corner nearer the source's terminal p."""
-    if n in (a, b) or p in (a, b):
+    each joined to nothing but one impedance to each corner (and no active element). When
+    the corners are the source's own terminals the dividers of each node against n already
+    read as a bridge, so that case is left to them. `top` is the corner nearer the source's
+    terminal p."""
+    if n in (a, b) or p in (a, b) or any({a, b} & {x, y} for _, x, y in net.active):
         return None
     pair = _tap_corners(net, a)
     if pair is None or _tap_corners(net, b) != pair or set(pair) == {p, n}:

@@ -178,3 +178,22 @@ def test_no_form_is_longer_than_the_canonical_result():
             assert equal(form.expression, result.expression)
             checked += 1
     assert checked >= 5
+
+
+def test_a_controlled_source_at_a_tap_is_not_taken_for_a_bridge():
+    circuit = symcirc.parse(LEADS + "param gm\ncurrent source Igm (a, bot) = gm*V(b, bot)\n")
+    (result,) = circuit.derive("V(out)", steps=True)
+    assert "bridge" not in kinds(result)
+    assert result.form is not None and equal(result.form.expression, result.expression)
+    gm = sympy.Symbol("gm")
+    # the current laws at top, a, b and bot written here, solved by sympy at set values
+    values = {U: 5, Ra: 2, Rb: 3, R1: 100, R2: 120, R3: 110, R4: 90, gm: sympy.Rational(1, 50)}
+    va, vb, vt, vbot = sympy.symbols("va vb vt vbot")
+    equations = [
+        (U - vt) / Ra - (vt - va) / R1 - (vt - vb) / R3,
+        (vt - va) / R1 - (va - vbot) / R2 + gm * (vb - vbot),
+        (vt - vb) / R3 - (vb - vbot) / R4,
+        (va - vbot) / R2 + (vb - vbot) / R4 - gm * (vb - vbot) - vbot / Rb,
+    ]
+    solved = sympy.solve([e.subs(values) for e in equations], [va, vb, vt, vbot])
+    assert result.expression.subs(values) == solved[va] - solved[vb]
