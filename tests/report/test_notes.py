@@ -79,7 +79,7 @@ def test_latex_note_compiles(notes, example):
     fits_the_page(pdf)
 
 
-def test_full_bridge_notefits_the_page(tmp_path):
+def test_full_bridge_note_fits_the_page(tmp_path):
     """The strain-gauge full bridge with lead resistances: its design form is the bridge's
     (no star–delta transform), the summary gives it, and the LaTeX note fits the page."""
     circuit = tmp_path / "strain_bridge.circuit"
