@@ -331,7 +331,8 @@ def result_view(result: Any, symbol: str | None = None) -> ResultView:
     form = getattr(result, "form", None)
     if form is not None:
         form_latex = getattr(form, "latex", None)
-        if form_latex and form_latex != canonical_latex:
+        shown_apart = getattr(form, "kind", "") != "canonical"  # else it is the canonical
+        if form_latex and form_latex != canonical_latex and shown_apart:
             design_latex = form_latex
             design = equations(symbol, form_latex, getattr(form, "expression", None))
         design_text = getattr(form, "text", None)
