@@ -6,7 +6,7 @@ from __future__ import annotations
 import sympy
 
 from ..model.circuit import REFERENCE, Circuit, Element
-from .dividers import Unsupported, node_voltage, ratio_equation
+from .dividers import Unsupported, factor_text, node_voltage, ratio_equation
 from .network import Network, block, build
 from .printing import latex, text
 from .reduce import reduce_two_terminal
@@ -302,16 +302,13 @@ def _bridge(
     )
     if merged is None:
         raise Unsupported("the bridge arms do not reduce")
-    key = rest.add(merged)
+    rest.add(merged)
     across = f"V_br{tag}"
     if {top, bottom} & {p, n}:
         v_bridge = _open_voltage(rest, source, p, n, sign, top, bottom, vp, rec, across, tag)
     else:
         load = [k for k, br in rest.branches.items() if {br.a, br.b} == {top, bottom}]
         v_bridge = _loaded(rest, source, p, n, sign, top, bottom, load, rec, across, tag)
-    if key not in rest.branches:
-        raise Unsupported("the bridge arms were merged away")
-
     (upper_a, lower_a), (upper_b, lower_b) = ratios[a], ratios[b]
     difference = lower_a / (upper_a + lower_a) - lower_b / (upper_b + lower_b)
     symbol = rec.fresh([name], "V")
@@ -323,7 +320,7 @@ def _bridge(
         symbol,
         v_bridge * difference,
         equation=(
-            f"{text(symbol)} = {_factor_text(v_bridge)}·({text(difference)})",
+            f"{text(symbol)} = {factor_text(v_bridge)}·({text(difference)})",
             rf"{latex(symbol)} = {latex(v_bridge)} \left({latex(difference)}\right)",
         ),
         source=v_bridge,
@@ -332,11 +329,6 @@ def _bridge(
         taps=dict(ratios),
     )
     return symbol
-
-
-def _factor_text(factor: sympy.Expr) -> str:
-    shown = text(factor)
-    return f"({shown})" if len(sympy.Add.make_args(factor)) > 1 or "/" in shown else shown
 
 
 def _source_voltage(
