@@ -239,11 +239,11 @@ def _product(expr: sympy.Expr, style: _Style, negate: bool = False) -> tuple[str
             numer.append(f)
     level = _ADD if sign else _MUL
     ratios = [f for f in numer if f.is_Add and any(_has_fraction(t) for t in f.args)]
-    if denom and ratios:
+    below = set().union(*(f.free_symbols for f in denom))
+    over = [f for f in numer if f not in ratios and f.free_symbols & below]
+    if ratios and over:
         # `U·(R2/(R1 + R2) − R4/(R3 + R4))·Rd/(Rd + R1∥R2)`: a difference of ratios is not
         # buried in a fraction; what the denominator shares symbols with stays over it.
-        below = set().union(*(f.free_symbols for f in denom))
-        over = [f for f in numer if f not in ratios and f.free_symbols & below]
         lead = [f for f in numer if f not in ratios and f not in over]
         fraction, _ = _product(sympy.Mul(*over) / sympy.Mul(*denom), style)
         shown = [_wrap(f, _MUL, style) for f in (*lead, *ratios)]
