@@ -33,7 +33,7 @@ _TEX_TEXT = {
     "Ω": r"\ensuremath{\Omega}", "µ": r"\ensuremath{\mu}", "μ": r"\ensuremath{\mu}",
     "°": r"\textdegree{}", "±": r"\ensuremath{\pm}", "∥": r"\ensuremath{\parallel}",
     "−": r"\ensuremath{-}", "≈": r"\ensuremath{\approx}", "≤": r"\ensuremath{\le}",
-    "≥": r"\ensuremath{\ge}", "×": r"\ensuremath{\times}", "·": r"\ensuremath{\cdot}",
+    "≥": r"\ensuremath{\ge}", "×": r"\ensuremath{\times}", "·": r"\ensuremath{\cdot}\allowbreak{}",
     "→": r"\ensuremath{\to}", "∞": r"\ensuremath{\infty}", "≫": r"\ensuremath{\gg}",
     "≪": r"\ensuremath{\ll}", "∂": r"\ensuremath{\partial}", "√": r"\ensuremath{\surd}",
     "ω": r"\ensuremath{\omega}", "ζ": r"\ensuremath{\zeta}", "α": r"\ensuremath{\alpha}",
@@ -51,6 +51,7 @@ _TEX_TEXT.update({c: "\\ensuremath{\\" + name + "}" for c, name in zip(
     strict=True)})
 _TEX_TEXT.update({"≠": r"\ensuremath{\neq}", "⋅": r"\ensuremath{\cdot}", "′": "'",
                   "∝": r"\ensuremath{\propto}", "∑": r"\ensuremath{\sum}",
+                  "∫": r"\ensuremath{\int}",
                   "⇒": r"\ensuremath{\Rightarrow}", "←": r"\ensuremath{\leftarrow}",
                   "“": "``", "”": "''", "‘": "`", "’": "'"})
 _TEX_TEXT.update({c: r"\textsuperscript{" + d + "}"  # powers of ten in the number style
