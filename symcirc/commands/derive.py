@@ -150,7 +150,7 @@ def as_text(circuit, results: list[Result], values: bool) -> str:
         if values:
             line += f"    {value_text(result)}"
         lines.append(line)
-        if result.form is not None:
+        if _design_form(result):
             lines.append(f"  design form: {result.form.text}")
             for name, described in (getattr(result.form, "parameters", None) or {}).items():
                 value = _parameter_value(described)
@@ -167,7 +167,7 @@ def as_latex(circuit, results: list[Result], values: bool) -> str:
     blocks = []
     for result in results:
         body = f"{result.quantity_latex()} = {result.latex()}"
-        if result.form is not None:
+        if _design_form(result):
             body += f" = {result.form.latex}"
         if values:
             body += r" \quad \text{(" + _latex_text(value_text(result)) + ")}"
@@ -182,6 +182,12 @@ def as_latex(circuit, results: list[Result], values: bool) -> str:
                 blocks.append("\\begin{equation*}\n" + step.latex + "\n\\end{equation*}")
         blocks.extend(f"% note: {n}" for n in result.notes)
     return "\n".join(blocks)
+
+
+def _design_form(result: Result) -> bool:
+    """True when the result has a design form other than its canonical result (which is
+    attached as the form when it is the shortest, and is shown once)."""
+    return result.form is not None and getattr(result.form, "kind", "") != "canonical"
 
 
 _PARAMETER_LATEX = {"ω": r"\omega", "ζ": r"\zeta"}
@@ -225,7 +231,7 @@ def as_markdown(circuit, results: list[Result], values: bool) -> str:
     for result in results:
         parts.append(f"**`{result.quantity}`**")
         parts.append(f"$$\n{result.latex()}\n$$")
-        if result.form is not None:
+        if _design_form(result):
             parts.append(f"Design form: ${result.form.latex}$")
             definitions = _definitions(result)
             if definitions:

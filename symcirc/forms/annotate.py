@@ -220,13 +220,33 @@ def _form(
             warnings.append(warning)
     if standard is not None and (target.kind in TRANSFER_KINDS or not structural):
         return Form(standard.expression, standard.text, standard.latex, parameters, standard.kind)
-    if structural:
-        return Form(value, text(value), latex(value), parameters, "structure")
-    canonical = result.expression
-    shown = approx.grouped(canonical)
-    if not equal(shown, _canonical(result)):
-        shown = canonical
-    return Form(shown, text(shown), latex(shown), parameters, "grouped")
+    candidates = [(value, "structure")] if structural else []
+    return shortest_form(candidates, result, parameters)
+
+
+TEXT_PER_TERM = 3
+"""Fewest characters a term of a sum takes in plain text (`R1` and a sign): a canonical
+result of n terms is printed only when a form is longer than this many characters per term,
+since it could not be shorter otherwise."""
+
+
+def shortest_form(
+    candidates: list[tuple[sympy.Expr, str]], result: Result, parameters: dict[str, dict]
+) -> Form:
+    """The shortest in plain text of the proved `candidates` (expression, kind), the grouped
+    canonical result (factored, proved here) and the canonical result itself; earlier
+    candidates win ties. A reader takes in a short formula first, and every one of them is
+    exactly the result."""
+    shown = [(expr, kind, text(expr)) for expr, kind in candidates]
+    bound = TEXT_PER_TERM * size(result)
+    if not shown or min(len(t) for _, _, t in shown) > bound:
+        canonical = result.expression
+        grouped = approx.grouped(canonical)
+        if grouped != canonical and equal(grouped, _canonical(result)):
+            shown.append((grouped, "grouped", text(grouped)))
+        shown.append((canonical, "canonical", text(canonical)))
+    expr, kind, plain = min(shown, key=lambda item: len(item[2]))
+    return Form(expr, plain, latex(expr), parameters, kind)
 
 
 def _instability(parameters: dict[str, dict]) -> str | None:

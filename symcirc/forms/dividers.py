@@ -221,7 +221,7 @@ def ratio_equation(
     symbol: sympy.Expr, factor: sympy.Expr, part: sympy.Expr, whole: sympy.Expr
 ) -> tuple[str, str]:
     """`V_x = U·Z2/(Z1 + Z2)` with the ratio kept as written (sympy would merge it)."""
-    head = "" if factor == 1 else ("−" if factor == -1 else _factor_text(factor) + "·")
+    head = "" if factor == 1 else ("−" if factor == -1 else factor_text(factor) + "·")
     head_latex = "" if factor == 1 else ("-" if factor == -1 else latex(factor) + " ")
     part_text = text(part)
     if len(sympy.Add.make_args(part)) > 1 or ("/" in part_text and head):
@@ -232,6 +232,7 @@ def ratio_equation(
     )
 
 
-def _factor_text(factor: sympy.Expr) -> str:
+def factor_text(factor: sympy.Expr) -> str:
+    """A factor as plain text, in parentheses when it is a sum or a fraction."""
     shown = text(factor)
     return f"({shown})" if len(sympy.Add.make_args(factor)) > 1 or "/" in shown else shown

@@ -22,7 +22,8 @@ class Form:
     latex: str
     parameters: dict[str, dict[str, Any]] = field(default_factory=dict)
     kind: str = "structure"
-    """'structure' (from the circuit's structure), a standard form's name, or 'grouped'."""
+    """'structure' (from the circuit's structure), a standard form's name, 'grouped' (the
+    canonical result factored) or 'canonical' (the canonical result, when it is the shortest)."""
 
     def to_json(self) -> dict[str, Any]:
         return {"text": self.text, "latex": self.latex, "parameters": self.parameters}

@@ -237,8 +237,18 @@ def _product(expr: sympy.Expr, style: _Style, negate: bool = False) -> tuple[str
             denom.append(f.base if f.exp == -1 else f.base ** (-f.exp))
         else:
             numer.append(f)
-    top = style.times.join(_wrap(f, _MUL, style) for f in numer) if numer else "1"
     level = _ADD if sign else _MUL
+    ratios = [f for f in numer if f.is_Add and any(_has_fraction(t) for t in f.args)]
+    below = set().union(*(f.free_symbols for f in denom))
+    over = [f for f in numer if f not in ratios and f.free_symbols & below]
+    if ratios and over:
+        # `U·(R2/(R1 + R2) − R4/(R3 + R4))·Rd/(Rd + R1∥R2)`: a difference of ratios is not
+        # buried in a fraction; what the denominator shares symbols with stays over it.
+        lead = [f for f in numer if f not in ratios and f not in over]
+        fraction, _ = _product(sympy.Mul(*over) / sympy.Mul(*denom), style)
+        shown = [_wrap(f, _MUL, style) for f in (*lead, *ratios)]
+        return sign + style.times.join([*shown, fraction]), level
+    top = style.times.join(_wrap(f, _MUL, style) for f in numer) if numer else "1"
     if not denom:
         return sign + top, level
     if style is _LATEX and len(numer) == 1:  # \frac needs no brackets around one factor
@@ -276,3 +286,9 @@ def _is_laplace(factor: sympy.Expr) -> bool:
 def _wrap(expr: sympy.Expr, level: float, style: _Style) -> str:
     body, own = _print(expr, style)
     return style.paren(body) if own < level else body
+
+
+def _has_fraction(term: sympy.Expr) -> bool:
+    """True when a term of a sum prints as a fraction (`R2/(R1 + R2)`)."""
+    return any(f.is_Pow and f.exp.is_negative for f in sympy.Mul.make_args(term)) or bool(
+        term.is_Rational and not term.is_Integer)

@@ -6,7 +6,7 @@ from __future__ import annotations
 import sympy
 
 from ..model.circuit import REFERENCE, Circuit, Element
-from .dividers import Unsupported, node_voltage, ratio_equation
+from .dividers import Unsupported, factor_text, node_voltage, ratio_equation
 from .network import Network, block, build
 from .printing import latex, text
 from .reduce import reduce_two_terminal
@@ -142,13 +142,31 @@ def _one_source_voltage(
         except Unsupported:
             rec.rewind(mark)
     vp = _source_voltage(net, source, p, n, sign, rec, tag)
-    return _open_voltage(net, p, n, a, b, vp, rec, name, tag)
+    return _open_voltage(net, source, p, n, sign, a, b, vp, rec, name, tag)
 
 
 def _open_voltage(
-    net: Network, p: str, n: str, a: str, b: str, vp: sympy.Expr, rec: Recorder, name: str, tag: str
+    net: Network,
+    source: Element,
+    p: str,
+    n: str,
+    sign: int,
+    a: str,
+    b: str,
+    vp: sympy.Expr,
+    rec: Recorder,
+    name: str,
+    tag: str,
 ) -> sympy.Expr:
-    """V(a) − V(b) from the dividers of each node against n."""
+    """V(a) − V(b): across a bridge, its excitation times the difference of its two divider
+    ratios; otherwise from the dividers of each node against n."""
+    corners = bridge_corners(net, p, n, a, b)
+    if corners is not None:
+        mark = rec.mark()
+        try:
+            return _bridge(net, source, p, n, sign, a, b, corners, vp, rec, name, tag)
+        except Unsupported:
+            rec.rewind(mark)
     if b == n:
         return node_voltage(net, p, n, a, vp, rec, name=name, tag=tag)
     if a == n:
@@ -177,7 +195,7 @@ def _loaded(
     rest = net.copy()
     loads = [rest.remove(k) for k in load]
     vp = _source_voltage(rest, source, p, n, sign, rec, tag)
-    v_open = _open_voltage(rest, p, n, a, b, vp, rec, f"V_oc{tag}", tag)
+    v_open = _open_voltage(rest, source, p, n, sign, a, b, vp, rec, f"V_oc{tag}", tag)
     shorted = source.kind == "voltage source"
     zeroed = rest.contracted(n, p) if shorted else rest
     rec.add(
@@ -205,6 +223,110 @@ def _loaded(
         source=v_open,
         top=z_source,
         bottom=z_load,
+    )
+    return symbol
+
+
+def bridge_corners(net: Network, p: str, n: str, a: str, b: str) -> tuple[str, str] | None:
+    """The corners (top, bottom) of a bridge whose output is a–b, or None.
+
+    A bridge here is two dividers across the same pair of nodes: a and b are their taps,
+    each joined to nothing but one impedance to each corner (and no active element). When
+    the corners are the source's own terminals the dividers of each node against n already
+    read as a bridge, so that case is left to them. `top` is the corner nearer the source's
+    terminal p."""
+    if n in (a, b) or p in (a, b) or any({a, b} & {x, y} for _, x, y in net.active):
+        return None
+    pair = _tap_corners(net, a)
+    if pair is None or _tap_corners(net, b) != pair or set(pair) == {p, n}:
+        return None
+    distance = _distances(net, p, n)
+    top, bottom = sorted(pair, key=lambda x: (distance.get(x, len(distance) + 1), x != p, x))
+    return top, bottom
+
+
+def _tap_corners(net: Network, x: str) -> tuple[str, str] | None:
+    """The two nodes a divider's tap x is joined to (sorted), when it has exactly one
+    impedance to each and nothing else."""
+    keys = net.adjacent.get(x, set())
+    if len(keys) != 2:
+        return None
+    ends = sorted(net.branches[k].other(x) for k in keys)
+    return (ends[0], ends[1]) if ends[0] != ends[1] else None
+
+
+def _distances(net: Network, start: str, blocked: str) -> dict[str, int]:
+    """Branches from `start` to each node, not passing `blocked`."""
+    distance = {start: 0}
+    frontier = [start]
+    while frontier:
+        following = []
+        for node in frontier:
+            for key in sorted(net.adjacent.get(node, ())):
+                other = net.branches[key].other(node)
+                if other not in distance and other != blocked:
+                    distance[other] = distance[node] + 1
+                    following.append(other)
+        frontier = following
+    return distance
+
+
+def _bridge(
+    net: Network,
+    source: Element,
+    p: str,
+    n: str,
+    sign: int,
+    a: str,
+    b: str,
+    corners: tuple[str, str],
+    vp: sympy.Expr,
+    rec: Recorder,
+    name: str,
+    tag: str,
+) -> sympy.Expr:
+    """V(a) − V(b) across a bridge: its arms merged into one impedance, the voltage across
+    it found as for any load (before any star–delta transform), then each tap's divider."""
+    top, bottom = corners
+    rest = net.copy()
+    ratios: dict[str, tuple[sympy.Expr, sympy.Expr]] = {}
+    arms = Network()
+    for tap in (a, b):
+        upper = next(k for k in rest.adjacent[tap] if rest.branches[k].other(tap) == top)
+        lower = next(k for k in rest.adjacent[tap] if rest.branches[k].other(tap) == bottom)
+        ratios[tap] = (rest.branches[upper].label, rest.branches[lower].label)
+        arms.add(rest.remove(upper))
+        arms.add(rest.remove(lower))
+    merged = reduce_two_terminal(
+        arms, top, bottom, rec, lambda resistive: rec.fresh(["R_br" if resistive else "Z_br"])
+    )
+    if merged is None:
+        raise Unsupported("the bridge arms do not reduce")
+    rest.add(merged)
+    across = f"V_br{tag}"
+    if {top, bottom} & {p, n}:
+        v_bridge = _open_voltage(rest, source, p, n, sign, top, bottom, vp, rec, across, tag)
+    else:
+        load = [k for k, br in rest.branches.items() if {br.a, br.b} == {top, bottom}]
+        v_bridge = _loaded(rest, source, p, n, sign, top, bottom, load, rec, across, tag)
+    (upper_a, lower_a), (upper_b, lower_b) = ratios[a], ratios[b]
+    difference = lower_a / (upper_a + lower_a) - lower_b / (upper_b + lower_b)
+    symbol = rec.fresh([name], "V")
+    rec.add(
+        "bridge",
+        f"A bridge between nodes {top} and {bottom}: nodes {a} and {b} are the taps of "
+        f"two dividers across {text(v_bridge)}, so the output is {text(v_bridge)} times "
+        "the difference of the divider ratios.",
+        symbol,
+        v_bridge * difference,
+        equation=(
+            f"{text(symbol)} = {factor_text(v_bridge)}·({text(difference)})",
+            rf"{latex(symbol)} = {latex(v_bridge)} \left({latex(difference)}\right)",
+        ),
+        source=v_bridge,
+        corners=(top, bottom),
+        output=(a, b),
+        taps=dict(ratios),
     )
     return symbol
 

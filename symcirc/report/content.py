@@ -273,8 +273,34 @@ class ResultView:
 
     @property
     def formula(self) -> str:
-        """The formula on one line (sheets): the design form where present, else canonical."""
-        return f"{self.symbol} = {self.design_latex or self.canonical_latex}"
+        """The formula on one line (sheets): the shorter of the design form and the
+        canonical result (the design form on a tie)."""
+        return f"{self.symbol} = {self.shortest_latex}"
+
+    @property
+    def shortest_latex(self) -> str:
+        """The right side of `formula`."""
+        from .formulas import visible_width
+
+        if self.design_latex and (visible_width(self.design_latex)
+                                  <= visible_width(self.canonical_latex)):
+            return self.design_latex
+        return self.canonical_latex
+
+    @property
+    def summary(self) -> tuple[str, ...]:
+        """`formula` broken before `+`/`−` into lines that fit the summary's formula column
+        (a fraction too wide for it as 𝒩/𝒟 with numerator and denominator below; each line
+        balanced, so each can be set on its own): the summary always shows it."""
+        from .formulas import SUMMARY_WIDTH
+
+        return summary_lines(self.symbol, self.shortest_latex, SUMMARY_WIDTH)
+
+
+def summary_lines(lhs: str, rhs: str, width: float) -> tuple[str, ...]:
+    """`lhs = rhs` as the lines of a narrow column of `width` characters of maths."""
+    return tuple(line for equation in equations(lhs, rhs, None, width)
+                 for line in equation.lines)
 
 
 @dataclass
@@ -305,7 +331,8 @@ def result_view(result: Any, symbol: str | None = None) -> ResultView:
     form = getattr(result, "form", None)
     if form is not None:
         form_latex = getattr(form, "latex", None)
-        if form_latex and form_latex != canonical_latex:
+        shown_apart = getattr(form, "kind", "") != "canonical"  # else it is the canonical
+        if form_latex and form_latex != canonical_latex and shown_apart:
             design_latex = form_latex
             design = equations(symbol, form_latex, getattr(form, "expression", None))
         design_text = getattr(form, "text", None)

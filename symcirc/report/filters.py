@@ -33,7 +33,7 @@ _TEX_TEXT = {
     "Ω": r"\ensuremath{\Omega}", "µ": r"\ensuremath{\mu}", "μ": r"\ensuremath{\mu}",
     "°": r"\textdegree{}", "±": r"\ensuremath{\pm}", "∥": r"\ensuremath{\parallel}",
     "−": r"\ensuremath{-}", "≈": r"\ensuremath{\approx}", "≤": r"\ensuremath{\le}",
-    "≥": r"\ensuremath{\ge}", "×": r"\ensuremath{\times}", "·": r"\ensuremath{\cdot}",
+    "≥": r"\ensuremath{\ge}", "×": r"\ensuremath{\times}", "·": r"\ensuremath{\cdot}\allowbreak{}",
     "→": r"\ensuremath{\to}", "∞": r"\ensuremath{\infty}", "≫": r"\ensuremath{\gg}",
     "≪": r"\ensuremath{\ll}", "∂": r"\ensuremath{\partial}", "√": r"\ensuremath{\surd}",
     "ω": r"\ensuremath{\omega}", "ζ": r"\ensuremath{\zeta}", "α": r"\ensuremath{\alpha}",
@@ -51,6 +51,7 @@ _TEX_TEXT.update({c: "\\ensuremath{\\" + name + "}" for c, name in zip(
     strict=True)})
 _TEX_TEXT.update({"≠": r"\ensuremath{\neq}", "⋅": r"\ensuremath{\cdot}", "′": "'",
                   "∝": r"\ensuremath{\propto}", "∑": r"\ensuremath{\sum}",
+                  "∫": r"\ensuremath{\int}",
                   "⇒": r"\ensuremath{\Rightarrow}", "←": r"\ensuremath{\leftarrow}",
                   "“": "``", "”": "''", "‘": "`", "’": "'"})
 _TEX_TEXT.update({c: r"\textsuperscript{" + d + "}"  # powers of ten in the number style
@@ -197,19 +198,41 @@ def width(latex: Any) -> float:
     return visible_width(str(latex))
 
 
-def layout(latex: Any, lhs: str = "") -> list:
-    """Equations of `lhs = latex` laid out for a page (a list of `formulas.Equation`); with no
-    `lhs`, the formula alone."""
-    from .formulas import Equation, equations
+def layout(latex: Any, lhs: str = "", width: float | None = None) -> list:
+    """Equations of `lhs = latex` laid out for a page, or for `width` characters of maths (a
+    list of `formulas.Equation`); with no `lhs`, the formula alone."""
+    from .formulas import WIDTH, Equation, equations
 
+    width = WIDTH if width is None else width
     if lhs:
-        return equations(lhs, str(latex))
-    laid = equations("\\square", str(latex))
+        return equations(lhs, str(latex), width=width)
+    laid = equations("\\square", str(latex), width=width)
     first = laid[0].lines[0].replace("\\square = ", "", 1)
     return [Equation((first, *laid[0].lines[1:])), *laid[1:]]
 
 
+def cell_lines(latex: Any) -> list[tuple[str, bool]]:
+    """A formula for a table cell as lines that fit one (a long fraction as 𝒩/𝒟 with its
+    numerator and denominator on the lines below, each broken at its signs): (LaTeX, whether
+    the line continues the one before)."""
+    from .content import LONG_CELL
+
+    return [(line, i > 0) for equation in layout(latex, width=LONG_CELL)
+            for i, line in enumerate(equation.lines)]
+
+
+def column_lines(rhs: Any, lhs: str, width: float | None = None) -> tuple[str, ...]:
+    """`lhs = rhs` as lines for the formula column of a summary or sheet (`width` characters
+    of maths, by default the summary's)."""
+    from .content import summary_lines
+    from .formulas import SUMMARY_WIDTH
+
+    return summary_lines(lhs, str(rhs), SUMMARY_WIDTH if width is None else width)
+
+
 FILTERS = {
+    "cell_lines": cell_lines,
+    "column_lines": column_lines,
     "width": width,
     "layout": layout,
     "escape_tex": escape_tex,

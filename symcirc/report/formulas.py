@@ -15,8 +15,12 @@ import sympy
 
 from ..model.typeset import latex_of
 
-WIDTH = 58.0
+WIDTH = 52.0
 """Characters of maths that fit on one line of an A4 page at 10 pt (estimated)."""
+
+SUMMARY_WIDTH = 30.0
+"""Characters of maths that fit a line of the summary's formula column (0.45 of the line, in
+text style)."""
 
 NUMERATOR = r"\mathcal{N}"
 DENOMINATOR = r"\mathcal{D}"
@@ -102,28 +106,33 @@ def _group_end(tex: str, start: int) -> int | None:
 def break_lines(head: str, rhs: str, width: float = WIDTH) -> list[str]:
     """`head + rhs` packed greedily into lines no wider than `width`, breaking only before a
     `+` or `−` outside braces (at the top level or inside `\\left…\\right` groups, which are
-    closed with `\\right.` at the end of the line and reopened with `\\left.` on the next) or
-    before a top-level `\\quad`; a single piece wider than a line stays whole. Every line is
-    balanced, so each can be typeset (or converted to MathML) on its own."""
+    closed with `\\right.` at the end of the line and reopened with `\\left.` on the next),
+    before a top-level `\\quad`, or between a top-level factor and a fraction that multiplies
+    it (the new line then starts with `·`); a single piece wider than a line stays whole.
+    Every line is balanced, so each can be typeset (or converted to MathML) on its own."""
     lines: list[str] = []
     current = head
     current_width = visible_width(head)
-    for piece, depth in _pieces(_open_wide_fractions(_open_wide_roots(rhs, width), width)):
+    for piece, depth, product in _pieces(_open_wide_fractions(_open_wide_roots(rhs, width),
+                                                              width)):
         piece_width = visible_width(piece)
         if current_width + piece_width > width and current.strip() and current != head:
             lines.append(current.rstrip() + " \\right." * depth)
-            current = "\\left. " * depth
-            current_width = 0.0
+            current = "\\left. " * depth + ("\\cdot " if product else "")
+            current_width = 1.8 if product else 0.0
         current += piece
         current_width += piece_width
     lines.append(current.rstrip())
     return lines
 
 
-def _pieces(tex: str) -> list[tuple[str, int]]:
-    """`tex` cut before each breakable sign or `\\quad`: (piece, open `\\left` groups at its
-    start). Nothing is cut inside braces (fractions, sub- and superscripts) or environments."""
-    pieces: list[tuple[str, int]] = []
+def _pieces(tex: str) -> list[tuple[str, int, bool]]:
+    """`tex` cut before each breakable sign, `\\quad` or top-level fraction following a
+    factor: (piece, open `\\left` groups at its start, whether it is cut from the factor
+    before it). Nothing is cut inside braces (fractions, sub- and superscripts) or
+    environments."""
+    pieces: list[tuple[str, int, bool]] = []
+    product = False
     braces = 0  # braces and environments: never broken inside
     groups = 0  # open \\left…\\right groups: broken inside, closed and reopened
     start, start_groups = 0, 0
@@ -146,11 +155,15 @@ def _pieces(tex: str) -> list[tuple[str, int]]:
             elif name in ("begin", "end"):
                 braces += 1 if name == "begin" else -1
             elif name == "quad" and braces == 0 and groups == 0 and i > start:
-                pieces.append((tex[start:i], start_groups))
-                start, start_groups = i, groups
+                pieces.append((tex[start:i], start_groups, product))
+                start, start_groups, product = i, groups, False
+            elif (name == "frac" and braces == 0 and groups == 0 and i > start
+                  and (previous in ")}" or previous.isalnum())):
+                pieces.append((tex[start:i], start_groups, product))
+                start, start_groups, product = i, groups, True
             elif end == i + 1:
                 end = i + 2  # an escaped character such as \\{ or \\,
-            previous = "\\" if name not in ("left",) else "("
+            previous = {"left": "(", "right": ")"}.get(name, "\\")
             i = end
             continue
         if c == "{":
@@ -161,13 +174,13 @@ def _pieces(tex: str) -> list[tuple[str, int]]:
             pass
         elif c in "+-" and braces == 0 and previous not in ("", "=", "+", "-", "{", "(", "^",
                                                            "_", ","):
-            pieces.append((tex[start:i], start_groups))
-            start, start_groups = i, groups
+            pieces.append((tex[start:i], start_groups, product))
+            start, start_groups, product = i, groups, False
         if not c.isspace():
             previous = c
         i += 1
-    pieces.append((tex[start:], start_groups))
-    return [(p, g) for p, g in pieces if p.strip()]
+    pieces.append((tex[start:], start_groups, product))
+    return [(p, g, m) for p, g, m in pieces if p.strip()]
 
 
 def _open_wide_roots(tex: str, width: float) -> str:

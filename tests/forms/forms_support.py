@@ -97,6 +97,12 @@ def replay(steps, env: dict) -> tuple[dict, sympy.Symbol | None]:
         elif op == "divider":
             top, bottom = _num(d["top"], env), _num(d["bottom"], env)
             value = _num(d["source"], env) * bottom / (top + bottom)
+        elif op == "bridge":  # the output is the difference of the taps' divider ratios
+            ratios = []
+            for tap in d["output"]:
+                upper, lower = (_num(z, env) for z in d["taps"][tap])
+                ratios.append(lower / (upper + lower))
+            value = _num(d["source"], env) * (ratios[0] - ratios[1])
         elif op == "current-divider":
             own, other = _num(d["own"], env), _num(d["other"], env)
             value = _num(d["source"], env) * other / (own + other)

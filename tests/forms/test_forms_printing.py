@@ -163,3 +163,15 @@ def test_a_power_of_a_parallel_form_is_set_in_parentheses():
     """sympy's LaTeX printer hands a power of a function its exponent (`exp=`)."""
     r1, r2 = sympy.symbols("R1 R2", positive=True)
     assert latex(Parallel(r1, r2) ** 2) == r"\left(R_{1} \parallel R_{2}\right)^{2}"
+
+
+def test_a_difference_of_ratios_comes_before_the_fraction_it_multiplies():
+    r1, r2, r3, r4, rd, u, k = sympy.symbols("R1 R2 R3 R4 Rd U K")
+    difference = r2 / (r1 + r2) - r4 / (r3 + r4)
+    loaded = u * difference * rd / (rd + Parallel(r1, r2) + Parallel(r3, r4))
+    assert text(loaded) == "U·(R2/(R1 + R2) − R4/(R3 + R4))·Rd/(Rd + R1∥R2 + R3∥R4)"
+    assert latex(loaded).startswith(r"U \left(\frac{R_{2}}{R_{1} + R_{2}}")
+    assert latex(loaded).endswith(r"\right) \frac{R_{\mathrm{d}}}{R_{\mathrm{d}} + R_{1} "
+                                  r"\parallel R_{2} + R_{3} \parallel R_{4}}")
+    # nothing over the fraction shares a symbol with its denominator: one fraction as before
+    assert text(-u * difference / k) == "−U·(R2/(R1 + R2) − R4/(R3 + R4))/K"

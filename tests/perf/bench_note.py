@@ -3,6 +3,9 @@
 
 Targets: the note takes at most 2 s more than the derivation; a Word note (pandoc) at most 3 s
 more than the Markdown note (`-o note.pdf`, compiled by pdflatex, is shown for reference).
+Then the note of every example and of the strain-gauge bridge with lead resistances
+(tests/forms/strain_bridge.circuit), in each format, one line per circuit: run it before
+and after a change to the forms or the layout of formulas.
 Run: python tests/perf/bench_note.py
 """
 
@@ -47,6 +50,13 @@ def main() -> int:
             if extension in (".md", ".tex", ".html"):
                 worst = max(worst, note - derive)
             print(f"{'note -o note' + extension:<34}{note:>9.2f}{note - derive:>+13.2f}")
+        print(f"\n{'note of':<34}{'.md':>9}{'.tex':>9}{'.html':>9}")
+        circuits = [*sorted((ROOT / "examples").glob("*.circuit")),
+                    ROOT / "tests" / "forms" / "strain_bridge.circuit"]
+        for circuit in circuits:
+            row = [_time(["note", str(circuit), "-o", str(Path(folder) / f"every{extension}")])
+                   for extension in (".md", ".tex", ".html")]
+            print(f"{str(circuit.relative_to(ROOT)):<34}" + "".join(f"{t:>9.2f}" for t in row))
     verdict = "meets" if worst <= 2.0 else "MISSES"
     print(f"largest difference {worst:+.2f} s: {verdict} the 2 s target "
           "(shared machine: figures are noisy)")

@@ -78,3 +78,16 @@ def last_page(pdf: Path) -> int:
 def pdf_text(pdf: Path) -> str:
     return subprocess.run(["pdftotext", "-enc", "UTF-8", str(pdf), "-"], capture_output=True,
                           text=True, check=True).stdout
+
+
+def fits_the_page(pdf: Path) -> None:
+    """Long formulas are broken, never left running off the page: TeX's own measure, an
+    overfull box, says by how much a line sticks out, and none does by more than 10 pt. A
+    formula or table wider than its line is scaled down, but only a little: long ones are
+    broken across lines instead, so none shrinks below 80 % (the log of \\fitmath)."""
+    log = pdf.with_suffix(".log").read_text(errors="replace")
+    overfull = [float(x) for x in re.findall(r"Overfull \\hbox \(([\d.]+)pt too wide", log)]
+    assert max(overfull, default=0) <= 10, overfull
+    scaled = [float(natural) / float(line) for natural, line in
+              re.findall(r"symcirc-fit: scaled ([\d.]+)pt to ([\d.]+)pt", log)]
+    assert max(scaled, default=1) <= 1.25, scaled

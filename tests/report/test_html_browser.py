@@ -117,6 +117,34 @@ def test_html_notes_render_in_chromium(cli, browser, tmp_path):
         assert all(name.startswith("file:") for name in resources), resources
         shot = base64.b64decode(browser.call("Page.captureScreenshot", format="png")["data"])
         assert 0.005 < _not_blank(shot) < 0.9, example
+        assert not _wider_than_the_column(browser), example
+
+
+def test_full_bridge_formulas_fit_the_column(cli, browser, tmp_path):
+    """The strain-gauge full bridge with lead resistances, whose formulas are the longest."""
+    note = tmp_path / "strain_bridge.html"
+    circuit = ROOT / "tests" / "forms" / "strain_bridge.circuit"
+    assert cli("note", str(circuit), "-o", str(note)).status == 0
+    _open(browser, note)
+    assert not _wider_than_the_column(browser)
+
+
+def _wider_than_the_column(tools: DevTools) -> list:
+    """Formulas (MathML elements, displayed or in tables) Chromium lays out beyond the note's
+    column, as (width, text): none should be, so none is clipped or needs scrolling; long
+    ones are broken into lines instead."""
+    column, formulas = tools.evaluate(
+        "(() => { const s = getComputedStyle(document.body);"
+        " const b = document.body.getBoundingClientRect();"
+        " const column = [b.left + parseFloat(s.paddingLeft),"
+        "                 b.right - parseFloat(s.paddingRight)];"
+        " const formulas = Array.from(document.getElementsByTagNameNS("
+        "   'http://www.w3.org/1998/Math/MathML', 'math')).map(m => {"
+        "   const r = m.getBoundingClientRect(); return [r.left, r.right, m.textContent]; });"
+        " return [column, formulas]; })()")
+    assert formulas and column[1] - column[0] > 300
+    return [(round(right - left), text[:60]) for left, right, text in formulas
+            if left < column[0] - 0.5 or right > column[1] + 0.5]
 
 
 def test_schematic_labels_fit_the_boxes_the_layout_reserved(browser, tmp_path):

@@ -13,7 +13,7 @@ from pathlib import Path
 
 import html5lib
 import pytest
-from notes_support import HOSTILE, last_page, pdf_pages, pdf_text, pdflatex
+from notes_support import HOSTILE, fits_the_page, last_page, pdf_pages, pdf_text, pdflatex
 
 from symcirc.cli import main
 from symcirc.report.filters import escape_md, escape_tex, escape_tex_code
@@ -76,16 +76,21 @@ def test_latex_note_compiles(notes, example):
     assert pdf_pages(pdf) == last_page(pdf) > 0
     words = " ".join(pdf_text(pdf).split())
     assert "Sign conventions" in words and "SHA-256" in words
-    # long formulas are broken or scaled, never left running off the page (TeX's own
-    # measure: an overfull box says by how much a line sticks out)
-    log = pdf.with_suffix(".log").read_text(errors="replace")
-    overfull = [float(x) for x in re.findall(r"Overfull \\hbox \(([\d.]+)pt too wide", log)]
-    assert max(overfull, default=0) < 30, overfull
-    # a formula wider than its line is scaled down by TeX, but only a little: long ones are
-    # broken across lines (multline) instead, so none shrinks below 80 % (log of \fitmath)
-    scaled = [float(natural) / float(line) for natural, line in
-              re.findall(r"symcirc-fit: scaled ([\d.]+)pt to ([\d.]+)pt", log)]
-    assert max(scaled, default=1) < 1.25, scaled
+    fits_the_page(pdf)
+
+
+def test_full_bridge_note_fits_the_page(tmp_path):
+    """The strain-gauge full bridge with lead resistances: its design form is the bridge's
+    (no star–delta transform), the summary gives it, and the LaTeX note fits the page."""
+    circuit = tmp_path / "strain_bridge.circuit"
+    shutil.copy(ROOT / "tests" / "forms" / "strain_bridge.circuit", circuit)
+    note = tmp_path / "strain_bridge.tex"
+    assert main(["note", str(circuit), "-o", str(note)]) == 0
+    text = note.read_text(encoding="utf-8")
+    summary = text.split("section*{Summary}", 1)[1].split("section*{Circuit}", 1)[0]
+    assert r"\parallel" in summary and "see below" not in summary
+    assert "Kennelly" not in text
+    fits_the_page(pdflatex(note))
 
 
 @pytest.mark.parametrize("example", [e.stem for e in EXAMPLES])
@@ -263,3 +268,24 @@ def test_cautions_for_high_voltage_and_dissipation(cli, tmp_path):
 def test_no_caution_for_the_low_voltage_examples(notes):
     for example in ("bridge_adc",):
         assert "Caution" not in notes[(example, "markdown")].read_text(encoding="utf-8")
+
+
+@pytest.mark.parametrize("example", [e.stem for e in EXAMPLES])
+def test_summary_gives_a_formula_for_every_result(notes, example):
+    """The summary's formula column is never empty or a reference: every row has maths."""
+    heads = {"markdown": ("## Summary", "## Circuit"), "latex": ("{Summary}", "{Circuit}"),
+             "html": ("<h2>Summary</h2>", "<h2>Circuit</h2>")}
+    for fmt in FORMATS:
+        text = notes[(example, fmt)].read_text(encoding="utf-8")
+        start, end = heads[fmt]
+        summary = text.split(start, 1)[1].split(end, 1)[0]
+        assert "see below" not in summary
+        if fmt == "markdown":
+            rows = [line for line in summary.splitlines() if line.startswith("| [")]
+            assert rows and all(line.split(" | ")[1].startswith("$") for line in rows)
+        elif fmt == "html":
+            rows = re.findall(r"<tr><td><a .*?</tr>", summary)
+            assert rows and all(row.split("</td><td>")[1].count("<math") >= 1 for row in rows)
+        else:
+            rows = [line for line in summary.splitlines() if line.startswith("\\hyperref")]
+            assert rows and all("\\fitmath" in line.split(" & ")[1] for line in rows)

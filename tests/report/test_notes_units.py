@@ -248,3 +248,40 @@ def test_hand_note_renders_in_every_format():
     for fmt in ("markdown", "latex", "html"):
         text = render_note(hand_note(fmt))
         assert "SHA-256" in text and "symcirc-note" in text
+
+
+def test_a_product_breaks_before_the_fraction_it_multiplies():
+    """`U·(a/b − c/d)·Z/(Z + Rs)` with a long factor: the line breaks between the factors and
+    the new one starts with `·` (a product carried over, as written by hand)."""
+    x = sympy.symbols("x0:8")
+    difference = sympy.latex(x[0] / (x[0] + x[1]) - x[2] / (x[2] + x[3]))
+    rhs = rf"U \left({difference}\right) \frac{{x_{{4}} + x_{{5}}}}{{x_{{4}} + x_{{5}} + x_{{6}}}}"
+    lines = break_lines("V = ", rhs, width=visible_width("V = " + rhs) - 5)
+    assert len(lines) == 2 and lines[1].startswith(r"\cdot \frac{")
+    assert _unbroken(lines).replace(r"\cdot", "") == "".join(("V = " + rhs).split())
+    # no break after an operator: `a \parallel \frac{…}` stays whole
+    parallel = r"a \parallel \frac{b + c}{d + e}"
+    assert break_lines("Z = ", parallel, width=8) == ["Z = " + parallel]
+
+
+def test_a_view_shows_the_shorter_formula_and_a_canonical_form_once():
+    from symcirc.forms import Form, Parallel
+    from symcirc.forms.printing import latex
+    from symcirc.report.content import result_view
+    from symcirc.results import Result
+
+    r1, r2, u = sympy.symbols("R1 R2 U")
+    canonical = r1 * r2 / (r1 + r2)
+    parallel = Form(Parallel(r1, r2), "R1∥R2", latex(Parallel(r1, r2)), kind="structure")
+    view = result_view(Result("Z(x)", canonical, "Ω", {}, form=parallel), "Z")
+    assert view.design and view.formula == r"Z = R_{1} \parallel R_{2}"
+    assert view.summary == (view.formula,)
+    # a form that is the canonical result (printed its own way) is not shown a second time
+    again = Form(canonical, "R1·R2/(R1 + R2)", r"\frac{R_{2} R_{1}}{R_{1} + R_{2}}",
+                 kind="canonical")
+    view = result_view(Result("Z(x)", canonical, "Ω", {}, form=again), "Z")
+    assert not view.design and view.formula == f"Z = {view.canonical_latex}"
+    # a long formula is given in lines that each fit the summary's column
+    long = sympy.Add(*[sympy.Symbol(f"R{i}") * u for i in range(1, 16)])
+    view = result_view(Result("V(x)", long, "V", {}), "V")
+    assert len(view.summary) > 1 and all(visible_width(line) <= 30 for line in view.summary)

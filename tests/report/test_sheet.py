@@ -8,7 +8,7 @@ import math
 import re
 from pathlib import Path
 
-from notes_support import pdf_pages, pdf_text, pdflatex
+from notes_support import fits_the_page, pdf_pages, pdf_text, pdflatex
 
 ROOT = Path(__file__).resolve().parents[2]
 EXAMPLES = sorted((ROOT / "examples").glob("*.circuit"))
@@ -34,6 +34,7 @@ def test_sheet_of_all_examples_in_markdown_and_latex(cli, tmp_path):
     md = (tmp_path / "sheet.md").read_text(encoding="utf-8")
     words = " ".join(pdf_text(pdflatex(tmp_path / "sheet.tex")).split())
     assert pdf_pages(tmp_path / "sheet.pdf") >= 1
+    fits_the_page(tmp_path / "sheet.pdf")
     for example in EXAMPLES:
         circuit = symcirc.load(str(example))
         assert circuit.title in md and md.count(f"## {circuit.title}") == 1
