@@ -44,7 +44,18 @@ def equations(lhs: str, rhs: str, expression: sympy.Expr | None = None,
     fraction too wide for a line becomes `lhs = 𝒩/𝒟` followed by `𝒩 = …` and `𝒟 = …`."""
     if visible_width(rhs) + visible_width(lhs) + 2 <= width:
         return [Equation((f"{lhs} = {rhs}",))]
-    if expression is not None and expression.is_Mul:
+    parts = fraction_parts(rhs)
+    if parts is not None:
+        # the fraction as `rhs` writes it: its numerator and denominator in the same order
+        # of terms, and no second printing of a large result
+        sign, numerator_tex, denominator_tex = parts
+        if max(visible_width(numerator_tex), visible_width(denominator_tex)) > width * 0.8:
+            return [
+                Equation((f"{lhs} = {sign}\\frac{{{NUMERATOR}}}{{{DENOMINATOR}}}",)),
+                *equations(NUMERATOR, numerator_tex, None, width),
+                *equations(DENOMINATOR, denominator_tex, None, width),
+            ]
+    elif expression is not None and expression.is_Mul:
         numerator, denominator = sympy.fraction(expression)
         if denominator != 1:
             numerator_tex, denominator_tex = latex_of(numerator), latex_of(denominator)
@@ -54,14 +65,6 @@ def equations(lhs: str, rhs: str, expression: sympy.Expr | None = None,
                     *equations(NUMERATOR, numerator_tex, None, width),
                     *equations(DENOMINATOR, denominator_tex, None, width),
                 ]
-    elif expression is None and (parts := fraction_parts(rhs)) is not None:
-        sign, numerator_tex, denominator_tex = parts
-        if max(visible_width(numerator_tex), visible_width(denominator_tex)) > width * 0.8:
-            return [
-                Equation((f"{lhs} = {sign}\\frac{{{NUMERATOR}}}{{{DENOMINATOR}}}",)),
-                *equations(NUMERATOR, numerator_tex, None, width),
-                *equations(DENOMINATOR, denominator_tex, None, width),
-            ]
     return [Equation(tuple(break_lines(f"{lhs} = ", rhs, width)))]
 
 
