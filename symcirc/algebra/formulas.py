@@ -12,7 +12,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any
 
-from ..model.formula import Formula
+from ..model.formula import ARITHMETIC, Formula
 from .polynomials import LAPLACE_NAME, PolynomialRing
 from .rational import RationalFunction
 
@@ -106,12 +106,6 @@ def _apply(node: Formula, done: dict[int, RationalFunction], ring: PolynomialRin
     if op == "scale":
         return parts[1] * parts[0]
     left, right = parts
-    if op == "+":
-        return left + right
-    if op == "-":
-        return left - right
-    if op == "*":
-        return left * right
-    if op == "/":
-        return left / right
+    if op in ARITHMETIC:
+        return ARITHMETIC[op](left, right)
     return left ** int(args[1].number)

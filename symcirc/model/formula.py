@@ -12,11 +12,17 @@ directly: `to_sympy()`, cached, is what later stages read.
 
 from __future__ import annotations
 
+import operator
 from collections.abc import Mapping
 from fractions import Fraction
 from typing import Any
 
 __all__ = ["Formula", "Inexact", "constant", "from_sympy", "laplace", "name", "pi"]
+
+
+ARITHMETIC = {"+": operator.add, "-": operator.sub, "*": operator.mul, "/": operator.truediv}
+"""The four operations of a formula, one table for every reading of it (sympy, exact values,
+rational functions)."""
 
 
 class Inexact(Exception):
@@ -178,14 +184,8 @@ class Formula:
         if op == "sqrt":
             return _exact_root(args[0].value_at(values), Fraction(1, 2))
         left, right = args[0].value_at(values), args[1].value_at(values)
-        if op == "+":
-            return left + right
-        if op == "-":
-            return left - right
-        if op == "*":
-            return left * right
-        if op == "/":
-            return left / right
+        if op in ARITHMETIC:
+            return ARITHMETIC[op](left, right)
         return _exact_root(left, right)
 
     # ------------------------------------------------------------ sympy
@@ -351,12 +351,6 @@ def _apply(sympy: Any, op: str, args: list) -> Any:
     if op == "sqrt":
         return sympy.sqrt(args[0])
     left, right = args
-    if op == "+":
-        return left + right
-    if op == "-":
-        return left - right
-    if op == "*":
-        return left * right
-    if op == "/":
-        return left / right
+    if op in ARITHMETIC:
+        return ARITHMETIC[op](left, right)
     return left**right
