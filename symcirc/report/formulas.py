@@ -190,48 +190,55 @@ def _open_wide_roots(tex: str, width: float) -> str:
     """Each `\\sqrt{A}` outside braces whose radicand is too wide for a line but could be
     broken (a noise density's sum of terms), written `\\left(A\\right)^{\\frac{1}{2}}` (the
     same value) so that A breaks."""
-    out = []
-    i = 0
-    braces = 0
-    while i < len(tex):
-        if tex.startswith("\\sqrt{", i) and braces == 0:
-            end = _group_end(tex, i + len("\\sqrt"))
-            if end is not None:
-                radicand = tex[i + len("\\sqrt") + 1:end]
-                if visible_width(radicand) > width * 0.8 and len(_pieces(radicand)) > 1:
-                    out.append(f"\\left({radicand}\\right)^{{\\frac{{1}}{{2}}}}")
-                    i = end + 1
-                    continue
-        c = tex[i]
-        if c == "\\":
-            out.append(tex[i:i + 2])
-            i += 2
-            continue
-        braces += 1 if c == "{" else -1 if c == "}" else 0
-        out.append(c)
-        i += 1
-    return "".join(out)
+
+    def opened(i: int) -> tuple[str, int] | None:
+        if not tex.startswith("\\sqrt{", i):
+            return None
+        end = _group_end(tex, i + len("\\sqrt"))
+        if end is None:
+            return None
+        radicand = tex[i + len("\\sqrt") + 1:end]
+        if visible_width(radicand) > width * 0.8 and len(_pieces(radicand)) > 1:
+            return f"\\left({radicand}\\right)^{{\\frac{{1}}{{2}}}}", end + 1
+        return None
+
+    return _rewrite_top_level(tex, opened)
 
 
 def _open_wide_fractions(tex: str, width: float) -> str:
     """Each `\\frac{A}{B}` outside braces whose numerator is too wide for a line but could be
     broken, written `\\frac{1}{B} \\left(A\\right)` (the same value) so that A breaks."""
+
+    def opened(i: int) -> tuple[str, int] | None:
+        if not tex.startswith("\\frac{", i):
+            return None
+        numerator_end = _group_end(tex, i + len("\\frac"))
+        if numerator_end is None or tex[numerator_end + 1:numerator_end + 2] != "{":
+            return None
+        denominator_end = _group_end(tex, numerator_end + 1)
+        if denominator_end is None:
+            return None
+        numerator = tex[i + len("\\frac") + 1:numerator_end]
+        denominator = tex[numerator_end + 2:denominator_end]
+        if (visible_width(numerator) > width * 0.8 and visible_width(denominator) <= width * 0.8
+                and len(_pieces(numerator)) > 1):
+            return f"\\frac{{1}}{{{denominator}}} \\left({numerator}\\right)", denominator_end + 1
+        return None
+
+    return _rewrite_top_level(tex, opened)
+
+
+def _rewrite_top_level(tex: str, rewrite) -> str:
+    """`tex` with each place outside braces where `rewrite(i)` gives (replacement, end)
+    replaced; escaped characters are stepped over whole."""
     out = []
     i = 0
     braces = 0
     while i < len(tex):
-        if tex.startswith("\\frac{", i) and braces == 0:
-            numerator_end = _group_end(tex, i + len("\\frac"))
-            if numerator_end is not None and tex[numerator_end + 1:numerator_end + 2] == "{":
-                denominator_end = _group_end(tex, numerator_end + 1)
-                numerator = tex[i + len("\\frac") + 1:numerator_end]
-                denominator = tex[numerator_end + 2:denominator_end] if denominator_end else ""
-                if (denominator_end is not None and visible_width(numerator) > width * 0.8
-                        and visible_width(denominator) <= width * 0.8
-                        and len(_pieces(numerator)) > 1):
-                    out.append(f"\\frac{{1}}{{{denominator}}} \\left({numerator}\\right)")
-                    i = denominator_end + 1
-                    continue
+        if braces == 0 and (found := rewrite(i)) is not None:
+            replacement, i = found
+            out.append(replacement)
+            continue
         c = tex[i]
         if c == "\\":
             out.append(tex[i:i + 2])
