@@ -16,6 +16,7 @@ from __future__ import annotations
 import dataclasses
 from dataclasses import dataclass
 from fractions import Fraction
+from itertools import pairwise
 
 import sympy
 
@@ -218,7 +219,7 @@ def _negative_somewhere(polynomial: sympy.Expr, omega: sympy.Symbol) -> bool:
     roots = sorted({r for r in poly.real_roots() if r > 0}, key=float)
     if not roots:
         return poly.eval(1) < 0
-    points = [roots[0] / 2, *((a + b) / 2 for a, b in zip(roots, roots[1:])), roots[-1] * 2]
+    points = [roots[0] / 2, *((a + b) / 2 for a, b in pairwise(roots)), roots[-1] * 2]
     return any(poly.eval(point) < 0 for point in points)
 
 
