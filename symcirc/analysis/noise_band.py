@@ -25,6 +25,7 @@ import sympy
 from ..algebra.convert import atoms_of, restored, to_function
 from ..algebra.polynomials import PolynomialRing
 from ..model.units import eng
+from ..quantities.noise import FREQUENCY
 from ..quantities.stability import rhp_count
 from .response import Response, ResponseError
 from .values import rational
@@ -140,13 +141,7 @@ def gain_integral(h: Any, low: Endpoint, high: Endpoint, weight: str = WHITE,
     if all(c == 0 for c in response.numerator):
         return Integral(sympy.Integer(0), 0.0, 0.0, "exact: the response is zero")
     _check_convergence(response, f1, f2, weight)
-    values = response.nominal(nominals)
-    if values is not None:
-        unstable, how = rhp_count(values[1])
-        if unstable:
-            raise ResponseError(f"Unstable: {unstable} pole{'s' if unstable > 1 else ''} in "
-                                f"the right half-plane at the nominal values ({how}); the "
-                                "circuit does not settle, so its noise has no steady value")
+    values = _stable_values(response, nominals)
     found = _closed_form(response, f1, f2, weight, values)
     if found is not None:
         expression, method = found
@@ -164,12 +159,29 @@ def gain_integral(h: Any, low: Endpoint, high: Endpoint, weight: str = WHITE,
     return Integral(None, value, error, method)
 
 
+def _stable_values(response: Response, nominals: Mapping[sympy.Symbol, Fraction]
+                   ) -> tuple[list[Fraction], list[Fraction]] | None:
+    """The response's coefficients at the nominal values (None without them), refused when
+    it has a pole in the right half-plane there."""
+    values = response.nominal(nominals)
+    if values is not None:
+        unstable, how = rhp_count(values[1])
+        if unstable:
+            raise ResponseError(f"Unstable: {unstable} pole{'s' if unstable > 1 else ''} in "
+                                f"the right half-plane at the nominal values ({how}); the "
+                                "circuit does not settle, so its noise has no steady value")
+    return values
+
+
 def band_noise(h: Any, density: Density, low: Endpoint, high: Endpoint,
                nominals: Mapping[sympy.Symbol, Fraction] | None = None) -> BandNoise:
-    """The mean-square noise S0·(∫|H|² df + fc·∫|H|²/f df) over `low` … `high` Hz."""
+    """The mean-square noise S0·(∫|H|² df + fc·∫|H|²/f df) over `low` … `high` Hz; a
+    density that is a rational function of f (an impedance's 4·k_B·T·Re{Y}) numerically."""
     nominals = nominals or {}
     h = response_of(h)
     white = _number(density.white)
+    if FREQUENCY in white.free_symbols:
+        return _shaped_band(h, white, frequency(low), frequency(high), nominals)
     corner = _number(density.corner)
     parts = [(sympy.Integer(1), gain_integral(h, low, high, WHITE, nominals))]
     if corner != 0:
@@ -191,6 +203,32 @@ def band_noise(h: Any, density: Density, low: Endpoint, high: Endpoint,
     else:
         method = methods[0]
     return BandNoise(frequency(low), frequency(high), expression, value, error, method)
+
+
+def _shaped_band(response: Response, density: sympy.Expr, f1: sympy.Expr, f2: sympy.Expr,
+                 nominals: Mapping[sympy.Symbol, Fraction]) -> BandNoise:
+    """∫|H|²·S(f) df at the nominal values for a density S that is a rational function of f."""
+    if not (f1.is_number and f2.is_number and f1 >= 0 and f2 > f1):
+        raise ResponseError(f"a noise band runs from a frequency f1 ≥ 0 up to f2 > f1, not "
+                            f"{_hz(f1)} … {_hz(f2)}")
+    if all(c == 0 for c in response.numerator):
+        return BandNoise(f1, f2, sympy.Integer(0), 0.0, 0.0, "exact: the response is zero")
+    _check_convergence(response, f1, f2, WHITE)
+    values = _stable_values(response, nominals)
+    at_nominal = density.xreplace({x: rational(v) for x, v in nominals.items()})
+    missing = {str(x) for x in at_nominal.free_symbols - {FREQUENCY}}
+    if values is None:
+        missing |= {str(x) for c in (*response.numerator, *response.denominator)
+                    for x in c.free_symbols - set(nominals)}
+    if missing:
+        raise ResponseError(f"a density that depends on f is integrated numerically, which "
+                            f"needs a value for {', '.join(sorted(missing))}")
+    numerator, denominator = sympy.fraction(sympy.cancel(sympy.together(at_nominal)))
+    shape = (sympy.Poly(numerator, FREQUENCY).all_coeffs()[::-1],
+             sympy.Poly(denominator, FREQUENCY).all_coeffs()[::-1])
+    value, error, method = _numeric(values[0], values[1], f1, f2, WHITE, shape)
+    method += "; the density is a function of f (4·k_B·T·Re{Y(j2πf)} of an impedance)"
+    return BandNoise(f1, f2, None, value, error, method)
 
 
 def _check_convergence(response: Response, f1: sympy.Expr, f2: sympy.Expr, weight: str) -> None:
@@ -449,10 +487,13 @@ def _white_to_infinity(response: Response,
 
 
 def _numeric(numerator: Sequence[Fraction], denominator: Sequence[Fraction], f1: sympy.Expr,
-             f2: sympy.Expr, weight: str) -> tuple[float, float, str]:
+             f2: sympy.Expr, weight: str,
+             shape: tuple[Sequence[Any], Sequence[Any]] | None = None
+             ) -> tuple[float, float, str]:
     """(value, estimated error, method) by adaptive Gauss–Kronrod quadrature in u = ln f,
     with the corner frequencies as break points; 0 and ∞ become the outermost corners
-    divided and multiplied by e^TAIL_NEPERS."""
+    divided and multiplied by e^TAIL_NEPERS. `shape`, a density as a ratio of polynomials
+    in f (lowest power first), multiplies |H|², its own corners added to the break points."""
     import warnings
 
     import numpy as np
@@ -460,13 +501,18 @@ def _numeric(numerator: Sequence[Fraction], denominator: Sequence[Fraction], f1:
 
     squared = magnitude_squared(numerator, denominator)
     corners = _corners(numerator, denominator)
+    density = None
+    if shape is not None:
+        density = _rational_in_f(*shape)
+        corners = _roots_hz(shape[0]) + _roots_hz(shape[1]) + corners
     low = math.log(float(f1)) if f1 != 0 else math.log(min(corners)) - TAIL_NEPERS
     high = math.log(float(f2)) if f2 != sympy.oo else math.log(max(corners)) + TAIL_NEPERS
     breaks = sorted({math.log(c) for c in corners if low < math.log(c) < high})
 
     def integrand(u: float) -> float:
         f = math.exp(u)
-        return float(squared(np.array([f]))[0]) * (f if weight == WHITE else 1.0)
+        value = float(squared(np.array([f]))[0]) * (f if weight == WHITE else 1.0)
+        return value if density is None else value * density(f)
 
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always", IntegrationWarning)
@@ -503,6 +549,35 @@ def magnitude_squared(numerator: Sequence[Any], denominator: Sequence[Any]
         return out
 
     return squared
+
+
+def _rational_in_f(numerator: Sequence[Any], denominator: Sequence[Any]
+                   ) -> Callable[[float], float]:
+    """f → N(f)/D(f) from the roots in f (no overflow of high powers of f)."""
+    import numpy as np
+
+    n, d = _trimmed(numerator), _trimmed(denominator)
+    zeros = np.roots(n[::-1]) if len(n) > 1 else np.array([])
+    poles = np.roots(d[::-1]) if len(d) > 1 else np.array([])
+    scale = n[-1] / d[-1]
+
+    def value(f: float) -> float:
+        out = complex(scale)
+        for z in zeros:
+            out *= f - z
+        for p in poles:
+            out /= f - p
+        return out.real
+
+    return value
+
+
+def _roots_hz(coefficients: Sequence[Any]) -> list[float]:
+    """|roots| of a polynomial in f (Hz), the nonzero ones."""
+    import numpy as np
+
+    c = _trimmed(coefficients)
+    return [abs(r) for r in np.roots(c[::-1]) if abs(r) > 0] if len(c) > 1 else []
 
 
 def _trimmed(coefficients: Sequence[Any]) -> list[float]:
@@ -617,10 +692,19 @@ def density_values(h: Any, density: Density, frequencies: Any,
 
     response = response_of(h)
     values = response.nominal(nominals)
+    f = np.asarray(frequencies, dtype=float)
+    shaped = _number(density.white)
+    if FREQUENCY in shaped.free_symbols:
+        at_nominal = shaped.xreplace({x: rational(v) for x, v in nominals.items()})
+        if values is None or at_nominal.free_symbols - {FREQUENCY}:
+            raise ResponseError("a density over frequency needs a value for every symbol")
+        numerator, denominator = sympy.fraction(sympy.cancel(sympy.together(at_nominal)))
+        shape = _rational_in_f(sympy.Poly(numerator, FREQUENCY).all_coeffs()[::-1],
+                               sympy.Poly(denominator, FREQUENCY).all_coeffs()[::-1])
+        return magnitude_squared(*values)(f) * np.array([shape(x) for x in f])
     white, corner = _value(density.white, nominals), _value(density.corner, nominals)
     if values is None or white is None or corner is None:
         raise ResponseError("a density over frequency needs a value for every symbol")
-    f = np.asarray(frequencies, dtype=float)
     return magnitude_squared(*values)(f) * white * (1 + corner / f)
 
 

@@ -19,7 +19,7 @@ from ..language import syntax
 from ..model.circuit import Circuit
 from ..model.units import eng
 from ..quantities.common import Context
-from ..quantities.noise import noise_setup, noise_terms, temperature_text
+from ..quantities.noise import FREQUENCY, noise_setup, noise_terms, temperature_text
 from ..quantities.registry import DeriveOptions
 from ..results import Result
 from . import noise_band
@@ -60,7 +60,7 @@ class Band:
                 found |= sympy.sympify(c).free_symbols
             found |= sympy.sympify(density.white).free_symbols
             found |= sympy.sympify(density.corner).free_symbols
-        return frozenset(found - {sympy.Symbol("s")})
+        return frozenset(found - {sympy.Symbol("s"), FREQUENCY})
 
     def mean_square_at(self, point: Mapping[sympy.Symbol, Fraction]) -> float:
         """The band's mean square with the symbols at `point` (integrated again)."""

@@ -4,7 +4,8 @@ and the densities built from them: `noise(Q)`, `input_noise(X, Q)` and
 
 The sources are uncorrelated, so their powers add: S_out(f) = Σ_k |H_k(j2πf)|²·S_k(f),
 each term kept on its own. A resistor is a thermal noise current 4·k_B·T/R in parallel with
-it (Johnson 1928, Nyquist 1928); a conductance 4·k_B·T·G. An explicit noise voltage is a
+it (Johnson 1928, Nyquist 1928); a conductance 4·k_B·T·G; an impedance or admittance that
+depends on s a noise current 4·k_B·T·Re{Y(j2πf)} across it, Y = 1/Z. An explicit noise voltage is a
 voltage source (a short for signals), a noise current a current source (an open), an opamp's
 input voltage noise a voltage source in series with its + input and its current noise a
 current source from each input to gnd. A 1/f corner f_c makes a density S·(1 + f_c/f).
@@ -15,10 +16,12 @@ from __future__ import annotations
 import dataclasses
 from dataclasses import dataclass
 from fractions import Fraction
+from itertools import pairwise
 
 import sympy
 
 from ..engine.mna import Measure
+from ..errors import SymcircError
 from ..language import syntax
 from ..model.circuit import (
     BOLTZMANN_SYMBOL,
@@ -131,7 +134,14 @@ def _setup(circuit: Circuit) -> NoiseSetup:
             psd = four_kt / e.symbol if e.law.value_power > 0 else four_kt * e.symbol
             sources.append(NoiseSource(e.name, name, "thermal", psd, sympy.Integer(0), "A"))
         elif e.kind in ("impedance", "admittance") and e.name not in circuit.noise.noiseless:
-            left_out.append(e.name)
+            if e.definition is None:
+                left_out.append(e.name)
+            else:
+                name = fresh(f"n_{e.name}", taken)
+                elements[name] = source(name, "current source", *e.nodes, e)
+                real = _real_admittance(circuit, e)
+                sources.append(NoiseSource(e.name, name, "thermal", four_kt * real,
+                                           sympy.Integer(0), "A"))
         opamp = circuit.noise.opamps.get(e.name)
         if opamp is None:
             continue
@@ -155,9 +165,9 @@ def _setup(circuit: Circuit) -> NoiseSetup:
                     opamp.current.symbol**2, _corner(opamp.current.corner), "A"))
     notes = ()
     if left_out:
-        notes = (f"{', '.join(left_out)}: an impedance or admittance that depends on s (or "
-                 "has no value) is taken as noiseless; write its resistive part as a resistor "
-                 "to count its thermal noise.",)
+        notes = (f"{', '.join(left_out)}: an impedance or admittance with no value is taken "
+                 "as noiseless; give it a value, or write its resistive part as a resistor, to "
+                 "count its thermal noise.",)
     noisy = dataclasses.replace(circuit, elements=elements, nodes=tuple(nodes), derives=(),
                                 claims=())
     return NoiseSetup(noisy, tuple(sources), notes)
@@ -173,6 +183,58 @@ def _real(element: Element) -> bool:
     if element.definition is not None:
         return LAPLACE not in element.definition.free_symbols
     return element.nominal is not None
+
+
+def _real_admittance(circuit: Circuit, element: Element) -> sympy.Expr:
+    """Re{Y(j2πf)} of an impedance or admittance whose value depends on s (Y = 1/Z), refused
+    where it is negative at the nominal values: such an element is not passive."""
+    value = element.definition
+    numerator, denominator = sympy.fraction(sympy.together(value))
+    if element.kind == "impedance":
+        numerator, denominator = denominator, numerator
+    omega = sympy.Dummy("omega", positive=True)
+    try:
+        (nr, ni), (dr, di) = _parts(numerator, omega), _parts(denominator, omega)
+    except sympy.PolynomialError:
+        raise SymcircError.at(element.location, f"{element.name}: its noise needs a value "
+                              "that is a ratio of polynomials in s", circuit.source) from None
+    real = sympy.expand(nr * dr + ni * di)
+    values = {k: sympy.Rational(v.numerator, v.denominator)
+              for k, v in circuit.symbol_nominals().items()}
+    at_nominal = real.xreplace(values)
+    if at_nominal.free_symbols <= {omega} and _negative_somewhere(at_nominal, omega):
+        raise SymcircError.at(element.location, f"{element.name}: the real part of its "
+                              "admittance is negative at some frequency at the nominal values, "
+                              "so it is not a passive element and has no thermal noise 4·k_B·T·"
+                              "Re{Y}; write the noise of the part it models explicitly",
+                              circuit.source)
+    return (real / (dr**2 + di**2)).xreplace({omega: 2 * sympy.pi * FREQUENCY})
+
+
+def _negative_somewhere(polynomial: sympy.Expr, omega: sympy.Symbol) -> bool:
+    """Whether a polynomial in ω with rational coefficients is below 0 for some ω > 0."""
+    poly = sympy.Poly(polynomial, omega)
+    if all(c >= 0 for c in poly.coeffs()):
+        return False
+    roots = sorted({r for r in poly.real_roots() if r > 0}, key=float)
+    if not roots:
+        return poly.eval(1) < 0
+    points = [roots[0] / 2, *((a + b) / 2 for a, b in pairwise(roots)), roots[-1] * 2]
+    return any(poly.eval(point) < 0 for point in points)
+
+
+def _parts(polynomial: sympy.Expr, omega: sympy.Expr) -> tuple[sympy.Expr, sympy.Expr]:
+    """Re and Im of a polynomial in s at s = jω: its even and its odd powers of s."""
+    real = imaginary = sympy.Integer(0)
+    if LAPLACE not in polynomial.free_symbols:
+        return polynomial, imaginary
+    for (power,), coefficient in sympy.Poly(sympy.expand(polynomial), LAPLACE).terms():
+        term = coefficient * omega**power * (-1) ** (power // 2)
+        if power % 2:
+            imaginary += term
+        else:
+            real += term
+    return real, imaginary
 
 
 def _corner(corner: sympy.Expr | None) -> sympy.Expr:
@@ -192,14 +254,7 @@ def magnitude_squared(transfer: sympy.Expr) -> sympy.Expr:
 def _polynomial_squared(polynomial: sympy.Expr) -> sympy.Expr:
     if LAPLACE not in polynomial.free_symbols:
         return polynomial**2
-    omega = 2 * sympy.pi * FREQUENCY
-    real = imaginary = sympy.Integer(0)
-    for (power,), coefficient in sympy.Poly(sympy.expand(polynomial), LAPLACE).terms():
-        term = coefficient * omega**power * (-1) ** (power // 2)
-        if power % 2:
-            imaginary += term
-        else:
-            real += term
+    real, imaginary = _parts(polynomial, 2 * sympy.pi * FREQUENCY)
     return real**2 + imaginary**2
 
 
@@ -210,14 +265,14 @@ def noise_terms(context: Context, setup: NoiseSetup, measure: Measure,
     gain = None
     if divide_by is not None:
         with context.at(quantity):
-            gain = context.transfer(measure, divide_by)
+            gain = _in_s(context, context.transfer(measure, divide_by))
         if gain.is_zero():
             raise context.error(quantity, f"{quantity.text}: the measure does not depend on "
                                           f"{divide_by}, so nothing can be referred to it")
     terms = []
     for source in setup.sources:
         with context.at(quantity):
-            transfer = context.transfer(measure, source.excitation)
+            transfer = _in_s(context, context.transfer(measure, source.excitation))
         if transfer.is_zero():
             continue
         if gain is not None:
@@ -229,6 +284,18 @@ def noise_terms(context: Context, setup: NoiseSetup, measure: Measure,
         squared = magnitude_squared(expression)
         terms.append(NoiseTerm(source, expression, squared, source.psd * squared))
     return terms
+
+
+def _in_s(context: Context, function):
+    """`function` with each impedance or admittance that depends on s replaced by its
+    definition: |H(j2πf)|² needs every s written out."""
+    for element in context.circuit.elements.values():
+        if element.kind in ("impedance", "admittance") and element.name in \
+                function.symbol_names() and element.name in context.definitions and \
+                LAPLACE in context.definitions[element.name].free_symbols:
+            function = context.substitute(function, element.name,
+                                          context.definitions[element.name])
+    return function
 
 
 def _frequency(context: Context, arg) -> Fraction:

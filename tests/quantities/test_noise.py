@@ -333,13 +333,112 @@ def test_a_hand_derived_noise_formula_is_checked_as_a_claim():
     assert [o.status for o in circuit.check()] == ["holds", "does not hold"]
 
 
-def test_a_real_impedance_is_thermal_noise_and_a_reactive_one_is_left_out_with_a_note():
+def test_a_real_impedance_is_thermal_noise_and_one_without_a_value_is_left_out_with_a_note():
     # Nyquist 1928: a passive two-terminal element's noise is 4kT·Re(Z); a real impedance
     # element is a resistance
-    text = "impedance Z1 (a, gnd) = 2 kΩ\nimpedance Z2 (a, gnd) = 1/(s*C2)\n" \
-           "param C2 = 1 nF\nport P (a, gnd)\n"
-    (psd,) = symcirc.parse(text.replace("impedance Z2 (a, gnd) = 1/(s*C2)\nparam C2 = 1 nF\n",
-                                        "")).derive("noise(P).psd")
+    text = "impedance Z1 (a, gnd) = 2 kΩ\nimpedance Z2 (a, gnd)\nport P (a, gnd)\n"
+    (psd,) = symcirc.parse(text.replace("impedance Z2 (a, gnd)\n", "")).derive("noise(P).psd")
     assert same(psd.expression, 4 * kB * T * sym("Z1"))
-    (psd,) = symcirc.parse(text).derive("noise(P, 1 kHz).psd")
-    assert any("Z2: an impedance or admittance that depends on s" in n for n in psd.notes)
+    (psd,) = symcirc.parse(text).derive("noise(P).psd")
+    assert any("Z2: an impedance or admittance with no value" in n for n in psd.notes)
+
+
+# ---------------------------------------------------------------- impedances that depend on s
+# Nyquist's theorem (Nyquist 1928; common practice): a passive one-port at temperature T is
+# a noise current of density 4kT·Re{Y(j2πf)} across it, the same as the noise of the
+# resistors and reactances it is built from.
+
+SERIES_RL = """
+voltage source Uin (a, gnd)
+resistor R1 (a, o) = 1k
+{part}
+port out (o, gnd)
+param R = 220
+param L = 10 mH
+"""
+AS_IMPEDANCE = "impedance Z1 (o, gnd) = R + s*L"
+AS_PARTS = "resistor R (o, m)\ninductor L (m, gnd)"
+PARALLEL_GC = SERIES_RL.replace("param R = 220\nparam L = 10 mH", "param G = 2 mS\nparam C = 47 nF")
+AS_ADMITTANCE = "admittance Y1 (o, gnd) = G + s*C"
+AS_BESIDE = "conductance G (o, gnd)\ncapacitor C (o, gnd)"
+FREQUENCIES = (10, 1000, 3183.1, 50000, 2e6)
+
+
+def _without_params(text: str, names: str) -> str:
+    """The circuit with the parts' values on the parts rather than as parameters."""
+    lines = text.splitlines()
+    params = {ln.split()[1]: ln.split("=", 1)[1].strip() for ln in lines
+              if ln.startswith("param ")}
+    out = []
+    for ln in lines:
+        if ln.startswith("param "):
+            continue
+        for name in names.split():
+            if ln.split()[1:2] == [name]:
+                ln = f"{ln} = {params[name]}"
+        out.append(ln)
+    return "\n".join(out) + "\n"
+
+
+@pytest.mark.parametrize("circuit, shaped, parts, names", [
+    (SERIES_RL, AS_IMPEDANCE, AS_PARTS, "R L"),
+    (PARALLEL_GC, AS_ADMITTANCE, AS_BESIDE, "G C"),
+], ids=["R+sL", "G+sC"])
+def test_an_impedance_in_s_is_as_noisy_as_the_parts_it_stands_for(circuit, shaped, parts,
+                                                                  names):
+    one_port = symcirc.parse(circuit.format(part=shaped))
+    built = symcirc.parse(_without_params(circuit.format(part=parts), names))
+    (a,) = one_port.derive("noise(out).psd")
+    (b,) = built.derive("noise(out).psd")
+    assert f in a.expression.free_symbols
+    assert same(a.expression, b.expression)
+    for hertz in FREQUENCIES:
+        (a,) = one_port.derive(f"noise(out, {hertz:g}).psd")
+        (b,) = built.derive(f"noise(out, {hertz:g}).psd")
+        assert float(a.nominal) == pytest.approx(float(b.nominal), rel=1e-12)
+    terms = {r.part: float(r.nominal) for r in one_port.derive("noise_contributions(out, 1 kHz)")}
+    assert set(terms) == {"R1", shaped.split()[1]}
+
+
+
+def _nodal_density(hertz: float) -> float:
+    """V(o)²/Hz by a numpy solve: node o, R1 to the (shorted) source, Z = R + jωL to gnd;
+    each element's noise current 4kT·Re{Y} across it, the powers added."""
+    w = 2 * np.pi * hertz
+    y_z = 1 / (220 + 1j * w * 10e-3)
+    y = np.array([[1 / 1e3 + y_z]])
+    total = 0.0
+    for admittance in (1 / 1e3, y_z):
+        v = np.linalg.solve(y, np.array([1.0 + 0j]))
+        total += abs(v[0]) ** 2 * 4 * K_B * 300 * admittance.real
+    return total
+
+
+def test_an_impedance_in_s_against_a_numpy_nodal_solve():
+    circuit = symcirc.parse(SERIES_RL.format(part=AS_IMPEDANCE))
+    for hertz in FREQUENCIES:
+        (psd,) = circuit.derive(f"noise(out, {hertz:g}).psd")
+        assert float(psd.nominal) == pytest.approx(_nodal_density(hertz), rel=1e-12)
+        (referred,) = circuit.derive(f"input_noise(Uin, out, {hertz:g}).psd")
+        gain = abs((1 / 1e3) / (1 / 1e3 + 1 / (220 + 2j * np.pi * hertz * 10e-3)))
+        assert float(referred.nominal) == pytest.approx(_nodal_density(hertz) / gain**2,
+                                                        rel=1e-12)
+
+
+def test_the_band_noise_of_an_impedance_in_s_against_scipy_quad():
+    circuit = symcirc.parse(SERIES_RL.format(part=AS_IMPEDANCE))
+    (rms, mean_square) = circuit.derive("noise_rms(out, 10 Hz, 1 MHz)")
+    assert any("numerical" in n and "function of f" in n for n in rms.notes)
+    expected = quad(lambda u: _nodal_density(np.exp(u)) * np.exp(u), np.log(10), np.log(1e6),
+                    points=[np.log(220 / (2 * np.pi * 10e-3))], epsrel=1e-12, limit=200)[0]
+    assert float(mean_square.nominal) == pytest.approx(expected, rel=1e-8)
+    assert float(rms.nominal) ** 2 == pytest.approx(expected, rel=1e-8)
+
+
+def test_an_impedance_with_a_negative_real_part_is_refused_where_it_is():
+    text = "resistor R1 (o, gnd) = 1k\nadmittance Y1 (o, gnd) = s*C - G\nparam G = 1 mS\n" \
+           "param C = 1 nF\nport out (o, gnd)\n"
+    with pytest.raises(SymcircError, match="Y1: the real part of its admittance is negative") \
+            as caught:
+        symcirc.parse(text).derive("noise(out).psd")
+    assert (caught.value.line, caught.value.column) == (2, 1)
