@@ -56,10 +56,9 @@ class Band:
         """The symbols the band's noise depends on (its transfers and densities)."""
         found: set[sympy.Symbol] = set()
         for transfer, density in self.integrands:
-            for c in (*transfer.numerator, *transfer.denominator):
-                found |= sympy.sympify(c).free_symbols
-            found |= sympy.sympify(density.white).free_symbols
-            found |= sympy.sympify(density.corner).free_symbols
+            for c in (*transfer.numerator, *transfer.denominator, density.white,
+                      density.corner):
+                found |= getattr(c, "free_symbols", set())  # a plain number has none
         return frozenset(found - {sympy.Symbol("s"), FREQUENCY})
 
     def mean_square_at(self, point: Mapping[sympy.Symbol, Fraction]) -> float:

@@ -124,11 +124,17 @@ def unknown_name_message(name: str, symbols: set[str] | dict, ports: dict | set 
     close = get_close_matches(name, list(symbols), n=1)
     if close:
         message += f"; did you mean `{close[0]}`?"
+    if name in _UNITS_AFTER_A_SLASH:
+        message += (f" (`{name}` is read as a name after `/`: a unit goes with its number as "
+                    f"one word, and a noise density is written `5 nV/√Hz` or `5 nV/rtHz`)")
     if _LETTER_FIRST_CODE.fullmatch(name):
         message += (f" (an IEC 60062 code that starts with its letter is written with a "
                     f"leading zero: `0{name}`)")
     return message
 
+
+_UNITS_AFTER_A_SLASH = frozenset({"Hz", "V", "A", "s", "ohm", "Ω", "F", "H", "S", "W", "K"})
+"""Units a value such as `5 nV/Hz` leaves behind as a name after its division sign."""
 
 _LETTER_FIRST_CODE = re.compile(r"[LRKMGTpnumF][0-9]+")
 """A name such as `R47` or `p68`: the RKM code of a value below one, missing its `0`."""
