@@ -218,9 +218,9 @@ def _negative_somewhere(polynomial: sympy.Expr, omega: sympy.Symbol) -> bool:
         return False
     roots = sorted({r for r in poly.real_roots() if r > 0}, key=float)
     if not roots:
-        return poly.eval(1) < 0
+        return poly(1) < 0
     points = [roots[0] / 2, *((a + b) / 2 for a, b in pairwise(roots)), roots[-1] * 2]
-    return any(poly.eval(point) < 0 for point in points)
+    return any(poly(point) < 0 for point in points)
 
 
 def _parts(polynomial: sympy.Expr, omega: sympy.Expr) -> tuple[sympy.Expr, sympy.Expr]:
