@@ -18,7 +18,7 @@ from ..model.circuit import LAPLACE, Assumption, Circuit, Tolerance
 from ..model.typeset import symbol_latex
 from ..model.units import engineering, percent
 from ..vocabulary import QUANTITIES
-from .formulas import Equation, equations
+from .formulas import Equation, equations, fraction_parts
 
 # ---------------------------------------------------------------- the circuit
 
@@ -322,8 +322,10 @@ class Section:
 def result_view(result: Any, symbol: str | None = None) -> ResultView:
     """The view of one `symcirc.results.Result` (form, steps and details where present)."""
     symbol = symbol or quantity_symbol(result)
-    expression = result.expression
     canonical_latex = result.latex()
+    # a single fraction is split from its own LaTeX; only other shapes need the expression
+    # (a large result's sympy form costs as much as its derivation)
+    expression = None if fraction_parts(canonical_latex) is not None else result.expression
     canonical = equations(symbol, canonical_latex, expression)
     design: list[Equation] = []
     design_text = design_latex = None
