@@ -118,6 +118,18 @@ def main() -> int:
     per_term = printed[1] / terms * 1e6
     print(f"text of a {terms:,}-term result: {printed[0]:.3f} s wall, {printed[1]:.3f} s CPU "
           f"({per_term:.2f} µs per term; a million terms < 1 s needs < 1 µs)")
+    # the floor: python-flint's own printer, the fastest way out of its polynomials
+    denominator = voltage.exact.denominator
+    flint_alone = best(lambda: str(denominator), 2)
+    written = str(denominator)
+    factors = written.count("*") - 2 * written.count("**") + len(denominator)
+    print(f"  of which python-flint's printer alone: {flint_alone[1]:.3f} s CPU for the "
+          f"{len(denominator):,}-term denominator, {factors / len(denominator):.1f} factors per "
+          f"term, {flint_alone[1] / factors * 1e9:.0f} ns per factor")
+    small = result.exact.denominator
+    exponents = best(lambda: small.monoms(), 2)
+    print(f"  reading exponents instead (monoms, {len(small):,} terms): "
+          f"{exponents[1] / len(small) * 1e6:.2f} µs per term before any text is written")
     load = os.getloadavg()[0]
     print(f"load average {load:.1f} on {os.cpu_count()} CPUs")
     return 0
