@@ -9,11 +9,12 @@ Handlers first produce `Raw` results (exact functions in the circuit's own symbo
 from __future__ import annotations
 
 import dataclasses
-from collections.abc import Callable, Iterable, Iterator
+from collections.abc import Callable, Iterable, Iterator, Mapping
 from contextlib import contextmanager
 from dataclasses import dataclass
 from difflib import get_close_matches
 from fractions import Fraction
+from functools import partial
 from typing import TYPE_CHECKING, Any
 
 from ..algebra.convert import (
@@ -25,7 +26,8 @@ from ..algebra.convert import (
     substitute_root,
     to_function,
 )
-from ..algebra.polynomials import AlgebraError
+from ..algebra.formulas import function_of, is_rational
+from ..algebra.polynomials import LAPLACE_NAME, AlgebraError, PolynomialRing
 from ..algebra.rational import InfiniteLimit, RationalFunction
 from ..engine.mna import Current, Measure, Voltage
 from ..engine.network import Network, build_network
@@ -34,6 +36,7 @@ from ..errors import Location, SymcircError
 from ..language import syntax
 from ..limits import MAX_EXPANSION_TERMS, power_terms
 from ..model.circuit import REFERENCE, Circuit, Element
+from ..model.formula import Formula
 from ..results import Result
 from .registry import RESPONSE_PARTS, RESPONSE_QUANTITIES, DeriveOptions
 
@@ -239,18 +242,42 @@ class Context:
         used = function.symbol_names()
         if name in used:
             return function, ()
+        plain = self.plain_definitions
+        if all(plain.get(k, True) is not None for k in used):
+            via = tuple(k for k, d in plain.items()
+                        if k in used and d is not None and name in d.names)
+            for k in via:
+                function = self._substituted(function, k, plain[k].terms,
+                                             partial(plain[k].function, function.ring))
+            return function, via
         via = tuple(k for k, d in self.definitions.items()
                     if k in used and name in names_of(d))
         for k in via:
             function = self.substitute(function, k, self.definitions[k])
         return function, via
 
+    @property
+    def plain_definitions(self) -> dict[str, PlainDefinition | None]:
+        """Every defined symbol (in the order of `definitions`) as a `PlainDefinition`, or
+        None for one whose expansion needs sympy."""
+        cached = self.memo.get("plain definitions")
+        if cached is None:
+            cached = self.memo["plain definitions"] = plain_definitions(self.circuit)
+        return cached
+
     def substitute(self, function: RationalFunction, name: str, expr: sympy.Expr
                    ) -> RationalFunction:
         self.atoms.update(atoms_of(expr))
-        bound = _expanded_terms(expr)
+        return self._substituted(function, name, _expanded_terms(expr),
+                                 lambda: to_function(expr, function.ring))
+
+    def _substituted(self, function: RationalFunction, name: str, bound: int,
+                     value_of: Callable[[], RationalFunction]) -> RationalFunction:
+        """`function` with `name` = the value `value_of` builds, refused before anything
+        is multiplied out when `bound` (the definition's terms) or the result's bound
+        passes MAX_EXPANSION_TERMS."""
         if bound <= MAX_EXPANSION_TERMS:
-            value = to_function(expr, function.ring)
+            value = value_of()
             bound = _substituted_terms(function, name, value)
         if bound > MAX_EXPANSION_TERMS:
             raise self.error(None, f"substituting the definition of {name} would expand the "
@@ -383,6 +410,114 @@ def expanded_definitions(circuit: Circuit) -> dict[str, sympy.Expr]:
             expr = expr.xreplace({x: symbols[x] for x in used})
         expanded[name] = expr
     return expanded
+
+
+@dataclass(frozen=True)
+class PlainDefinition:
+    """A definition expanded down to undefined symbols in which every name occurs once and
+    nothing is irrational, so nothing can cancel: its names are the formulas' names and its
+    value is built in the algebra straight from the model's formulas, without sympy (the
+    same canonical rational function as `to_function` of `expanded_definitions`)."""
+
+    formula: Formula
+    nested: tuple[tuple[str, PlainDefinition], ...]
+    """The defined names the formula uses, each with its own expansion."""
+    names: frozenset[str]
+    """The names of the expansion (`s` among them when it uses s)."""
+    bounds: tuple[int, int]
+    """Bounds on the terms of its numerator and denominator once multiplied out (as
+    `_expanded_terms` bounds the sympy expression)."""
+
+    @property
+    def terms(self) -> int:
+        return sum(self.bounds)
+
+    def function(self, ring: PolynomialRing) -> RationalFunction:
+        """The expansion as a rational function over `ring` extended by the names it
+        lacks, as `to_function` extends it."""
+        missing = self.names - set(ring.names)
+        if missing:
+            ring = ring.extend(sorted(missing))
+        value = function_of(self.formula, ring)
+        for name, definition in self.nested:
+            value = value.substitute(name, definition.function(ring))
+        return value.in_ring(ring)
+
+
+def plain_definitions(circuit: Circuit) -> dict[str, PlainDefinition | None]:
+    """Every element and parameter defined by an expression, in the order of
+    `expanded_definitions`, as a `PlainDefinition`; None for one whose expansion is not
+    plain (π, a root, a name used twice, a definition through itself), which sympy expands."""
+    formulas: dict[str, Formula] = {
+        e.name: e.definition_formula for e in circuit.elements.values()
+        if e.definition_formula is not None and e.kind != "opamp"}
+    for p in circuit.parameters.values():
+        value = p.value_formula
+        if value is not None and (value.names or value.laplace or not value.plain):
+            formulas[p.name] = value
+    done: dict[str, PlainDefinition | None] = {}
+
+    def expand(name: str, open_: frozenset[str]) -> PlainDefinition | None:
+        if name in done:
+            return done[name]
+        formula = formulas[name]
+        found = None
+        if formula.plain and is_rational(formula) and name not in open_:
+            nested = tuple((n, expand(n, open_ | {name}))
+                           for n in sorted(formula.names & formulas.keys()))
+            parts = [formula.names - formulas.keys(), *(d.names - {LAPLACE_NAME}
+                                                      for _, d in nested if d is not None)]
+            laplace = formula.laplace + sum(LAPLACE_NAME in d.names
+                                            for _, d in nested if d is not None)
+            if all(d is not None for _, d in nested) and laplace <= 1 \
+                    and sum(map(len, parts)) == len(frozenset().union(*parts)):
+                names = frozenset().union(*parts) | ({LAPLACE_NAME} if laplace else set())
+                bounds = {n: d.bounds for n, d in nested}  # type: ignore[union-attr]
+                found = PlainDefinition(formula, nested, names,  # type: ignore[arg-type]
+                                        _formula_bounds(formula, bounds))
+        done[name] = found
+        return found
+
+    return {name: expand(name, frozenset()) for name in formulas}
+
+
+def _formula_bounds(formula: Formula, names: Mapping[str, tuple[int, int]]
+                    ) -> tuple[int, int]:
+    """`_expanded_terms` of a rational formula, each name in `names` standing for an
+    expression with those bounds (numerator, denominator)."""
+    done: dict[int, tuple[int, int]] = {}
+    stack = [formula]
+    while stack:  # bottom-up without recursion, each shared node once
+        node = stack[-1]
+        pending = [a for a in node.args if isinstance(a, Formula) and id(a) not in done
+                   and node.number is None]
+        if pending:
+            stack.extend(pending)
+            continue
+        stack.pop()
+        done[id(node)] = _node_bounds(node, done, names)
+    return done[id(formula)]
+
+
+def _node_bounds(node: Formula, done: Mapping[int, tuple[int, int]],
+                 names: Mapping[str, tuple[int, int]]) -> tuple[int, int]:
+    if node.number is not None or node.op == "s":
+        return 1, 1
+    if node.op == "name":
+        return names.get(node.args[0], (1, 1))
+    if node.op in ("neg", "scale"):
+        return done[id(node.args[-1])]
+    (n1, d1), (n2, d2) = (done[id(a)] for a in node.args)
+    if node.op in ("+", "-"):
+        return n1 * d2 + n2 * d1, d1 * d2
+    if node.op == "*":
+        return n1 * n2, d1 * d2
+    if node.op == "/":
+        return n1 * d2, d1 * n2
+    k = int(node.args[1].number)  # "^" by an integer: a rational formula has no other
+    if k < 0:
+        n1, d1, k = d1, n1, -k
+    return power_terms(n1, k), power_terms(d1, k)
 
 
 def _with_part(quantity: syntax.Quantity | None, part: str | None) -> syntax.Quantity | None:

@@ -91,7 +91,7 @@ def _near_zero(context: Context, q: str, function: RationalFunction,
     """A note when Q is near zero by x alone (`nearzero`): x moved by its tolerance (1 %
     without one) moves Q by more than Q, so (x/Q)·∂Q/∂x is divided by nearly nothing."""
     circuit = context.circuit
-    nominals = {str(k): v for k, v in circuit.symbol_nominals().items()}
+    nominals = circuit.name_nominals()
     used = set(function.symbol_names()) | set(derivative.symbol_names()) | {name}
     if not used <= set(nominals):
         return []
