@@ -18,13 +18,12 @@ from fractions import Fraction
 from functools import cached_property
 
 import numpy
-import sympy
 
 from ..algebra.convert import atom_value
 from ..engine.memo import Memo
 from ..engine.mna import Equations
 from ..errors import SymcircError
-from ..model.circuit import LAPLACE, REFERENCE, Circuit
+from ..model.circuit import REFERENCE, Circuit
 from ..model.units import engineering
 from ..quantities.common import Context
 from ..quantities.registry import DeriveOptions
@@ -256,16 +255,16 @@ class _Assessor:
             if element.is_source and not element.controls:
                 continue  # judged one by one in groups()
             if element.controls:
-                used = [c.coefficient for c in element.controls]
-            elif element.definition is not None:
-                used = [element.definition]
+                used = [c.coefficient_formula for c in element.controls]
+            elif element.definition_formula is not None:
+                used = [element.definition_formula]
             elif element.nominal is None and not element.is_ideal_opamp:
                 names.add(element.name)
                 continue
             else:
                 continue
-            names |= {str(x) for expr in used for x in expr.free_symbols
-                      if str(x) != "s" and str(x) not in nominals}
+            # the model's formulas answer without sympy when plain (`s` is never a name)
+            names |= {x for formula in used for x in formula.free_names() if x not in nominals}
         return sorted(names)
 
     # -- solving at the nominal values
@@ -309,11 +308,15 @@ class _Assessor:
         point = {name: complex(value) for name, value in nominals.items()}
         for name, expr in self.context.atoms.items():
             point.setdefault(name, complex(atom_value(expr, nominals)))
-        values = {sympy.Symbol(n): sympy.Rational(v.numerator, v.denominator)
-                  for n, v in nominals.items()}
-        values[LAPLACE] = sympy.Float(s.real) + sympy.I * sympy.Float(s.imag)
-        for element in self.circuit.elements.values():
-            if element.name not in point and element.definition is not None:
+        defined = [e for e in self.circuit.elements.values()
+                   if e.name not in point and e.definition_formula is not None]
+        if defined:  # values without a nominal (written with s, or with a part left free)
+            import sympy
+
+            values = {sympy.Symbol(n): sympy.Rational(v.numerator, v.denominator)
+                      for n, v in nominals.items()}
+            values[sympy.Symbol("s")] = sympy.Float(s.real) + sympy.I * sympy.Float(s.imag)
+            for element in defined:
                 value = sympy.N(element.definition.xreplace(values))
                 if value.is_number:  # a source without a value is left out of the groups
                     point[element.name] = complex(value)

@@ -78,14 +78,12 @@ def symbol_latex(name: str) -> str:
 
 @lru_cache(maxsize=4096)
 def _rule_latex(name: str) -> str:
-    import sympy  # only what typesets needs it: reading a circuit does not
-
     head, *rest = name.split("_")
     if name == "oo" or not head or not all(_PART.fullmatch(p) for p in rest):
-        return sympy.latex(sympy.Symbol(name))
+        return _sympy_latex(name)
     base, subscripts = _split_head(head)
     if base is None:
-        return sympy.latex(sympy.Symbol(name))
+        return _sympy_latex(name)
     node_like = not subscripts and len(rest) == 1  # `V_a`: set like the node `a`
     for part in rest:
         subscripts.append(part if node_like and len(part) == 1 and part.isalpha()
@@ -94,6 +92,14 @@ def _rule_latex(name: str) -> str:
         return base
     # adjacent upright words read as one: `\mathrm{a,ref}`
     return base + "_{" + ",".join(subscripts).replace(r"},\mathrm{", ",") + "}"
+
+
+def _sympy_latex(name: str) -> str:
+    """sympy's LaTeX of a name the rules do not cover (imported here: the rules' names,
+    and reading a circuit, need no sympy)."""
+    import sympy
+
+    return sympy.latex(sympy.Symbol(name))
 
 
 def _split_head(head: str) -> tuple[str | None, list[str]]:

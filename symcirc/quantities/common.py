@@ -246,15 +246,22 @@ class Context:
         if all(plain.get(k, True) is not None for k in used):
             via = tuple(k for k, d in plain.items()
                         if k in used and d is not None and name in d.names)
-            for k in via:
-                function = self._substituted(function, k, plain[k].terms,
-                                             partial(plain[k].function, function.ring))
-            return function, via
-        via = tuple(k for k, d in self.definitions.items()
-                    if k in used and name in names_of(d))
+        else:
+            via = tuple(k for k, d in self.definitions.items()
+                        if k in used and name in names_of(d))
         for k in via:
-            function = self.substitute(function, k, self.definitions[k])
+            function = self.substitute_definition(function, k)
         return function, via
+
+    def substitute_definition(self, function: RationalFunction, name: str
+                              ) -> RationalFunction:
+        """`function` with the defined symbol `name` replaced by its expanded definition:
+        built in the algebra when it is plain, else through sympy."""
+        plain = self.plain_definitions.get(name)
+        if plain is None:
+            return self.substitute(function, name, self.definitions[name])
+        return self._substituted(function, name, plain.terms,
+                                 partial(plain.function, function.ring))
 
     @property
     def plain_definitions(self) -> dict[str, PlainDefinition | None]:
@@ -290,8 +297,8 @@ class Context:
     def substitute_all(self, function: RationalFunction) -> RationalFunction:
         """Every definition replaced (`--substitute`)."""
         for name in function.symbol_names():
-            if name in self.definitions:
-                function = self.substitute(function, name, self.definitions[name])
+            if name in self.plain_definitions:
+                function = self.substitute_definition(function, name)
         return function
 
     def resolved(self, function: RationalFunction) -> RationalFunction:
@@ -316,8 +323,7 @@ class Context:
             if element.kind in ("transformer", "coupling") \
                     and element.definition_formula is not None \
                     and element.name in function.symbol_names():
-                function = self.substitute(function, element.name,
-                                           self.definitions[element.name])
+                function = self.substitute_definition(function, element.name)
         return function
 
     def mutual_chain(self, function: RationalFunction, derivative: RationalFunction,
@@ -453,7 +459,8 @@ def plain_definitions(circuit: Circuit) -> dict[str, PlainDefinition | None]:
         if e.definition_formula is not None and e.kind != "opamp"}
     for p in circuit.parameters.values():
         value = p.value_formula
-        if value is not None and (value.names or value.laplace or not value.plain):
+        if value is not None and (value.names or value.laplace if value.plain
+                                  else value.free_names() or value.has_laplace()):
             formulas[p.name] = value
     done: dict[str, PlainDefinition | None] = {}
 
