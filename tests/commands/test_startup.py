@@ -1,6 +1,7 @@
 """Start-up: commands that only print the version, help or a usage error import none of
 sympy, numpy or jinja2 (the modules whose import dominates a cold start); neither does
-`inspect`, nor `derive` of a quantity with rational values and no steps. The tests check
+`inspect`, nor `derive` of a quantity with rational values and no steps, through
+definitions and limits, with values and in every format (no sympy). The tests check
 the set of imported modules in a fresh interpreter, not a time."""
 
 from __future__ import annotations
@@ -85,8 +86,29 @@ def test_derive_without_steps_computes_in_the_algebra_alone():
         assert outcome["status"] == 0 and "sympy" not in outcome["loaded"], (argv, outcome)
 
 
+def test_definitions_limits_values_and_formats_compute_without_sympy():
+    """A sensitivity or a limit through a defined part (`Rt = R0*(1 + alpha*T)`),
+    `--substitute`, `--values` (nominal values and the safety cautions) and every output
+    format of such results: the definitions are built from the model's formulas in the
+    algebra, LaTeX names by the typesetting rules, so sympy stays unloaded."""
+    calls = [
+        ["derive", str(BRIDGE), "sensitivity(V(out), T)"],
+        ["derive", str(BRIDGE), "relative_sensitivity(V(out), R0)", "--format", "json"],
+        ["derive", str(BRIDGE), "V(out) where T -> oo", "--format", "latex"],
+        ["derive", str(BRIDGE), "thevenin(out) where alpha -> 0", "--format", "markdown"],
+        ["derive", str(BRIDGE), "thevenin(out)", "--substitute", "--values"],
+        ["derive", str(BRIDGE), "V(out) where Rin -> oo", "gain(Uref, out)", "--values"],
+    ]
+    for argv in calls:
+        outcome = _probe(argv)
+        assert outcome["status"] == 0 and "sympy" not in outcome["loaded"], (argv, outcome)
+
+
 def test_the_probe_sees_a_heavy_import_when_there_is_one():
     """A command that derives loads the exact algebra: the probe would notice a regression."""
     outcome = _probe(["derive", str(BRIDGE), "gain(Uref, out)"])
     assert "flint" in outcome["loaded"]
     assert outcome["status"] == 0
+    # an approximation `where Rin >> R1` is typeset by the design forms, on sympy
+    outcome = _probe(["derive", str(BRIDGE), "sensitivity(V(out), T) where Rin >> R1"])
+    assert outcome["status"] == 0 and "sympy" in outcome["loaded"]
