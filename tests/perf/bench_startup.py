@@ -7,7 +7,9 @@ the fastest CPU time (user + system, which a busy machine disturbs less) with by
 (the installed package's cached .pyc files) and without (a fresh, empty bytecode cache
 each run: every module compiled, as on a first run after installing from source).
 Targets: `--version` < 0.08 s, `inspect` < 0.2 s, `derive` < 0.35 s (`derive one` is a
-single quantity without steps: `gain(Uref, out)`).
+single quantity without steps: `gain(Uref, out)`; the indented rows are the bridge's derive
+statements one at a time). The last rows are the floors: the interpreter and the imports
+of lark, python-flint and sympy, alone and together.
 """
 
 from __future__ import annotations
@@ -32,11 +34,20 @@ COMMANDS = {
     "derive --values": ["derive", str(BRIDGE), "--values"],
     "check": ["check", str(BRIDGE)],
 }
+STATEMENTS = {  # the bridge's derive statements, one per process
+    "  thevenin": ["derive", str(BRIDGE), "thevenin(out)"],
+    "  gain": ["derive", str(BRIDGE), "gain(Uref, out)"],
+    "  V -> oo": ["derive", str(BRIDGE), "V(out) where Rin -> oo"],
+    "  sens. >>": ["derive", str(BRIDGE), "sensitivity(V(out), T) where Rin >> R1"],
+    "  sens. alone": ["derive", str(BRIDGE), "sensitivity(V(out), T)"],
+}
 BASELINES = {
     "python -c pass": [sys.executable, "-c", "pass"],
     "import lark": [sys.executable, "-c", "import lark"],
     "import flint": [sys.executable, "-c", "import flint"],
     "import sympy": [sys.executable, "-c", "import sympy"],
+    "lark+flint": [sys.executable, "-c", "import lark, flint"],
+    "lark+flint+sympy": [sys.executable, "-c", "import lark, flint, sympy"],
 }
 
 
@@ -55,6 +66,8 @@ def fastest(argv: list[str], runs: int, bytecode: bool) -> tuple[float, float]:
     walls, cpus = [], []
     for _ in range(runs):
         environment = dict(os.environ)
+        environment.pop("PYTHONDONTWRITEBYTECODE", None)  # the first run writes the cache
+        environment.pop("PYTHONPYCACHEPREFIX", None)
         cache = None
         if not bytecode:
             cache = tempfile.mkdtemp(prefix="symcirc-bytecode-")
@@ -75,7 +88,7 @@ def main() -> int:
                         help="the command to time (default: beside this Python)")
     args = parser.parse_args()
     print(f"{'command':<18} {'wall':>7} {'cpu':>7}   {'no .pyc wall':>12} {'cpu':>7}")
-    rows = {name: [args.symcirc, *argv] for name, argv in COMMANDS.items()}
+    rows = {name: [args.symcirc, *argv] for name, argv in {**COMMANDS, **STATEMENTS}.items()}
     rows.update(BASELINES)
     for name, argv in rows.items():
         warm = fastest(argv, args.runs, bytecode=True)
