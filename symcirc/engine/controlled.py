@@ -40,15 +40,17 @@ from __future__ import annotations
 
 import heapq
 from collections.abc import Callable, Mapping, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
+from itertools import combinations
 from math import comb
 
-from ..algebra.polynomials import Poly, TooLarge
+from ..algebra.polynomials import LAPLACE_NAME, Poly, TooLarge
 from ..algebra.rational import RationalFunction
 from ..model.circuit import REFERENCE
-from . import forests
+from . import bordered, forests
+from .bordered import Border
 from .mna import Current, Measure, MnaSolution
-from .network import Network, VoltageControl
+from .network import CurrentControl, Network, VoltageControl
 from .topological import ForestSolution, _Contraction, spanning_trees
 
 MAX_COMMON_TREES = 20_000_000
@@ -95,77 +97,198 @@ class Control:
 
 @dataclass(frozen=True)
 class TwoGraph:
-    """A network's controls (see Control)."""
+    """A network's controlled current sources (rank-one controls) and its bordered unknown
+    currents (engine.bordered), with the Z entries between them."""
 
-    controls: tuple[Control, ...]
+    rank_one: tuple[Control, ...]
+    borders: tuple[Border, ...] = ()
+    impedance: tuple[tuple[tuple[int, int], Poly], ...] = ()
+
+    @property
+    def controls(self) -> tuple[Control, ...]:
+        """Every column of the two-graph determinant: the rank-one controls and, as a group,
+        each border's alternatives (a term of its column times a term of its row)."""
+        found = list(self.rank_one)
+        for t, border in enumerate(self.borders):
+            for a, b, alpha in border.column:
+                for c, d, beta in border.row:
+                    found.append(Control(a, b, c, d, alpha * beta, border.scale ** 0, t))
+        return tuple(found)
+
+
+Term = tuple[str, str, str, RationalFunction]
+"""("V", c, d, k): k·V(c, d); ("I", element, "", k): k times a bordered unknown current."""
 
 
 def controls_of(network: Network, limit: int | None = MAX_CONTROLS) -> TwoGraph | None:
     """The network's controls, or None when it has an element the forest sums cannot take
-    (a coupling, a controlled voltage source with a constant part, a current control of
-    anything but a passive element, or more than `limit` controls)."""
-    if network.couplings:
-        return None
+    (a control by an independent current source's current or by a controlled current
+    source with a constant part, controls reading each other in a circle, a block of more
+    than bordered.MAX_BLOCK borders, or more than `limit` controls).
+
+    Elements whose current is an unknown of its own become borders: controlled voltage
+    sources, opamps, transformers, coupled inductors and the independent voltage sources
+    whose current a control reads. A controlled current source reading a border's current
+    adds a term to that border's column; a controlled voltage source reading it, a Z entry."""
     ring = network.ring
     one = ring.one
     known = {REFERENCE, *network.nodes}
-    found: list[Control] = []
+    coupled = {name for c in network.couplings.values() for name in (c.first, c.second)}
+    read = {c.element for s in network.sources.values() for c in s.controls
+            if isinstance(c, CurrentControl)}
+    names = [s.name for s in network.sources.values()
+             if s.kind == "voltage" and (s.controls or s.name in read)]
+    names += [*network.opamps, *network.transformers,
+              *(b for b in network.branches if b in coupled)]
+    index = {name: t for t, name in enumerate(names)}
+    sign = {name: -1 if name in network.opamps else 1 for name in names}
+    columns: list[list[tuple[str, str, RationalFunction]]] = [[] for _ in names]
+    rows: list[list[tuple[str, str, RationalFunction]]] = [[] for _ in names]
+    entries: dict[tuple[int, int], RationalFunction] = {}
+    unit = RationalFunction(1, 1, ring, canonical=True)
 
-    def linear(control) -> tuple[str, str, Poly, Poly] | None:
-        """(c, d, numerator, denominator) of a control's coefficient times its voltage."""
-        g = control.coefficient
+    def terms(k: RationalFunction, control, seen: frozenset[str]) -> list[Term] | None:
+        """k times a control's value (its coefficient times what it reads) as Terms."""
+        k = k * control.coefficient
         if isinstance(control, VoltageControl):
-            return control.a, control.b, g.numerator, g.denominator
-        branch = network.branches.get(control.element)
-        if branch is None:
+            if not {control.a, control.b} <= known:
+                return None
+            return [("V", control.a, control.b, k)]
+        element = control.element
+        if element in index:
+            return [("I", element, "", k * sign[element])]
+        branch = network.branches.get(element)
+        if branch is not None:
+            return [("V", branch.a, branch.b,
+                     k * RationalFunction(branch.inward, branch.outward, ring))]
+        source = network.sources.get(element)
+        if (source is None or source.kind != "current" or source.independent
+                or source.constant is not None or element in seen):
             return None
-        return branch.a, branch.b, g.numerator * branch.inward, g.denominator * branch.outward
+        found: list[Term] = []  # I(X) of a controlled current source is minus its value
+        for inner in source.controls:
+            more = terms(-k, inner, seen | {element})
+            if more is None:
+                return None
+            found += more
+        return found
 
-    def output(a: str, b: str, terms: list[tuple[str, str, Poly, Poly]]) -> None:
-        """V(a, b) = Σ num_i/den_i·V(c_i, d_i) held by a norator across (a, b)."""
-        group = len({k.group for k in found if k.group is not None})
-        common = one
-        for *_, den in terms:
-            common = common * den
-        found.append(Control(a, b, a, b, common, one, group))
-        for i, (c, d, num, _) in enumerate(terms):
-            weight = -num
-            for m, (*_, den) in enumerate(terms):
-                if m != i:
-                    weight = weight * den
-            found.append(Control(a, b, c, d, weight, one, group))
+    def add(key: tuple[int, int], value: RationalFunction) -> None:
+        entries[key] = entries[key] + value if key in entries else value
 
+    rank_one: list[Control] = []
     for source in network.sources.values():
         if source.independent:
+            if source.name in index:  # a voltage source whose current is read
+                t = index[source.name]
+                columns[t].append((source.a, source.b, unit))
+                rows[t].append((source.a, source.b, unit))
             continue
-        if source.constant is not None and source.kind == "voltage":
-            return None
-        terms = [linear(control) for control in source.controls]
-        if any(t is None or not {t[0], t[1]} <= known for t in terms):
-            return None
-        if source.kind == "current":
-            found += [Control(source.a, source.b, c, d, -num, den) for c, d, num, den in terms]
-        else:
-            output(source.a, source.b, terms)
+        found: list[Term] = []
+        for control in source.controls:
+            more = terms(unit, control, frozenset({source.name}))
+            if more is None:
+                return None
+            found += more
+        if source.kind == "current":  # drives its value into a: −value leaves a
+            for what, x, y, k in found:
+                if what == "V":
+                    rank_one.append(Control(source.a, source.b, x, y,
+                                            -k.numerator, k.denominator))
+                else:
+                    columns[index[x]].append((source.a, source.b, -k))
+            continue
+        t = index[source.name]  # V(a, b) − Σ k·(what it reads) = constant
+        columns[t].append((source.a, source.b, unit))
+        rows[t].append((source.a, source.b, unit))
+        for what, x, y, k in found:
+            if what == "V":
+                rows[t].append((x, y, -k))
+            else:
+                add((t, index[x]), -k)
     for opamp in network.opamps.values():
-        if opamp.gain is None:
-            group = len({k.group for k in found if k.group is not None})
-            found.append(Control(opamp.out, REFERENCE, opamp.p, opamp.n, one, one, group))
+        t = index[opamp.name]
+        columns[t].append((opamp.out, REFERENCE, unit))  # the current drawn from out
+        if opamp.gain is None:  # a nullor: V(p) = V(n)
+            rows[t].append((opamp.p, opamp.n, unit))
         else:
-            gain = opamp.gain
-            output(opamp.out, REFERENCE,
-                   [(opamp.p, opamp.n, gain.numerator, gain.denominator)])
-    for t in network.transformers.values():
+            rows[t] += [(opamp.out, REFERENCE, unit), (opamp.p, opamp.n, -opamp.gain)]
+    for x in network.transformers.values():
         # V1 − N·V2 = 0 with the current I1 into p1 and −N·I1 into p2: the unknown's column
-        # and its row are both (p1, n1) − N·(p2, n2), so each term takes one of each
-        group = len({k.group for k in found if k.group is not None})
-        sides = (((t.p1, t.n1), one), ((t.p2, t.n2), -t.ratio))
-        for (a, b), u in sides:
-            for (c, d), v in sides:
-                found.append(Control(a, b, c, d, u * v, one, group))
-    if limit is not None and len(found) > limit:
+        # and its row are both (p1, n1) − N·(p2, n2)
+        t = index[x.name]
+        ratio = RationalFunction(x.ratio, one, ring, canonical=True)
+        sides = [(x.p1, x.n1, unit), (x.p2, x.n2, -ratio)]
+        columns[t] += sides
+        rows[t] += sides
+    s = ring.gen(LAPLACE_NAME)
+    for name in names:
+        branch = network.branches.get(name)
+        if branch is None:
+            continue
+        # inward·V(a, b) − outward·I − Σ s·M·I(other) = 0 (engine.mna)
+        t = index[name]
+        columns[t].append((branch.a, branch.b, unit))
+        rows[t].append((branch.a, branch.b, RationalFunction(branch.inward, one, ring)))
+        add((t, t), RationalFunction(-branch.outward, one, ring))
+        for c in network.coupling_of(name):
+            other = c.second if c.first == name else c.first
+            add((t, index[other]), RationalFunction(-s * ring.gen(c.mutual), one, ring))
+    borders, impedance = _polynomial(ring, names, sign, columns, rows, entries)
+    if any(len(block) > bordered.MAX_BLOCK
+           for block in bordered.blocks(len(borders), dict(impedance))):
         return None
-    return TwoGraph(tuple(found))
+    two_graph = TwoGraph(tuple(rank_one), borders, impedance)
+    if limit is not None and _count(ring, two_graph) > limit:
+        return None
+    return two_graph
+
+
+def _lcm(ring, values: list[Poly]) -> Poly:
+    out = ring.one
+    for den in values:
+        if den != ring.one:
+            out = ring.exquo(out * den, ring.gcd(out, den))
+    return out
+
+
+def _polynomial(ring, names: list[str], sign: dict[str, int], columns, rows,
+                entries: dict[tuple[int, int], RationalFunction]
+                ) -> tuple[tuple[Border, ...], tuple[tuple[tuple[int, int], Poly], ...]]:
+    """Borders with polynomial entries: each row times its denominators' lcm, then each
+    column (node part and Z part) times its own."""
+    row_scales = []
+    for t, row in enumerate(rows):
+        dens = [k.denominator for *_, k in row]
+        dens += [k.denominator for (r, _), k in entries.items() if r == t]
+        row_scales.append(_lcm(ring, dens))
+    scales = [_lcm(ring, [k.denominator for *_, k in column]) for column in columns]
+    borders = []
+    for t, name in enumerate(names):
+        column = tuple((a, b, k.numerator * ring.exquo(scales[t], k.denominator))
+                       for a, b, k in columns[t])
+        row = tuple((c, d, k.numerator * ring.exquo(row_scales[t], k.denominator))
+                    for c, d, k in rows[t])
+        borders.append(Border(name, column, row, sign[name], scales[t], row_scales[t]))
+    impedance = tuple(
+        ((r, t), k.numerator * ring.exquo(row_scales[r], k.denominator) * scales[t])
+        for (r, t), k in sorted(entries.items()) if not ring.is_zero(k.numerator))
+    return tuple(borders), impedance
+
+
+def _count(ring, two_graph: TwoGraph) -> int:
+    """Columns of the two-graph determinant the walk takes (its states grow with them)."""
+    borders, impedance = two_graph.borders, dict(two_graph.impedance)
+    count = len(two_graph.rank_one)
+    members = bordered.blocks(len(borders), impedance)
+    inside = {t for block in members for t in block}
+    for t, border in enumerate(borders):
+        if t not in inside:
+            count += len(border.column) * len(border.row)
+    for block in members:
+        pairs = bordered.Block(ring, block, impedance).pairs
+        count += sum(len(borders[t].column) * len(borders[r].row) for t, r in pairs)
+    return count
 
 
 def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | None:
@@ -177,50 +300,88 @@ def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | N
     docstring), each times a term of its sources' coefficients, so they number at most
     the spanning trees of either graph (Kirchhoff's count, exact and cheap) times the
     largest term count of each coefficient. Every transfer of the network has that
-    determinant, or one of its size, as denominator, whichever path derives it. The count
-    is skipped when choosing the edges of a tree is already few enough."""
+    determinant, or one of its size, as denominator, whichever path derives it. A block
+    of borders (engine.bordered) adds, for each choice of its columns T and rows R̄, the
+    trees of the graphs with those pairs as edges times the terms of its Z minor. The
+    count is skipped when choosing the edges of a tree is already few enough."""
     two_graph = controls_of(network, limit=None)
     if two_graph is None or not two_graph.controls:
         return None
-    controls = two_graph.controls
+    ring = network.ring
+    borders, impedance = two_graph.borders, dict(two_graph.impedance)
+    block_list = [bordered.Block(ring, members, impedance)
+                  for members in bordered.blocks(len(borders), impedance)]
+    inside = {t for block in block_list for t in block.members}
+    named = {b.element for b in borders}
     joins = [(s.a, s.b) for s in network.sources.values()
-             if s.kind == "voltage" and s.independent]
+             if s.kind == "voltage" and s.independent and s.name not in named]
     everything = (REFERENCE, *network.nodes)
-    passive = [(b.a, b.b) for b in network.branches.values()]
-    shared: dict[tuple[int, int], set[tuple[str, str]]] = {}
-    for k in controls:
-        if k.group is not None:
-            shared.setdefault((k.group, 0), set()).add((k.a, k.b))
-            shared.setdefault((k.group, 1), set()).add((k.c, k.d))
-    graphs = []
+    passive = [(b.a, b.b) for b in network.branches.values() if b.name not in named]
+    graphs = []  # per side: (nodes, edges, block pairs by border, merge)
     for side in (0, 1):  # the current graph, then the voltage graph
         merged_pairs, edges = [], list(passive)
-        for k in controls:
-            pair = (k.a, k.b) if side == 0 else (k.c, k.d)
+        edges += [(k.a, k.b) if side == 0 else (k.c, k.d) for k in two_graph.rank_one]
+        for t, border in enumerate(borders):
+            if t in inside:
+                continue
+            pairs = {(a, b) for a, b, _ in (border.column if side == 0 else border.row)}
             # a pair in every tree is merged, as the sources are; a group's alternatives
             # are edges (a tree holds one of them)
-            if k.group is not None and len(shared[k.group, side]) == 1:
-                merged_pairs.append(pair)
-            else:
-                edges.append(pair)
+            (merged_pairs if len(pairs) == 1 else edges).extend(pairs)
         merged = _Contraction(everything, [*joins, *shorted, *merged_pairs])
-        edges = [(merged.find(u), merged.find(v)) for u, v in edges]
-        graphs.append((sorted({merged.find(n) for n in everything}),
-                       [(u, v) for u, v in edges if u != v]))
-    ring = network.ring
+        nodes = sorted({merged.find(n) for n in everything})
+
+        def inner(pairs, merged=merged):
+            found = [(merged.find(u), merged.find(v)) for u, v in pairs]
+            return [(u, v) for u, v in found if u != v]
+
+        own = {t: inner([(a, b) for a, b, _ in
+                         (borders[t].column if side == 0 else borders[t].row)])
+               for t in inside}
+        graphs.append((nodes, inner(edges), own))
     weight = 1
-    largest: dict[int, int] = {}
-    for k in controls:
-        if k.group is None:
-            weight *= max(ring.nterms(k.numerator), ring.nterms(k.denominator))
+    for k in two_graph.rank_one:
+        weight *= max(ring.nterms(k.numerator), ring.nterms(k.denominator))
+    for t, border in enumerate(borders):
+        if t not in inside:
+            weight *= max(ring.nterms(a * b) for *_, a in border.column for *_, b in border.row)
         else:
-            largest[k.group] = max(largest.get(k.group, 1), ring.nterms(k.numerator))
-    for terms in largest.values():
-        weight *= terms
-    bound = min(comb(len(edges), max(len(nodes) - 1, 0)) for nodes, edges in graphs) * weight
+            weight *= max(ring.nterms(a) for *_, a in border.column) if border.column else 1
+            weight *= max(ring.nterms(b) for *_, b in border.row) if border.row else 1
+    # the blocks' choices (T, R̄) and the terms of their minors
+    choices: dict[tuple[frozenset[int], frozenset[int]], int] = {(frozenset(), frozenset()): 1}
+    for block in block_list:
+        mine = []
+        for m in range(len(block.members) + 1):
+            for taken in combinations(block.members, m):
+                for rows in combinations(block.members, m):
+                    factor = block.factor(taken, rows)
+                    if factor is not None:
+                        mine.append((frozenset(taken), frozenset(rows), ring.nterms(factor)))
+        choices = {(t0 | t1, r0 | r1): n0 * n1
+                   for (t0, r0), n0 in choices.items() for t1, r1, n1 in mine}
+
+    def count(side: int, chosen: frozenset[int], exact: bool) -> int:
+        nodes, edges, own = graphs[side]
+        edges = edges + [e for t in sorted(chosen) for e in own[t]]
+        if not exact:
+            return comb(len(edges), max(len(nodes) - 1, 0))
+        return spanning_trees(nodes, edges)
+
+    def total(exact: bool) -> int:
+        cache: dict[tuple[int, frozenset[int]], int] = {}
+        bound = 0
+        for (taken, rows), terms in choices.items():
+            for key in ((0, taken), (1, rows)):
+                if key not in cache:
+                    cache[key] = count(*key, exact)
+            bound += min(cache[0, taken], cache[1, rows]) * terms
+        return bound * weight
+
+    bound = total(exact=False)
     if bound <= EXACT_COUNT_FROM:
         return bound
-    bound = min(spanning_trees(nodes, edges) for nodes, edges in graphs) * weight
+    bound = total(exact=True)
     if bound > MAX_COMMON_TREES:
         from ..model.units import eng
 
@@ -236,7 +397,9 @@ def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | N
 def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], ground: str,
                       pairs: Sequence[tuple[tuple[str, str], tuple[str, str]]],
                       apart: Sequence[tuple[str, str]], one: Poly,
-                      groups: Sequence[int] = ()) -> dict[int, Poly]:
+                      groups: Sequence[int] = (),
+                      exclusive: Mapping[int, tuple[int, int]] | None = None
+                      ) -> dict[int, Poly]:
     """Σ weight(F)·det U_S(F)·det V_S(F) over the spanning forests F, for every set S of
     the `pairs` ((a, b) current pair, (c, d) voltage pair), keyed by S as a bit mask.
 
@@ -248,7 +411,8 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
     end only S_U = S_V is kept. `groups` are bit masks of pairs of which S holds exactly
     one (a norator's alternatives, or a single pair that every term holds): a state is
     dropped as soon as a column it still needs in U or V can no longer come (both nodes
-    of its pair are in trees already closed)."""
+    of its pair are in trees already closed). `exclusive` maps a pair to the pairs it
+    excludes in U and in V (a block's pairs sharing its border's column, or its row)."""
     names = sorted({x for ab, cd in pairs for x in (*ab, *cd)} | {ground})
     bit = {t: 1 << i for i, t in enumerate(names)}
     ground_bit = bit[ground]
@@ -264,6 +428,10 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
             current |= reach[j][0]
             voltage |= reach[j][1]
         wanted.append((mask, current, voltage))
+    family_u, family_v = list(family), list(family)
+    for j, (u_side, v_side) in (exclusive or {}).items():
+        family_u[j] |= u_side
+        family_v[j] |= v_side
     pending = sum(bit.values()) & ~ground_bit  # terminals not yet on the frontier
     group_masks = [mask for mask in groups if mask & (mask - 1)]  # of two or more pairs
 
@@ -316,7 +484,8 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
                 expansions[mask] = None
             else:
                 expansions[mask] = [
-                    (1 << ju, family[ju], -1 << (ju + 1), 1 << jv, family[jv], -1 << (jv + 1),
+                    (1 << ju, family_u[ju], -1 << (ju + 1), 1 << jv, family_v[jv],
+                     -1 << (jv + 1),
                      eu * ev > 0)
                     for ju, eu in rows(mask, 0) for jv, ev in rows(mask, 1)]
         return expansions[mask]
@@ -451,21 +620,35 @@ def _sum(values: list[Poly]) -> Poly:
     return heap[0][2]
 
 
+Modification = tuple | None
+"""A change of one border for a transfer (ControlledForestSolution._expand)."""
+
+
 class ControlledForestSolution(ForestSolution):
-    """Transfers of a network with controlled current sources (module docstring)."""
+    """Transfers of a network with controlled sources and bordered unknowns (module
+    docstring)."""
 
     def __init__(self, network: Network, shorted: Mapping[str, tuple[str, str]],
                  tested: Mapping[str, tuple[str, str]],
                  fallback: Callable[[], MnaSolution], two_graph: TwoGraph) -> None:
         super().__init__(network, shorted, tested, fallback)
         self.controls = two_graph.controls
-        # a controlled source is an excitation only through its constant part; a
-        # controlled voltage source is no excitation (its constant sends it to elimination)
+        self.rank_one = two_graph.rank_one
+        self.borders = two_graph.borders
+        self.impedance = dict(two_graph.impedance)
+        self.border_of = {b.element: t for t, b in enumerate(self.borders)}
+        # a controlled source is an excitation only through its constant part; a voltage
+        # source that is a border is not merged away but excites its own row
+        self.bordered: dict[str, int] = {}
         for name, source in network.sources.items():
+            if name in self.border_of:
+                self.voltages.pop(name, None)
+                if source.constant is not None:
+                    self.bordered[name] = self.border_of[name]
             if not source.independent and source.constant is None:
                 self.currents.pop(name, None)
                 self.voltages.pop(name, None)
-        self.norators = {x for k in self.controls if k.norator for x in (k.a, k.b)}
+        self.norators = {x for b in self.borders for a, bb, _ in b.column for x in (a, bb)}
         self._determinants: dict[tuple, Poly] = {}
 
     def check(self) -> None:
@@ -473,54 +656,135 @@ class ControlledForestSolution(ForestSolution):
         if self.ring.is_zero(self._determinant(None, None)):
             self._delegate().check()
 
+    def _graph(self, without: str | None) -> tuple[_Contraction, list]:
+        """As ForestSolution's, without the coupled inductors (they are borders)."""
+        if without not in self._graphs:
+            joins = [ab for name, ab in self.voltages.items() if name != without]
+            merged = _Contraction(self.nodes, joins)
+            edges = []
+            for b in self.network.branches.values():
+                u, v = merged.find(b.a), merged.find(b.b)
+                if u != v and b.name not in self.border_of:
+                    edges.append((u, v, b.inward, b.outward))
+            self._graphs[without] = (merged, edges)
+        return self._graphs[without]
+
     # -- the expansion
     def _determinant(self, without: str | None,
-                     extra: tuple[tuple[str, str], tuple[str, str]] | None) -> Poly:
+                     extra: tuple[tuple[str, str], tuple[str, str]] | None,
+                     row: Modification = None, column: Modification = None) -> Poly:
         """det M of the graph without `without` (times the weights' denominators) or, with
-        `extra` = ((a, b), (c, d)), its coefficient of x after adding x·u·vᵀ."""
-        key = (without, extra)
+        `extra` = ((a, b), (c, d)), its coefficient of x after adding x·u·vᵀ; `row` =
+        (t, (c, d)) replaces border t's row by V(c, d) (Cramer's rule for an excitation of
+        that row), `column` = (t, what) border t's column by what drives the transfer:
+        ("pair", a, b), a current; ("border", s), border s's row; ("extra",), the row of
+        the voltage excitation `extra`, then a border of its own."""
+        key = (without, extra, row, column)
         if key not in self._determinants:
-            self._determinants[key] = self._expand(without, extra)
+            self._determinants[key] = self._expand(without, extra, row, column)
         return self._determinants[key]
 
     def _expand(self, without: str | None,
-                extra: tuple[tuple[str, str], tuple[str, str]] | None) -> Poly:
+                extra: tuple[tuple[str, str], tuple[str, str]] | None,
+                row: Modification, column: Modification) -> Poly:
         ring = self.ring
+        one = ring.one
         merged, edges = self._graph(without)
         find = merged.find
-        pairs = [((find(k.a), find(k.b)), (find(k.c), find(k.d)), k.numerator, k.denominator)
-                 for k in self.controls]
-        groups = [k.group for k in self.controls]
+        borders = list(self.borders)
+        impedance = dict(self.impedance)
+        if row is not None:
+            s, (c, d) = row
+            borders[s] = replace(borders[s], row=((c, d, one),))
+            impedance = {k: v for k, v in impedance.items() if k[0] != s}
+        if column is not None:
+            t, what = column
+            if "extra" in (t, what[0]):  # the voltage excitation becomes a border
+                (p, n), _ = extra
+                borders.append(Border("", ((p, n, one),), ((p, n, one),), 1, one, one))
+                extra = None
+                t = len(borders) - 1 if t == "extra" else t
+            impedance = {k: v for k, v in impedance.items() if k[1] != t}
+            if what[0] == "pair":
+                borders[t] = replace(borders[t], column=((what[1], what[2], one),))
+            else:
+                source = len(borders) - 1 if what[0] == "extra" else what[1]
+                borders[t] = replace(borders[t], column=())
+                impedance[source, t] = one
+        # the columns of the walk: rank-one controls, groups (borders outside blocks,
+        # and the transfer's extra), and the pairs of each block
+        pairs: list[tuple[tuple[str, str], tuple[str, str]]] = []
+        weights: list[Poly] = []
+        for k in self.rank_one:
+            pairs.append(((find(k.a), find(k.b)), (find(k.c), find(k.d))))
+        members = bordered.blocks(len(borders), impedance)
+        inside = {t for block in members for t in block}
+        groups: list[list[int]] = []
+        for t, border in enumerate(borders):
+            if t in inside:
+                continue
+            js = []
+            for a, b, alpha in border.column:
+                for c, d, beta in border.row:
+                    js.append(len(pairs))
+                    pairs.append(((find(a), find(b)), (find(c), find(d))))
+                    weights.append(alpha * beta)
+            if not js:
+                return ring.zero  # a border with no column or no row
+            groups.append(js)
         if extra is not None:
             (a, b), (c, d) = extra
-            groups.append(max((g for g in groups if g is not None), default=-1) + 1)
-            pairs.append(((find(a), find(b)), (find(c), find(d)), ring.one, ring.one))
-        members: dict[int, list[int]] = {}
-        for j, g in enumerate(groups):
-            if g is not None:
-                members.setdefault(g, []).append(j)
+            groups.append([len(pairs)])
+            pairs.append(((find(a), find(b)), (find(c), find(d))))
+            weights.append(one)
+        expansions = []  # (block, {j: (column, row)})
+        exclusive: dict[int, tuple[int, int]] = {}
+        for block_members in members:
+            block = bordered.Block(ring, block_members, impedance)
+            tags: dict[int, tuple[int, int]] = {}
+            for t, r in sorted(block.pairs):
+                for a, b, alpha in borders[t].column:
+                    for c, d, beta in borders[r].row:
+                        tags[len(pairs)] = (t, r)
+                        pairs.append(((find(a), find(b)), (find(c), find(d))))
+                        weights.append(alpha * beta)
+            for j, (t, r) in tags.items():
+                same_column = sum(1 << i for i, (x, _) in tags.items() if x == t)
+                same_row = sum(1 << i for i, (_, y) in tags.items() if y == r)
+                exclusive[j] = (same_column, same_row)
+            expansions.append((block, tags))
+        start = len(self.rank_one)
         # a group is in every term: a pair all its members share joins two trees, so its
         # two nodes end in different trees
         apart = []
-        for js in members.values():
+        for js in groups:
             for side in (0, 1):
                 if len({pairs[j][side] for j in js}) == 1:
                     apart.append(pairs[js[0]][side])
         if any(x == y for x, y in apart):
             return ring.zero
-        masks = [sum(1 << j for j in js) for js in members.values()]
+        masks = [sum(1 << j for j in js) for js in groups]
         ground = find(REFERENCE)
         nodes = sorted({find(n) for n in self.nodes})
-        sums = signed_forest_sum(nodes, edges, ground, [(ab, cd) for ab, cd, _, _ in pairs],
-                                 apart, ring.one, masks)
+        sums = signed_forest_sum(nodes, edges, ground, pairs, apart, one, masks, exclusive)
         parts = []
         for chosen, value in sorted(sums.items()):
             if not all(chosen & mask for mask in masks):
                 continue
-            factor = ring.one
-            for j, (_, _, num, den) in enumerate(pairs):
-                factor = factor * (num if chosen >> j & 1 else den)
-            parts.append(value * factor)
+            factor = one
+            for j, k in enumerate(self.rank_one):
+                factor = factor * (k.numerator if chosen >> j & 1 else k.denominator)
+            for j in range(start, len(pairs)):
+                if chosen >> j & 1:
+                    factor = factor * weights[j - start]
+            for block, tags in expansions:
+                coefficient = block.coefficient([tag for j, tag in tags.items()
+                                                 if chosen >> j & 1])
+                if coefficient is None:
+                    break
+                factor = factor * coefficient
+            else:
+                parts.append(value * factor)
         return _sum(parts) if parts else ring.zero
 
     # -- transfers
@@ -537,6 +801,16 @@ class ControlledForestSolution(ForestSolution):
                 return None
             num = self._determinant(excitation, ((p, n), (c, d)))
             return RationalFunction(num, den, self.ring)
+        if excitation in self.bordered:  # Cramer's rule on the border's row
+            t = self.bordered[excitation]
+            merged, _ = self._graph(None)
+            if merged.find(c) == merged.find(d):
+                return self._zero()
+            den = self._determinant(None, None)
+            if self.ring.is_zero(den):
+                return None
+            num = self._determinant(None, None, row=(t, (c, d)))
+            return RationalFunction(num * self.borders[t].row_scale, den, self.ring)
         if excitation in self.currents:
             a, b = self.currents[excitation]
             merged, _ = self._graph(None)
@@ -551,12 +825,42 @@ class ControlledForestSolution(ForestSolution):
 
     def _transfer(self, measure: Measure, excitation: str) -> RationalFunction | None:
         if isinstance(measure, Current):
+            if measure.element in self.border_of:
+                return self._border_current(self.border_of[measure.element], excitation)
             source = self.network.sources.get(measure.element)
             if source is not None and not source.independent:
-                if source.kind == "voltage":
-                    return None  # a nullor's current: elimination finds it
                 return self._controlled_current(measure.element, excitation)
         return super()._transfer(measure, excitation)
+
+    def _border_current(self, t: int, excitation: str) -> RationalFunction | None:
+        """A bordered unknown current by Cramer's rule: its column replaced by what drives
+        the transfer, over det M."""
+        border = self.borders[t]
+        factor = border.scale * border.sign
+        if excitation in self.voltages:
+            p, n = self.voltages[excitation]
+            merged, _ = self._graph(excitation)
+            if merged.find(p) == merged.find(n):
+                return None
+            den = self._determinant(excitation, ((p, n), (p, n)))
+            column = ("extra",)
+        else:
+            den = self._determinant(None, None)
+            if excitation in self.bordered:
+                s = self.bordered[excitation]
+                factor = factor * self.borders[s].row_scale
+                column = ("border", s)
+            elif excitation in self.currents:
+                column = ("pair", *self.currents[excitation])
+            else:
+                return self._zero()
+        if self.ring.is_zero(den):
+            return None
+        if excitation in self.voltages:
+            num = self._determinant(excitation, ((p, n), (p, n)), column=(t, column))
+        else:
+            num = self._determinant(None, None, column=(t, column))
+        return RationalFunction(num * factor, den, self.ring)
 
     def _controlled_current(self, name: str, excitation: str) -> RationalFunction | None:
         """I(X) of a controlled current source: minus its value (it drives it into a)."""
@@ -583,12 +887,27 @@ class ControlledForestSolution(ForestSolution):
             if self.ring.is_zero(den):
                 return None
             return RationalFunction(-self._determinant(name, None), den, self.ring)
+        # Cramer's rule with the source as a border: its column replaced by the excitation
+        merged, _ = self._graph(name)
+        if merged.find(p) != merged.find(n) and (excitation in self.currents
+                                                 or excitation in self.bordered):
+            den = self._determinant(name, ((p, n), (p, n)))
+            if self.ring.is_zero(den):
+                return None
+            if excitation in self.currents:
+                num = self._determinant(name, (self.currents[excitation], (p, n)))
+            else:
+                t = self.bordered[excitation]
+                num = self._determinant(name, ((p, n), (p, n)),
+                                        column=("extra", ("border", t)))
+                num = num * self.borders[t].row_scale
+            return RationalFunction(num, den, self.ring)
         # the current balance at a terminal that no other voltage-type element touches
         network = self.network
         for node, sign in ((p, 1), (n, -1)):
             if any(node in ab for other, ab in self.voltages.items() if other != name):
                 continue
-            if node in self.norators:  # an opamp's or a controlled voltage's output
+            if node in self.norators:  # a border's terminal (an opamp's output ...)
                 continue
             total = self._zero()
             if excitation in self.currents and excitation not in network.sources:
@@ -606,4 +925,3 @@ class ControlledForestSolution(ForestSolution):
                 total = total - current if node == a else total + current
             return total if sign == 1 else -total
         return None
-

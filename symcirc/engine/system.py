@@ -78,10 +78,9 @@ def _solve(circuit: Circuit, network: Network, shorted: frozenset[str], path: Pa
             return ForestSolution(network, short, tested, eliminate)
         two_graph = controlled.controls_of(network)
         if two_graph is None:
-            raise ValueError("the spanning-forest path needs a network without couplings, "
-                             "controlled voltage sources with a constant part, controls by "
-                             f"a source's current, or more than {controlled.MAX_CONTROLS} "
-                             "controls")
+            raise ValueError("the spanning-forest path needs a network without controls by "
+                             "a current source's current, controls reading each other in "
+                             f"a circle, or more than {controlled.MAX_CONTROLS} controls")
         return controlled.ControlledForestSolution(network, short, tested, eliminate,
                                                    two_graph)
     return eliminate()
