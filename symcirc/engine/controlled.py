@@ -301,9 +301,11 @@ def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | N
     the spanning trees of either graph (Kirchhoff's count, exact and cheap) times the
     largest term count of each coefficient. Every transfer of the network has that
     determinant, or one of its size, as denominator, whichever path derives it. A block
-    of borders (engine.bordered) adds, for each choice of its columns T and rows R̄, the
-    trees of the graphs with those pairs as edges times the terms of its Z minor. The
-    count is skipped when choosing the edges of a tree is already few enough."""
+    of borders (engine.bordered) puts its column pairs in the current graph and its row
+    pairs in the voltage graph; a tree of one fixes the block's columns T (or rows R̄),
+    and each choice of the other side that has a nonzero Z minor brings the minor's terms
+    and its pairs' coefficients. The count is skipped when choosing the edges of a tree
+    is already few enough."""
     two_graph = controls_of(network, limit=None)
     if two_graph is None or not two_graph.controls:
         return None
@@ -317,71 +319,59 @@ def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | N
              if s.kind == "voltage" and s.independent and s.name not in named]
     everything = (REFERENCE, *network.nodes)
     passive = [(b.a, b.b) for b in network.branches.values() if b.name not in named]
-    graphs = []  # per side: (nodes, edges, block pairs by border, merge)
+    graphs = []
     for side in (0, 1):  # the current graph, then the voltage graph
         merged_pairs, edges = [], list(passive)
         edges += [(k.a, k.b) if side == 0 else (k.c, k.d) for k in two_graph.rank_one]
         for t, border in enumerate(borders):
-            if t in inside:
-                continue
             pairs = {(a, b) for a, b, _ in (border.column if side == 0 else border.row)}
-            # a pair in every tree is merged, as the sources are; a group's alternatives
-            # are edges (a tree holds one of them)
-            (merged_pairs if len(pairs) == 1 else edges).extend(pairs)
+            # a group's pair in every tree is merged, as the sources are; other pairs are
+            # edges (a tree holds one of a group's, or of a block column's, or none)
+            if t not in inside and len(pairs) == 1:
+                merged_pairs.extend(pairs)
+            else:
+                edges.extend(pairs)
         merged = _Contraction(everything, [*joins, *shorted, *merged_pairs])
-        nodes = sorted({merged.find(n) for n in everything})
-
-        def inner(pairs, merged=merged):
-            found = [(merged.find(u), merged.find(v)) for u, v in pairs]
-            return [(u, v) for u, v in found if u != v]
-
-        own = {t: inner([(a, b) for a, b, _ in
-                         (borders[t].column if side == 0 else borders[t].row)])
-               for t in inside}
-        graphs.append((nodes, inner(edges), own))
+        edges = [(merged.find(u), merged.find(v)) for u, v in edges]
+        graphs.append((sorted({merged.find(n) for n in everything}),
+                       [(u, v) for u, v in edges if u != v]))
     weight = 1
     for k in two_graph.rank_one:
         weight *= max(ring.nterms(k.numerator), ring.nterms(k.denominator))
     for t, border in enumerate(borders):
         if t not in inside:
             weight *= max(ring.nterms(a * b) for *_, a in border.column for *_, b in border.row)
-        else:
-            weight *= max(ring.nterms(a) for *_, a in border.column) if border.column else 1
-            weight *= max(ring.nterms(b) for *_, b in border.row) if border.row else 1
-    # the blocks' choices (T, R̄) and the terms of their minors
-    choices: dict[tuple[frozenset[int], frozenset[int]], int] = {(frozenset(), frozenset()): 1}
+    # a tree of one graph fixes a block's columns T (or rows R̄); the other side's choices
+    # each bring their minor's terms and their pairs' coefficients
+    sides = [1, 1]
     for block in block_list:
-        mine = []
-        for m in range(len(block.members) + 1):
-            for taken in combinations(block.members, m):
-                for rows in combinations(block.members, m):
-                    factor = block.factor(taken, rows)
-                    if factor is not None:
-                        mine.append((frozenset(taken), frozenset(rows), ring.nterms(factor)))
-        choices = {(t0 | t1, r0 | r1): n0 * n1
-                   for (t0, r0), n0 in choices.items() for t1, r1, n1 in mine}
+        for side in (0, 1):
+            most = 0
+            for m in range(len(block.members) + 1):
+                for fixed in combinations(block.members, m):
+                    total = 0
+                    for other in combinations(block.members, m):
+                        taken, rows = (fixed, other) if side == 0 else (other, fixed)
+                        factor = block.factor(taken, rows)
+                        if factor is None:
+                            continue
+                        terms = ring.nterms(factor)
+                        for t in taken:
+                            terms *= sum(ring.nterms(a) for *_, a in borders[t].column)
+                        for r in rows:
+                            terms *= sum(ring.nterms(b) for *_, b in borders[r].row)
+                        total += terms
+                    most = max(most, total)
+            sides[side] *= most
 
-    def count(side: int, chosen: frozenset[int], exact: bool) -> int:
-        nodes, edges, own = graphs[side]
-        edges = edges + [e for t in sorted(chosen) for e in own[t]]
-        if not exact:
-            return comb(len(edges), max(len(nodes) - 1, 0))
-        return spanning_trees(nodes, edges)
+    def bound_by(count: Callable[[list[str], list[tuple[str, str]]], int]) -> int:
+        return min(count(nodes, edges) * factor
+                   for (nodes, edges), factor in zip(graphs, sides, strict=True)) * weight
 
-    def total(exact: bool) -> int:
-        cache: dict[tuple[int, frozenset[int]], int] = {}
-        bound = 0
-        for (taken, rows), terms in choices.items():
-            for key in ((0, taken), (1, rows)):
-                if key not in cache:
-                    cache[key] = count(*key, exact)
-            bound += min(cache[0, taken], cache[1, rows]) * terms
-        return bound * weight
-
-    bound = total(exact=False)
+    bound = bound_by(lambda nodes, edges: comb(len(edges), max(len(nodes) - 1, 0)))
     if bound <= EXACT_COUNT_FROM:
         return bound
-    bound = total(exact=True)
+    bound = bound_by(spanning_trees)
     if bound > MAX_COMMON_TREES:
         from ..model.units import eng
 
