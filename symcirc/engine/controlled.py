@@ -1,4 +1,4 @@
-"""Networks with controlled current sources solved by forest sums (the two-graph method).
+"""Networks with controlled sources solved by forest sums (the two-graph method).
 
 The nodal matrix of such a network is M = Y + Σ_j w_j·u_j·v_jᵀ: Y the admittance matrix
 of its passive part and, for each control j of a current source X (a, b) = g·V(c, d),
@@ -33,7 +33,14 @@ ideal opamp is a nullor, one control every term holds (norator (out, ref), nulla
 (p, n)); a gain's output V(a, b) = Σ k_i·V(c_i, d_i) (a finite-gain opamp, a controlled
 voltage source) is a group of controls on the current pair (a, b), one per term of its
 equation, of which every term holds exactly one; an ideal transformer's column and row
-are both (p1, n1) − N·(p2, n2), a group of four.
+are both (p1, n1) − N·(p2, n2), a group of four. A voltage source whose current a control
+reads is a border too (column and row (p, n)), and the controlled current source adds
+its pair to that column. Coupled inductors (−s·L and −s·M between their rows) and a
+controlled voltage source reading a bordered current (−r in its row) give the borders a
+Z block, expanded by engine.bordered: its columns and rows are then controls a term holds
+at most one of each, matched in order. An excitation of a border's row (a controlled
+voltage source's constant part, a read voltage source) and a bordered current follow by
+Cramer's rule: the row, or the column, replaced by what drives the transfer.
 """
 
 from __future__ import annotations
@@ -112,7 +119,7 @@ class TwoGraph:
         for t, border in enumerate(self.borders):
             for a, b, alpha in border.column:
                 for c, d, beta in border.row:
-                    found.append(Control(a, b, c, d, alpha * beta, border.scale ** 0, t))
+                    found.append(Control(a, b, c, d, alpha * beta, alpha ** 0, t))
         return tuple(found)
 
 
@@ -739,9 +746,11 @@ class ControlledForestSolution(ForestSolution):
                         pairs.append(((find(a), find(b)), (find(c), find(d))))
                         weights.append(alpha * beta)
             for j, (t, r) in tags.items():
-                same_column = sum(1 << i for i, (x, _) in tags.items() if x == t)
+                # a column or a row once, and no two pairs matched out of order
+                clash = sum(1 << i for i, (x, y) in tags.items()
+                            if x == t or (x - t) * (y - r) < 0)
                 same_row = sum(1 << i for i, (_, y) in tags.items() if y == r)
-                exclusive[j] = (same_column, same_row)
+                exclusive[j] = (clash, same_row)
             expansions.append((block, tags))
         start = len(self.rank_one)
         # a group is in every term: a pair all its members share joins two trees, so its

@@ -10,7 +10,8 @@ Passive networks are solved topologically (engine.topological: spanning-forest s
 cancellation), and so are networks whose only active elements are current sources
 controlled by voltages or by passive elements' currents (engine.controlled: the same sums
 signed by the two-graph method); everything else by elimination (engine.mna), though
-the forest path takes opamps, controlled voltage sources and transformers when asked.
+the forest path takes opamps, controlled voltage sources, transformers, coupled
+inductors and controls by a voltage source's current when asked.
 All give the same canonical functions; `path` forces one (for tests and benchmarks).
 Every active network's determinant is bounded first, and one too large is refused.
 """

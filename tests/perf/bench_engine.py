@@ -18,8 +18,10 @@ on a strain-gauge full bridge with lead resistances.
 
 A second table times the active families on both solution paths (the spanning-forest path
 with the two-graph method, and elimination), engine only, in µs per output term beside
-the passive ladder's at the nearest output size, with the default path marked; then the
-time the size guard takes to refuse the 20-section controlled-source ladder.
+the passive ladder's at the nearest output size, with the default path marked (the
+coupled families: a sensor channel's band-pass of coupled resonators, and double-tuned
+stages; past MAX_CONTROLS the forest path is built directly); then the time the size
+guard takes to refuse the 20-section controlled-source ladder.
 """
 
 from __future__ import annotations
@@ -109,6 +111,35 @@ def controlled_ladder(n: int) -> tuple[str, list[str]]:
                   f"capacitor C{i} (n{i}, gnd)",
                   f"current source Ibeta{i} (n{i}, gnd) = gm{i}*V(n{i - 1})"]
     lines.append(f"port out (n{n}, gnd)")
+    return "\n".join(lines) + "\n", ["gain(Uin, out)"]
+
+
+def coupled_resonators(n: int) -> tuple[str, list[str]]:
+    """The input band-pass of a data logger's sensor channel: n parallel LC resonators
+    with losses Rp_i, each magnetically coupled to the next (k_i), source resistance Rs
+    and load RL: one block of n coupled inductors."""
+    lines = ["voltage source Uin (r0, gnd)", "resistor Rs (r0, r1)"]
+    for i in range(1, n + 1):
+        lines += [f"inductor L{i} (r{i}, gnd)", f"capacitor C{i} (r{i}, gnd)",
+                  f"resistor Rp{i} (r{i}, gnd)"]
+    lines += [f"coupling k{i} (L{i}, L{i + 1})" for i in range(1, n)]
+    lines += [f"resistor RL (r{n}, gnd)", f"port out (r{n}, gnd)"]
+    return "\n".join(lines) + "\n", ["gain(Uin, out)"]
+
+
+def tuned_stages(n: int) -> tuple[str, list[str]]:
+    """n double-tuned stages of the same channel: a tuned primary La_i ∥ Ca_i coupled to a
+    loaded tuned secondary Lb_i ∥ Cb_i ∥ Rb_i, whose voltage drives the next primary
+    through a transconductance gm_i into Ro_i: n blocks of two coupled inductors."""
+    lines = ["voltage source Uin (t0, gnd)", "resistor Rs (t0, p1)"]
+    for i in range(1, n + 1):
+        following = f"p{i + 1}" if i < n else "t1"
+        lines += [f"param gm{i}", f"inductor La{i} (p{i}, gnd)", f"capacitor Ca{i} (p{i}, gnd)",
+                  f"inductor Lb{i} (q{i}, gnd)", f"capacitor Cb{i} (q{i}, gnd)",
+                  f"resistor Rb{i} (q{i}, gnd)", f"coupling k{i} (La{i}, Lb{i})",
+                  f"current source Igm{i} ({following}, gnd) = gm{i}*V(q{i})",
+                  f"resistor Ro{i} ({following}, gnd)"]
+    lines.append("port out (t1, gnd)")
     return "\n".join(lines) + "\n", ["gain(Uin, out)"]
 
 
@@ -449,15 +480,28 @@ def active_paths(rows: dict, quick: bool) -> float:
     in µs per output term beside the passive ladder's at the nearest output size, and the
     time the size guard takes to refuse the 20-section controlled-source ladder."""
     import symcirc
+    from symcirc.engine.controlled import ControlledForestSolution, controls_of
     from symcirc.engine.mna import Voltage
+    from symcirc.engine.network import build_network
     from symcirc.engine.system import solution
+
+    def solve(circuit, path: str):
+        """The solution on `path`; on the forest path past MAX_CONTROLS, built directly."""
+        try:
+            return solution(circuit, path=path)
+        except ValueError:
+            network = build_network(circuit)
+            return ControlledForestSolution(network, {}, {}, None,
+                                            controls_of(network, limit=None))
 
     print("active circuits on both paths (engine only, best of 3; the default path marked *):")
     print(f"{'family':12} {'size':>4} {'terms':>8} {'forest s':>9} {'µs/term':>8} "
           f"{'elim. s':>9} {'µs/term':>8} {'passive µs/term (terms)':>24}")
     families = {"ce": (ce_stages, "c", range(1, 3 if quick else 5)),
                 "opamp_chain": (opamp_chain, "o{k}", range(1, 3 if quick else 7)),
-                "ctl_ladder": (controlled_ladder, "n{k}", range(4, 6 if quick else 13))}
+                "ctl_ladder": (controlled_ladder, "n{k}", range(4, 6 if quick else 13)),
+                "resonators": (coupled_resonators, "r{k}", range(2, 4 if quick else 7)),
+                "tuned": (tuned_stages, "t1", range(1, 3 if quick else 6))}
     for family, (build, node, sizes) in families.items():
         for size in sizes:
             text, _ = build(size)
@@ -471,7 +515,7 @@ def active_paths(rows: dict, quick: bool) -> float:
                 for _ in range(3 if size < 10 else 1):
                     circuit = symcirc.parse(text)
                     start = time.perf_counter()
-                    value = solution(circuit, path=path).transfer(measure, "Uin")
+                    value = solve(circuit, path).transfer(measure, "Uin")
                     best = min(best, time.perf_counter() - start)
                 times[path] = best
             default = type(solution(symcirc.parse(text))).__name__
