@@ -342,38 +342,52 @@ def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | N
         edges = [(merged.find(u), merged.find(v)) for u, v in edges]
         graphs.append((sorted({merged.find(n) for n in everything}),
                        [(u, v) for u, v in edges if u != v]))
+    def fixed(alternatives) -> int:
+        """Terms of a column's (or row's) coefficients once a tree holds one of its pairs."""
+        by_pair: dict[tuple[str, str], int] = {}
+        for a, b, value in alternatives:
+            by_pair[a, b] = by_pair.get((a, b), 0) + ring.nterms(value)
+        return max(by_pair.values(), default=1)
+
+    def free(alternatives) -> int:
+        """Terms of a column's (or row's) coefficients that the tree leaves to choose."""
+        return sum(ring.nterms(value) for *_, value in alternatives) or 1
+
     weight = 1
     for k in two_graph.rank_one:
         weight *= max(ring.nterms(k.numerator), ring.nterms(k.denominator))
+    # a tree of the current graph fixes a group's column pair, not its row's (a finite
+    # gain's output with the terms of its equation): those it leaves are all counted
+    sides = [weight, weight]
     for t, border in enumerate(borders):
         if t not in inside:
-            weight *= max(ring.nterms(a * b) for *_, a in border.column for *_, b in border.row)
+            sides[0] *= fixed(border.column) * free(border.row)
+            sides[1] *= free(border.column) * fixed(border.row)
     # a tree of one graph fixes a block's columns T (or rows R̄); the other side's choices
     # each bring their minor's terms and their pairs' coefficients
-    sides = [1, 1]
     for block in block_list:
         for side in (0, 1):
             most = 0
             for m in range(len(block.members) + 1):
-                for fixed in combinations(block.members, m):
+                for held in combinations(block.members, m):
                     total = 0
                     for other in combinations(block.members, m):
-                        taken, rows = (fixed, other) if side == 0 else (other, fixed)
+                        taken, rows = (held, other) if side == 0 else (other, held)
                         factor = block.factor(taken, rows)
                         if factor is None:
                             continue
                         terms = ring.nterms(factor)
                         for t in taken:
-                            terms *= sum(ring.nterms(a) for *_, a in borders[t].column)
+                            terms *= (fixed if side == 0 else free)(borders[t].column)
                         for r in rows:
-                            terms *= sum(ring.nterms(b) for *_, b in borders[r].row)
+                            terms *= (free if side == 0 else fixed)(borders[r].row)
                         total += terms
                     most = max(most, total)
             sides[side] *= most
 
     def bound_by(count: Callable[[list[str], list[tuple[str, str]]], int]) -> int:
         return min(count(nodes, edges) * factor
-                   for (nodes, edges), factor in zip(graphs, sides, strict=True)) * weight
+                   for (nodes, edges), factor in zip(graphs, sides, strict=True))
 
     bound = bound_by(lambda nodes, edges: comb(len(edges), max(len(nodes) - 1, 0)))
     if bound <= EXACT_COUNT_FROM:

@@ -297,3 +297,36 @@ def test_networks_beyond_the_forest_path_go_to_elimination():
                             "current source Ib (o, gnd) = g*I(J)\nresistor R2 (o, gnd)\n")
     assert controls_of(build_network(circuit)) is None
     assert isinstance(solution(circuit), MnaSolution)
+
+
+def _gain_chain(k: int) -> str:
+    """k inverting stages of finite-gain opamps (a gain's row has two terms)."""
+    lines = ["voltage source Uin (o0, gnd)"]
+    for i in range(1, k + 1):
+        lines += [f"param A{i}", f"resistor Ri{i} (o{i - 1}, n{i})",
+                  f"resistor Rf{i} (n{i}, o{i})", f"capacitor Cf{i} (n{i}, o{i})",
+                  f"resistor Ro{i} (o{i}, gnd)", f"opamp X{i} (gnd, n{i}, o{i}) = A{i}"]
+    return "\n".join(lines) + "\n"
+
+
+def _sense_chain(k: int) -> str:
+    """k stages, each sensing its input current with a 0 V source mirrored onward."""
+    lines = ["voltage source Uin (x0, gnd)"]
+    for i in range(1, k + 1):
+        lines += [f"param m{i}", f"resistor Ri{i} (x{i - 1}, s{i})",
+                  f"capacitor Cs{i} (s{i}, gnd)", f"voltage source Us{i} (s{i}, z{i}) = 0 V",
+                  f"resistor Rz{i} (z{i}, gnd)",
+                  f"current source Im{i} (x{i}, gnd) = m{i}*I(Us{i})",
+                  f"resistor Ro{i} (x{i}, gnd)", f"capacitor Co{i} (x{i}, x{i - 1})"]
+    return "\n".join(lines) + "\n"
+
+
+@pytest.mark.parametrize(("text", "node", "terms"), [(_gain_chain(7), "o7", 78125),
+                                                     (_sense_chain(4), "x4", 6504)])
+def test_the_size_bound_counts_every_term_a_tree_leaves_free(text, node, terms):
+    """A tree holding a gain's output pair leaves its equation's terms free (and one holding
+    a sensing source's row, the columns of the sources that read it): each is counted."""
+    circuit = symcirc.parse(text)
+    denominator = solution(circuit, path="elimination").transfer(Voltage(node, "gnd"), "Uin")
+    assert denominator.size()[1] == terms
+    assert terms_bound(build_network(circuit), []) >= terms
