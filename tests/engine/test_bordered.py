@@ -16,6 +16,7 @@ import pytest
 import sympy
 
 import symcirc
+from symcirc.engine.bordered import MAX_BLOCK
 from symcirc.engine.controlled import ControlledForestSolution, controls_of, terms_bound
 from symcirc.engine.mna import Current, MnaSolution, Voltage, port_excitation
 from symcirc.engine.network import build_network
@@ -262,16 +263,26 @@ def test_a_controlled_voltage_source_with_a_constant_part_excites_its_row():
     assert forest.transfer(Voltage("o", "gnd"), "U").to_text() == "k*R2/(R2 + Ro)"
 
 
-@pytest.mark.parametrize("path", ["tests/valid/sources_controls.circuit",
-                                  "tests/valid/transistor_stages.circuit"])
-def test_corpus_files_with_couplings_and_current_controls_agree(path):
+def _active_corpus() -> list[str]:
+    """The example and valid corpus files with an active element."""
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parents[2]
+    files = sorted([*root.glob("examples/*.circuit"), *root.glob("tests/valid/*.circuit")])
+    return [pytest.param(str(f), id=f.name) for f in files
+            if not build_network(symcirc.load(str(f))).is_passive]
+
+
+@pytest.mark.parametrize("path", _active_corpus())
+def test_corpus_files_with_active_elements_agree(path):
     circuit = symcirc.load(path)
     forest = _forest(circuit)
     eliminated = _solve(circuit, build_network(circuit), frozenset(), "elimination")
-    excitations = list(eliminated.equations.rhs)[:2]
+    excitations = list(eliminated.equations.rhs)[:3]
     measures = [Voltage(x, "gnd") for x in circuit.nodes if x != "gnd"][-6:]
     measures += [Current(x) for x, e in circuit.elements.items()
                  if e.kind in ("inductor", "voltage source")][:4]
+    assert measures and excitations
     for excitation in excitations:
         for measure in measures:
             assert (forest.transfer(measure, excitation).to_text()
@@ -292,11 +303,19 @@ def test_the_size_bound_covers_coupled_networks(seed):
 
 
 def test_networks_beyond_the_forest_path_go_to_elimination():
-    """A control reading an independent current source (its value is an excitation)."""
+    """A control reading an independent current source (its value is an excitation), and a
+    block of more coupled inductors than bordered.MAX_BLOCK."""
     circuit = symcirc.parse("param g\ncurrent source J (a, gnd)\nresistor R1 (a, gnd)\n"
                             "current source Ib (o, gnd) = g*I(J)\nresistor R2 (o, gnd)\n")
     assert controls_of(build_network(circuit)) is None
     assert isinstance(solution(circuit), MnaSolution)
+    lines = ["voltage source U (r0, gnd)", "resistor Rs (r0, r1)"]
+    for i in range(1, MAX_BLOCK + 2):
+        lines += [f"inductor L{i} (r{i}, gnd)", f"capacitor C{i} (r{i}, gnd)"]
+    lines += [f"coupling k{i} (L{i}, L{i + 1})" for i in range(1, MAX_BLOCK + 1)]
+    chain = symcirc.parse("\n".join(lines) + "\n")
+    assert controls_of(build_network(chain), limit=None) is None
+    assert terms_bound(build_network(chain), []) is None
 
 
 def _gain_chain(k: int) -> str:
