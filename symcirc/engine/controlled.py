@@ -332,9 +332,11 @@ def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | N
         edges += [(k.a, k.b) if side == 0 else (k.c, k.d) for k in two_graph.rank_one]
         for t, border in enumerate(borders):
             pairs = {(a, b) for a, b, _ in (border.column if side == 0 else border.row)}
-            # a group's pair in every tree is merged, as the sources are; other pairs are
-            # edges (a tree holds one of a group's, or of a block column's, or none)
-            if t not in inside and len(pairs) == 1:
+            # a pair in every tree is merged, as the sources are: a group's single pair, or
+            # a block's column (row) without Z entries; other pairs are edges (a tree holds
+            # one of a group's, or of a block column's, or none)
+            always = t not in inside or not any(key[1 - side] == t for key in impedance)
+            if always and len(pairs) == 1:
                 merged_pairs.extend(pairs)
             else:
                 edges.extend(pairs)
@@ -766,6 +768,11 @@ class ControlledForestSolution(ForestSolution):
                 same_row = sum(1 << i for i, (_, y) in tags.items() if y == r)
                 exclusive[j] = (clash, same_row)
             expansions.append((block, tags))
+            # a column without Z entries is in every term, as a group's pair is (the walk
+            # takes groups apart from each other: columns only, not rows as well)
+            for t in block_members:
+                if not any(key[1] == t for key in impedance):
+                    groups.append([j for j, (x, _) in tags.items() if x == t])
         start = len(self.rank_one)
         # a group is in every term: a pair all its members share joins two trees, so its
         # two nodes end in different trees
