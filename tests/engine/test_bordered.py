@@ -349,3 +349,15 @@ def test_the_size_bound_counts_every_term_a_tree_leaves_free(text, node, terms):
     denominator = solution(circuit, path="elimination").transfer(Voltage(node, "gnd"), "Uin")
     assert denominator.size()[1] == terms
     assert terms_bound(build_network(circuit), []) >= terms
+
+
+@pytest.mark.parametrize("backend", ["flint", "sympy"])
+def test_both_polynomial_backends_expand_the_blocks_alike(monkeypatch, backend):
+    monkeypatch.setenv("SYMCIRC_POLYNOMIALS", backend)
+    text, *_ = _random_bordered(random.Random(5))
+    circuit = symcirc.parse(text)
+    forest, eliminated = _forest(circuit), solution(circuit, path="elimination")
+    for node in [x for x in circuit.nodes if x != "gnd"]:
+        a = forest.transfer(Voltage(node, "gnd"), "U1")
+        assert a.ring.backend == backend
+        assert a.to_text() == eliminated.transfer(Voltage(node, "gnd"), "U1").to_text()
