@@ -81,7 +81,9 @@ def _solve(circuit: Circuit, network: Network, shorted: frozenset[str], path: Pa
         if two_graph is None:
             raise ValueError("the spanning-forest path needs a network without controls by "
                              "a current source's current, controls reading each other in "
-                             f"a circle, or more than {controlled.MAX_CONTROLS} controls")
+                             "a circle, blocks of more than "
+                             f"{controlled.bordered.MAX_BLOCK} coupled unknown currents, or "
+                             f"more than {controlled.MAX_CONTROLS} controls")
         return controlled.ControlledForestSolution(network, short, tested, eliminate,
                                                    two_graph)
     return eliminate()
