@@ -15,11 +15,13 @@ pairs, are spanning trees, so that F ∪ S is a common spanning tree of the curr
 and the voltage graph (the two-graph method: Mayeda, "Graph Theory", 1972; Chen, "Applied
 Graph Theory", 1976; from memory), and 0 otherwise. The forests come from the frontier
 walk of `forests.py`; as each tree closes, its rows of U and V are expanded into the two
-determinants (`signed_forest_sum`), so states keep only the columns used and still
-merge. Terms cancel only where a Laplace expansion of a zero determinant (a set S whose
-pairs close a cycle) pairs up with opposite signs, or where two weights share a
-variable (a current control and the element it reads); states that can no longer reach
-a common spanning tree are dropped as soon as that is certain.
+determinants (`signed_forest_sum`). With S_U = S_V the product det U·det V has the sign of
+the permutation taking each row's U column to its V column, so a state keeps only that
+permutation's open paths and the columns a tree can still reach, and partial forests
+merge as in the passive walk. Terms cancel only where a Laplace expansion of a zero
+determinant (a set S whose pairs close a cycle) pairs up with opposite signs, or where
+two weights share a variable (a current control and the element it reads); states that
+can no longer reach a common spanning tree are dropped as soon as that is certain.
 
 A transfer is one more control: V(c, d) per unit current driven from a to b is the
 coefficient of x in det(M + x·u·vᵀ), u = e(a) − e(b), v = e(c) − e(d), over det M; per
@@ -68,10 +70,16 @@ EXACT_COUNT_FROM = 20_000
 """Below this many terms by the cheap bound (the ways to choose a tree's edges), the
 spanning trees are not counted: the bound already says the determinant is small."""
 
-MAX_CONTROLS = 12
-"""Most controls taken by forest sums: the walk's states are keyed by the columns used in
-U and in V, up to 4 to the power of the controls; at 12 (a ladder of 12 controlled
-sections, 358,390 terms) the walk took 3 s, where elimination refuses 9 sections."""
+MAX_CONTROLS = 40
+"""Most controls taken by forest sums. A state of the walk keeps only the open paths of
+the column permutation and the columns a tree can still reach, so the states follow the
+frontier rather than the subsets of controls: 12 controlled ladder sections (358,390
+terms) take 0.10 s, 12 sections controlled across the ladder (V of the mirror node,
+413,408 terms) 0.85 s, 8 finite-gain opamp stages (16 controls, 390,626 terms) 0.14 s.
+The up-front bound on the terms (`terms_bound`) refuses what would be too large. Controls
+that read nodes far apart in the walk keep many columns open, and the states multiply:
+16 controlled sources at random nodes of a 3-by-3 grid (75,516 terms) took 26 s, where
+elimination stops at its entry limit after 1.1 s."""
 
 
 @dataclass(frozen=True)
@@ -409,73 +417,113 @@ def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | N
 
 def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], ground: str,
                       pairs: Sequence[tuple[tuple[str, str], tuple[str, str]]],
+                      weights: Sequence[tuple[Poly, Poly]],
                       apart: Sequence[tuple[str, str]], one: Poly,
                       groups: Sequence[int] = (),
-                      exclusive: Mapping[int, tuple[int, int]] | None = None
-                      ) -> dict[int, Poly]:
-    """Σ weight(F)·det U_S(F)·det V_S(F) over the spanning forests F, for every set S of
-    the `pairs` ((a, b) current pair, (c, d) voltage pair), keyed by S as a bit mask.
+                      exclusive: Mapping[int, tuple[int, int]] | None = None,
+                      remember: int = 0) -> dict[int, Poly]:
+    """Σ_S Π_{j∈S} num_j·Π_{j∉S} den_j·Σ_F weight(F)·det U_S(F)·det V_S(F), over the
+    spanning forests F and the sets S of the `pairs` ((a, b) current pair, (c, d) voltage
+    pair; `weights` their (num, den)) holding one pair of every group (`groups`: bit masks
+    of pairs; a norator's alternatives, or a single pair every term holds), keyed by S's
+    pairs among `remember` (a bit mask: a block's pairs, whose coefficient is not a
+    product of their own); empty when no forest contributes. `exclusive` maps a pair to
+    the pairs it excludes in U and in V (a block's pairs sharing its border's column, or
+    its row).
 
     The walk is the frontier walk of `forests.py`, but a tree is not remembered when it
-    closes: its rows of U and V (its incidence on the pairs) are expanded into the two
-    determinants at once, column by column (Laplace), so a state keeps only the columns
-    used so far in each (S_U, S_V), and the partial forests that agree on them and on the
-    frontier merge. A tree without ground whose rows are zero ends its forests; at the
-    end only S_U = S_V is kept. `groups` are bit masks of pairs of which S holds exactly
-    one (a norator's alternatives, or a single pair that every term holds): a state is
-    dropped as soon as a column it still needs in U or V can no longer come (both nodes
-    of its pair are in trees already closed). `exclusive` maps a pair to the pairs it
-    excludes in U and in V (a block's pairs sharing its border's column, or its row)."""
+    closes: its rows of U and V (its incidence on the pairs) are expanded at once, each
+    row choosing a column ju of U and jv of V. With S_U = S_V = S at the end, the sign of
+    det U·det V is that of the permutation ju → jv of S, (−1)^(|S| − cycles): each row
+    gives one −1, each cycle it closes another, so a state keeps only the open paths of
+    that permutation (their first and last columns) and the columns used that a tree can
+    still reach; a column's weight is taken when it enters S (num) or can no longer
+    enter it (den). Partial forests that agree on these and on the frontier merge. A
+    state is dropped as soon as it cannot end with every path closed and one pair of
+    every group: an end that can no longer come, too few trees left to close, two pairs
+    of a group that cannot match. A tree without ground whose rows are zero ends its
+    forests."""
     names = sorted({x for ab, cd in pairs for x in (*ab, *cd)} | {ground})
     bit = {t: 1 << i for i, t in enumerate(names)}
     ground_bit = bit[ground]
     apart_bits = tuple(bit[a] | bit[b] for a, b in apart)
+    partners = [(bit[a], bit[b]) for a, b in apart]
     reach = [[(bit[a] | bit[b]) & ~ground_bit for a, b in (ab, cd)] for ab, cd in pairs]
     family = [1 << j for j in range(len(pairs))]  # the pairs of j's group, or j alone
     wanted = []  # (group, any of its current pairs' nodes, any of its voltage pairs')
     for mask in groups:
-        js = [j for j in range(len(pairs)) if mask >> j & 1]
         current = voltage = 0
-        for j in js:
-            family[j] = mask
-            current |= reach[j][0]
-            voltage |= reach[j][1]
+        for j in range(len(pairs)):
+            if mask >> j & 1:
+                family[j] = mask
+                current |= reach[j][0]
+                voltage |= reach[j][1]
         wanted.append((mask, current, voltage))
     family_u, family_v = list(family), list(family)
     for j, (u_side, v_side) in (exclusive or {}).items():
         family_u[j] |= u_side
         family_v[j] |= v_side
+    numerators = [None if num == one else num for num, _ in weights]
+    denominators = [(j, den) for j, (_, den) in enumerate(weights) if den != one]
+    everything = (1 << len(pairs)) - 1
     pending = sum(bit.values()) & ~ground_bit  # terminals not yet on the frontier
-    group_masks = [mask for mask in groups if mask & (mask - 1)]  # of two or more pairs
 
-    def feasible(alive: int, closures: int):
-        """A test of (S_U, S_V): can they still end equal, with one pair of every group?
-        `alive`: the terminals in open trees or not yet reached; `closures`: the most trees
-        without ground that can still close (each adds one column to U and one to V)."""
-        dead_u = dead_v = 0  # columns whose pair can no longer join a closing tree
-        for j, (current, voltage) in enumerate(reach):
-            if not current & alive:
-                dead_u |= 1 << j
-            if not voltage & alive:
-                dead_v |= 1 << j
-        lost = [mask for mask, current, voltage in wanted
-                if not (current & alive and voltage & alive)]
+    reachable: dict[int, tuple] = {}
 
-        def test(key: tuple[int, int]) -> bool:
-            su, sv = key
-            missing_v, missing_u = su & ~sv, sv & ~su
-            if missing_v & dead_v or missing_u & dead_u:
-                return False
-            unmet = sum(1 for mask, _, _ in wanted if not (su | sv) & mask)
-            if max(missing_v.bit_count(), missing_u.bit_count()) + unmet > closures:
-                return False
-            if any(not (su | sv) & mask for mask in lost):
-                return False
-            # one pair of a group in U and another in V can never match
-            return not any(su & mask and sv & mask and su & mask != sv & mask
-                           for mask in group_masks)
+    def columns(alive: int) -> tuple:
+        """For the terminals `alive` (in open trees without ground, or not yet reached):
+        the columns a closing tree can still take in U and in V, the columns a state
+        keeps in U and in V (those, and every pair of a group not yet settled), and the
+        groups that can no longer be met."""
+        if alive not in reachable:
+            in_u = in_v = kept = 0
+            for j, (current, voltage) in enumerate(reach):
+                if current & alive:
+                    in_u |= 1 << j
+                if voltage & alive:
+                    in_v |= 1 << j
+            lost = []
+            for mask, current, voltage in wanted:
+                if (in_u | in_v) & mask:
+                    kept |= mask
+                if not (current & alive and voltage & alive):
+                    lost.append(mask)
+            kept |= remember
+            reachable[alive] = (in_u, in_v, in_u | kept, in_v | kept, tuple(lost))
+        return reachable[alive]
 
-        return test
+    def settle(inner: dict, before: tuple, alive: int, closures: int, into: dict) -> None:
+        """Add the states `inner` (taken with the columns `before` of `columns`) to `into`
+        once the terminals `alive` remain and at most `closures` trees without ground can
+        still close: the dead ones dropped, den_j taken for each column that can no
+        longer enter S, the columns no tree can reach forgotten."""
+        in_u, in_v, keep_u, keep_v, lost = columns(alive)
+        gone = before[0] & ~in_u
+        unsettled = [mask for mask, _, _ in wanted if mask & before[2]]
+        for key, p in inner.items():
+            paths, su, sv = key
+            if len(paths) > closures:
+                continue
+            if any(not (in_v >> x & 1 and in_u >> y & 1) for x, y in paths):
+                continue
+            unmet = 0
+            for mask in unsettled:
+                gu, gv = su & mask, sv & mask
+                if gu | gv:
+                    if gu and gv and gu != gv:
+                        break  # two pairs of one group can never match
+                elif mask in lost:
+                    break
+                else:
+                    unmet += 1
+            else:
+                if len(paths) + unmet > closures:
+                    continue
+                for j, den in denominators:
+                    if gone >> j & 1 and not su >> j & 1:
+                        p = p * den
+                key = (paths, su & keep_u, sv & keep_v)
+                into.setdefault(key, []).append(p)
 
     def rows(mask: int, which: int) -> list[tuple[int, int]]:
         out = []
@@ -486,40 +534,51 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
                 out.append((j, entry))
         return out
 
-    expansions: dict[int, list[tuple[int, int, int, int, int, int, bool]] | None] = {}
+    expansions: dict[int, list[tuple[int, int, int, int, bool]]] = {}
 
-    def expand(mask: int) -> list[tuple[int, int, int, int, int, int, bool]] | None:
-        """For a tree with these terminals, each (column of U, its group, the columns above
-        it; the same for V; whether the entries' product is positive), or None for the
-        ground's tree, which has no row."""
+    def expand(mask: int) -> list[tuple[int, int, int, int, bool]]:
+        """For a tree without ground with these terminals, each (column of U, its group;
+        the same for V; whether the entries' product is positive)."""
         if mask not in expansions:
-            if mask & ground_bit:
-                expansions[mask] = None
-            else:
-                expansions[mask] = [
-                    (1 << ju, family_u[ju], -1 << (ju + 1), 1 << jv, family_v[jv],
-                     -1 << (jv + 1),
-                     eu * ev > 0)
-                    for ju, eu in rows(mask, 0) for jv, ev in rows(mask, 1)]
+            expansions[mask] = [(ju, family_u[ju], jv, family_v[jv], eu * ev > 0)
+                                for ju, eu in rows(mask, 0) for jv, ev in rows(mask, 1)]
         return expansions[mask]
 
-    def close(su: int, sv: int, mask: int, p: Poly, into: dict) -> None:
+    def close(inner: dict, mask: int) -> dict:
+        """The states after the tree with these terminals closes: each row choice, its
+        path of ju → jv extended, joined or closed into a cycle, and its sign."""
+        out: dict = {}
         choices = expand(mask)
-        if choices is None:
-            into.setdefault((su, sv), []).append(p)
-            return
-        negative = None
-        for bu, fu, above_u, bv, fv, above_v, positive in choices:
-            if su & fu or sv & fv:
-                continue  # a column (or another of its group) already used
-            # the row goes last: its sign is that of the columns it passes
-            flips = (su & above_u).bit_count() + (sv & above_v).bit_count()
-            if positive == (flips % 2 == 0):
-                value = p
-            else:
-                negative = -p if negative is None else negative
-                value = negative
-            into.setdefault((su | bu, sv | bv), []).append(value)
+        for (paths, su, sv), p in inner.items():
+            negative = None
+            for ju, fu, jv, fv, positive in choices:
+                if su & fu or sv & fv:
+                    continue  # a column (or another of its group) already used
+                start = end = None  # the open paths ju ends and jv starts
+                for path in paths:
+                    if path[1] == ju:
+                        start = path
+                    if path[0] == jv:
+                        end = path
+                cycle = start is end if start is not None else ju == jv
+                if start is None and end is None:
+                    following = paths if cycle else tuple(sorted((*paths, (ju, jv))))
+                elif cycle:
+                    following = tuple(x for x in paths if x is not start)
+                else:
+                    rest = [x for x in paths if x is not start and x is not end]
+                    rest.append((ju if start is None else start[0],
+                                 jv if end is None else end[1]))
+                    following = tuple(sorted(rest))
+                if positive == cycle:
+                    value = p
+                else:
+                    negative = -p if negative is None else negative
+                    value = negative
+                if numerators[ju] is not None:
+                    value = value * numerators[ju]
+                out.setdefault((following, su | 1 << ju, sv | 1 << jv), []).append(value)
+        return {key: _sum(values) for key, values in out.items()}
 
     order = forests._edge_order(nodes, [(u, v) for u, v, _, _ in edges])
     loops = [e for e in edges if e[0] == e[1]]
@@ -527,17 +586,40 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
     last = {}
     for i, (u, v, _, _) in enumerate(edges):
         last[u] = last[v] = i
-    start: dict[tuple[int, int], list[Poly]] = {(0, 0): [one]}
+    start: dict = {((), 0, 0): one}
     for node in nodes:
         if node not in last:  # an isolated node is a tree of its own
-            ended: dict[tuple[int, int], list[Poly]] = {}
-            for (su, sv), values in start.items():
-                for p in values:
-                    close(su, sv, bit.get(node, 0), p, ended)
-            start = ended
-    # frontier (groups, masks) -> columns used (S_U, S_V) -> polynomial
-    states: dict[tuple, dict[tuple[int, int], Poly]] = {
-        ((), ()): {key: _sum(values) for key, values in start.items()}}
+            mask = bit.get(node, 0)
+            pending &= ~mask
+            if not mask & ground_bit:
+                start = close(start, mask)
+    ended: dict = {}
+    settle(start, (everything,) * 4, pending, pending.bit_count(), ended)
+    # frontier (groups, masks) -> (open paths, columns kept of U, of V) -> polynomial
+    states: dict[tuple, dict[tuple, Poly]] = {((), ()): {k: _sum(v) for k, v in ended.items()}}
+
+    def alive_of(masks: Sequence[int]) -> tuple[int, int]:
+        """The terminals still alive and the trees without ground that can still close."""
+        alive, closures = pending, pending.bit_count()
+        for mask in masks:
+            if not mask & ground_bit:
+                alive |= mask
+                closures += 1
+        return alive, closures
+
+    def trimmed(front: tuple, alive: int) -> tuple:
+        """The frontier with the ground's tree keeping, of its terminals, only the ground
+        and those that must stay apart from one still alive: it has no row, so which
+        terminals reached it is history, and forests differing only there merge."""
+        groups, masks = front
+        keep = ground_bit
+        for x, y in partners:
+            if y & alive:
+                keep |= x
+            if x & alive:
+                keep |= y
+        return groups, tuple(m & keep if m & ground_bit else m for m in masks)
+
     frontier: list[str] = []
     for i, (u, v, inward, outward) in enumerate(edges):
         for node in (u, v):
@@ -549,16 +631,26 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
                           for (groups, masks), inner in states.items()}
         iu, iv = frontier.index(u), frontier.index(v)
         outward_one, inward_one = outward == one, inward == one
-        collected: dict[tuple, dict[tuple[int, int], list[Poly]]] = {}
+        collected: dict[tuple, dict[tuple, list[Poly]]] = {}
         for front, inner in states.items():
             target = collected.setdefault(front, {})
             for key, p in inner.items():
                 target.setdefault(key, []).append(p if outward_one else p * outward)
             joined = _join(front, iu, iv, apart_bits)
-            if joined is not None:
+            if joined is None:
+                continue
+            taken = {key: p if inward_one else p * inward for key, p in inner.items()}
+            masks = front[1]
+            a, b = masks[front[0][iu]], masks[front[0][iv]]
+            if (a | b) & ground_bit:
+                # a tree joins the ground's: its terminals leave every row
+                alive, closures = alive_of(joined[1])
+                target = collected.setdefault(trimmed(joined, alive), {})
+                settle(taken, columns(alive_of(masks)[0]), alive, closures, target)
+            else:
                 target = collected.setdefault(joined, {})
-                for key, p in inner.items():
-                    target.setdefault(key, []).append(p if inward_one else p * inward)
+                for key, p in taken.items():
+                    target.setdefault(key, []).append(p)
         states = _summed(collected)
         for node in [n for n in frontier if last[n] == i]:
             k = frontier.index(node)
@@ -567,31 +659,24 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
             for (groups, masks), inner in states.items():
                 g = groups[k]
                 rest = groups[:k] + groups[k + 1:]
-                target = collected.setdefault(forests._canonical(rest, masks), {})
-                if g in rest:
+                front = forests._canonical(rest, masks)
+                if g in rest or masks[g] & ground_bit:
+                    target = collected.setdefault(front, {})
                     for key, p in inner.items():
                         target.setdefault(key, []).append(p)
                     continue
-                for (su, sv), p in inner.items():
-                    close(su, sv, masks[g], p, target)
-            states = {}
-            for front, inner in _summed(collected).items():
-                alive = pending
-                closures = pending.bit_count()
-                for mask in front[1]:
-                    alive |= mask
-                    closures += not mask & ground_bit
-                test = feasible(alive, closures)
-                kept = {key: p for key, p in inner.items() if test(key)}
-                if kept:
-                    states[front] = kept
-    result: dict[int, Poly] = {}
+                alive, closures = alive_of(front[1])
+                target = collected.setdefault(trimmed(front, alive), {})
+                before = columns(alive_of(masks)[0])
+                settle(close(inner, masks[g]), before, alive, closures, target)
+            states = {front: inner for front, inner in _summed(collected).items() if inner}
+    found: dict[int, list[Poly]] = {}
     for inner in states.values():
-        for (su, sv), p in inner.items():
-            if su == sv:
-                result[su] = result[su] + p if su in result else p
+        for (_, su, _), p in inner.items():
+            found.setdefault(su & remember, []).append(p)
+    result = {chosen: _sum(values) for chosen, values in found.items()}
     for _u, _v, _inward, outward in loops:
-        result = {key: p * outward for key, p in result.items()}
+        result = {chosen: p * outward for chosen, p in result.items()}
     return result
 
 
@@ -773,7 +858,6 @@ class ControlledForestSolution(ForestSolution):
             for t in block_members:
                 if not any(key[1] == t for key in impedance):
                     groups.append([j for j, (x, _) in tags.items() if x == t])
-        start = len(self.rank_one)
         # a group is in every term: a pair all its members share joins two trees, so its
         # two nodes end in different trees
         apart = []
@@ -786,17 +870,16 @@ class ControlledForestSolution(ForestSolution):
         masks = [sum(1 << j for j in js) for js in groups]
         ground = find(REFERENCE)
         nodes = sorted({find(n) for n in self.nodes})
-        sums = signed_forest_sum(nodes, edges, ground, pairs, apart, one, masks, exclusive)
+        # each column's weight (num if in S, den if not); a block's pairs are remembered
+        # to the end, where their Z minor multiplies them
+        column_weights = [(k.numerator, k.denominator) for k in self.rank_one]
+        column_weights += [(w, one) for w in weights]
+        remember = sum(1 << j for _, tags in expansions for j in tags)
+        sums = signed_forest_sum(nodes, edges, ground, pairs, column_weights, apart, one,
+                                 masks, exclusive, remember)
         parts = []
         for chosen, value in sorted(sums.items()):
-            if not all(chosen & mask for mask in masks):
-                continue
             factor = one
-            for j, k in enumerate(self.rank_one):
-                factor = factor * (k.numerator if chosen >> j & 1 else k.denominator)
-            for j in range(start, len(pairs)):
-                if chosen >> j & 1:
-                    factor = factor * weights[j - start]
             for block, tags in expansions:
                 coefficient = block.coefficient([tag for j, tag in tags.items()
                                                  if chosen >> j & 1])
