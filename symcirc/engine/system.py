@@ -8,10 +8,10 @@ port's first node when the port is open, a test voltage when it is shorted.
 
 Passive networks are solved topologically (engine.topological: spanning-forest sums, no
 cancellation), and so are networks whose only active elements are current sources
-controlled by voltages or by passive elements' currents (engine.controlled: the same sums
-signed by the two-graph method); everything else by elimination (engine.mna), though
-the forest path takes opamps, controlled voltage sources, transformers, coupled
-inductors and controls by a voltage source's current when asked.
+controlled by voltages or by passive elements' currents, and ideal transformers
+(engine.controlled: the same sums signed by the two-graph method); everything else by
+elimination (engine.mna), though the forest path takes opamps, controlled voltage
+sources, coupled inductors and controls by a voltage source's current when asked.
 All give the same canonical functions; `path` forces one (for tests and benchmarks).
 Every active network's determinant is bounded first, and one too large is refused.
 """
@@ -90,13 +90,26 @@ def _solve(circuit: Circuit, network: Network, shorted: frozenset[str], path: Pa
 
 
 def _forest_wins(network: Network) -> bool:
-    """Controlled current sources only: there the forest sums were faster on every network
-    measured, small or large, one transfer or all (elimination's entries swell: a ladder
-    of 8 controlled sections took it 2.2 s, the forest sums 0.1 s); with norators (opamps,
-    controlled voltage sources, transformers) elimination, which solves an output in one
-    pivot, measured faster on opamp chains."""
+    """The path measured faster (`tests/perf/bench_engine.py --active`, engine CPU time):
+    forest sums for controlled current sources and ideal transformers, elimination when
+    an opamp, a controlled voltage source, a coupling or a read voltage source's current
+    is present.
+
+    Forest against elimination, one transfer / every node voltage per source:
+    common-emitter stages k = 4 (231,932 terms) 0.075 / 1.23 s against 0.36 / 4.0 s; a
+    ladder of 8 controlled sections 0.012 / 0.062 s against 1.8 / 2.6 s (from 9 sections
+    only the forest sums finish); 5 RC sections coupled by transformers 0.0033 / 0.082 s
+    against 0.0039 / 0.107 s. With opamps elimination solves an output in one pivot and
+    each further output from the same elimination: 8 finite-gain inverting stages
+    (390,626 terms) 0.11 / 0.30 s against 0.13 / 1.44 s, 5 Sallen-Key sections 0.0025 /
+    0.025 s against 0.0043 / 0.034 s, the three-opamp instrumentation amplifier 0.0020 /
+    0.016 s against 0.0032 / 0.024 s."""
     two_graph = controlled.controls_of(network)
-    return two_graph is not None and not any(k.norator for k in two_graph.controls)
+    if two_graph is None or network.opamps or network.couplings:
+        return False
+    if any(s.kind == "voltage" and not s.independent for s in network.sources.values()):
+        return False
+    return all(b.element in network.transformers for b in two_graph.borders)
 
 
 def _bound(circuit: Circuit, network: Network, shorted: frozenset[str]) -> int:
