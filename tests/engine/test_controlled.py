@@ -279,6 +279,10 @@ def test_transformer_networks_agree_on_both_paths(seed):
 def test_controlled_current_sources_take_the_forest_path_and_opamps_elimination():
     """The defaults measured fastest (engine.system._forest_wins)."""
     assert isinstance(solution(symcirc.parse(_ce_stages(1))), ControlledForestSolution)
+    with_transformer = symcirc.parse("voltage source U (a, gnd)\nresistor R1 (a, p)\n"
+                                     "transformer T (p, gnd; s, gnd) = 3\n"
+                                     "resistor RL (s, gnd)\n")
+    assert isinstance(solution(with_transformer), ControlledForestSolution)
     with_opamp = symcirc.parse("voltage source U (a, gnd)\nresistor R1 (a, n)\n"
                                "resistor R2 (n, o)\nopamp X (gnd, n, o)\n")
     assert isinstance(solution(with_opamp), MnaSolution)
