@@ -16,12 +16,16 @@ input check, requests, the per-circuit memo) minus the engine's alone (elaborati
 quantity handlers called directly), relative to the engine's. The same overhead is measured
 on a strain-gauge full bridge with lead resistances.
 
-A second table times the active families on both solution paths (the spanning-forest path
-with the two-graph method, and elimination), engine only, in µs per output term beside
-the passive ladder's at the nearest output size, with the default path marked (the
-coupled families: a sensor channel's band-pass of coupled resonators, and double-tuned
-stages; past MAX_CONTROLS the forest path is built directly); then the time the size
-guard takes to refuse the 20-section controlled-source ladder.
+A second table (alone with `--active`) times the active families on both solution paths
+(the spanning-forest path with the two-graph method, and elimination), engine CPU time:
+common-emitter stages, finite-gain opamp chains, controlled ladders, RC sections with
+followers, Sallen-Key and multiple-feedback cascades, the three-opamp instrumentation
+amplifier, transformer-coupled sections, and the coupled families (a sensor channel's
+band-pass of coupled resonators, and double-tuned stages; past MAX_CONTROLS the forest
+path is built directly); one transfer in µs per output term beside the passive ladder's
+at the nearest output size, and every node voltage per source, with the default path
+marked; then the time the size guard takes to refuse the 20-section controlled-source
+ladder.
 """
 
 from __future__ import annotations
@@ -140,6 +144,58 @@ def tuned_stages(n: int) -> tuple[str, list[str]]:
                   f"current source Igm{i} ({following}, gnd) = gm{i}*V(q{i})",
                   f"resistor Ro{i} ({following}, gnd)"]
     lines.append("port out (t1, gnd)")
+    return "\n".join(lines) + "\n", ["gain(Uin, out)"]
+
+
+def sallen_key(n: int) -> tuple[str, list[str]]:
+    """n unity-gain Sallen-Key low-pass sections in cascade, each an ideal opamp follower."""
+    lines = ["voltage source Uin (o0, gnd)"]
+    for i in range(1, n + 1):
+        lines += [f"resistor Ra{i} (o{i - 1}, x{i})", f"resistor Rb{i} (x{i}, p{i})",
+                  f"capacitor Ca{i} (x{i}, o{i})", f"capacitor Cb{i} (p{i}, gnd)",
+                  f"opamp U{i} (p{i}, o{i}, o{i})"]
+    lines.append(f"port out (o{n}, gnd)")
+    return "\n".join(lines) + "\n", ["gain(Uin, out)"]
+
+
+def multiple_feedback(n: int) -> tuple[str, list[str]]:
+    """n multiple-feedback low-pass sections in cascade, each an ideal inverting opamp."""
+    lines = ["voltage source Uin (o0, gnd)"]
+    for i in range(1, n + 1):
+        lines += [f"resistor Ra{i} (o{i - 1}, x{i})", f"resistor Rf{i} (x{i}, o{i})",
+                  f"resistor Rb{i} (x{i}, m{i})", f"capacitor Ca{i} (x{i}, gnd)",
+                  f"capacitor Cf{i} (m{i}, o{i})", f"opamp U{i} (gnd, m{i}, o{i})"]
+    lines.append(f"port out (o{n}, gnd)")
+    return "\n".join(lines) + "\n", ["gain(Uin, out)"]
+
+
+def instrumentation(finite: int) -> tuple[str, list[str]]:
+    """A three-opamp instrumentation amplifier with source resistances and an output load;
+    `finite`: how many of its opamps have a finite gain A_i (0 to 3)."""
+    lines = ["voltage source Up (ip, gnd)", "voltage source Un (in, gnd)",
+             "resistor Rsp (ip, p1)", "resistor Rsn (in, p2)",
+             "resistor Rf1 (a1, o1)", "resistor Rg (a1, a2)", "resistor Rf2 (a2, o2)",
+             "resistor R1 (o1, m)", "resistor R2 (m, out)", "resistor R3 (o2, q)",
+             "resistor R4 (q, gnd)", "resistor RL (out, gnd)"]
+    for i, (p, n, o) in enumerate((("p1", "a1", "o1"), ("p2", "a2", "o2"), ("q", "m", "out"))):
+        gain = f" = A{i + 1}" if i < finite else ""
+        if gain:
+            lines.insert(0, f"param A{i + 1}")
+        lines.append(f"opamp U{i + 1} ({p}, {n}, {o}){gain}")
+    lines.append("port o (out, gnd)")
+    return "\n".join(lines) + "\n", ["gain(Up, o)"]
+
+
+def transformer_chain(n: int) -> tuple[str, list[str]]:
+    """n sections, each an RC network coupled to the next by an ideal transformer (ratio
+    N_i) with a magnetising inductance."""
+    lines = ["voltage source Uin (t0, gnd)"]
+    for i in range(1, n + 1):
+        lines += [f"param N{i}", f"resistor Rs{i} (t{i - 1}, x{i})",
+                  f"capacitor C{i} (x{i}, gnd)", f"inductor Lm{i} (x{i}, gnd)",
+                  f"transformer T{i} (x{i}, gnd; t{i}, gnd) = N{i}",
+                  f"resistor RL{i} (t{i}, gnd)"]
+    lines.append(f"port out (t{n}, gnd)")
     return "\n".join(lines) + "\n", ["gain(Uin, out)"]
 
 
@@ -477,8 +533,10 @@ def main() -> None:
 
 def active_paths(rows: dict, quick: bool) -> float:
     """Both solution paths of the active families (engine.system.solution with `path`),
-    in µs per output term beside the passive ladder's at the nearest output size, and the
-    time the size guard takes to refuse the 20-section controlled-source ladder."""
+    in µs per output term beside the passive ladder's at the nearest output size, then
+    every node voltage per every source ("all": what a note or a two-port derives), and
+    the time the size guard takes to refuse the 20-section controlled-source ladder.
+    CPU time of the engine, best of 3 (of 1 from 10 sections on)."""
     import symcirc
     from symcirc.engine.controlled import ControlledForestSolution, controls_of
     from symcirc.engine.mna import Voltage
@@ -491,33 +549,59 @@ def active_paths(rows: dict, quick: bool) -> float:
             return solution(circuit, path=path)
         except ValueError:
             network = build_network(circuit)
-            return ControlledForestSolution(network, {}, {}, None,
-                                            controls_of(network, limit=None))
+            two_graph = controls_of(network, limit=None)
+            if two_graph is None:
+                raise
+            return ControlledForestSolution(network, {}, {}, None, two_graph)
 
-    print("active circuits on both paths (engine only, best of 3; the default path marked *):")
+    print("active circuits on both paths (engine CPU s, best of 3; the default path marked "
+          "*; 'all': every node voltage per every source):")
     print(f"{'family':12} {'size':>4} {'terms':>8} {'forest s':>9} {'µs/term':>8} "
-          f"{'elim. s':>9} {'µs/term':>8} {'passive µs/term (terms)':>24}")
-    families = {"ce": (ce_stages, "c", range(1, 3 if quick else 5)),
-                "opamp_chain": (opamp_chain, "o{k}", range(1, 3 if quick else 7)),
-                "ctl_ladder": (controlled_ladder, "n{k}", range(4, 6 if quick else 13)),
-                "resonators": (coupled_resonators, "r{k}", range(2, 4 if quick else 7)),
-                "tuned": (tuned_stages, "t1", range(1, 3 if quick else 6))}
-    for family, (build, node, sizes) in families.items():
+          f"{'elim. s':>9} {'µs/term':>8} {'all: forest':>11} {'elim.':>8} "
+          f"{'passive µs/term (terms)':>24}")
+    families = {"ce": (ce_stages, "c", "Uin", range(1, 3 if quick else 5)),
+                "opamp_chain": (opamp_chain, "o{k}", "Uin", range(1, 3 if quick else 9)),
+                "ctl_ladder": (controlled_ladder, "n{k}", "Uin", range(4, 6 if quick else 13)),
+                "rc_chain": (rc_chain, "b{k}", "Uin", range(2, 4 if quick else 9)),
+                "sallen_key": (sallen_key, "o{k}", "Uin", range(1, 3 if quick else 6)),
+                "mfb": (multiple_feedback, "o{k}", "Uin", range(1, 3 if quick else 6)),
+                "inamp": (instrumentation, "out", "Up", range(0, 2 if quick else 4)),
+                "transformer": (transformer_chain, "t{k}", "Uin",
+                                range(1, 3 if quick else 6)),
+                "resonators": (coupled_resonators, "r{k}", "Uin", range(2, 4 if quick else 7)),
+                "tuned": (tuned_stages, "t1", "Uin", range(1, 3 if quick else 6))}
+
+    def timed(text: str, path: str, work) -> tuple[float, object]:
+        best, value = float("inf"), None
+        for _ in range(3 if len(text) < 1200 else 1):
+            circuit = symcirc.parse(text)
+            start = time.process_time()
+            try:
+                value = work(solve(circuit, path), circuit)
+            except (ValueError, SymcircError):  # the forest path cannot take it, or too large
+                return float("nan"), None
+            best = min(best, time.process_time() - start)
+        return best, value
+
+    def every_voltage(solved, circuit) -> int:
+        sources = [e.name for e in circuit.elements.values()
+                   if e.kind in ("voltage source", "current source") and not e.controls]
+        return sum(sum(solved.transfer(Voltage(n, "gnd"), x).size())
+                   for x in sources for n in circuit.nodes[1:])
+
+    for family, (build, node, source, sizes) in families.items():
         for size in sizes:
             text, _ = build(size)
             measure = Voltage(node.format(k=size), "gnd")
-            times = {}
+            times, every, value = {}, {}, None
             for path in ("forest", "elimination"):
                 if family == "ctl_ladder" and path == "elimination" and size > 8:
-                    times[path] = float("nan")  # its entries pass the limit from 9 on
+                    times[path] = every[path] = float("nan")  # past the entry limit from 9 on
                     continue
-                best = float("inf")
-                for _ in range(3 if size < 10 else 1):
-                    circuit = symcirc.parse(text)
-                    start = time.perf_counter()
-                    value = solve(circuit, path).transfer(measure, "Uin")
-                    best = min(best, time.perf_counter() - start)
-                times[path] = best
+                times[path], got = timed(text, path,
+                                         lambda s, c, m=measure, x=source: s.transfer(m, x))
+                value = value or got
+                every[path], _ = timed(text, path, every_voltage)
             default = type(solution(symcirc.parse(text))).__name__
             mark = {"forest": "*" if default != "MnaSolution" else " ",
                     "elimination": "*" if default == "MnaSolution" else " "}
@@ -527,7 +611,8 @@ def active_paths(rows: dict, quick: bool) -> float:
             print(f"{family:12} {size:>4} {terms:>8} {times['forest']:>8.4f}{mark['forest']} "
                   f"{times['forest'] / terms * 1e6:>8.2f} "
                   f"{times['elimination']:>8.4f}{mark['elimination']} "
-                  f"{times['elimination'] / terms * 1e6:>8.2f} {shown:>24}", flush=True)
+                  f"{times['elimination'] / terms * 1e6:>8.2f} {every['forest']:>11.4f} "
+                  f"{every['elimination']:>8.4f} {shown:>24}", flush=True)
     text, quantities = controlled_ladder(20)
     circuit = symcirc.parse(text)
     start = time.perf_counter()
