@@ -661,9 +661,10 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
                 rest = groups[:k] + groups[k + 1:]
                 front = forests._canonical(rest, masks)
                 if g in rest or masks[g] & ground_bit:
-                    target = collected.setdefault(front, {})
-                    for key, p in inner.items():
-                        target.setdefault(key, []).append(p)
+                    # no tree closes; fewer may still close than at the last test
+                    alive, closures = alive_of(front[1])
+                    settle(inner, columns(alive), alive, closures,
+                           collected.setdefault(front, {}))
                     continue
                 alive, closures = alive_of(front[1])
                 target = collected.setdefault(trimmed(front, alive), {})
