@@ -75,7 +75,7 @@ MAX_CONTROLS = 40
 the column permutation and the columns a tree can still reach, so the states follow the
 frontier rather than the subsets of controls: 12 controlled ladder sections (358,390
 terms) take 0.10 s, 12 sections controlled across the ladder (V of the mirror node,
-413,408 terms) 0.85 s, 8 finite-gain opamp stages (16 controls, 390,626 terms) 0.14 s.
+413,408 terms) 0.85 s, 8 finite-gain opamp stages (16 controls, 390,626 terms) 0.073 s.
 The up-front bound on the terms (`terms_bound`) refuses what would be too large. Controls
 that read nodes far apart in the walk keep many columns open, and the states multiply:
 16 controlled sources at random nodes of a 3-by-3 grid (75,516 terms) took 26 s, where

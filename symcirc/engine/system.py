@@ -96,14 +96,15 @@ def _forest_wins(network: Network) -> bool:
     is present.
 
     Forest against elimination, one transfer / every node voltage per source:
-    common-emitter stages k = 4 (231,932 terms) 0.075 / 1.23 s against 0.36 / 4.0 s; a
-    ladder of 8 controlled sections 0.012 / 0.062 s against 1.8 / 2.6 s (from 9 sections
-    only the forest sums finish); 5 RC sections coupled by transformers 0.0033 / 0.082 s
-    against 0.0039 / 0.107 s. With opamps elimination solves an output in one pivot and
-    each further output from the same elimination: 8 finite-gain inverting stages
-    (390,626 terms) 0.11 / 0.30 s against 0.13 / 1.44 s, 5 Sallen-Key sections 0.0025 /
-    0.025 s against 0.0043 / 0.034 s, the three-opamp instrumentation amplifier 0.0020 /
-    0.016 s against 0.0032 / 0.024 s."""
+    common-emitter stages k = 4 (231,932 terms) 0.078 / 1.18 s against 0.34 / 3.8 s; a
+    ladder of 8 controlled sections 0.013 / 0.065 s against 1.75 / 2.55 s (from 9
+    sections only the forest sums finish); 5 RC sections coupled by transformers 0.0034 /
+    0.084 s against 0.0040 / 0.107 s. With opamps elimination solves an output in one
+    pivot and each further output from the same elimination: 8 finite-gain inverting
+    stages (390,626 terms) 0.11 / 0.28 s against 0.073 / 1.15 s, 5 Sallen-Key sections
+    0.0020 / 0.025 s against 0.0049 / 0.035 s, the three-opamp instrumentation amplifier
+    0.0020 / 0.013 s against 0.0026 / 0.020 s; 6 coupled resonators 0.020 / 0.082 s
+    against 0.082 / 0.236 s."""
     two_graph = controlled.controls_of(network)
     if two_graph is None or network.opamps or network.couplings:
         return False
