@@ -80,7 +80,7 @@ def test_controls_read_far_along_the_walk(seed):
             assert got == pytest.approx(number, rel=1e-7, abs=1e-9)
 
 
-def test_more_controls_than_before_take_the_forest_path():
+def test_fourteen_columns_take_the_forest_path():
     """Seven finite-gain inverting stages: fourteen columns (each opamp's output equation
     has two terms), the walk's states bounded by the frontier, not by their subsets."""
     lines = ["voltage source Uin (o0, gnd)"]
