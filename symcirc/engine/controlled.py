@@ -79,7 +79,19 @@ terms) take 0.10 s, 12 sections controlled across the ladder (V of the mirror no
 The up-front bound on the terms (`terms_bound`) refuses what would be too large. Controls
 that read nodes far apart in the walk keep many columns open, and the states multiply:
 16 controlled sources at random nodes of a 3-by-3 grid (75,516 terms) took 26 s, where
-elimination stops at its entry limit after 1.1 s."""
+elimination stops at its entry limit after 1.1 s; `MAX_WALK_STATES` bounds that."""
+
+MAX_WALK_STATES = 10_000
+"""Most states the walk holds at once before it gives the transfer to elimination (which
+derives it or refuses at its own limit). The families of `tests/perf/bench_engine.py
+--active` peak at 6-562 states (common-emitter stages k = 4: 562; 12 controlled ladder
+sections: 26); controlled sources reading random nodes of a 3-by-3 grid reach 3,746
+states with 12 controls (1.0 s), 7,350-38,724 with 14 (2.5-6 s) and more with 18 or 24
+(28 s; unfinished after 100 s)."""
+
+
+class WalkTooLarge(Exception):
+    """The walk's states passed MAX_WALK_STATES: elimination takes the transfer."""
 
 
 @dataclass(frozen=True)
@@ -671,6 +683,8 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
                 before = columns(alive_of(masks)[0])
                 settle(close(inner, masks[g]), before, alive, closures, target)
             states = {front: inner for front, inner in _summed(collected).items() if inner}
+        if sum(map(len, states.values())) > MAX_WALK_STATES:
+            raise WalkTooLarge
     found: dict[int, list[Poly]] = {}
     for inner in states.values():
         for (_, su, _), p in inner.items():
@@ -749,11 +763,25 @@ class ControlledForestSolution(ForestSolution):
                 self.voltages.pop(name, None)
         self.norators = {x for b in self.borders for a, bb, _ in b.column for x in (a, bb)}
         self._determinants: dict[tuple, Poly] = {}
+        self._gave_up = False
 
     def check(self) -> None:
         """Raise mna.SingularCircuit when det M is zero (elimination names the culprits)."""
-        if self.ring.is_zero(self._determinant(None, None)):
+        try:
+            if self.ring.is_zero(self._determinant(None, None)):
+                self._delegate().check()
+        except WalkTooLarge:
+            self._gave_up = True
             self._delegate().check()
+
+    def transfer(self, measure: Measure, excitation: str) -> RationalFunction:
+        """As ForestSolution's; once the walk has held too many states, by elimination."""
+        if not self._gave_up:
+            try:
+                return super().transfer(measure, excitation)
+            except WalkTooLarge:
+                self._gave_up = True
+        return self._delegate().transfer(measure, excitation)
 
     def _graph(self, without: str | None) -> tuple[_Contraction, list]:
         """As ForestSolution's, without the coupled inductors (they are borders)."""

@@ -19,6 +19,7 @@ import pytest
 from test_controlled import _numeric_node_voltages
 
 import symcirc
+from symcirc.engine import controlled
 from symcirc.engine.controlled import ControlledForestSolution, controls_of
 from symcirc.engine.mna import MnaSolution, Voltage, port_excitation
 from symcirc.engine.network import build_network
@@ -78,6 +79,24 @@ def test_controls_read_far_along_the_walk(seed):
                                                           excitation).to_text()
             got = complex(float(exact.evaluate(values)))
             assert got == pytest.approx(number, rel=1e-7, abs=1e-9)
+
+
+def test_a_walk_past_its_state_limit_hands_the_transfer_to_elimination(monkeypatch):
+    """Controls reading nodes far apart multiply the walk's states; past MAX_WALK_STATES
+    the transfer is elimination's (the same canonical function, checked against numpy)."""
+    rng = random.Random(907)
+    text, elements = _crossed_ladder(rng, 5)
+    circuit = symcirc.parse(text)
+    monkeypatch.setattr(controlled, "MAX_WALK_STATES", 2)
+    forest = solution(circuit, path="forest")
+    gain = forest.transfer(Voltage("n5", "gnd"), "U1")
+    assert forest._gave_up  # the walk stopped at its limit
+    monkeypatch.undo()
+    walked = solution(symcirc.parse(text), path="forest")
+    assert walked.transfer(Voltage("n5", "gnd"), "U1") == gain and not walked._gave_up
+    values = _values(rng, elements)
+    expected = _numeric_node_voltages(elements, values, "U1")["n5"]
+    assert complex(float(gain.evaluate(values))) == pytest.approx(expected, rel=1e-7, abs=1e-9)
 
 
 def test_fourteen_columns_take_the_forest_path():
