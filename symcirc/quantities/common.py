@@ -305,20 +305,26 @@ class Context:
         """In the language's terms: each mutual inductance as k·√(L1·L2) (the engine holds
         it as a symbol of its own), and a transformer's or coupling's name replaced by the
         ratio or factor it is defined by (`transformer T1 (..) = N` gives results in N)."""
-        for coupling in self.network.couplings.values():
-            if coupling.mutual not in function.symbol_names():
-                continue
+        used = function.symbol_names()
+        couplings = [c for c in self.network.couplings.values() if c.mutual in used]
+        if couplings:
             import sympy
 
-            root = sympy.sqrt(sympy.Symbol(coupling.first) * sympy.Symbol(coupling.second))
-            name = atom_name(root)
-            self.atoms[name] = root
-            ring = function.ring.extend([coupling.name, coupling.first, coupling.second])
-            factor = RationalFunction.symbol(coupling.name, ring)
-            radicand = RationalFunction(ring.gen(coupling.first) * ring.gen(coupling.second),
-                                        1, ring)
-            function = substitute_root(function.in_ring(ring), coupling.mutual, factor,
-                                       radicand, name)
+            roots = []
+            for coupling in couplings:
+                root = sympy.sqrt(sympy.Symbol(coupling.first) * sympy.Symbol(coupling.second))
+                roots.append(atom_name(root))
+                self.atoms[roots[-1]] = root
+            # one ring for every coupling: moving a large result between rings costs more
+            # than the substitutions (5 couplings of a 371,294-term gain: 8.8 s of 9.5 s)
+            ring = function.ring.extend([*roots, *(n for c in couplings
+                                                   for n in (c.name, c.first, c.second))])
+            function = function.in_ring(ring)
+            for coupling, name in zip(couplings, roots, strict=True):
+                factor = RationalFunction.symbol(coupling.name, ring)
+                radicand = RationalFunction(ring.gen(coupling.first) * ring.gen(coupling.second),
+                                            1, ring)
+                function = substitute_root(function, coupling.mutual, factor, radicand, name)
         for element in self.circuit.elements.values():
             if element.kind in ("transformer", "coupling") \
                     and element.definition_formula is not None \
