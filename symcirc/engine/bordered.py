@@ -71,20 +71,25 @@ def blocks(count: int, impedance: Impedance) -> list[tuple[int, ...]]:
 
 
 def minor(ring: PolynomialRing, impedance: Impedance, rows: Sequence[int],
-          columns: Sequence[int]) -> Poly:
-    """det Z[rows, columns] (both sorted, of equal length) by Laplace along the first row."""
+          columns: Sequence[int], known: dict | None = None) -> Poly:
+    """det Z[rows, columns] (both sorted, of equal length) by Laplace along the first row;
+    `known` keeps the minors already expanded (a block asks for all of them)."""
     if not rows:
         return ring.one
-    first, rest = rows[0], rows[1:]
-    total = ring.zero
-    for i, t in enumerate(columns):
-        entry = impedance.get((first, t))
-        if entry is None:
-            continue
-        sub = minor(ring, impedance, rest, columns[:i] + columns[i + 1:])
-        if not ring.is_zero(sub):
-            total = total + entry * sub if i % 2 == 0 else total - entry * sub
-    return total
+    known = {} if known is None else known
+    key = (tuple(rows), tuple(columns))
+    if key not in known:
+        first, rest = rows[0], rows[1:]
+        total = ring.zero
+        for i, t in enumerate(columns):
+            entry = impedance.get((first, t))
+            if entry is None:
+                continue
+            sub = minor(ring, impedance, rest, columns[:i] + columns[i + 1:], known)
+            if not ring.is_zero(sub):
+                total = total + entry * sub if i % 2 == 0 else total - entry * sub
+        known[key] = total
+    return known[key]
 
 
 class Block:
@@ -97,6 +102,7 @@ class Block:
         self.members = members
         self.impedance = impedance
         self._minors: dict[tuple[tuple[int, ...], tuple[int, ...]], Poly] = {}
+        self._expanded: dict = {}
         k = len(members)
         self.pairs: set[tuple[int, int]] = set()
         """(column, row) that some matching with a nonzero minor pairs."""
@@ -114,7 +120,7 @@ class Block:
             local = {b: i for i, b in enumerate(self.members)}
             free_rows = tuple(b for b in self.members if b not in rows)
             free_columns = tuple(b for b in self.members if b not in columns)
-            value = minor(self.ring, self.impedance, free_rows, free_columns)
+            value = minor(self.ring, self.impedance, free_rows, free_columns, self._expanded)
             parity = (len(self.members) + len(columns) + sum(local[b] for b in free_rows)
                       + sum(local[b] for b in free_columns))
             self._minors[key] = None if self.ring.is_zero(value) else (
@@ -130,3 +136,21 @@ class Block:
         if len(set(columns)) != len(columns) or list(rows) != sorted(set(rows)):
             return None
         return self.factor(columns, rows)
+
+
+_KEPT: dict[tuple, Block] = {}
+
+
+def block(ring: PolynomialRing, members: tuple[int, ...], impedance: Impedance) -> Block:
+    """`Block(ring, members, impedance)`, kept for the next caller: the default path's
+    choice, the size bound and the walk each ask for the same blocks, and a block of six
+    coupled inductors expands its 924 pairings of columns and rows (12 ms) each time."""
+    entries = tuple(sorted((k, str(v)) for k, v in impedance.items()
+                           if k[0] in members and k[1] in members))
+    key = (ring, members, entries)
+    if key not in _KEPT:
+        if len(_KEPT) >= 64:
+            _KEPT.clear()
+        _KEPT[key] = Block(ring, members, impedance)
+    return _KEPT[key]
+

@@ -313,7 +313,7 @@ def _count(ring, two_graph: TwoGraph) -> int:
         if t not in inside:
             count += len(border.column) * len(border.row)
     for block in members:
-        pairs = bordered.Block(ring, block, impedance).pairs
+        pairs = bordered.block(ring, block, impedance).pairs
         count += sum(len(borders[t].column) * len(borders[r].row) for t, r in pairs)
     return count
 
@@ -338,7 +338,7 @@ def terms_bound(network: Network, shorted: Sequence[tuple[str, str]]) -> int | N
         return None
     ring = network.ring
     borders, impedance = two_graph.borders, dict(two_graph.impedance)
-    block_list = [bordered.Block(ring, members, impedance)
+    block_list = [bordered.block(ring, members, impedance)
                   for members in bordered.blocks(len(borders), impedance)]
     inside = {t for block in block_list for t in block.members}
     named = {b.element for b in borders}
@@ -867,7 +867,7 @@ class ControlledForestSolution(ForestSolution):
         expansions = []  # (block, {j: (column, row)})
         exclusive: dict[int, tuple[int, int]] = {}
         for block_members in members:
-            block = bordered.Block(ring, block_members, impedance)
+            block = bordered.block(ring, block_members, impedance)
             tags: dict[int, tuple[int, int]] = {}
             for t, r in sorted(block.pairs):
                 for a, b, alpha in borders[t].column:
