@@ -537,13 +537,17 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
                 key = (paths, su & keep_u, sv & keep_v)
                 into.setdefault(key, []).append(p)
 
+    pair_bits = [[(j, bit[pair[which][0]], bit[pair[which][1]]) for j, pair in enumerate(pairs)]
+                 for which in (0, 1)]
+
     def rows(mask: int, which: int) -> list[tuple[int, int]]:
         out = []
-        for j, pair in enumerate(pairs):
-            a, b = pair[which]
-            entry = int(bool(mask & bit[a])) - int(bool(mask & bit[b]))
-            if entry:
-                out.append((j, entry))
+        for j, a, b in pair_bits[which]:
+            if mask & a:
+                if not mask & b:
+                    out.append((j, 1))
+            elif mask & b:
+                out.append((j, -1))
         return out
 
     expansions: dict[int, list[tuple[int, int, int, int, bool]]] = {}
@@ -563,15 +567,12 @@ def signed_forest_sum(nodes: Sequence[str], edges: Sequence[forests.Edge], groun
         choices = expand(mask)
         for (paths, su, sv), p in inner.items():
             negative = None
+            ends = {path[1]: path for path in paths}
+            starts = {path[0]: path for path in paths}
             for ju, fu, jv, fv, positive in choices:
                 if su & fu or sv & fv:
                     continue  # a column (or another of its group) already used
-                start = end = None  # the open paths ju ends and jv starts
-                for path in paths:
-                    if path[1] == ju:
-                        start = path
-                    if path[0] == jv:
-                        end = path
+                start, end = ends.get(ju), starts.get(jv)  # the open paths ju ends, jv starts
                 cycle = start is end if start is not None else ju == jv
                 if start is None and end is None:
                     following = paths if cycle else tuple(sorted((*paths, (ju, jv))))
