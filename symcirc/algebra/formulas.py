@@ -12,7 +12,7 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any
 
-from ..model.formula import ARITHMETIC, Formula
+from ..model.formula import ARITHMETIC, Formula, fold
 from .polynomials import LAPLACE_NAME, PolynomialRing
 from .rational import RationalFunction
 
@@ -77,18 +77,7 @@ def function_of(value: Formula, ring: PolynomialRing) -> RationalFunction:
     missing = names_in(value) - set(ring.names)
     if missing:
         ring = ring.extend(sorted(missing))
-    done: dict[int, RationalFunction] = {}
-    stack = [value]
-    while stack:  # bottom-up without recursion, each shared node once
-        node = stack[-1]
-        pending = [a for a in node.args if isinstance(a, Formula) and id(a) not in done
-                   and node.number is None]
-        if pending:
-            stack.extend(pending)
-            continue
-        stack.pop()
-        done[id(node)] = _apply(node, done, ring)
-    return done[id(value)]
+    return fold(value, lambda node, done: _apply(node, done, ring))
 
 
 def _apply(node: Formula, done: dict[int, RationalFunction], ring: PolynomialRing

@@ -784,18 +784,9 @@ class ControlledForestSolution(ForestSolution):
                 self._gave_up = True
         return self._delegate().transfer(measure, excitation)
 
-    def _graph(self, without: str | None) -> tuple[_Contraction, list]:
-        """As ForestSolution's, without the coupled inductors (they are borders)."""
-        if without not in self._graphs:
-            joins = [ab for name, ab in self.voltages.items() if name != without]
-            merged = _Contraction(self.nodes, joins)
-            edges = []
-            for b in self.network.branches.values():
-                u, v = merged.find(b.a), merged.find(b.b)
-                if u != v and b.name not in self.border_of:
-                    edges.append((u, v, b.inward, b.outward))
-            self._graphs[without] = (merged, edges)
-        return self._graphs[without]
+    def _is_edge(self, branch: str) -> bool:
+        """Every branch but the coupled inductors (they are borders)."""
+        return branch not in self.border_of
 
     # -- the expansion
     def _determinant(self, without: str | None,

@@ -194,10 +194,14 @@ class ForestSolution:
             edges = []
             for b in self.network.branches.values():
                 u, v = merged.find(b.a), merged.find(b.b)
-                if u != v:
+                if u != v and self._is_edge(b.name):
                     edges.append((u, v, b.inward, b.outward))
             self._graphs[without] = (merged, edges)
         return self._graphs[without]
+
+    def _is_edge(self, branch: str) -> bool:
+        """Whether the branch is an edge of the graph (every branch of a passive network)."""
+        return True
 
     def _forests(self, without: str | None, terminals: frozenset[str]) -> dict[Partition, Poly]:
         key = (without, terminals)

@@ -13,11 +13,13 @@ directly: `to_sympy()`, cached, is what later stages read.
 from __future__ import annotations
 
 import operator
-from collections.abc import Mapping
+from collections.abc import Callable, Mapping
 from fractions import Fraction
-from typing import Any
+from typing import Any, TypeVar
 
-__all__ = ["Formula", "Inexact", "constant", "from_sympy", "laplace", "name", "pi"]
+__all__ = ["Formula", "Inexact", "constant", "fold", "from_sympy", "laplace", "name", "pi"]
+
+T = TypeVar("T")
 
 
 ARITHMETIC = {"+": operator.add, "-": operator.sub, "*": operator.mul, "/": operator.truediv}
@@ -308,6 +310,23 @@ def integer_root(number: int, degree: int) -> int:
         if better >= root:
             return root
         root = better
+
+
+def fold(formula: Formula, combine: Callable[[Formula, dict[int, T]], T]) -> T:
+    """combine(node, done) for every node of `formula`, operands first, without recursion
+    and each shared node once (`done` maps id(operand) to its value)."""
+    done: dict[int, T] = {}
+    stack = [formula]
+    while stack:
+        node = stack[-1]
+        pending = [a for a in node.args if isinstance(a, Formula) and id(a) not in done
+                   and node.number is None]
+        if pending:
+            stack.extend(pending)
+            continue
+        stack.pop()
+        done[id(node)] = combine(node, done)
+    return done[id(formula)]
 
 
 def _replay(formula: Formula) -> Any:

@@ -36,7 +36,7 @@ from ..errors import Location, SymcircError
 from ..language import syntax
 from ..limits import MAX_EXPANSION_TERMS, power_terms
 from ..model.circuit import REFERENCE, Circuit, Element
-from ..model.formula import Formula
+from ..model.formula import Formula, fold
 from ..results import Result
 from .registry import RESPONSE_PARTS, RESPONSE_QUANTITIES, DeriveOptions
 
@@ -498,18 +498,7 @@ def _formula_bounds(formula: Formula, names: Mapping[str, tuple[int, int]]
                     ) -> tuple[int, int]:
     """`_expanded_terms` of a rational formula, each name in `names` standing for an
     expression with those bounds (numerator, denominator)."""
-    done: dict[int, tuple[int, int]] = {}
-    stack = [formula]
-    while stack:  # bottom-up without recursion, each shared node once
-        node = stack[-1]
-        pending = [a for a in node.args if isinstance(a, Formula) and id(a) not in done
-                   and node.number is None]
-        if pending:
-            stack.extend(pending)
-            continue
-        stack.pop()
-        done[id(node)] = _node_bounds(node, done, names)
-    return done[id(formula)]
+    return fold(formula, lambda node, done: _node_bounds(node, done, names))
 
 
 def _node_bounds(node: Formula, done: Mapping[int, tuple[int, int]],
