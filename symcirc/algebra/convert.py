@@ -40,6 +40,12 @@ def atom_name(expr: sympy.Expr) -> str:
     return text if text.startswith("sqrt(") and _balanced(text[4:]) else f"({text})"
 
 
+def product_root_name(first: str, second: str) -> str:
+    """`atom_name` of sqrt(first*second) for two symbols, without sympy (which orders the
+    two factors by name)."""
+    return f"sqrt({'*'.join(sorted((first, second)))})"
+
+
 def _balanced(text: str) -> bool:
     """True when `text` is one parenthesised group: `(L1*L2)` but not `(a)*(b)`."""
     depth = 0

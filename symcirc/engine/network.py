@@ -22,6 +22,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Literal
 
+from ..algebra.convert import product_root_name
 from ..algebra.formulas import atoms_in, function_of, names_in
 from ..algebra.polynomials import LAPLACE_NAME, Poly, PolynomialRing
 from ..algebra.rational import RationalFunction
@@ -165,6 +166,10 @@ def _build(circuit: Circuit) -> Network:
     mutuals = {e.name: mutual_name(e.name, taken) for e in circuit.elements.values()
                if e.kind == "coupling"}
     names: set[str] = {LAPLACE_NAME, *mutuals.values()}
+    for element in circuit.elements.values():
+        if element.kind == "coupling":  # the names M = k·√(L1·L2) is written in, up front:
+            first, second = element.coupled  # a large result then never changes rings
+            names |= {element.name, first, second, product_root_name(first, second)}
     atoms: dict[str, sympy.Expr] = {}
     for element in circuit.elements.values():
         for value in _formulas(element):

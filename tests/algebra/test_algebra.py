@@ -8,12 +8,21 @@ import random
 import pytest
 import sympy
 
-from symcirc.algebra.convert import atoms_of, restored, sympy_ring, to_function
+import symcirc
+from symcirc.algebra.convert import (
+    atom_name,
+    atoms_of,
+    product_root_name,
+    restored,
+    sympy_ring,
+    to_function,
+)
 from symcirc.algebra.factor import factored
 from symcirc.algebra.identity import Space, identical
 from symcirc.algebra.matrices import determinant
 from symcirc.algebra.polynomials import PolynomialRing
 from symcirc.algebra.rational import RationalFunction
+from symcirc.engine.network import build_network
 from symcirc.forms.approximate import limit
 from symcirc.forms.parallel import Parallel
 from symcirc.forms.verify import equal, function_of, to_ratio
@@ -154,3 +163,23 @@ def test_determinant_matches_sympy(backend):
         expected = sympy.expand(sympy.Matrix(entries).det())
         found = RationalFunction(determinant(ring, matrix), 1, ring)
         assert sympy.expand(found.to_sympy() - expected) == 0
+
+
+@pytest.mark.parametrize("first, second", [("La1", "Lb1"), ("L10", "L2"), ("Lp", "L_s"),
+                                           ("Lx", "LX"), ("L2", "L1")])
+def test_a_product_root_is_named_as_sympy_prints_it(first, second):
+    """The engine's ring holds √(L1·L2) of each coupling from the start; its name must be
+    the one sympy's printer gives the atom, or a result would change rings afterwards."""
+    root = sympy.sqrt(sympy.Symbol(first) * sympy.Symbol(second))
+    assert product_root_name(first, second) == atom_name(root)
+
+
+def test_a_coupled_result_keeps_its_ring_when_the_mutual_inductance_is_written_out():
+    circuit = symcirc.parse("voltage source U (a, gnd)\ninductor L1 (a, gnd)\n"
+                            "inductor L2 (b, gnd)\ncoupling k1 (L1, L2) = 0.5\n"
+                            "resistor R (b, gnd)\nport out (b, gnd)\n")
+    (result,) = circuit.derive("gain(U, out)")
+    function = result.exact.function  # M_k1 written as k1·sqrt(L1*L2), an atom
+    engine = build_network(circuit.pipeline.circuit).ring
+    assert function.ring == engine
+    assert "sqrt(L1*L2)" in function.symbol_names()
